@@ -1,0 +1,99 @@
+# cpdomain: one plain Makefile. Settings first; every object listed by hand.
+CC      ?= cc
+BUILD   ?= build
+PREFIX  ?= /usr/local
+CFLAGS  ?= -O2 -g
+WARN     = -std=c17 -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
+           -Wwrite-strings -Werror
+PKGS     = gsl sqlite3 libcjson
+# '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
+PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+PKG_LIBS   = $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lcsv -lm
+ifeq ($(SAN),1)
+SANFLAGS = -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=undefined
+endif
+ALL_CFLAGS = $(WARN) $(CFLAGS) $(SANFLAGS) -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc $(PKG_CFLAGS) -MMD -MP
+ALL_LDFLAGS = $(SANFLAGS) $(LDFLAGS)
+
+# The library: every module but the CLI.
+LIB_SRCS = src/status.c src/units.c src/nlfit.c src/gx.c
+# The CLI: main and one file per command family.
+CLI_SRCS = src/main.c
+# Unit tests: one cmocka program per module.
+TESTS    = test_units test_nlfit test_gx
+# Benchmarks.
+BENCHES  =
+
+MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
+
+LIB_OBJS = $(LIB_SRCS:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/migrations.o
+CLI_OBJS = $(CLI_SRCS:src/%.c=$(BUILD)/obj/%.o)
+LIB      = $(BUILD)/libcpdomain.a
+BIN      = $(BUILD)/cpdomain
+TEST_BINS  = $(TESTS:%=$(BUILD)/tests/%)
+BENCH_BINS = $(BENCHES:%=$(BUILD)/bench/%)
+STAMP    = $(BUILD)/.deps-ok
+
+.PHONY: all test check valgrind bench demo deps install clean
+all: $(BIN)
+
+deps:
+	@tools/deps.sh
+$(STAMP):
+	@mkdir -p $(BUILD)
+	@tools/deps.sh && touch $@
+
+$(BUILD)/obj/%.o: src/%.c | $(STAMP)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) -c $< -o $@
+
+$(BUILD)/embed: tools/embed.c | $(STAMP)
+	@mkdir -p $(BUILD)
+	$(CC) -std=c17 -Wall -Wextra -O1 $< -o $@
+$(BUILD)/migrations.c: $(BUILD)/embed $(MIGRATIONS)
+	$(BUILD)/embed $@ $(MIGRATIONS)
+$(BUILD)/obj/migrations.o: $(BUILD)/migrations.c
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) -c $< -o $@
+
+$(LIB): $(LIB_OBJS)
+	@rm -f $@
+	ar rcs $@ $^
+$(BIN): $(CLI_OBJS) $(LIB)
+	$(CC) $(ALL_LDFLAGS) $(CLI_OBJS) $(LIB) $(PKG_LIBS) -o $@
+
+$(BUILD)/tests/%: tests/%.c $(LIB) | $(STAMP)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(ALL_LDFLAGS) -Itests $< $(LIB) $(PKG_LIBS) -lcmocka -o $@
+
+$(BUILD)/bench/%: tests/%.c $(LIB) | $(STAMP)
+	@mkdir -p $(dir $@)
+	$(CC) $(ALL_CFLAGS) $(ALL_LDFLAGS) -Itests $< $(LIB) $(PKG_LIBS) -o $@
+
+# make test: every unit test and every CLI test; the last line is "N passed, N failed".
+test: $(BIN) $(TEST_BINS)
+	@sh tests/run.sh $(BUILD)
+
+# make check: the whole suite again under AddressSanitizer and UndefinedBehaviorSanitizer.
+check:
+	@$(MAKE) --no-print-directory BUILD=build/san SAN=1 test
+
+# make valgrind: the unit tests and the CLI tests under valgrind's memcheck.
+valgrind: $(BIN) $(TEST_BINS)
+	@VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite" \
+	  sh tests/run.sh $(BUILD)
+
+bench: $(BIN) $(BENCH_BINS)
+	@for b in $(BENCH_BINS); do echo "== $$b"; $$b || exit 1; done
+
+demo: $(BIN)
+	@sh demo/run.sh $(BIN)
+
+install: $(BIN)
+	install -d $(DESTDIR)$(PREFIX)/bin
+	install -m 755 $(BIN) $(DESTDIR)$(PREFIX)/bin/cpdomain
+
+clean:
+	rm -rf build
+
+-include $(shell find $(BUILD) -name '*.d' 2>/dev/null)
