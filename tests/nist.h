@@ -60,6 +60,8 @@ static int nist_read(const char *path, int nls, nist_set *s)
             s->rss = v1;
         } else if (sscanf(p, "Residual Standard Deviation: %lf", &v1) == 1) {
             s->resid_sd = v1;
+        } else if (!nls && sscanf(p, "Standard Deviation %lf", &v1) == 1) {
+            s->resid_sd = v1; /* LLS files split "Residual / Standard Deviation" over two lines */
         }
     }
     fclose(f);

@@ -1,0 +1,128 @@
+/* linfit.c: ordinary least squares by a column-scaled SVD (GSL), with NIST-style statistics. */
+#include "cpdomain/linfit.h"
+#include "cpdomain/status.h"
+
+#include <gsl/gsl_errno.h>
+#include <gsl/gsl_linalg.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+int cpd_linfit(const double *X, const double *y, size_t n, size_t p, int intercept, cpd_linfit_result *res)
+{
+    if (!X || !y || !res || p == 0 || p > CPD_LINFIT_PMAX || n < p)
+        return CPD_EUSAGE;
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(y[i]))
+            return CPD_ENODATA;
+        for (size_t j = 0; j < p; j++)
+            if (!isfinite(X[i * p + j]))
+                return CPD_ENODATA;
+    }
+    memset(res, 0, sizeof *res);
+    res->n = n;
+    res->p = p;
+    res->dof = n - p;
+
+    /* Column-scaled SVD: A D^-1 = U S V'. Then b = D^-1 V S^-1 U'y and (X'X)^-1 = D^-1 V S^-2 V' D^-1.
+     * Scaling first keeps polynomial designs (NIST Pontius, Wampler) well conditioned. */
+    int rc = CPD_OK;
+    gsl_matrix *A = gsl_matrix_alloc(n, p);
+    gsl_matrix *V = gsl_matrix_alloc(p, p);
+    gsl_vector *S = gsl_vector_alloc(p);
+    gsl_vector *work = gsl_vector_alloc(p);
+    double D[CPD_LINFIT_PMAX], uty[CPD_LINFIT_PMAX];
+    if (!A || !V || !S || !work) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t j = 0; j < p; j++) {
+        double ss = 0.0;
+        for (size_t i = 0; i < n; i++)
+            ss += X[i * p + j] * X[i * p + j];
+        D[j] = ss > 0 ? sqrt(ss) : 1.0;
+        for (size_t i = 0; i < n; i++)
+            gsl_matrix_set(A, i, j, X[i * p + j] / D[j]);
+    }
+    if (gsl_linalg_SV_decomp(A, V, S, work) != GSL_SUCCESS) {
+        rc = CPD_ENODATA;
+        goto done;
+    }
+    double smax = gsl_vector_get(S, 0);
+    for (size_t j = 0; j < p; j++)
+        if (!(gsl_vector_get(S, j) > 1e-14 * smax)) {
+            rc = CPD_ENODATA; /* dependent columns: no unique solution */
+            goto done;
+        }
+    for (size_t k = 0; k < p; k++) {
+        double d = 0.0;
+        for (size_t i = 0; i < n; i++)
+            d += gsl_matrix_get(A, i, k) * y[i];
+        uty[k] = d / gsl_vector_get(S, k);
+    }
+    for (size_t j = 0; j < p; j++) {
+        double b = 0.0;
+        for (size_t k = 0; k < p; k++)
+            b += gsl_matrix_get(V, j, k) * uty[k];
+        res->b[j] = b / D[j];
+    }
+    /* the RSS from the residuals themselves */
+    double rss = 0.0, ybar = 0.0, syy = 0.0;
+    for (size_t i = 0; i < n; i++)
+        ybar += y[i];
+    ybar /= (double)n;
+    for (size_t i = 0; i < n; i++) {
+        double fit = 0.0;
+        for (size_t j = 0; j < p; j++)
+            fit += X[i * p + j] * res->b[j];
+        double r = y[i] - fit;
+        rss += r * r;
+        syy += intercept ? (y[i] - ybar) * (y[i] - ybar) : y[i] * y[i];
+    }
+    res->rss = rss;
+    res->r2 = syy > 0 ? 1.0 - rss / syy : 1.0;
+    double s2 = res->dof > 0 ? rss / (double)res->dof : 0.0;
+    res->s = sqrt(s2);
+    for (size_t j = 0; j < p; j++)
+        for (size_t l = 0; l < p; l++) {
+            double v = 0.0;
+            for (size_t k = 0; k < p; k++) {
+                double sk = gsl_vector_get(S, k);
+                v += gsl_matrix_get(V, j, k) * gsl_matrix_get(V, l, k) / (sk * sk);
+            }
+            res->cov[j * p + l] = s2 * v / (D[j] * D[l]);
+        }
+    for (size_t j = 0; j < p; j++)
+        res->se[j] = sqrt(fmax(res->cov[j * p + j], 0.0));
+done:
+    gsl_matrix_free(A);
+    gsl_matrix_free(V);
+    gsl_vector_free(S);
+    gsl_vector_free(work);
+    return rc;
+}
+
+int cpd_linfit_line(const double *x, const double *y, size_t n, cpd_linfit_result *res)
+{
+    return cpd_linfit_poly(x, y, n, 1, res);
+}
+
+int cpd_linfit_poly(const double *x, const double *y, size_t n, size_t deg, cpd_linfit_result *res)
+{
+    if (!x || deg + 1 > CPD_LINFIT_PMAX)
+        return CPD_EUSAGE;
+    size_t p = deg + 1;
+    double *X = malloc((n ? n : 1) * p * sizeof(double));
+    if (!X)
+        return CPD_ENOMEM;
+    for (size_t i = 0; i < n; i++) {
+        double v = 1.0;
+        for (size_t j = 0; j < p; j++) {
+            X[i * p + j] = v;
+            v *= x[i];
+        }
+    }
+    int rc = cpd_linfit(X, y, n, p, 1, res);
+    free(X);
+    return rc;
+}
