@@ -3,8 +3,9 @@ CC      ?= cc
 BUILD   ?= build
 PREFIX  ?= /usr/local
 CFLAGS  ?= -O2 -g
+# -Wno-format-truncation: snprintf into a bounded message buffer truncates on purpose
 WARN     = -std=c17 -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
-           -Wwrite-strings -Werror
+           -Wwrite-strings -Werror -Wno-format-truncation
 PKGS     = gsl sqlite3 libcjson
 # '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
@@ -16,9 +17,10 @@ ALL_CFLAGS = $(WARN) $(CFLAGS) $(SANFLAGS) -D_POSIX_C_SOURCE=200809L -Iinclude -
 ALL_LDFLAGS = $(SANFLAGS) $(LDFLAGS)
 
 # The library: every module but the CLI.
-LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c
+LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.c src/validate.c \
+           src/import_trials.c src/store.c src/store_athlete.c
 # The CLI: main and one file per command family.
-CLI_SRCS = src/main.c
+CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx
 # Benchmarks.

@@ -1,1 +1,110 @@
-int main(void){return 0;}
+/* main.c: the cpdomain command line: global options, the command table, exit status. */
+#include "commands.h"
+#include "cpdomain/units.h"
+#include "cpdomain/version.h"
+
+#include <gsl/gsl_errno.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+#include <time.h>
+
+static const cli_command commands[] = {
+    {"init", cmd_init, "create or upgrade the store", NULL},
+    {"athlete", cmd_athlete, "add, list, show, change or remove athletes", NULL},
+    {"trial", cmd_trial, "time-to-exhaustion trials and time trials", NULL},
+};
+
+static void usage(FILE *out)
+{
+    fputs("usage: cpdomain [--db FILE] [--json] [--quiet] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
+          "Critical power, W' and the intensity domains from an athlete's tests.\n\ncommands:\n",
+          out);
+    for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
+        fprintf(out, "  %-9s %s\n", commands[i].name, commands[i].summary);
+    fputs("\noptions:\n"
+          "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
+          "  --json     machine-readable output: one JSON document on stdout\n"
+          "  --quiet    no informational messages on stderr\n"
+          "  --help     this text; 'cpdomain COMMAND --help' for a command\n"
+          "  --version  the version\n\n"
+          "example:\n  cpdomain --db lab.db init\n  cpdomain --db lab.db athlete add R07 --name \"Ines Varga\" --mass 64.5\n",
+          out);
+}
+
+/* Today's local date, or $CPDOMAIN_TODAY (YYYY-MM-DD) for reproducible reports and tests. */
+static int today(void)
+{
+    const char *env = getenv("CPDOMAIN_TODAY");
+    int d = 0;
+    if (env && cpd_parse_date(env, &d) == CPD_OK)
+        return d;
+    time_t now = time(NULL);
+    struct tm tmv;
+    localtime_r(&now, &tmv);
+    char buf[16];
+    strftime(buf, sizeof buf, "%Y-%m-%d", &tmv);
+    cpd_parse_date(buf, &d);
+    return d;
+}
+
+int main(int argc, char **argv)
+{
+    gsl_set_error_handler_off(); /* every GSL status is checked where it is returned */
+    cli_ctx c = {0};
+    c.db_path = getenv("CPDOMAIN_DB");
+    if (!c.db_path || !*c.db_path)
+        c.db_path = "cpdomain.db";
+    c.today = today();
+
+    static const struct option opts[] = {
+        {"db", required_argument, NULL, 'd'}, {"json", no_argument, NULL, 'j'},    {"quiet", no_argument, NULL, 'q'},
+        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'}, {NULL, 0, NULL, 0},
+    };
+    opterr = 0;
+    int o;
+    while ((o = getopt_long(argc, argv, "+", opts, NULL)) != -1) {
+        switch (o) {
+        case 'd':
+            c.db_path = optarg;
+            break;
+        case 'j':
+            c.json = 1;
+            break;
+        case 'q':
+            c.quiet = 1;
+            break;
+        case 'h':
+            usage(stdout);
+            return EX_OK;
+        case 'V':
+            printf("cpdomain %s\n", CPDOMAIN_VERSION);
+            return EX_OK;
+        default:
+            fprintf(stderr, "cpdomain: unknown or incomplete option '%s'\nTry 'cpdomain --help'.\n", argv[optind - 1]);
+            return EX_USAGE;
+        }
+    }
+    if (optind >= argc) {
+        usage(stderr);
+        return EX_USAGE;
+    }
+    const char *name = argv[optind];
+    const cli_command *cmd = NULL;
+    for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
+        if (strcmp(name, commands[i].name) == 0)
+            cmd = &commands[i];
+    if (!cmd) {
+        fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
+        return EX_USAGE;
+    }
+    int rc = cmd->run(&c, argc - optind, argv + optind);
+    cpd_store_rollback(c.store); /* no-op after a commit; undoes a command that returned early */
+    cpd_store_close(c.store);
+    if (fclose(stdout) != 0 && rc == 0) {
+        perror("cpdomain: writing the output");
+        rc = EX_IOERR;
+    }
+    return rc;
+}

@@ -1,11 +1,38 @@
-/* store_int.h: internals shared by the store's source files (not API). */
+/* store_int.h: internals shared by the store's source files (not API). Only store_*.c include it. */
 #ifndef CPDOMAIN_STORE_INT_H
 #define CPDOMAIN_STORE_INT_H
+
+#include "cpdomain/status.h"
+#include "cpdomain/store.h"
+
+#include <sqlite3.h>
 
 /* The schema and migrations, embedded at build time by tools/embed.c from db/:
  * entry k brings a store from version k to version k + 1. */
 extern const char *const cpd_store_migrations[];
 extern const char *const cpd_store_migration_files[];
 extern const int cpd_store_migration_count;
+
+struct cpd_store {
+    sqlite3 *db;
+    char err[CPD_MSG_MAX]; /* detail of the last failure */
+};
+
+/* Prepares sql; on failure records the reason and returns CPD_ESTORE. */
+int cpd_st_prepare(cpd_store *s, const char *sql, sqlite3_stmt **st);
+/* Records "what: sqlite's message" and returns CPD_ESTORE. */
+int cpd_st_fail(cpd_store *s, const char *what);
+/* Records a formatted message and returns rc. */
+int cpd_st_err(cpd_store *s, int rc, const char *fmt, ...);
+/* Copies column col of the current row as text into dst of size n ("" for NULL). */
+void cpd_st_text(sqlite3_stmt *st, int col, char *dst, size_t n);
+/* Binds text, or NULL when v is NULL or empty and empty_is_null is set. */
+int cpd_st_bind_text(sqlite3_stmt *st, int idx, const char *v, int empty_is_null);
+/* A savepoint around a multi-statement write, so each public write is atomic on its own and
+ * nests inside the command's transaction. */
+int cpd_st_savepoint(cpd_store *s);
+int cpd_st_release(cpd_store *s, int rc);
+/* The id of the athlete with this code, or CPD_ENOENT. */
+int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
 
 #endif

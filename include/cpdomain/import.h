@@ -1,0 +1,25 @@
+/* import.h: turning users' files into validated records, all or nothing: a file with one bad
+ * row yields an error naming file:line:column and no records. */
+#ifndef CPDOMAIN_IMPORT_H
+#define CPDOMAIN_IMPORT_H
+
+#include "cpdomain/store.h"
+
+#include <stddef.h>
+
+typedef struct {
+    cpd_trial *trial; /* n validated trials, source_file set to the path */
+    long *line;       /* physical line of each trial in the file */
+    size_t n;
+    int athlete_col;  /* 1-based column of the athlete code, for messages */
+} cpd_trial_batch;
+
+/* Reads a trials CSV (SPEC.md: athlete,date,duration_s and one of power_w, speed_m_s,
+ * distance_m; optional note), applying map ("NAME=HEADER,..." or NULL). Each value is checked by
+ * cpd_validate_trial against today (days since 1970-01-01). Returns CPD_OK, CPD_EIO (unreadable),
+ * CPD_EDATA (msg: "file:line:column: column 'name': what is wrong"), CPD_EUSAGE (bad map),
+ * CPD_ENOMEM. The caller frees the batch with cpd_trial_batch_free. */
+int cpd_import_trials(const char *path, const char *map, int today_days, cpd_trial_batch *out, char *msg);
+void cpd_trial_batch_free(cpd_trial_batch *b);
+
+#endif

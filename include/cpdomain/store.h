@@ -1,0 +1,93 @@
+/* store.h: the SQLite store of athletes and their tests. The store module alone speaks SQL:
+ * prepared statements with bound parameters; migrations embedded from db/ at build time. */
+#ifndef CPDOMAIN_STORE_H
+#define CPDOMAIN_STORE_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+typedef struct cpd_store cpd_store;
+
+#define CPD_CODE_MAX 32    /* longest athlete code, bytes */
+#define CPD_NAME_MAX 200   /* longest athlete name, bytes */
+#define CPD_NOTE_MAX 1000  /* longest note or reason, bytes */
+#define CPD_PATH_MAX 1024  /* longest source-file path kept, bytes */
+
+/* Opens the store at path, applying pending migrations in one transaction. With create == 0 a
+ * missing file is CPD_ENOENT; with create != 0 it is created. Foreign keys on, WAL journal,
+ * synchronous=NORMAL (durable across crashes of the program; the last commits may be lost on
+ * power failure, a fair trade for a desktop store), busy timeout 5 s. A store whose version is
+ * newer than this binary is refused with CPD_ESTORE. msg (CPD_MSG_MAX bytes) receives the reason.
+ * The caller closes *out with cpd_store_close. */
+int cpd_store_open(const char *path, int create, cpd_store **out, char *msg);
+void cpd_store_close(cpd_store *s);
+
+/* The detail of the last failure on s ("" when none). */
+const char *cpd_store_errmsg(const cpd_store *s);
+
+/* Schema version of the open store, and the newest version this binary knows. */
+int cpd_store_version(const cpd_store *s);
+int cpd_store_latest_version(void);
+
+/* One transaction per command: begin, then commit or rollback. Public write functions run
+ * inside it (or, outside one, each in its own). */
+int cpd_store_begin(cpd_store *s);
+int cpd_store_commit(cpd_store *s);
+void cpd_store_rollback(cpd_store *s);
+
+/* ---- athletes ---- */
+typedef struct {
+    int64_t id;                   /* store id */
+    char code[CPD_CODE_MAX + 1];  /* unique short code */
+    char name[CPD_NAME_MAX + 1];  /* display name */
+    char sport[16];               /* cycling, running, rowing, swimming or other */
+    double mass_kg;               /* body mass, kg; valid when has_mass */
+    int has_mass;                 /* 1 when the body mass is known */
+    char notes[CPD_NOTE_MAX + 1]; /* free text */
+} cpd_athlete;
+
+/* Adds an athlete; *id receives its id. CPD_EEXIST when the code is taken. */
+int cpd_store_athlete_add(cpd_store *s, const cpd_athlete *a, int64_t *id);
+/* Reads the athlete with this code; CPD_ENOENT when there is none. */
+int cpd_store_athlete_get(cpd_store *s, const char *code, cpd_athlete *a);
+/* Replaces name, sport, mass and notes of the athlete a->code. CPD_ENOENT when absent. */
+int cpd_store_athlete_update(cpd_store *s, const cpd_athlete *a);
+/* Removes the athlete and, by cascade, all of the athlete's data. CPD_ENOENT when absent. */
+int cpd_store_athlete_remove(cpd_store *s, const char *code);
+/* All athletes ordered by code; the caller frees *out with free(). */
+int cpd_store_athlete_list(cpd_store *s, cpd_athlete **out, size_t *n);
+
+/* ---- trials (time to exhaustion, or time trials) ---- */
+typedef enum { CPD_TRIAL_POWER, CPD_TRIAL_SPEED, CPD_TRIAL_DISTANCE } cpd_trial_kind;
+
+typedef struct {
+    int64_t id;                          /* store id */
+    char athlete[CPD_CODE_MAX + 1];      /* athlete code */
+    char date[11];                       /* YYYY-MM-DD */
+    cpd_trial_kind kind;                 /* what value holds */
+    double value;                        /* W, m/s or m according to kind */
+    double duration_s;                   /* s */
+    int excluded;                        /* 1 when left out of fits */
+    char exclude_reason[CPD_NOTE_MAX + 1];
+    char note[CPD_NOTE_MAX + 1];
+    char source_file[CPD_PATH_MAX + 1];  /* file imported from; "" when typed */
+    char imported_at[21];                /* UTC time stored, YYYY-MM-DDTHH:MM:SSZ; "" lets the store set it */
+} cpd_trial;
+
+/* Name of a trial kind as in the CSV and JSON ("power_w", "speed_m_s", "distance_m"). */
+const char *cpd_trial_kind_name(cpd_trial_kind k);
+
+/* Adds a trial for t->athlete; *id receives its id. CPD_ENOENT when the athlete is unknown. */
+int cpd_store_trial_add(cpd_store *s, const cpd_trial *t, int64_t *id);
+/* *found = 1 when a trial with the same athlete, date, kind, value and duration is stored. */
+int cpd_store_trial_exists(cpd_store *s, const cpd_trial *t, int *found);
+/* Reads trial id; CPD_ENOENT when there is none. */
+int cpd_store_trial_get(cpd_store *s, int64_t id, cpd_trial *t);
+/* The athlete's trials ordered by date and id (code NULL: every athlete's). The caller frees *out. */
+int cpd_store_trial_list(cpd_store *s, const char *code, cpd_trial **out, size_t *n);
+/* Excludes (excluded = 1, with a reason) or includes (0) a trial. CPD_ENOENT when absent. */
+int cpd_store_trial_set_excluded(cpd_store *s, int64_t id, int excluded, const char *reason);
+/* Removes trial id. CPD_ENOENT when absent. */
+int cpd_store_trial_remove(cpd_store *s, int64_t id);
+
+#endif

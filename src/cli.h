@@ -1,0 +1,83 @@
+/* cli.h: what the command files share: the context of one run, error reporting, output helpers.
+ * Internal to the CLI; never part of the library. */
+#ifndef CPDOMAIN_CLI_H
+#define CPDOMAIN_CLI_H
+
+#include "cpdomain/status.h"
+#include "cpdomain/store.h"
+
+#include <getopt.h>
+#include <stddef.h>
+
+typedef struct {
+    const char *db_path; /* --db, $CPDOMAIN_DB or cpdomain.db */
+    int json;            /* --json */
+    int quiet;           /* --quiet */
+    int today;           /* days since 1970-01-01 (local date, or $CPDOMAIN_TODAY) */
+    cpd_store *store;    /* open store, or NULL */
+} cli_ctx;
+
+/* One command or subcommand: name, handler, one-line summary, full help with examples. */
+typedef struct {
+    const char *name;
+    int (*run)(cli_ctx *c, int argc, char **argv); /* argv[0] is the command's name; returns an exit code */
+    const char *summary;
+    const char *help;
+} cli_command;
+
+/* The sysexits.h code for a status code. */
+int cli_exit_code(int rc);
+/* Prints "cpdomain: MESSAGE" to stderr and returns cli_exit_code(rc). */
+int cli_fail(cli_ctx *c, int rc, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
+/* Prints a usage error with a pointer to --help and returns 64. */
+int cli_usage(const char *cmd, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+/* Prints an informational line to stderr unless --quiet. */
+void cli_note(cli_ctx *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
+/* Opens the store (create: init only). On failure prints why and returns the exit code, else 0. */
+int cli_open(cli_ctx *c, int create);
+/* Rolls back and reports a store failure (or the status rc with the store's message). */
+int cli_store_fail(cli_ctx *c, int rc);
+
+/* Runs the subcommand of argv[1] from table (n rows); prints the family's help for --help or no
+ * subcommand. */
+int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_t n, int argc, char **argv);
+/* Parses argv with getopt_long (argv[0] the command); handles --help by printing help and
+ * setting *done. Returns the getopt result of each option through the callback. Returns 0 or 64. */
+typedef int (*cli_opt_fn)(int opt, const char *arg, void *ud); /* returns 0, or an exit code */
+int cli_getopt(int argc, char **argv, const char *shortopts, const struct option *longopts, const char *help,
+               cli_opt_fn fn, void *ud, int *first_arg, int *done);
+
+/* Typed option values with messages naming the option. Each returns 0 or 64 after printing. */
+int cli_number(const char *opt, const char *arg, double *out);
+int cli_duration(const char *opt, const char *arg, double *out);
+int cli_id(const char *opt, const char *arg, long long *out);
+
+/* Number formatting for tables: "-" for a non-finite value. */
+const char *cli_num(char *buf, size_t n, double v, int decimals);
+
+/* ---- human tables ---- */
+typedef struct cli_table cli_table;
+cli_table *cli_table_new(int ncols, const char *const *headers, const char *align); /* align: 'l'/'r' per column */
+void cli_table_row(cli_table *t, const char *const *cells);
+void cli_table_print(cli_table *t); /* prints to stdout and frees */
+
+/* ---- JSON documents (cJSON underneath; only cli_out.c sees it) ---- */
+typedef struct cli_json cli_json;
+cli_json *cj_obj(void);
+cli_json *cj_arr(void);
+cli_json *cj_add_obj(cli_json *o, const char *key);
+cli_json *cj_add_arr(cli_json *o, const char *key);
+void cj_str(cli_json *o, const char *key, const char *v); /* NULL v: null */
+void cj_num(cli_json *o, const char *key, double v);      /* non-finite v: null */
+void cj_int(cli_json *o, const char *key, long long v);
+void cj_bool(cli_json *o, const char *key, int v);
+void cj_null(cli_json *o, const char *key);
+void cj_pair(cli_json *o, const char *key, double lo, double hi); /* [lo, hi] */
+void cj_push(cli_json *arr, cli_json *item);
+void cj_push_str(cli_json *arr, const char *v);
+void cj_push_num(cli_json *arr, double v);
+/* Prints the document to stdout followed by a newline, frees it, returns 0 or 74 on failure. */
+int cj_print(cli_json *doc);
+void cj_free(cli_json *doc);
+
+#endif

@@ -1,0 +1,343 @@
+/* cli_out.c: the CLI's shared plumbing: exit codes, messages, option parsing, tables, JSON.
+ * The only CLI file that includes cJSON.h; it turns every non-finite number into null. */
+#include "cli.h"
+#include "cpdomain/units.h"
+
+#include <cJSON.h>
+#include <errno.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+int cli_exit_code(int rc)
+{
+    switch (rc) {
+    case CPD_OK:
+        return EX_OK;
+    case CPD_EUSAGE:
+        return EX_USAGE;
+    case CPD_EDATA:
+    case CPD_ENOENT:
+    case CPD_EEXIST:
+        return EX_DATAERR;
+    case CPD_EIO:
+        return EX_NOINPUT;
+    case CPD_ENODATA:
+    case CPD_ENOCONV:
+        return EX_UNAVAILABLE;
+    case CPD_ECREATE:
+        return EX_CANTCREAT;
+    case CPD_ESTORE:
+        return EX_IOERR;
+    default:
+        return EX_SOFTWARE;
+    }
+}
+
+int cli_fail(cli_ctx *c, int rc, const char *fmt, ...)
+{
+    (void)c;
+    va_list ap;
+    va_start(ap, fmt);
+    fputs("cpdomain: ", stderr);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+    return cli_exit_code(rc);
+}
+
+int cli_usage(const char *cmd, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    fprintf(stderr, "cpdomain %s: ", cmd);
+    vfprintf(stderr, fmt, ap);
+    fprintf(stderr, "\nTry 'cpdomain %s --help'.\n", cmd);
+    va_end(ap);
+    return EX_USAGE;
+}
+
+void cli_note(cli_ctx *c, const char *fmt, ...)
+{
+    if (c->quiet)
+        return;
+    va_list ap;
+    va_start(ap, fmt);
+    vfprintf(stderr, fmt, ap);
+    fputc('\n', stderr);
+    va_end(ap);
+}
+
+int cli_open(cli_ctx *c, int create)
+{
+    char msg[CPD_MSG_MAX];
+    int rc = cpd_store_open(c->db_path, create, &c->store, msg);
+    if (rc == CPD_ENOENT) { /* a missing store is a missing input (SPEC: exit 66) */
+        cli_fail(c, rc, "%s", msg);
+        return EX_NOINPUT;
+    }
+    if (rc)
+        return cli_fail(c, rc, "%s", msg);
+    return 0;
+}
+
+int cli_store_fail(cli_ctx *c, int rc)
+{
+    cpd_store_rollback(c->store);
+    return cli_fail(c, rc, "%s", cpd_store_errmsg(c->store));
+}
+
+int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_t n, int argc, char **argv)
+{
+    if (argc < 2 || strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0) {
+        FILE *out = argc < 2 ? stderr : stdout;
+        fprintf(out, "usage: cpdomain %s SUBCOMMAND [ARGS...]\n\n", family);
+        for (size_t i = 0; i < n; i++)
+            fprintf(out, "  %-10s %s\n", table[i].name, table[i].summary);
+        fprintf(out, "\n'cpdomain %s SUBCOMMAND --help' shows each one with examples.\n", family);
+        return argc < 2 ? EX_USAGE : EX_OK;
+    }
+    for (size_t i = 0; i < n; i++)
+        if (strcmp(argv[1], table[i].name) == 0)
+            return table[i].run(c, argc - 1, argv + 1);
+    return cli_usage(family, "unknown subcommand '%s'", argv[1]);
+}
+
+int cli_getopt(int argc, char **argv, const char *shortopts, const struct option *longopts, const char *help,
+               cli_opt_fn fn, void *ud, int *first_arg, int *done)
+{
+    *done = 0;
+    optind = 0; /* glibc: full re-initialisation for each subcommand */
+    opterr = 0;
+    int o;
+    int idx = 0;
+    while ((o = getopt_long(argc, argv, shortopts, longopts, &idx)) != -1) {
+        if (o == 'h') {
+            fputs(help, stdout);
+            *done = 1;
+            return 0;
+        }
+        if (o == '?' || o == ':') {
+            const char *bad = argv[optind - 1];
+            if (o == ':' || (optopt && strchr(shortopts, optopt)))
+                return cli_usage(argv[0], "option '%s' needs a value", bad);
+            return cli_usage(argv[0], "unknown option '%s'", bad);
+        }
+        int rc = fn(o, optarg, ud);
+        if (rc)
+            return rc;
+    }
+    *first_arg = optind;
+    return 0;
+}
+
+int cli_number(const char *opt, const char *arg, double *out)
+{
+    if (cpd_parse_number(arg, out) != CPD_OK) {
+        fprintf(stderr, "cpdomain: option %s: '%s' is not a number\n", opt, arg);
+        return EX_USAGE;
+    }
+    return 0;
+}
+
+int cli_duration(const char *opt, const char *arg, double *out)
+{
+    if (cpd_parse_duration(arg, out) != CPD_OK) {
+        fprintf(stderr, "cpdomain: option %s: '%s' is not a duration (use 390, 390s, 6:30, 6min or 1:02:00)\n", opt,
+                arg);
+        return EX_USAGE;
+    }
+    return 0;
+}
+
+int cli_id(const char *opt, const char *arg, long long *out)
+{
+    char *e = NULL;
+    errno = 0;
+    long long v = strtoll(arg, &e, 10);
+    if (!*arg || *e || errno || v <= 0) {
+        fprintf(stderr, "cpdomain: %s: '%s' is not an id (a positive whole number)\n", opt, arg);
+        return EX_USAGE;
+    }
+    *out = v;
+    return 0;
+}
+
+const char *cli_num(char *buf, size_t n, double v, int decimals)
+{
+    if (!isfinite(v))
+        snprintf(buf, n, "-");
+    else {
+        snprintf(buf, n, "%.*f", decimals, v);
+        if (strcmp(buf, "-0") == 0 || (buf[0] == '-' && strspn(buf + 1, "0.") == strlen(buf + 1)))
+            memmove(buf, buf + 1, strlen(buf)); /* no "-0.0" */
+    }
+    return buf;
+}
+
+/* ---- tables ---- */
+struct cli_table {
+    int ncols;
+    char align[16];
+    char **cells; /* rows x ncols, header first */
+    size_t nrows, cap;
+};
+
+cli_table *cli_table_new(int ncols, const char *const *headers, const char *align)
+{
+    cli_table *t = calloc(1, sizeof *t);
+    if (!t)
+        return NULL;
+    t->ncols = ncols < 16 ? ncols : 15;
+    snprintf(t->align, sizeof t->align, "%s", align);
+    cli_table_row(t, headers);
+    return t;
+}
+
+void cli_table_row(cli_table *t, const char *const *cells)
+{
+    if (!t)
+        return;
+    if (t->nrows == t->cap) {
+        size_t nc = t->cap ? 2 * t->cap : 16;
+        char **ncells = realloc(t->cells, nc * (size_t)t->ncols * sizeof *ncells);
+        if (!ncells)
+            return;
+        t->cells = ncells;
+        t->cap = nc;
+    }
+    for (int j = 0; j < t->ncols; j++)
+        t->cells[t->nrows * (size_t)t->ncols + (size_t)j] = strdup(cells[j] ? cells[j] : "");
+    t->nrows++;
+}
+
+/* Display width of UTF-8 text: code points, not bytes (names and units like W′ are UTF-8). */
+static size_t width(const char *s)
+{
+    size_t w = 0;
+    for (; *s; s++)
+        w += ((unsigned char)*s & 0xC0) != 0x80;
+    return w;
+}
+
+void cli_table_print(cli_table *t)
+{
+    if (!t)
+        return;
+    size_t w[16] = {0};
+    for (size_t r = 0; r < t->nrows; r++)
+        for (int j = 0; j < t->ncols; j++) {
+            const char *s = t->cells[r * (size_t)t->ncols + (size_t)j];
+            size_t L = s ? width(s) : 0;
+            if (L > w[j])
+                w[j] = L;
+        }
+    for (size_t r = 0; r < t->nrows; r++) {
+        for (int j = 0; j < t->ncols; j++) {
+            const char *s = t->cells[r * (size_t)t->ncols + (size_t)j];
+            s = s ? s : "";
+            size_t pad = w[j] - width(s);
+            int right = t->align[j] == 'r';
+            if (j)
+                fputs("  ", stdout);
+            if (right)
+                printf("%*s", (int)pad, "");
+            fputs(s, stdout);
+            if (!right && j + 1 < t->ncols)
+                printf("%*s", (int)pad, "");
+        }
+        fputc('\n', stdout);
+    }
+    for (size_t i = 0; i < t->nrows * (size_t)t->ncols; i++)
+        free(t->cells[i]);
+    free(t->cells);
+    free(t);
+}
+
+/* ---- JSON ---- */
+#define J(x) ((cJSON *)(void *)(x))
+#define CJ(x) ((cli_json *)(void *)(x))
+
+cli_json *cj_obj(void)
+{
+    return CJ(cJSON_CreateObject());
+}
+cli_json *cj_arr(void)
+{
+    return CJ(cJSON_CreateArray());
+}
+cli_json *cj_add_obj(cli_json *o, const char *key)
+{
+    return CJ(cJSON_AddObjectToObject(J(o), key));
+}
+cli_json *cj_add_arr(cli_json *o, const char *key)
+{
+    return CJ(cJSON_AddArrayToObject(J(o), key));
+}
+void cj_str(cli_json *o, const char *key, const char *v)
+{
+    if (v)
+        cJSON_AddStringToObject(J(o), key, v);
+    else
+        cJSON_AddNullToObject(J(o), key);
+}
+void cj_num(cli_json *o, const char *key, double v)
+{
+    if (isfinite(v))
+        cJSON_AddNumberToObject(J(o), key, v);
+    else
+        cJSON_AddNullToObject(J(o), key);
+}
+void cj_int(cli_json *o, const char *key, long long v)
+{
+    cJSON_AddNumberToObject(J(o), key, (double)v);
+}
+void cj_bool(cli_json *o, const char *key, int v)
+{
+    cJSON_AddBoolToObject(J(o), key, v ? 1 : 0);
+}
+void cj_null(cli_json *o, const char *key)
+{
+    cJSON_AddNullToObject(J(o), key);
+}
+void cj_pair(cli_json *o, const char *key, double lo, double hi)
+{
+    if (!isfinite(lo) || !isfinite(hi)) {
+        cJSON_AddNullToObject(J(o), key);
+        return;
+    }
+    cJSON *a = cJSON_AddArrayToObject(J(o), key);
+    cJSON_AddItemToArray(a, cJSON_CreateNumber(lo));
+    cJSON_AddItemToArray(a, cJSON_CreateNumber(hi));
+}
+void cj_push(cli_json *arr, cli_json *item)
+{
+    cJSON_AddItemToArray(J(arr), J(item));
+}
+void cj_push_str(cli_json *arr, const char *v)
+{
+    cJSON_AddItemToArray(J(arr), v ? cJSON_CreateString(v) : cJSON_CreateNull());
+}
+void cj_push_num(cli_json *arr, double v)
+{
+    cJSON_AddItemToArray(J(arr), isfinite(v) ? cJSON_CreateNumber(v) : cJSON_CreateNull());
+}
+int cj_print(cli_json *doc)
+{
+    char *s = cJSON_Print(J(doc));
+    cJSON_Delete(J(doc));
+    if (!s) {
+        fputs("cpdomain: out of memory while writing JSON\n", stderr);
+        return EX_SOFTWARE;
+    }
+    int ok = fputs(s, stdout) >= 0 && fputc('\n', stdout) != EOF;
+    cJSON_free(s);
+    return ok ? 0 : EX_IOERR;
+}
+void cj_free(cli_json *doc)
+{
+    cJSON_Delete(J(doc));
+}

@@ -1,0 +1,11 @@
+/* commands.h: the command handlers; main.c lists them in its table, one row each. */
+#ifndef CPDOMAIN_COMMANDS_H
+#define CPDOMAIN_COMMANDS_H
+
+#include "cli.h"
+
+int cmd_init(cli_ctx *c, int argc, char **argv);
+int cmd_athlete(cli_ctx *c, int argc, char **argv);
+int cmd_trial(cli_ctx *c, int argc, char **argv);
+
+#endif

@@ -1,0 +1,208 @@
+/* store.c: opening the store, migrations, transactions and shared statement helpers.
+ * Every SQL statement of cpdomain lives in store*.c and is prepared with bound parameters. */
+#include "store_int.h"
+
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+int cpd_st_err(cpd_store *s, int rc, const char *fmt, ...)
+{
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(s->err, sizeof s->err, fmt, ap);
+    va_end(ap);
+    return rc;
+}
+
+int cpd_st_fail(cpd_store *s, const char *what)
+{
+    return cpd_st_err(s, CPD_ESTORE, "%s: %s", what, sqlite3_errmsg(s->db));
+}
+
+int cpd_st_prepare(cpd_store *s, const char *sql, sqlite3_stmt **st)
+{
+    if (sqlite3_prepare_v2(s->db, sql, -1, st, NULL) != SQLITE_OK) {
+        *st = NULL;
+        return cpd_st_fail(s, "preparing a statement");
+    }
+    return CPD_OK;
+}
+
+void cpd_st_text(sqlite3_stmt *st, int col, char *dst, size_t n)
+{
+    const unsigned char *t = sqlite3_column_text(st, col);
+    snprintf(dst, n, "%s", t ? (const char *)t : "");
+}
+
+int cpd_st_bind_text(sqlite3_stmt *st, int idx, const char *v, int empty_is_null)
+{
+    if (!v || (empty_is_null && !*v))
+        return sqlite3_bind_null(st, idx);
+    return sqlite3_bind_text(st, idx, v, -1, SQLITE_TRANSIENT);
+}
+
+int cpd_st_savepoint(cpd_store *s)
+{
+    if (sqlite3_exec(s->db, "SAVEPOINT cpd_write", NULL, NULL, NULL) != SQLITE_OK)
+        return cpd_st_fail(s, "starting a write");
+    return CPD_OK;
+}
+
+int cpd_st_release(cpd_store *s, int rc)
+{
+    if (rc != CPD_OK) {
+        sqlite3_exec(s->db, "ROLLBACK TO cpd_write; RELEASE cpd_write", NULL, NULL, NULL);
+        return rc;
+    }
+    if (sqlite3_exec(s->db, "RELEASE cpd_write", NULL, NULL, NULL) != SQLITE_OK)
+        return cpd_st_fail(s, "finishing a write");
+    return CPD_OK;
+}
+
+int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT id FROM athlete WHERE code = ?1", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_text(st, 1, code, -1, SQLITE_TRANSIENT);
+    int r = sqlite3_step(st);
+    if (r == SQLITE_ROW)
+        *id = sqlite3_column_int64(st, 0);
+    else if (r == SQLITE_DONE)
+        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'", code);
+    else
+        rc = cpd_st_fail(s, "looking up an athlete");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+const char *cpd_store_errmsg(const cpd_store *s)
+{
+    return s ? s->err : "";
+}
+
+int cpd_store_latest_version(void)
+{
+    return cpd_store_migration_count;
+}
+
+int cpd_store_version(const cpd_store *s)
+{
+    sqlite3_stmt *st = NULL;
+    int v = -1;
+    if (sqlite3_prepare_v2(s->db, "PRAGMA user_version", -1, &st, NULL) == SQLITE_OK && sqlite3_step(st) == SQLITE_ROW)
+        v = sqlite3_column_int(st, 0);
+    sqlite3_finalize(st);
+    return v;
+}
+
+static int migrate(cpd_store *s)
+{
+    int v = cpd_store_version(s);
+    if (v < 0)
+        return cpd_st_fail(s, "reading the store version");
+    if (v > cpd_store_migration_count)
+        return cpd_st_err(s, CPD_ESTORE,
+                          "the store is version %d but this cpdomain knows versions up to %d: "
+                          "use a newer cpdomain",
+                          v, cpd_store_migration_count);
+    if (v == cpd_store_migration_count)
+        return CPD_OK;
+    if (sqlite3_exec(s->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
+        return cpd_st_fail(s, "starting the upgrade");
+    for (int k = v; k < cpd_store_migration_count; k++) {
+        char *e = NULL;
+        if (sqlite3_exec(s->db, cpd_store_migrations[k], NULL, NULL, &e) != SQLITE_OK) {
+            cpd_st_err(s, CPD_ESTORE, "upgrading the store with %s: %s", cpd_store_migration_files[k],
+                       e ? e : "unknown error");
+            sqlite3_free(e);
+            sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+            return CPD_ESTORE;
+        }
+    }
+    char sql[64];
+    snprintf(sql, sizeof sql, "PRAGMA user_version = %d", cpd_store_migration_count);
+    if (sqlite3_exec(s->db, sql, NULL, NULL, NULL) != SQLITE_OK ||
+        sqlite3_exec(s->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
+        int rc = cpd_st_fail(s, "finishing the upgrade");
+        sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+        return rc;
+    }
+    return CPD_OK;
+}
+
+int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
+{
+    *out = NULL;
+    msg[0] = '\0';
+    struct stat sb;
+    if (!create && stat(path, &sb) != 0) {
+        snprintf(msg, CPD_MSG_MAX, "no store at '%s': create it with 'cpdomain --db %s init'", path, path);
+        return CPD_ENOENT;
+    }
+    cpd_store *s = calloc(1, sizeof *s);
+    if (!s)
+        return CPD_ENOMEM;
+    int flags = SQLITE_OPEN_READWRITE | (create ? SQLITE_OPEN_CREATE : 0);
+    int rc = CPD_OK;
+    if (sqlite3_open_v2(path, &s->db, flags, NULL) != SQLITE_OK) {
+        snprintf(msg, CPD_MSG_MAX, "cannot open the store '%s': %s", path,
+                 s->db ? sqlite3_errmsg(s->db) : "out of memory");
+        rc = CPD_ESTORE;
+        goto done;
+    }
+    sqlite3_busy_timeout(s->db, 5000);
+    sqlite3_extended_result_codes(s->db, 1);
+    /* A file that is not SQLite fails here, at the first read. */
+    if (sqlite3_exec(s->db, "PRAGMA foreign_keys = ON; PRAGMA journal_mode = WAL; PRAGMA synchronous = NORMAL",
+                     NULL, NULL, NULL) != SQLITE_OK) {
+        snprintf(msg, CPD_MSG_MAX, "'%s' is not a cpdomain store: %s", path, sqlite3_errmsg(s->db));
+        rc = CPD_ESTORE;
+        goto done;
+    }
+    rc = migrate(s);
+    if (rc)
+        snprintf(msg, CPD_MSG_MAX, "%s", s->err);
+done:
+    if (rc) {
+        cpd_store_close(s);
+        return rc;
+    }
+    *out = s;
+    return CPD_OK;
+}
+
+void cpd_store_close(cpd_store *s)
+{
+    if (!s)
+        return;
+    sqlite3_close(s->db); /* every statement is finalized by its owner before this */
+    free(s);
+}
+
+int cpd_store_begin(cpd_store *s)
+{
+    if (sqlite3_exec(s->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
+        return cpd_st_fail(s, "starting a transaction");
+    return CPD_OK;
+}
+
+int cpd_store_commit(cpd_store *s)
+{
+    if (sqlite3_exec(s->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
+        int rc = cpd_st_fail(s, "committing");
+        sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+        return rc;
+    }
+    return CPD_OK;
+}
+
+void cpd_store_rollback(cpd_store *s)
+{
+    if (s && !sqlite3_get_autocommit(s->db))
+        sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+}
