@@ -22,7 +22,7 @@ LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c
 # Unit tests: one cmocka program per module.
-TESTS    = test_units test_nlfit test_linfit test_gx
+TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 # Benchmarks.
 BENCHES  =
 

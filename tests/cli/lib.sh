@@ -15,7 +15,7 @@ pass() { N=$((N + 1)); echo "ok $N - $1"; }
 fail() { N=$((N + 1)); echo "not ok $N - $1"; shift; for l in "$@"; do echo "#   $l"; done; }
 
 # cpd ARGS...: runs the binary on $DB; stdout in $TMP/out, stderr in $TMP/err, status in RC.
-cpd() { "$BIN" --db "$DB" "$@" >"$TMP/out" 2>"$TMP/err"; RC=$?; }
+cpd() { ${VALGRIND:-} "$BIN" --db "$DB" "$@" >"$TMP/out" 2>"$TMP/err"; RC=$?; }
 
 # expect RC WHAT ARGS...: runs cpd ARGS and checks the exit status.
 expect() {
