@@ -1,5 +1,6 @@
 /* cmd_athlete.c: 'init' and 'athlete add|list|show|set|remove'. */
 #include "commands.h"
+#include "cpdomain/import.h"
 #include "cpdomain/units.h"
 #include "cpdomain/validate.h"
 
@@ -58,13 +59,18 @@ static const char HELP_SET[] =
     "usage: cpdomain athlete set CODE [--name NAME] [--sport SPORT] [--mass KG|none] [--notes TEXT]\n\n"
     "Changes the given fields; the others stay as they are. '--mass none' forgets the body mass.\n\n"
     "example:\n  cpdomain athlete set C03 --mass 70.8\n";
+static const char HELP_IMPORT[] =
+    "usage: cpdomain athlete import FILE.csv [--map NAME=HEADER[,...]]\n\n"
+    "Adds the athletes of a CSV file with the columns code,name and optional sport, mass_kg,\n"
+    "notes. A code already in the store is skipped and counted; a bad row rejects the file.\n\n"
+    "example:\n  cpdomain athlete import squad.csv\n";
 static const char HELP_REMOVE[] =
     "usage: cpdomain athlete remove CODE --yes\n\n"
     "Removes the athlete and every test, fit and session of the athlete, in one transaction.\n"
     "--yes confirms; without it nothing is removed.\n\nexample:\n  cpdomain athlete remove C03 --yes\n";
 
 typedef struct {
-    const char *name, *sport, *mass, *notes;
+    const char *name, *sport, *mass, *notes, *map;
     int yes;
 } athlete_opts;
 
@@ -87,6 +93,9 @@ static int athlete_opt(int opt, const char *arg, void *ud)
     case 'y':
         o->yes = 1;
         break;
+    case 'M':
+        o->map = arg;
+        break;
     default:
         return EX_USAGE;
     }
@@ -97,6 +106,7 @@ static const struct option athlete_longopts[] = {
     {"name", required_argument, NULL, 'n'}, {"sport", required_argument, NULL, 's'},
     {"mass", required_argument, NULL, 'm'}, {"notes", required_argument, NULL, 'N'},
     {"yes", no_argument, NULL, 'y'},        {"help", no_argument, NULL, 'h'},
+    {"map", required_argument, NULL, 'M'},
     {NULL, 0, NULL, 0},
 };
 
@@ -111,7 +121,7 @@ static int parse(int argc, char **argv, const char *help, athlete_opts *o, int w
     if (done)
         return -1;
     if (argc - *first < want)
-        return cli_usage(argv[0], "missing argument CODE");
+        return cli_usage(argv[0], "missing argument %s", want && strcmp(argv[0], "import") == 0 ? "FILE.csv" : "CODE");
     if (argc - *first > want)
         return cli_usage(argv[0], "unexpected argument '%s'", argv[*first + want]);
     return 0;
@@ -319,11 +329,56 @@ static int athlete_remove(cli_ctx *c, int argc, char **argv)
     return 0;
 }
 
+static int athlete_import(cli_ctx *c, int argc, char **argv)
+{
+    athlete_opts o;
+    int first = 0;
+    int rc = parse(argc, argv, HELP_IMPORT, &o, 1, &first);
+    if (rc)
+        return rc < 0 ? 0 : rc;
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    cpd_athlete_batch b;
+    char msg[CPD_MSG_MAX];
+    if ((rc = cpd_import_athletes(argv[first], o.map, &b, msg)))
+        return cli_fail(c, rc, "%s", msg);
+    size_t added = 0, skipped = 0;
+    if ((rc = cpd_store_begin(c->store)))
+        goto fail;
+    for (size_t i = 0; i < b.n; i++) {
+        int64_t id = 0;
+        rc = cpd_store_athlete_add(c->store, &b.athlete[i], &id);
+        if (rc == CPD_EEXIST) {
+            skipped++;
+            continue;
+        }
+        if (rc)
+            goto fail;
+        added++;
+    }
+    if ((rc = cpd_store_commit(c->store)))
+        goto fail;
+    cpd_athlete_batch_free(&b);
+    if (c->json) {
+        cli_json *d = cj_obj();
+        cj_str(d, "file", argv[first]);
+        cj_int(d, "added", (long long)added);
+        cj_int(d, "skipped_existing", (long long)skipped);
+        return cj_print(d);
+    }
+    cli_note(c, "%s: %zu athletes added, %zu already in the store", argv[first], added, skipped);
+    return 0;
+fail:
+    cpd_athlete_batch_free(&b);
+    return cli_store_fail(c, rc);
+}
+
 static const cli_command athlete_table[] = {
     {"add", athlete_add, "add an athlete", HELP_ADD},
     {"list", athlete_list, "list the athletes", HELP_LIST},
     {"show", athlete_show, "show one athlete", HELP_SHOW},
     {"set", athlete_set, "change an athlete's name, sport, mass or notes", HELP_SET},
+    {"import", athlete_import, "add athletes from a CSV file", HELP_IMPORT},
     {"remove", athlete_remove, "remove an athlete and all of the athlete's data", HELP_REMOVE},
 };
 

@@ -22,4 +22,16 @@ typedef struct {
 int cpd_import_trials(const char *path, const char *map, int today_days, cpd_trial_batch *out, char *msg);
 void cpd_trial_batch_free(cpd_trial_batch *b);
 
+typedef struct {
+    cpd_athlete *athlete; /* n validated athletes */
+    long *line;           /* physical line of each */
+    size_t n;
+} cpd_athlete_batch;
+
+/* Reads an athletes CSV (code,name and optional sport (default cycling), mass_kg, notes) with map
+ * as for trials; each row checked by cpd_validate_athlete. Same return codes as
+ * cpd_import_trials. The caller frees the batch with cpd_athlete_batch_free. */
+int cpd_import_athletes(const char *path, const char *map, cpd_athlete_batch *out, char *msg);
+void cpd_athlete_batch_free(cpd_athlete_batch *b);
+
 #endif

@@ -16,7 +16,7 @@ expect 64 "unknown command" frobnicate
 err_has "unknown command 'frobnicate'" "unknown command is named"
 expect 0 "global help" --help
 out_has "athlete" "help lists the commands"
-for sub in "athlete add" "athlete list" "athlete show" "athlete set" "athlete remove" "trial add" "trial list" \
+for sub in "athlete add" "athlete import" "athlete list" "athlete show" "athlete set" "athlete remove" "trial add" "trial list" \
            "trial import" "trial exclude" "trial include" "trial remove" init; do
     expect 0 "$sub --help" $sub --help
     out_has "example" "$sub --help has an example"
@@ -162,3 +162,17 @@ err_has "is not a cpdomain store" "junk store explained"
 printf 'date,Subject,power_w,duration_s\n2026-10-01,NOPE,300,300\n' >"$TMP/mapped_unknown.csv"
 expect 65 "unknown athlete in column 2" trial import "$TMP/mapped_unknown.csv" --map athlete=Subject
 err_has "mapped_unknown.csv:2:2: column 'athlete': no athlete with code 'NOPE'" "located at its own column"
+
+# ---- athlete import ----
+printf 'code,name,sport,mass_kg,notes\nA1,"Berit Lund, jr",rowing,77.25,"coach: ""H"""\nA2,Ola Nnamdi,,,\n' >"$TMP/squad.csv"
+expect 0 "athlete import" --json athlete import "$TMP/squad.csv"
+json_is 'd["added"], d["skipped_existing"]' "(2, 0)" "two athletes added"
+expect 0 "import again" --json athlete import "$TMP/squad.csv"
+json_is 'd["added"], d["skipped_existing"]' "(0, 2)" "existing codes skipped"
+expect 0 "show" --json athlete show A1
+json_is 'd["name"], d["sport"], d["mass_kg"], d["notes"]' "('Berit Lund, jr', 'rowing', 77.25, 'coach: \"H\"')" "fields round-trip"
+printf 'code,name,mass_kg\nA3,Ok,70\nA4,Heavy,251\n' >"$TMP/squad_bad.csv"
+snapshot
+expect 65 "athlete import with a bad mass" athlete import "$TMP/squad_bad.csv"
+err_has "squad_bad.csv:3:3: column 'mass_kg': body mass must be between 20 and 250 kg (got 251)" "bad mass located"
+unchanged "bad athletes file"

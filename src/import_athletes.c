@@ -1,0 +1,101 @@
+/* import_athletes.c: athletes CSV -> validated cpd_athlete records (onboarding a squad at once). */
+#include "cpdomain/csvin.h"
+#include "cpdomain/import.h"
+#include "cpdomain/status.h"
+#include "cpdomain/units.h"
+#include "cpdomain/validate.h"
+
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+void cpd_athlete_batch_free(cpd_athlete_batch *b)
+{
+    if (!b)
+        return;
+    free(b->athlete);
+    free(b->line);
+    b->athlete = NULL;
+    b->line = NULL;
+    b->n = 0;
+}
+
+int cpd_import_athletes(const char *path, const char *map, cpd_athlete_batch *out, char *msg)
+{
+    memset(out, 0, sizeof *out);
+    cpd_csv *c = NULL;
+    int rc = cpd_csv_read(path, &c, msg);
+    if (rc)
+        return rc;
+    if ((rc = cpd_csv_map(c, map, msg)))
+        goto done;
+    int code = cpd_csv_find(c, "code"), name = cpd_csv_find(c, "name");
+    int sport = cpd_csv_find(c, "sport"), mass = cpd_csv_find(c, "mass_kg"), notes = cpd_csv_find(c, "notes");
+    if (code < 0 || name < 0) {
+        snprintf(msg, CPD_MSG_MAX, "%s:1:1: missing column '%s' (an athletes file needs code and name)", path,
+                 code < 0 ? "code" : "name");
+        rc = CPD_EDATA;
+        goto done;
+    }
+    size_t n = cpd_csv_nrows(c);
+    out->athlete = calloc(n ? n : 1, sizeof *out->athlete);
+    out->line = calloc(n ? n : 1, sizeof *out->line);
+    if (!out->athlete || !out->line) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    char where[CPD_MSG_MAX / 2], why[CPD_MSG_MAX];
+    for (size_t r = 0; r < n; r++) {
+        cpd_athlete *a = &out->athlete[r];
+        int bad = code;
+        const char *v = cpd_csv_get(c, r, (size_t)code);
+        if (cpd_validate_code(v, why))
+            goto bad;
+        snprintf(a->code, sizeof a->code, "%s", v);
+        bad = name;
+        v = cpd_csv_get(c, r, (size_t)name);
+        if (!*v || strlen(v) > CPD_NAME_MAX) {
+            snprintf(why, sizeof why, "name must have 1 to %d bytes", CPD_NAME_MAX);
+            goto bad;
+        }
+        snprintf(a->name, sizeof a->name, "%s", v);
+        bad = sport;
+        v = sport >= 0 ? cpd_csv_get(c, r, (size_t)sport) : "";
+        snprintf(a->sport, sizeof a->sport, "%.15s", *v ? v : "cycling");
+        if (cpd_validate_sport(*v ? v : "cycling", why))
+            goto bad;
+        bad = mass;
+        v = mass >= 0 ? cpd_csv_get(c, r, (size_t)mass) : "";
+        if (*v) {
+            if (cpd_parse_number(v, &a->mass_kg)) {
+                snprintf(why, sizeof why, "'%s' is not a number", v);
+                goto bad;
+            }
+            a->has_mass = 1;
+            if (!cpd_in_range(&CPD_RANGE_MASS, a->mass_kg)) {
+                cpd_range_msg(&CPD_RANGE_MASS, a->mass_kg, why, sizeof why);
+                goto bad;
+            }
+        }
+        bad = notes;
+        v = notes >= 0 ? cpd_csv_get(c, r, (size_t)notes) : "";
+        if (strlen(v) > CPD_NOTE_MAX) {
+            snprintf(why, sizeof why, "notes are longer than %d bytes", CPD_NOTE_MAX);
+            goto bad;
+        }
+        snprintf(a->notes, sizeof a->notes, "%s", v);
+        out->line[r] = cpd_csv_line(c, r);
+        continue;
+    bad:
+        cpd_csv_where(c, r, bad < 0 ? 0 : bad, where, sizeof where);
+        snprintf(msg, CPD_MSG_MAX, "%s: %s", where, why);
+        rc = CPD_EDATA;
+        goto done;
+    }
+    out->n = n;
+done:
+    cpd_csv_free(c);
+    if (rc)
+        cpd_athlete_batch_free(out);
+    return rc;
+}
