@@ -18,15 +18,15 @@
 #define PCT_MAX 500.0
 
 typedef struct {
-    const char *text;  /* the whole input, for positions */
-    const char *p;     /* cursor */
-    char *msg;         /* CPD_MSG_MAX bytes */
-    cpd_protocol *out; /* segments being built */
-    size_t cap;        /* allocated segments */
-    int depth;         /* open groups */
-    size_t mod_pos;    /* character position of the intensity that fixed the modality */
+    const char *text;   /* the whole input, for positions */
+    const char *p;      /* cursor */
+    char *msg;          /* CPD_MSG_MAX bytes */
+    cpd_protocol *out;  /* segments being built */
+    size_t cap;         /* allocated segments */
+    int depth;          /* open groups */
+    size_t mod_pos;     /* character position of the intensity that fixed the modality */
     const char *unk_at; /* the first '?' that carried a unit */
-    size_t unk_len;    /* length of that unknown's text */
+    size_t unk_len;     /* length of that unknown's text */
 } parser;
 
 /* 1-based character position of 'at': UTF-8 continuation bytes do not start a character. */
@@ -89,8 +89,8 @@ static const struct {
     const char *word;
     cpd_protocol_unit unit;
 } units_tab[] = {
-    {"%CP", CPD_PROTOCOL_UNIT_PCT_CP},   {"%CS", CPD_PROTOCOL_UNIT_PCT_CS},      {"m/s", CPD_PROTOCOL_UNIT_M_S},
-    {"km/h", CPD_PROTOCOL_UNIT_KM_H},    {"/km", CPD_PROTOCOL_UNIT_PACE_KM},     {"/100m", CPD_PROTOCOL_UNIT_PACE_100M},
+    {"%CP", CPD_PROTOCOL_UNIT_PCT_CP}, {"%CS", CPD_PROTOCOL_UNIT_PCT_CS},  {"m/s", CPD_PROTOCOL_UNIT_M_S},
+    {"km/h", CPD_PROTOCOL_UNIT_KM_H},  {"/km", CPD_PROTOCOL_UNIT_PACE_KM}, {"/100m", CPD_PROTOCOL_UNIT_PACE_100M},
     {"W", CPD_PROTOCOL_UNIT_W},
 };
 
@@ -143,9 +143,10 @@ static int set_modality(parser *ps, cpd_protocol_modality m, const char *at, siz
     }
     if (ps->out->modality == m)
         return CPD_OK;
-    return fail(ps, at, "'%.*s' is a %s, but the protocol is in %s since position %zu (power and speed cannot be mixed)",
-                (int)len, at, m == CPD_PROTOCOL_POWER ? "power" : "speed", cpd_protocol_modality_name(ps->out->modality),
-                ps->mod_pos);
+    return fail(ps, at,
+                "'%.*s' is a %s, but the protocol is in %s since position %zu (power and speed cannot be mixed)",
+                (int)len, at, m == CPD_PROTOCOL_POWER ? "power" : "speed",
+                cpd_protocol_modality_name(ps->out->modality), ps->mod_pos);
 }
 
 static int grow(parser *ps, size_t need)
@@ -181,10 +182,11 @@ static int parse_intensity(parser *ps, cpd_protocol_segment *seg)
                 ps->unk_at = at;
                 ps->unk_len = (size_t)(end - at);
             } else if (ps->out->unknown_unit != u) {
-                return fail(ps, at,
-                            "a second, different unknown '%.*s' (the first is '%.*s' at position %zu); a protocol has one "
-                            "unknown intensity, written alike wherever it appears",
-                            (int)(end - at), at, (int)ps->unk_len, ps->unk_at, charpos(ps, ps->unk_at));
+                return fail(
+                    ps, at,
+                    "a second, different unknown '%.*s' (the first is '%.*s' at position %zu); a protocol has one "
+                    "unknown intensity, written alike wherever it appears",
+                    (int)(end - at), at, (int)ps->unk_len, ps->unk_at, charpos(ps, ps->unk_at));
             }
             ps->out->unknown_unit = u;
         }
@@ -207,8 +209,8 @@ static int parse_intensity(parser *ps, cpd_protocol_segment *seg)
     cpd_protocol_unit u;
     size_t L = match_unit(t, &u);
     if (!L)
-        return fail(ps, t, "expected a unit after '%.*s' (W, %%CP, %%CS, m/s, km/h, /km or /100m), found %s", (int)numlen,
-                    at, found(t, fb, sizeof fb));
+        return fail(ps, t, "expected a unit after '%.*s' (W, %%CP, %%CS, m/s, km/h, /km or /100m), found %s",
+                    (int)numlen, at, found(t, fb, sizeof fb));
     char num[64];
     if (numlen >= sizeof num)
         return fail(ps, at, "number too long in the intensity");
@@ -331,7 +333,8 @@ static int parse_repeat(parser *ps)
         return fail(ps, at, "the protocol lasts more than 24 h (%d s)", CPD_PROTOCOL_MAX_S);
     const char *open = skip_ws(x + xl);
     if (*open != '(')
-        return fail(ps, open, "expected '(' after '%.*s', found %s", (int)(x + xl - at), at, found(open, fb, sizeof fb));
+        return fail(ps, open, "expected '(' after '%.*s', found %s", (int)(x + xl - at), at,
+                    found(open, fb, sizeof fb));
     if (ps->depth == CPD_PROTOCOL_MAX_DEPTH)
         return fail(ps, open, "repeats nested more than %d deep", CPD_PROTOCOL_MAX_DEPTH);
 
@@ -458,8 +461,9 @@ int cpd_protocol_expand(const cpd_protocol *p, double cp, double unknown, double
     size_t k = 0;
     for (size_t i = 0; i < p->n; i++) {
         const cpd_protocol_segment *s = &p->seg[i];
-        double v = s->kind == CPD_PROTOCOL_UNKNOWN ? unknown : s->kind == CPD_PROTOCOL_PCT_CP ? s->value / 100.0 * cp
-                                                                                              : s->value;
+        double v = s->kind == CPD_PROTOCOL_UNKNOWN  ? unknown
+                   : s->kind == CPD_PROTOCOL_PCT_CP ? s->value / 100.0 * cp
+                                                    : s->value;
         for (size_t j = 0; j < s->duration_s; j++)
             intensity[k++] = v;
     }

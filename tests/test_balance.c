@@ -119,6 +119,17 @@ static void constant_power_from_rest(void **state)
         assert_true(r.min_balance == tr[N - 1] && r.end_balance == tr[N - 1]);
         assert_false(r.has_dcp);
     }
+    /* SPEC: failure is a balance <= 0. 20000 - 160·125 is exactly 0 in binary floating point, so
+     * second 160 is the failure, not 161 */
+    for (int i = 0; i < N; i++)
+        x[i] = 375;
+    for (int m = 0; m < 3; m++) {
+        cpd_balance_params bp = {models[m], 250, 20000};
+        cpd_balance_result r;
+        assert_int_equal(cpd_balance_run(&bp, x, N, tr, &r), CPD_OK);
+        assert_true(tr[159] == 0.0 && tr[158] == 125.0);
+        assert_int_equal(r.failure_at_s, 160);
+    }
     /* speed: the same arithmetic with CS (m/s) and D′ (m); D′/(v - CS) = 207/0.83 = 249.4 s */
     double v[300];
     for (int i = 0; i < 300; i++)

@@ -143,8 +143,8 @@ static void expansion(void **state)
     x[11] = -1;
     const double cp = 263.7, u = 411.9;
     assert_int_equal(cpd_protocol_expand(p, cp, u, x, 12), CPD_OK);
-    const double want[11] = {105 / 100.0 * cp, 105 / 100.0 * cp, 105 / 100.0 * cp, u, u, 0, 172.5, 172.5, 0, 172.5,
-                             172.5};
+    const double want[11] = {
+        105 / 100.0 * cp, 105 / 100.0 * cp, 105 / 100.0 * cp, u, u, 0, 172.5, 172.5, 0, 172.5, 172.5};
     for (int i = 0; i < 11; i++)
         assert_true(x[i] == want[i]);
     assert_true(x[11] == -1); /* nothing written past total_s */
@@ -205,7 +205,8 @@ static void errors_with_positions(void **state)
     expect_error("x(1@1W)", 1, "expected a duration");
     /* bad intensities */
     expect_error("10min@abc", 7, "expected an intensity");
-    expect_error("10min@ ", 8, "expected an intensity (e.g. 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m or ?), found the end");
+    expect_error("10min@ ", 8,
+                 "expected an intensity (e.g. 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m or ?), found the end");
     expect_error("10min@300", 10, "expected a unit after '300'");
     expect_error("10min@300 kW", 11, "expected a unit after '300' (W, %CP, %CS, m/s, km/h, /km or /100m), found 'k'");
     expect_error("10min@300Wh", 10, "expected a unit");
@@ -249,7 +250,8 @@ static void errors_with_positions(void **state)
     expect_error("", 1, "empty protocol");
     expect_error("   ", 4, "empty protocol");
     expect_error(";10min@150W", 1, "expected a segment");
-    expect_error("10min@150W;;5min@100W", 12, "expected a segment (DURATION@INTENSITY) or a repeat Nx( ... ), found ';'");
+    expect_error("10min@150W;;5min@100W", 12,
+                 "expected a segment (DURATION@INTENSITY) or a repeat Nx( ... ), found ';'");
     expect_error("10min@150W; ;", 13, "found ';'");
     expect_error("2x(;1@1W)", 4, "found ';'");
     expect_error("10min@150W 5min@100W", 12, "expected ';' or ',' between segments, found '5'");
@@ -262,8 +264,10 @@ static void errors_with_positions(void **state)
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test(intensity_and_duration_forms), cmocka_unit_test(repeats_separators_and_blanks),
-        cmocka_unit_test(expansion),                    cmocka_unit_test(full_messages),
+        cmocka_unit_test(intensity_and_duration_forms),
+        cmocka_unit_test(repeats_separators_and_blanks),
+        cmocka_unit_test(expansion),
+        cmocka_unit_test(full_messages),
         cmocka_unit_test(errors_with_positions),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
