@@ -20,6 +20,7 @@ typedef struct {
     size_t n, p;                        /* 0 when the slot is empty */
     gsl_matrix *covar;                  /* p x p */
     double *jbuf;                       /* n * p row-major Jacobian scratch */
+    double *fbuf;                       /* n residuals, for GSL vectors that are not contiguous */
     unsigned long used;                 /* clock value at last use, for least-recently-used eviction */
 } slot;
 
@@ -36,19 +37,24 @@ struct cpd_nlfit_ws {
  * step is rejected, small enough that its square sums stay finite. */
 #define OUTSIDE 1e100
 
+/* GSL passes f as a strided view (a column of J) when it builds a finite-difference Jacobian,
+ * so the residuals go through a contiguous buffer; x is always contiguous (p <= CPD_NLFIT_PMAX). */
 static int adapt_f(const gsl_vector *x, void *params, gsl_vector *f)
 {
     cpd_nlfit_ws *w = params;
     const cpd_nlfit_problem *pr = w->pr;
-    int bad = pr->f(x->data, pr->ctx, f->data) != 0;
+    double b[CPD_NLFIT_PMAX];
+    for (size_t j = 0; j < pr->p; j++)
+        b[j] = gsl_vector_get(x, j);
+    double *fb = w->cur->fbuf;
+    int bad = pr->f(b, pr->ctx, fb) != 0;
     for (size_t i = 0; i < pr->n && !bad; i++)
-        if (!isfinite(f->data[i]))
+        if (!isfinite(fb[i]))
             bad = 1;
-    if (bad) {
-        for (size_t i = 0; i < pr->n; i++)
-            f->data[i] = OUTSIDE;
+    if (bad)
         w->domain_fail = 1;
-    }
+    for (size_t i = 0; i < pr->n; i++)
+        gsl_vector_set(f, i, bad ? OUTSIDE : fb[i]);
     return GSL_SUCCESS;
 }
 
@@ -57,7 +63,10 @@ static int adapt_df(const gsl_vector *x, void *params, gsl_matrix *J)
     cpd_nlfit_ws *w = params;
     const cpd_nlfit_problem *pr = w->pr;
     double *jbuf = w->cur->jbuf;
-    if (pr->df(x->data, pr->ctx, jbuf) != 0)
+    double b[CPD_NLFIT_PMAX];
+    for (size_t j = 0; j < pr->p; j++)
+        b[j] = gsl_vector_get(x, j);
+    if (pr->df(b, pr->ctx, jbuf) != 0)
         return GSL_EDOM;
     for (size_t i = 0; i < pr->n; i++)
         for (size_t j = 0; j < pr->p; j++) {
@@ -87,6 +96,7 @@ static void release(slot *sl)
     gsl_multifit_nlinear_free(sl->gw);
     gsl_matrix_free(sl->covar);
     free(sl->jbuf);
+    free(sl->fbuf);
     memset(sl, 0, sizeof *sl);
 }
 
@@ -123,7 +133,8 @@ static int ensure(cpd_nlfit_ws *w, size_t n, size_t p)
     victim->gw = gsl_multifit_nlinear_alloc(gsl_multifit_nlinear_trust, &par, n, p);
     victim->covar = gsl_matrix_alloc(p, p);
     victim->jbuf = malloc(n * p * sizeof(double));
-    if (!victim->gw || !victim->covar || !victim->jbuf) {
+    victim->fbuf = malloc(n * sizeof(double));
+    if (!victim->gw || !victim->covar || !victim->jbuf || !victim->fbuf) {
         release(victim);
         return CPD_ENOMEM;
     }
