@@ -20,13 +20,16 @@ ALL_LDFLAGS = $(SANFLAGS) $(LDFLAGS)
 LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.c src/validate.c \
            src/import_trials.c src/import_athletes.c src/store.c src/store_athlete.c
 LIB_SRCS += src/protocol.c src/balance.c
+LIB_SRCS += src/pd.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
+TESTS += test_pd
 # Benchmarks.
 BENCHES  =
+BENCHES += bench_pd
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 

@@ -8,9 +8,59 @@
 #include <stdlib.h>
 #include <string.h>
 
+struct cpd_linfit_ws {
+    size_t n_max, p_max;
+    gsl_matrix *A, *V; /* n_max x p_max, p_max x p_max; fits use the top-left corner */
+    gsl_vector *S, *work;
+};
+
+cpd_linfit_ws *cpd_linfit_alloc(size_t n_max, size_t p_max)
+{
+    if (p_max == 0 || p_max > CPD_LINFIT_PMAX || n_max < p_max)
+        return NULL;
+    cpd_linfit_ws *w = calloc(1, sizeof *w);
+    if (!w)
+        return NULL;
+    w->n_max = n_max;
+    w->p_max = p_max;
+    w->A = gsl_matrix_alloc(n_max, p_max);
+    w->V = gsl_matrix_alloc(p_max, p_max);
+    w->S = gsl_vector_alloc(p_max);
+    w->work = gsl_vector_alloc(p_max);
+    if (!w->A || !w->V || !w->S || !w->work) {
+        cpd_linfit_free(w);
+        return NULL;
+    }
+    return w;
+}
+
+void cpd_linfit_free(cpd_linfit_ws *w)
+{
+    if (!w)
+        return;
+    gsl_matrix_free(w->A);
+    gsl_matrix_free(w->V);
+    gsl_vector_free(w->S);
+    gsl_vector_free(w->work);
+    free(w);
+}
+
 int cpd_linfit(const double *X, const double *y, size_t n, size_t p, int intercept, cpd_linfit_result *res)
 {
     if (!X || !y || !res || p == 0 || p > CPD_LINFIT_PMAX || n < p)
+        return CPD_EUSAGE;
+    cpd_linfit_ws *w = cpd_linfit_alloc(n, p);
+    if (!w)
+        return CPD_ENOMEM;
+    int rc = cpd_linfit_solve(w, X, y, n, p, intercept, res);
+    cpd_linfit_free(w);
+    return rc;
+}
+
+int cpd_linfit_solve(cpd_linfit_ws *w, const double *X, const double *y, size_t n, size_t p, int intercept,
+                     cpd_linfit_result *res)
+{
+    if (!w || !X || !y || !res || p == 0 || p > CPD_LINFIT_PMAX || n < p || n > w->n_max || p > w->p_max)
         return CPD_EUSAGE;
     for (size_t i = 0; i < n; i++) {
         if (!isfinite(y[i]))
@@ -26,16 +76,13 @@ int cpd_linfit(const double *X, const double *y, size_t n, size_t p, int interce
 
     /* Column-scaled SVD: A D^-1 = U S V'. Then b = D^-1 V S^-1 U'y and (X'X)^-1 = D^-1 V S^-2 V' D^-1.
      * Scaling first keeps polynomial designs (NIST Pontius, Wampler) well conditioned. */
-    int rc = CPD_OK;
-    gsl_matrix *A = gsl_matrix_alloc(n, p);
-    gsl_matrix *V = gsl_matrix_alloc(p, p);
-    gsl_vector *S = gsl_vector_alloc(p);
-    gsl_vector *work = gsl_vector_alloc(p);
+    gsl_matrix_view Av = gsl_matrix_submatrix(w->A, 0, 0, n, p);
+    gsl_matrix_view Vv = gsl_matrix_submatrix(w->V, 0, 0, p, p);
+    gsl_vector_view Sv = gsl_vector_subvector(w->S, 0, p);
+    gsl_vector_view workv = gsl_vector_subvector(w->work, 0, p);
+    gsl_matrix *A = &Av.matrix, *V = &Vv.matrix;
+    gsl_vector *S = &Sv.vector, *work = &workv.vector;
     double D[CPD_LINFIT_PMAX], uty[CPD_LINFIT_PMAX];
-    if (!A || !V || !S || !work) {
-        rc = CPD_ENOMEM;
-        goto done;
-    }
     for (size_t j = 0; j < p; j++) {
         double ss = 0.0;
         for (size_t i = 0; i < n; i++)
@@ -44,16 +91,12 @@ int cpd_linfit(const double *X, const double *y, size_t n, size_t p, int interce
         for (size_t i = 0; i < n; i++)
             gsl_matrix_set(A, i, j, X[i * p + j] / D[j]);
     }
-    if (gsl_linalg_SV_decomp(A, V, S, work) != GSL_SUCCESS) {
-        rc = CPD_ENODATA;
-        goto done;
-    }
+    if (gsl_linalg_SV_decomp(A, V, S, work) != GSL_SUCCESS)
+        return CPD_ENODATA;
     double smax = gsl_vector_get(S, 0);
     for (size_t j = 0; j < p; j++)
-        if (!(gsl_vector_get(S, j) > 1e-14 * smax)) {
-            rc = CPD_ENODATA; /* dependent columns: no unique solution */
-            goto done;
-        }
+        if (!(gsl_vector_get(S, j) > 1e-14 * smax))
+            return CPD_ENODATA; /* dependent columns: no unique solution */
     for (size_t k = 0; k < p; k++) {
         double d = 0.0;
         for (size_t i = 0; i < n; i++)
@@ -94,12 +137,7 @@ int cpd_linfit(const double *X, const double *y, size_t n, size_t p, int interce
         }
     for (size_t j = 0; j < p; j++)
         res->se[j] = sqrt(fmax(res->cov[j * p + j], 0.0));
-done:
-    gsl_matrix_free(A);
-    gsl_matrix_free(V);
-    gsl_vector_free(S);
-    gsl_vector_free(work);
-    return rc;
+    return CPD_OK;
 }
 
 int cpd_linfit_line(const double *x, const double *y, size_t n, cpd_linfit_result *res)

@@ -10,33 +10,51 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* GSL's workspace has a fixed n x p, so one is kept per problem size. A caller that alternates
+ * between a few sizes (a fit and its leave-one-out refits, a 2- and a 3-parameter model) then
+ * allocates only the first time it meets each size. */
+#define NSLOT 8
+
+typedef struct {
+    gsl_multifit_nlinear_workspace *gw; /* sized n x p */
+    size_t n, p;                        /* 0 when the slot is empty */
+    gsl_matrix *covar;                  /* p x p */
+    double *jbuf;                       /* n * p row-major Jacobian scratch */
+    double *fbuf;                       /* n residuals, for GSL vectors that are not contiguous */
+    unsigned long used;                 /* clock value at last use, for least-recently-used eviction */
+} slot;
+
 struct cpd_nlfit_ws {
-    gsl_multifit_nlinear_workspace *gw; /* sized n_alloc x p_alloc */
-    size_t n_alloc, p_alloc;
-    gsl_matrix *covar;                  /* p_alloc x p_alloc */
-    double *jbuf;                       /* n_alloc * p_alloc row-major Jacobian scratch */
-    gsl_multifit_nlinear_fdf fdf;       /* GSL keeps a pointer to this */
-    const cpd_nlfit_problem *pr;        /* the problem being solved */
-    int domain_fail;                    /* set when f failed at the start */
+    slot slots[NSLOT];
+    slot *cur;                    /* the slot of the problem being solved */
+    unsigned long clock;          /* counts solves */
+    gsl_multifit_nlinear_fdf fdf; /* GSL keeps a pointer to this */
+    const cpd_nlfit_problem *pr;  /* the problem being solved */
+    int domain_fail;              /* set when f failed */
 };
 
 /* Value given to residuals where the model is undefined: large enough that the trust-region
  * step is rejected, small enough that its square sums stay finite. */
 #define OUTSIDE 1e100
 
+/* GSL passes f as a strided view (a column of J) when it builds a finite-difference Jacobian,
+ * so the residuals go through a contiguous buffer; x is always contiguous (p <= CPD_NLFIT_PMAX). */
 static int adapt_f(const gsl_vector *x, void *params, gsl_vector *f)
 {
     cpd_nlfit_ws *w = params;
     const cpd_nlfit_problem *pr = w->pr;
-    int bad = pr->f(x->data, pr->ctx, f->data) != 0;
+    double b[CPD_NLFIT_PMAX];
+    for (size_t j = 0; j < pr->p; j++)
+        b[j] = gsl_vector_get(x, j);
+    double *fb = w->cur->fbuf;
+    int bad = pr->f(b, pr->ctx, fb) != 0;
     for (size_t i = 0; i < pr->n && !bad; i++)
-        if (!isfinite(f->data[i]))
+        if (!isfinite(fb[i]))
             bad = 1;
-    if (bad) {
-        for (size_t i = 0; i < pr->n; i++)
-            f->data[i] = OUTSIDE;
+    if (bad)
         w->domain_fail = 1;
-    }
+    for (size_t i = 0; i < pr->n; i++)
+        gsl_vector_set(f, i, bad ? OUTSIDE : fb[i]);
     return GSL_SUCCESS;
 }
 
@@ -44,11 +62,15 @@ static int adapt_df(const gsl_vector *x, void *params, gsl_matrix *J)
 {
     cpd_nlfit_ws *w = params;
     const cpd_nlfit_problem *pr = w->pr;
-    if (pr->df(x->data, pr->ctx, w->jbuf) != 0)
+    double *jbuf = w->cur->jbuf;
+    double b[CPD_NLFIT_PMAX];
+    for (size_t j = 0; j < pr->p; j++)
+        b[j] = gsl_vector_get(x, j);
+    if (pr->df(b, pr->ctx, jbuf) != 0)
         return GSL_EDOM;
     for (size_t i = 0; i < pr->n; i++)
         for (size_t j = 0; j < pr->p; j++) {
-            double v = w->jbuf[i * pr->p + j];
+            double v = jbuf[i * pr->p + j];
             if (!isfinite(v))
                 return GSL_EDOM;
             gsl_matrix_set(J, i, j, v);
@@ -69,44 +91,57 @@ cpd_nlfit_ws *cpd_nlfit_alloc(void)
     return calloc(1, sizeof(cpd_nlfit_ws));
 }
 
-static void release(cpd_nlfit_ws *w)
+static void release(slot *sl)
 {
-    gsl_multifit_nlinear_free(w->gw);
-    gsl_matrix_free(w->covar);
-    free(w->jbuf);
-    w->gw = NULL;
-    w->covar = NULL;
-    w->jbuf = NULL;
-    w->n_alloc = w->p_alloc = 0;
+    gsl_multifit_nlinear_free(sl->gw);
+    gsl_matrix_free(sl->covar);
+    free(sl->jbuf);
+    free(sl->fbuf);
+    memset(sl, 0, sizeof *sl);
 }
 
 void cpd_nlfit_free(cpd_nlfit_ws *w)
 {
     if (!w)
         return;
-    release(w);
+    for (size_t k = 0; k < NSLOT; k++)
+        release(&w->slots[k]);
     free(w);
 }
 
+/* Points w->cur at a slot sized n x p, reusing one of that size or replacing the least
+ * recently used. */
 static int ensure(cpd_nlfit_ws *w, size_t n, size_t p)
 {
-    if (w->gw && w->n_alloc == n && w->p_alloc == p)
-        return CPD_OK;
-    release(w);
+    slot *victim = &w->slots[0];
+    for (size_t k = 0; k < NSLOT; k++) {
+        slot *sl = &w->slots[k];
+        if (sl->gw && sl->n == n && sl->p == p) {
+            w->cur = sl;
+            sl->used = ++w->clock;
+            return CPD_OK;
+        }
+        if (!sl->gw ? victim->gw != NULL : (victim->gw && sl->used < victim->used))
+            victim = sl;
+    }
+    release(victim);
     gsl_multifit_nlinear_parameters par = gsl_multifit_nlinear_default_parameters();
     par.trs = gsl_multifit_nlinear_trs_lm;
     /* Levenberg's identity scaling: More's scaling stalls on BoxBOD from NIST's first start */
     par.scale = gsl_multifit_nlinear_scale_levenberg;
     par.solver = gsl_multifit_nlinear_solver_qr;
-    w->gw = gsl_multifit_nlinear_alloc(gsl_multifit_nlinear_trust, &par, n, p);
-    w->covar = gsl_matrix_alloc(p, p);
-    w->jbuf = malloc(n * p * sizeof(double));
-    if (!w->gw || !w->covar || !w->jbuf) {
-        release(w);
+    victim->gw = gsl_multifit_nlinear_alloc(gsl_multifit_nlinear_trust, &par, n, p);
+    victim->covar = gsl_matrix_alloc(p, p);
+    victim->jbuf = malloc(n * p * sizeof(double));
+    victim->fbuf = malloc(n * sizeof(double));
+    if (!victim->gw || !victim->covar || !victim->jbuf || !victim->fbuf) {
+        release(victim);
         return CPD_ENOMEM;
     }
-    w->n_alloc = n;
-    w->p_alloc = p;
+    victim->n = n;
+    victim->p = p;
+    victim->used = ++w->clock;
+    w->cur = victim;
     return CPD_OK;
 }
 
@@ -140,27 +175,27 @@ int cpd_nlfit_solve(cpd_nlfit_ws *w, const cpd_nlfit_problem *pr, const double *
     double x0[CPD_NLFIT_PMAX];
     memcpy(x0, b0, pr->p * sizeof(double));
     gsl_vector_view xv = gsl_vector_view_array(x0, pr->p);
-    if (gsl_multifit_nlinear_init(&xv.vector, &w->fdf, w->gw) != GSL_SUCCESS)
+    if (gsl_multifit_nlinear_init(&xv.vector, &w->fdf, w->cur->gw) != GSL_SUCCESS)
         return CPD_ENODATA;
     if (w->domain_fail)
         return CPD_ENODATA; /* the start itself is outside the model's domain */
 
     int info = 0;
     int st = gsl_multifit_nlinear_driver(opts->max_iter, opts->xtol, opts->gtol, opts->ftol, NULL, NULL,
-                                         &info, w->gw);
-    const gsl_vector *x = gsl_multifit_nlinear_position(w->gw);
-    const gsl_vector *f = gsl_multifit_nlinear_residual(w->gw);
+                                         &info, w->cur->gw);
+    const gsl_vector *x = gsl_multifit_nlinear_position(w->cur->gw);
+    const gsl_vector *f = gsl_multifit_nlinear_residual(w->cur->gw);
     memcpy(res->b, x->data, pr->p * sizeof(double));
     double rss = 0.0;
     gsl_blas_ddot(f, f, &rss);
     res->rss = rss;
-    res->iter = gsl_multifit_nlinear_niter(w->gw);
+    res->iter = gsl_multifit_nlinear_niter(w->cur->gw);
 
     if (st == GSL_ENOPROG) {
         /* No step can reduce the cost: at a minimum this is success (GSL reports it when the
          * residual is already at rounding level). Accept it when the gradient J'f is negligible
          * against the scale of J and f. */
-        const gsl_matrix *J = gsl_multifit_nlinear_jac(w->gw);
+        const gsl_matrix *J = gsl_multifit_nlinear_jac(w->cur->gw);
         double gmax = 0.0;
         for (size_t j = 0; j < pr->p; j++) {
             double g = 0.0, cn = 0.0;
@@ -182,8 +217,8 @@ int cpd_nlfit_solve(cpd_nlfit_ws *w, const cpd_nlfit_problem *pr, const double *
         if (!isfinite(res->b[j]))
             return CPD_ENOCONV;
 
-    const gsl_matrix *J = gsl_multifit_nlinear_jac(w->gw);
-    gsl_matrix_view cv = gsl_matrix_submatrix(w->covar, 0, 0, pr->p, pr->p);
+    const gsl_matrix *J = gsl_multifit_nlinear_jac(w->cur->gw);
+    gsl_matrix_view cv = gsl_matrix_submatrix(w->cur->covar, 0, 0, pr->p, pr->p);
     if (res->dof > 0 && gsl_multifit_nlinear_covar(J, 0.0, &cv.matrix) == GSL_SUCCESS) {
         double s2 = rss / (double)res->dof;
         res->s = sqrt(s2);

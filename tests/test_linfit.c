@@ -98,11 +98,45 @@ static void degenerate_input_is_refused(void **state)
     assert_float_equal(r.se[1], 0, 0);
 }
 
+/* A workspace fit on the corner of larger scratch gives the same numbers as a one-off fit
+ * (NIST Pontius, quadratic), and refuses problems larger than it was sized for. */
+static void workspace_matches_one_off(void **state)
+{
+    (void)state;
+    nist_set s;
+    assert_int_equal(nist_read("tests/data/nist/Pontius.dat", 0, &s), 0);
+    double X[NIST_NMAX * 3];
+    for (int i = 0; i < s.n; i++) {
+        X[3 * i] = 1;
+        X[3 * i + 1] = s.x[i];
+        X[3 * i + 2] = s.x[i] * s.x[i];
+    }
+    cpd_linfit_ws *w = cpd_linfit_alloc((size_t)s.n + 7, 4);
+    assert_non_null(w);
+    cpd_linfit_result a, b;
+    assert_int_equal(cpd_linfit(X, s.y, (size_t)s.n, 3, 1, &a), CPD_OK);
+    for (int rep = 0; rep < 2; rep++) {
+        assert_int_equal(cpd_linfit_solve(w, X, s.y, (size_t)s.n, 3, 1, &b), CPD_OK);
+        for (int j = 0; j < 3; j++) {
+            assert_true(a.b[j] == b.b[j]);
+            assert_true(a.se[j] == b.se[j]);
+        }
+        assert_true(a.rss == b.rss);
+    }
+    assert_int_equal(cpd_linfit_solve(w, X, s.y, (size_t)s.n + 8, 3, 1, &b), CPD_EUSAGE);
+    assert_int_equal(cpd_linfit_solve(w, X, s.y, 6, 5, 1, &b), CPD_EUSAGE);
+    assert_null(cpd_linfit_alloc(3, 4));
+    assert_null(cpd_linfit_alloc(10, 0));
+    cpd_linfit_free(w);
+    cpd_linfit_free(NULL);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(norris), cmocka_unit_test(pontius), cmocka_unit_test(noint1), cmocka_unit_test(noint2),
         cmocka_unit_test(cubic_against_numpy), cmocka_unit_test(degenerate_input_is_refused),
+        cmocka_unit_test(workspace_matches_one_off),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

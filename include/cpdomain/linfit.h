@@ -24,6 +24,19 @@ typedef struct {
  * rank deficient or a value is not finite, CPD_ENOMEM. Allocates and frees its own scratch. */
 int cpd_linfit(const double *X, const double *y, size_t n, size_t p, int intercept, cpd_linfit_result *res);
 
+typedef struct cpd_linfit_ws cpd_linfit_ws;
+
+/* Allocates scratch for fits of up to n_max observations and p_max coefficients, so that repeated
+ * fits allocate nothing. Returns NULL for p_max outside 1..CPD_LINFIT_PMAX, n_max < p_max, or out of
+ * memory. The caller frees it with cpd_linfit_free (which accepts NULL). */
+cpd_linfit_ws *cpd_linfit_alloc(size_t n_max, size_t p_max);
+void cpd_linfit_free(cpd_linfit_ws *w);
+
+/* cpd_linfit with the scratch of w: same method, results and return codes, plus CPD_EUSAGE when
+ * n or p exceed the sizes w was allocated for. */
+int cpd_linfit_solve(cpd_linfit_ws *w, const double *X, const double *y, size_t n, size_t p, int intercept,
+                     cpd_linfit_result *res);
+
 /* Straight line y = b0 + b1 x (res->b[0] intercept, res->b[1] slope). Same return codes. */
 int cpd_linfit_line(const double *x, const double *y, size_t n, cpd_linfit_result *res);
 

@@ -47,8 +47,9 @@ typedef struct cpd_nlfit_ws cpd_nlfit_ws;
 /* Fills o with the defaults above. */
 void cpd_nlfit_opts_init(cpd_nlfit_opts *o);
 
-/* Allocates a reusable workspace; it grows to the problem sizes it sees and is reused across
- * fits of the same size without allocating. Returns NULL when out of memory.
+/* Allocates a reusable workspace. It keeps GSL scratch for the last 8 problem sizes (n, p) it has
+ * solved, so a caller alternating between a few sizes allocates only on first meeting each size;
+ * solving a size it holds allocates nothing. Returns NULL when out of memory.
  * The caller frees it with cpd_nlfit_free. */
 cpd_nlfit_ws *cpd_nlfit_alloc(void);
 void cpd_nlfit_free(cpd_nlfit_ws *w);

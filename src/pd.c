@@ -1,0 +1,980 @@
+/* pd.c: the power-duration models. Linear fits go through linfit, nonlinear ones through nlfit,
+ * with every scratch array in the workspace; a quantity that cannot be computed is flagged, never NaN. */
+#include "cpdomain/pd.h"
+#include "cpdomain/linfit.h"
+#include "cpdomain/nlfit.h"
+#include "cpdomain/status.h"
+
+#include <gsl/gsl_cdf.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+struct cpd_pd_ws {
+    cpd_nlfit_ws *nl;
+    cpd_linfit_ws *lin;
+    double X[2 * CPD_PD_NMAX]; /* linear design, n x 2 */
+    double y[CPD_PD_NMAX];     /* linear response */
+    double sx[CPD_PD_NMAX];    /* leave-one-out subset: intensities */
+    double st[CPD_PD_NMAX];    /* leave-one-out subset: durations */
+};
+
+/* The estimate of one model on one set of trials, before the reporting around it. The
+ * three-parameter model is fitted in (CP, W′, a) with a = W′/(Pmax − CP), the time offset in s:
+ * Pmax -> infinity is then a = 0, an ordinary point instead of a divergence, and the model is
+ * t = W′/(P − CP) − a. The delta method carries the covariance to Pmax exactly as a fit in
+ * (CP, W′, Pmax) would give it at the same optimum, so the SEs equal scipy's. */
+typedef struct {
+    int ok;
+    cpd_pd_fail fail;
+    int engine_status;
+    double cp, w, a; /* a = 0 for 2-parameter models */
+    double cov[9];   /* of (cp, w, a), row-major 3 x 3 */
+    int has_se;
+    double rss, r2;
+    size_t iter;
+} core;
+
+/* An offset below this fraction of the longest duration is zero to rounding: Pmax is infinite. */
+#define A_ZERO_FRAC 1e-9
+/* An rss below this fraction of the centred sum of squares is an exact fit: AIC is undefined. */
+#define RSS_ZERO_FRAC 1e-20
+/* A nonlinear CP below -DIVERGED_X times the highest intensity is running off to -infinity (the
+ * least-squares limit of a flat duration-intensity relation), not an estimate. */
+#define DIVERGED_X 1e3
+/* An intensity within this fraction of CP is at CP: rounding would otherwise give t of 1e17 s. */
+#define AT_CP_REL 1e-9
+/* Combined %SEE values this close (relative) are a tie. */
+#define TIE_REL 1e-6
+
+typedef struct {
+    const double *x, *t;
+    size_t n;
+} nl_ctx;
+
+static int hyp_f(const double *b, void *ctx, double *f)
+{
+    const nl_ctx *c = ctx;
+    for (size_t i = 0; i < c->n; i++) {
+        double d = c->x[i] - b[0];
+        if (!(d > 0))
+            return 1; /* a trial at or below CP has no finite duration */
+        f[i] = b[1] / d - c->t[i];
+    }
+    return 0;
+}
+static int hyp_df(const double *b, void *ctx, double *J)
+{
+    const nl_ctx *c = ctx;
+    for (size_t i = 0; i < c->n; i++) {
+        double d = c->x[i] - b[0];
+        if (!(d > 0))
+            return 1;
+        J[2 * i] = b[1] / (d * d);
+        J[2 * i + 1] = 1 / d;
+    }
+    return 0;
+}
+static int three_f(const double *b, void *ctx, double *f)
+{
+    const nl_ctx *c = ctx;
+    for (size_t i = 0; i < c->n; i++) {
+        double d = c->x[i] - b[0];
+        if (!(d > 0))
+            return 1;
+        f[i] = b[1] / d - b[2] - c->t[i];
+    }
+    return 0;
+}
+static int three_df(const double *b, void *ctx, double *J)
+{
+    const nl_ctx *c = ctx;
+    for (size_t i = 0; i < c->n; i++) {
+        double d = c->x[i] - b[0];
+        if (!(d > 0))
+            return 1;
+        J[3 * i] = b[1] / (d * d);
+        J[3 * i + 1] = 1 / d;
+        J[3 * i + 2] = -1;
+    }
+    return 0;
+}
+
+static void minmax(const double *v, size_t n, double *lo, double *hi)
+{
+    *lo = *hi = v[0];
+    for (size_t i = 1; i < n; i++) {
+        if (v[i] < *lo)
+            *lo = v[i];
+        if (v[i] > *hi)
+            *hi = v[i];
+    }
+}
+
+/* Equal intensities or equal durations leave CP and W′ undetermined in every model. */
+static int singular(const double *x, const double *t, size_t n)
+{
+    double xlo, xhi, tlo, thi;
+    minmax(x, n, &xlo, &xhi);
+    minmax(t, n, &tlo, &thi);
+    return xlo == xhi || tlo == thi;
+}
+
+static double centred_ss(const double *v, size_t n)
+{
+    double m = 0, ss = 0;
+    for (size_t i = 0; i < n; i++)
+        m += v[i];
+    m /= (double)n;
+    for (size_t i = 0; i < n; i++)
+        ss += (v[i] - m) * (v[i] - m);
+    return ss;
+}
+
+/* linear-total (W = CP t + W′) or linear-inverse (P = W′/t + CP) by OLS. */
+static void fit_linear(cpd_pd_ws *w, cpd_pd_model m, const double *x, const double *t, size_t n, core *c)
+{
+    memset(c, 0, sizeof *c);
+    if (n < 2) {
+        c->fail = CPD_PD_FAIL_TOO_FEW_TRIALS;
+        return;
+    }
+    if (singular(x, t, n)) {
+        c->fail = CPD_PD_FAIL_SINGULAR;
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        w->X[2 * i] = 1;
+        w->X[2 * i + 1] = m == CPD_PD_LINEAR_TOTAL ? t[i] : 1 / t[i];
+        w->y[i] = m == CPD_PD_LINEAR_TOTAL ? x[i] * t[i] : x[i];
+    }
+    cpd_linfit_result r;
+    int rc = cpd_linfit_solve(w->lin, w->X, w->y, n, 2, 1, &r);
+    if (rc) {
+        c->fail = CPD_PD_FAIL_SINGULAR;
+        c->engine_status = rc;
+        return;
+    }
+    /* slope and intercept swap roles between the two forms */
+    size_t icp = m == CPD_PD_LINEAR_TOTAL ? 1 : 0, iw = 1 - icp;
+    c->ok = 1;
+    c->cp = r.b[icp];
+    c->w = r.b[iw];
+    c->cov[0] = r.cov[icp * 2 + icp];
+    c->cov[1] = c->cov[3] = r.cov[icp * 2 + iw];
+    c->cov[4] = r.cov[iw * 2 + iw];
+    c->has_se = r.dof > 0;
+    c->rss = r.rss;
+    c->r2 = r.r2;
+}
+
+/* A start for the nonlinear fits inside their domain (every trial above CP): the linear-total
+ * answer, else the linear-inverse one, moved below the lowest intensity when it is not already, with
+ * W′ then the least-squares value for that CP (t is linear in W′ once CP is fixed). */
+static int nl_start(cpd_pd_ws *w, const double *x, const double *t, size_t n, double *cp0, double *w0)
+{
+    core c;
+    fit_linear(w, CPD_PD_LINEAR_TOTAL, x, t, n, &c);
+    if (!c.ok)
+        fit_linear(w, CPD_PD_LINEAR_INVERSE, x, t, n, &c);
+    if (!c.ok)
+        return 0;
+    double xlo, xhi;
+    minmax(x, n, &xlo, &xhi);
+    if (c.cp < xlo && c.w > 0) {
+        *cp0 = c.cp;
+        *w0 = c.w;
+        return 1;
+    }
+    *cp0 = c.cp < xlo ? c.cp : xlo - 0.1 * (xhi - xlo);
+    double su = 0, sut = 0;
+    for (size_t i = 0; i < n; i++) {
+        double u = 1 / (x[i] - *cp0);
+        su += u * u;
+        sut += u * t[i];
+    }
+    *w0 = sut / su;
+    return 1;
+}
+
+static void from_nlfit(const cpd_nlfit_result *r, core *c)
+{
+    c->ok = 1;
+    c->cp = r->b[0];
+    c->w = r->b[1];
+    c->a = r->p == 3 ? r->b[2] : 0;
+    c->has_se = r->has_se;
+    for (size_t i = 0; i < r->p; i++)
+        for (size_t j = 0; j < r->p; j++)
+            c->cov[i * 3 + j] = r->cov[i * r->p + j];
+    c->rss = r->rss;
+    c->iter = r->iter;
+}
+
+static int diverged(const double *x, size_t n, double cp)
+{
+    double xlo, xhi;
+    minmax(x, n, &xlo, &xhi);
+    return cp < -DIVERGED_X * xhi;
+}
+
+static void fit_hyperbolic(cpd_pd_ws *w, const double *x, const double *t, size_t n, core *c)
+{
+    memset(c, 0, sizeof *c);
+    if (n < 2) {
+        c->fail = CPD_PD_FAIL_TOO_FEW_TRIALS;
+        return;
+    }
+    double b0[2];
+    if (singular(x, t, n) || !nl_start(w, x, t, n, &b0[0], &b0[1])) {
+        c->fail = CPD_PD_FAIL_SINGULAR;
+        return;
+    }
+    nl_ctx ctx = {x, t, n};
+    cpd_nlfit_problem pr = {n, 2, hyp_f, hyp_df, &ctx};
+    cpd_nlfit_result r;
+    int rc = cpd_nlfit_solve(w->nl, &pr, b0, NULL, &r);
+    if (rc) {
+        c->fail = CPD_PD_FAIL_NO_CONVERGENCE;
+        c->engine_status = rc;
+        return;
+    }
+    if (diverged(x, n, r.b[0])) {
+        c->fail = CPD_PD_FAIL_DIVERGED;
+        return;
+    }
+    from_nlfit(&r, c);
+    c->r2 = 1 - c->rss / centred_ss(t, n);
+}
+
+/* Morton's three-parameter model, started from the hyperbolic answer h (or the linear start when h
+ * failed) with Pmax well above the highest intensity, Pmax − CP = 3 (max P − CP), i.e. a third of
+ * the hyperbola's duration at the highest trial intensity as offset. Should that start not
+ * converge, the 2-parameter optimum itself (offset 0) is the second start. */
+static void fit_three(cpd_pd_ws *w, const double *x, const double *t, size_t n, const core *h, core *c)
+{
+    memset(c, 0, sizeof *c);
+    if (n < 4) {
+        c->fail = CPD_PD_FAIL_TOO_FEW_TRIALS;
+        return;
+    }
+    double b0[3];
+    if (h->ok) {
+        b0[0] = h->cp;
+        b0[1] = h->w;
+    } else if (singular(x, t, n) || !nl_start(w, x, t, n, &b0[0], &b0[1])) {
+        c->fail = CPD_PD_FAIL_SINGULAR;
+        return;
+    }
+    double xlo, xhi, tlo, thi;
+    minmax(x, n, &xlo, &xhi);
+    minmax(t, n, &tlo, &thi);
+    b0[2] = b0[1] / (3 * (xhi - b0[0]));
+    nl_ctx ctx = {x, t, n};
+    cpd_nlfit_problem pr = {n, 3, three_f, three_df, &ctx};
+    cpd_nlfit_result r;
+    int rc = cpd_nlfit_solve(w->nl, &pr, b0, NULL, &r);
+    if (rc) {
+        b0[2] = 0;
+        rc = cpd_nlfit_solve(w->nl, &pr, b0, NULL, &r);
+    }
+    if (rc) {
+        c->fail = CPD_PD_FAIL_NO_CONVERGENCE;
+        c->engine_status = rc;
+        return;
+    }
+    if (diverged(x, n, r.b[0])) {
+        c->fail = CPD_PD_FAIL_DIVERGED;
+        return;
+    }
+    if (!(r.b[2] > A_ZERO_FRAC * thi)) {
+        c->fail = CPD_PD_FAIL_P_MAX_DEGENERATE;
+        return;
+    }
+    from_nlfit(&r, c);
+    c->r2 = 1 - c->rss / centred_ss(t, n);
+}
+
+/* Fits model m alone; the three-parameter model fits the hyperbola first for its start. */
+static void fit_core(cpd_pd_ws *w, cpd_pd_model m, const double *x, const double *t, size_t n, core *c)
+{
+    core h;
+    switch (m) {
+    case CPD_PD_HYPERBOLIC:
+        fit_hyperbolic(w, x, t, n, c);
+        break;
+    case CPD_PD_LINEAR_TOTAL:
+    case CPD_PD_LINEAR_INVERSE:
+        fit_linear(w, m, x, t, n, c);
+        break;
+    default:
+        fit_hyperbolic(w, x, t, n, &h);
+        fit_three(w, x, t, n, &h, c);
+        break;
+    }
+}
+
+static size_t model_k(cpd_pd_model m)
+{
+    return m == CPD_PD_THREE_PARAMETER ? 3 : 2;
+}
+
+static cpd_pd_yvar model_yvar(cpd_pd_model m)
+{
+    return m == CPD_PD_LINEAR_TOTAL ? CPD_PD_Y_WORK : m == CPD_PD_LINEAR_INVERSE ? CPD_PD_Y_INTENSITY
+                                                                                  : CPD_PD_Y_DURATION;
+}
+
+void cpd_pd_ranges(cpd_pd_modality modality, cpd_range *cp, cpd_range *w_prime, cpd_range *p_max)
+{
+    static const cpd_range power[3] = {
+        {"critical power", 30.0, 700.0, "W"}, {"W'", 1000.0, 80000.0, "J"}, {"Pmax", 0.0, 3000.0, "W"}};
+    static const cpd_range speed[3] = {
+        {"critical speed", 0.3, 12.0, "m/s"}, {"D'", 5.0, 1500.0, "m"}, {"vmax", 0.0, 15.0, "m/s"}};
+    const cpd_range *r = modality == CPD_PD_SPEED ? speed : power;
+    if (cp)
+        *cp = r[0];
+    if (w_prime)
+        *w_prime = r[1];
+    if (p_max) {
+        *p_max = r[2];
+        p_max->hi = modality == CPD_PD_SPEED ? CPD_RANGE_SPEED.hi : CPD_RANGE_POWER.hi;
+    }
+}
+
+/* Fills the reported quantities of model m from its core estimate c. */
+static void report(const core *c, cpd_pd_model m, cpd_pd_modality mod, const double *x, const double *t, size_t n,
+                   cpd_pd_model_fit *f)
+{
+    memset(f, 0, offsetof(cpd_pd_model_fit, resid_s));
+    f->model = m;
+    f->modality = mod;
+    f->n = n;
+    f->k = model_k(m);
+    f->dof = n >= f->k ? n - f->k : 0;
+    f->rss_var = model_yvar(m);
+    f->has_loo = 0;
+    memset(f->loo_d_cp, 0, n * sizeof f->loo_d_cp[0]);
+    memset(f->loo_d_w_prime, 0, n * sizeof f->loo_d_w_prime[0]);
+    memset(f->loo_valid, 0, n);
+    f->engine_status = c->engine_status;
+    if (!c->ok) {
+        f->fail = c->fail;
+        f->flags = CPD_PD_FLAG_FIT_FAILED;
+        if (c->fail == CPD_PD_FAIL_P_MAX_DEGENERATE)
+            f->flags |= CPD_PD_FLAG_P_MAX_UNIDENTIFIABLE;
+        memset(f->resid_valid, 0, n);
+        return;
+    }
+    f->ok = 1;
+    f->fail = CPD_PD_FAIL_NONE;
+    f->iter = c->iter;
+    f->cp = c->cp;
+    f->w_prime = c->w;
+    f->rss = c->rss;
+    f->r2 = c->r2;
+    f->has_se = c->has_se && f->dof > 0;
+
+    /* Covariance in (cp, w_prime, p_max): G Cov G' with G the Jacobian of (cp, w, cp + w/a). */
+    if (m == CPD_PD_THREE_PARAMETER) {
+        double a = c->a;
+        f->has_p_max = 1;
+        f->t_offset_s = a;
+        f->p_max = c->cp + c->w / a;
+        const double G[9] = {1, 0, 0, 0, 1, 0, 1, 1 / a, -c->w / (a * a)};
+        double GC[9];
+        for (int i = 0; i < 3; i++)
+            for (int j = 0; j < 3; j++) {
+                double s = 0;
+                for (int l = 0; l < 3; l++)
+                    s += G[i * 3 + l] * c->cov[l * 3 + j];
+                GC[i * 3 + j] = s;
+            }
+        for (int i = 0; i < 3; i++)
+            for (int j = 0; j < 3; j++) {
+                double s = 0;
+                for (int l = 0; l < 3; l++)
+                    s += GC[i * 3 + l] * G[j * 3 + l];
+                f->cov[i * 3 + j] = s;
+            }
+    } else {
+        memcpy(f->cov, c->cov, sizeof f->cov);
+    }
+    if (f->has_se) {
+        for (size_t j = 0; j < f->k; j++)
+            if (!(f->cov[j * 4] >= 0) || !isfinite(f->cov[j * 4]))
+                f->has_se = 0;
+    }
+    if (f->has_se) {
+        double q = gsl_cdf_tdist_Pinv(0.975, (double)f->dof);
+        f->cp_se = sqrt(f->cov[0]);
+        f->w_prime_se = sqrt(f->cov[4]);
+        f->cp_ci95[0] = f->cp - q * f->cp_se;
+        f->cp_ci95[1] = f->cp + q * f->cp_se;
+        f->w_prime_ci95[0] = f->w_prime - q * f->w_prime_se;
+        f->w_prime_ci95[1] = f->w_prime + q * f->w_prime_se;
+        if (f->has_p_max) {
+            f->p_max_se = sqrt(f->cov[8]);
+            f->p_max_ci95[0] = f->p_max - q * f->p_max_se;
+            f->p_max_ci95[1] = f->p_max + q * f->p_max_se;
+        }
+        if (f->cp != 0 && f->w_prime != 0) {
+            f->see_valid = 1;
+            f->see_cp_pct = 100 * f->cp_se / fabs(f->cp);
+            f->see_w_prime_pct = 100 * f->w_prime_se / fabs(f->w_prime);
+        }
+    } else {
+        memset(f->cov, 0, sizeof f->cov);
+    }
+
+    /* AIC on the model's own dependent variable (Akaike 1974; small-sample form Hurvich & Tsai
+     * 1989 Biometrika 76:297): undefined for an exact fit, AICc also for n - k - 1 <= 0. */
+    double syy = 0;
+    if (f->rss_var == CPD_PD_Y_DURATION)
+        syy = centred_ss(t, n);
+    else {
+        double m_ = 0;
+        for (size_t i = 0; i < n; i++)
+            m_ += f->rss_var == CPD_PD_Y_WORK ? x[i] * t[i] : x[i];
+        m_ /= (double)n;
+        for (size_t i = 0; i < n; i++) {
+            double v = (f->rss_var == CPD_PD_Y_WORK ? x[i] * t[i] : x[i]) - m_;
+            syy += v * v;
+        }
+    }
+    double k = (double)f->k, dn = (double)n;
+    if (f->dof > 0 && f->rss > RSS_ZERO_FRAC * syy) {
+        f->aic_valid = 1;
+        f->aic = dn * log(f->rss / dn) + 2 * k;
+        if (dn - k - 1 > 0) {
+            f->aicc_valid = 1;
+            f->aicc = f->aic + 2 * k * (k + 1) / (dn - k - 1);
+        }
+    }
+
+    double xlo, xhi, tlo, thi;
+    minmax(x, n, &xlo, &xhi);
+    minmax(t, n, &tlo, &thi);
+    for (size_t i = 0; i < n; i++) {
+        double d = x[i] - f->cp;
+        double pred = d > 0 ? f->w_prime / d - f->t_offset_s : 0;
+        f->resid_valid[i] = d > 0 && pred > 0 && isfinite(pred);
+        f->resid_s[i] = f->resid_valid[i] ? t[i] - pred : 0;
+        f->resid_pct[i] = f->resid_valid[i] ? 100 * f->resid_s[i] / t[i] : 0;
+    }
+
+    unsigned fl = 0;
+    if (f->dof == 0)
+        fl |= CPD_PD_FLAG_TWO_TRIALS_EXACT;
+    if (f->see_valid && f->see_cp_pct > CPD_PD_SEE_CP_MAX_PCT)
+        fl |= CPD_PD_FLAG_SEE_CP_HIGH;
+    if (f->see_valid && f->see_w_prime_pct > CPD_PD_SEE_W_MAX_PCT)
+        fl |= CPD_PD_FLAG_SEE_W_PRIME_HIGH;
+    if (f->cp <= 0 || f->w_prime <= 0)
+        fl |= CPD_PD_FLAG_NEGATIVE_PARAMETER;
+    cpd_range rcp, rw, rpm;
+    cpd_pd_ranges(mod, &rcp, &rw, &rpm);
+    if ((f->cp > 0 && !cpd_in_range(&rcp, f->cp)) || (f->w_prime > 0 && !cpd_in_range(&rw, f->w_prime)) ||
+        (f->has_p_max && f->p_max > rpm.hi))
+        fl |= CPD_PD_FLAG_IMPLAUSIBLE_PARAMETER;
+    if (f->cp >= xlo)
+        fl |= CPD_PD_FLAG_TRIAL_AT_OR_BELOW_CP;
+    /* METHODS §9: from trials of 2-15 min only, Pmax's SE exceeded Pmax in about half of simulated
+     * athletes while the fit converged, so these conditions are flagged rather than trusted. */
+    if (f->has_p_max && (!f->has_se || f->p_max_se >= f->p_max || f->p_max <= xhi || tlo >= CPD_PD_SHORT_S))
+        fl |= CPD_PD_FLAG_P_MAX_UNIDENTIFIABLE;
+    f->flags = fl;
+}
+
+/* Leave-one-out: refit m without each trial in turn (Maturana et al. 2018 J Sci Med Sport
+ * 21:742 judged CP estimates by leave-one-out cross-validation). */
+static void leave_one_out(cpd_pd_ws *w, cpd_pd_model m, const double *x, const double *t, size_t n,
+                          cpd_pd_model_fit *f)
+{
+    size_t need = m == CPD_PD_THREE_PARAMETER ? 5 : 3;
+    if (!f->ok || n < need)
+        return;
+    f->has_loo = 1;
+    for (size_t i = 0; i < n; i++) {
+        size_t j = 0;
+        for (size_t l = 0; l < n; l++)
+            if (l != i) {
+                w->sx[j] = x[l];
+                w->st[j] = t[l];
+                j++;
+            }
+        core c;
+        fit_core(w, m, w->sx, w->st, n - 1, &c);
+        f->loo_valid[i] = (unsigned char)c.ok;
+        f->loo_d_cp[i] = c.ok ? c.cp - f->cp : 0;
+        f->loo_d_w_prime[i] = c.ok ? c.w - f->w_prime : 0;
+    }
+}
+
+static unsigned data_flags(const double *t, size_t n)
+{
+    unsigned fl = 0;
+    if (n < 3)
+        fl |= CPD_PD_FLAG_FEW_TRIALS;
+    if (n == 2)
+        fl |= CPD_PD_FLAG_TWO_TRIALS_EXACT;
+    double tlo, thi;
+    minmax(t, n, &tlo, &thi);
+    if (tlo < CPD_PD_SHORT_S)
+        fl |= CPD_PD_FLAG_SHORT_TRIAL;
+    if (thi > CPD_PD_LONG_S)
+        fl |= CPD_PD_FLAG_LONG_TRIAL;
+    int close = thi < CPD_PD_SPREAD_MIN * tlo;
+    for (size_t i = 0; i < n && !close; i++)
+        for (size_t j = i + 1; j < n && !close; j++)
+            if (fabs(t[i] - t[j]) < CPD_PD_CLOSE_FRAC * fmax(t[i], t[j]))
+                close = 1;
+    if (close)
+        fl |= CPD_PD_FLAG_DURATIONS_CLOSE;
+    return fl;
+}
+
+static int qualifies(const cpd_pd_model_fit *f)
+{
+    return f->ok && f->cp > 0 && f->w_prime > 0 && !(f->flags & CPD_PD_FLAG_TRIAL_AT_OR_BELOW_CP) &&
+           !(f->flags & CPD_PD_FLAG_P_MAX_UNIDENTIFIABLE);
+}
+
+static void choose_best(cpd_pd_result *res)
+{
+    /* preference order on ties: the 2-parameter models first, hyperbolic first among them */
+    static const cpd_pd_model order[CPD_PD_NMODELS] = {CPD_PD_HYPERBOLIC, CPD_PD_LINEAR_TOTAL,
+                                                       CPD_PD_LINEAR_INVERSE, CPD_PD_THREE_PARAMETER};
+    res->has_best = 0;
+    if (res->n == 2) {
+        for (size_t k = 0; k < 3 && !res->has_best; k++)
+            if (qualifies(&res->models[order[k]])) {
+                res->has_best = 1;
+                res->best = order[k];
+            }
+        return;
+    }
+    double score = 0;
+    for (size_t k = 0; k < CPD_PD_NMODELS; k++) {
+        const cpd_pd_model_fit *f = &res->models[order[k]];
+        if (!qualifies(f) || !f->see_valid)
+            continue;
+        double s = f->see_cp_pct + f->see_w_prime_pct;
+        if (!res->has_best || s < score - TIE_REL * score) {
+            res->has_best = 1;
+            res->best = order[k];
+            score = s;
+        }
+    }
+}
+
+void cpd_pd_opts_init(cpd_pd_opts *o)
+{
+    o->models = CPD_PD_ALL_MODELS;
+    o->loo = 1;
+}
+
+cpd_pd_ws *cpd_pd_alloc(void)
+{
+    cpd_pd_ws *w = calloc(1, sizeof *w);
+    if (!w)
+        return NULL;
+    w->nl = cpd_nlfit_alloc();
+    w->lin = cpd_linfit_alloc(CPD_PD_NMAX, 2);
+    if (!w->nl || !w->lin) {
+        cpd_pd_free(w);
+        return NULL;
+    }
+    return w;
+}
+
+void cpd_pd_free(cpd_pd_ws *w)
+{
+    if (!w)
+        return;
+    cpd_nlfit_free(w->nl);
+    cpd_linfit_free(w->lin);
+    free(w);
+}
+
+static void set_msg(char *msg, const char *fmt, size_t i, double v)
+{
+    if (msg)
+        snprintf(msg, CPD_MSG_MAX, fmt, i + 1, v);
+}
+
+int cpd_pd_fit(cpd_pd_ws *w, cpd_pd_modality modality, const double *intensity, const double *duration_s,
+               size_t n, const cpd_pd_opts *opts, cpd_pd_result *res, char *msg)
+{
+    if (msg)
+        msg[0] = '\0';
+    cpd_pd_opts def;
+    if (!opts) {
+        cpd_pd_opts_init(&def);
+        opts = &def;
+    }
+    if (!w || !intensity || !duration_s || !res || (modality != CPD_PD_POWER && modality != CPD_PD_SPEED) ||
+        opts->models == 0 || (opts->models & ~CPD_PD_ALL_MODELS) || n > CPD_PD_NMAX) {
+        if (msg)
+            snprintf(msg, CPD_MSG_MAX, "invalid arguments to the power-duration fit (at most %d trials)",
+                     CPD_PD_NMAX);
+        return CPD_EUSAGE;
+    }
+    for (size_t i = 0; i < n; i++) {
+        if (!(isfinite(intensity[i]) && intensity[i] > 0)) {
+            set_msg(msg, "trial %zu: intensity must be a positive number (got %g)", i, intensity[i]);
+            return CPD_EDATA;
+        }
+        if (!(isfinite(duration_s[i]) && duration_s[i] > 0)) {
+            set_msg(msg, "trial %zu: duration must be a positive number of seconds (got %g)", i, duration_s[i]);
+            return CPD_EDATA;
+        }
+    }
+    res->modality = modality;
+    res->n = n;
+    res->has_best = 0;
+    res->best = CPD_PD_HYPERBOLIC;
+    if (n < 2) {
+        for (size_t m = 0; m < CPD_PD_NMODELS; m++) {
+            memset(&res->models[m], 0, offsetof(cpd_pd_model_fit, resid_s));
+            res->models[m].model = (cpd_pd_model)m;
+            res->models[m].modality = modality;
+            res->models[m].n = n;
+            res->models[m].fail = CPD_PD_FAIL_TOO_FEW_TRIALS;
+            res->models[m].flags = CPD_PD_FLAG_FIT_FAILED;
+        }
+        res->data_flags = CPD_PD_FLAG_FEW_TRIALS;
+        res->flags = res->data_flags | CPD_PD_FLAG_NO_VALID_MODEL;
+        if (msg)
+            snprintf(msg, CPD_MSG_MAX, "at least 2 trials are needed to fit the power-duration models (got %zu)", n);
+        return CPD_ENODATA;
+    }
+
+    core cores[CPD_PD_NMODELS];
+    for (size_t m = 0; m < CPD_PD_NMODELS; m++) {
+        memset(&cores[m], 0, sizeof cores[m]);
+        cores[m].fail = CPD_PD_FAIL_NOT_REQUESTED;
+    }
+    unsigned mask = opts->models;
+    if (mask & CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL))
+        fit_linear(w, CPD_PD_LINEAR_TOTAL, intensity, duration_s, n, &cores[CPD_PD_LINEAR_TOTAL]);
+    if (mask & CPD_PD_MODEL_BIT(CPD_PD_LINEAR_INVERSE))
+        fit_linear(w, CPD_PD_LINEAR_INVERSE, intensity, duration_s, n, &cores[CPD_PD_LINEAR_INVERSE]);
+    core hyp;
+    if (mask & (CPD_PD_MODEL_BIT(CPD_PD_HYPERBOLIC) | CPD_PD_MODEL_BIT(CPD_PD_THREE_PARAMETER)))
+        fit_hyperbolic(w, intensity, duration_s, n, &hyp);
+    if (mask & CPD_PD_MODEL_BIT(CPD_PD_HYPERBOLIC))
+        cores[CPD_PD_HYPERBOLIC] = hyp;
+    if (mask & CPD_PD_MODEL_BIT(CPD_PD_THREE_PARAMETER))
+        fit_three(w, intensity, duration_s, n, &hyp, &cores[CPD_PD_THREE_PARAMETER]);
+
+    for (size_t m = 0; m < CPD_PD_NMODELS; m++) {
+        cpd_pd_model_fit *f = &res->models[m];
+        report(&cores[m], (cpd_pd_model)m, modality, intensity, duration_s, n, f);
+        if (cores[m].fail == CPD_PD_FAIL_NOT_REQUESTED)
+            f->flags = 0;
+        if (opts->loo)
+            leave_one_out(w, (cpd_pd_model)m, intensity, duration_s, n, f);
+    }
+    res->data_flags = data_flags(duration_s, n);
+    choose_best(res);
+    res->flags = res->data_flags;
+    if (res->has_best) {
+        res->flags |= res->models[res->best].flags;
+        if (n == 2)
+            res->flags |= CPD_PD_FLAG_MODELS_IDENTICAL;
+    } else {
+        res->flags |= CPD_PD_FLAG_NO_VALID_MODEL;
+    }
+    return CPD_OK;
+}
+
+const char *cpd_pd_best_rule(void)
+{
+    return "The best model is, among the models fitted with standard errors (at least 3 trials) and with "
+           "physiologically valid parameters (CP > 0, W' > 0, every trial's intensity above CP, and for the "
+           "three-parameter model a Pmax above the highest trial intensity that is identifiable: SE(Pmax) < Pmax "
+           "and a trial shorter than 2 min), the one with the lowest combined %SEE, %SEE(CP) + %SEE(W') "
+           "(the sum reported by Patoz et al. 2021 Front Physiol 12:613066; Hill et al. 2011 Int J Sports Med "
+           "32:519 preferred the 2-parameter model because 3-parameter estimates had large SEEs). Ties (equal to "
+           "6 significant digits) go to a 2-parameter model, in the order hyperbolic, linear-total, "
+           "linear-inverse: the hyperbolic fit puts the error on the measured duration (Patoz et al. 2021 Eur J "
+           "Appl Physiol 121:2027). With exactly 2 trials every 2-parameter model is the same exact line, so the "
+           "hyperbolic model is named best by default and the fit is flagged. AICc is not used across models, "
+           "because the linear models' residuals are in other units than the duration.";
+}
+
+static const char *const model_names[CPD_PD_NMODELS] = {"hyperbolic", "linear-total", "linear-inverse",
+                                                        "three-parameter"};
+
+const char *cpd_pd_model_name(cpd_pd_model m)
+{
+    return (unsigned)m < CPD_PD_NMODELS ? model_names[m] : "unknown";
+}
+
+int cpd_pd_model_parse(const char *name, cpd_pd_model *m)
+{
+    if (!name || !m)
+        return CPD_EUSAGE;
+    for (size_t k = 0; k < CPD_PD_NMODELS; k++)
+        if (strcmp(name, model_names[k]) == 0) {
+            *m = (cpd_pd_model)k;
+            return CPD_OK;
+        }
+    return CPD_EUSAGE;
+}
+
+const char *cpd_pd_fail_text(cpd_pd_fail f)
+{
+    static const char *const text[CPD_PD_NFAILS] = {
+        [CPD_PD_FAIL_NONE] = "fitted",
+        [CPD_PD_FAIL_NOT_REQUESTED] = "not requested",
+        [CPD_PD_FAIL_TOO_FEW_TRIALS] = "too few trials: the 2-parameter models need 2 trials, the "
+                                       "three-parameter model needs 4",
+        [CPD_PD_FAIL_SINGULAR] = "the trials do not determine the model: all intensities or all durations are "
+                                 "the same",
+        [CPD_PD_FAIL_NO_CONVERGENCE] = "the nonlinear fit did not converge: the best fit lies at the edge of the "
+                                       "model's range (critical intensity up against a trial's intensity), "
+                                       "which usually means the trials do not follow a hyperbola",
+        [CPD_PD_FAIL_P_MAX_DEGENERATE] = "the trials show no extra curvature at short durations: Pmax runs to "
+                                         "infinity and the three-parameter model reduces to the hyperbolic one",
+        [CPD_PD_FAIL_DIVERGED] = "the fit runs off to a critical intensity of minus infinity: the durations do not "
+                                 "fall as the intensity rises",
+    };
+    return (unsigned)f < CPD_PD_NFAILS ? text[f] : "unknown failure";
+}
+
+static int flag_index(unsigned flag)
+{
+    if (flag == 0 || (flag & (flag - 1)))
+        return -1;
+    int i = 0;
+    while (!(flag & 1u)) {
+        flag >>= 1;
+        i++;
+    }
+    return i < CPD_PD_NFLAGS ? i : -1;
+}
+
+const char *cpd_pd_flag_name(unsigned flag, cpd_pd_modality modality)
+{
+    static const char *const power[CPD_PD_NFLAGS] = {
+        "few_trials",           "two_trials_exact",     "short_trial",          "long_trial",
+        "durations_close",      "see_cp_high",          "see_w_prime_high",     "p_max_unidentifiable",
+        "negative_parameter",   "implausible_parameter", "trial_at_or_below_cp", "fit_failed",
+        "models_identical",     "no_valid_model"};
+    static const char *const speed[CPD_PD_NFLAGS] = {
+        "few_trials",           "two_trials_exact",     "short_trial",          "long_trial",
+        "durations_close",      "see_cs_high",          "see_d_prime_high",     "v_max_unidentifiable",
+        "negative_parameter",   "implausible_parameter", "trial_at_or_below_cs", "fit_failed",
+        "models_identical",     "no_valid_model"};
+    int i = flag_index(flag);
+    if (i < 0)
+        return NULL;
+    return modality == CPD_PD_SPEED ? speed[i] : power[i];
+}
+
+const char *cpd_pd_flag_text(unsigned flag, cpd_pd_modality modality)
+{
+    static const char *const power[CPD_PD_NFLAGS] = {
+        "Fewer than 3 trials: the fit cannot check its own error. Add trials; 3 to 5 on separate days is the "
+        "convention.",
+        "As many trials as model parameters: the curve passes exactly through them, so there is no standard error "
+        "or confidence interval. Add a trial to measure the uncertainty.",
+        "A trial is shorter than 2 min. The hyperbola fits best between about 2 and 15 min (Drake et al. 2024 Eur J "
+        "Appl Physiol 124:507); keep trials in that window, or compare with the three-parameter model.",
+        "A trial is longer than 15 min. The hyperbola fits best between about 2 and 15 min (Drake et al. 2024 Eur J "
+        "Appl Physiol 124:507); check this trial's residual, or replace it with one of 10 to 15 min.",
+        "The trial durations are too close together (the longest is less than twice the shortest, or two trials "
+        "are within 10 % of each other's duration), so CP and W' trade off against each other. Spread the trials "
+        "over about 2 to 15 min, for example 3, 7 and 12 min.",
+        "The standard error of CP is more than 5 % of CP (a common acceptance limit): add a trial.",
+        "The standard error of W' is more than 10 % of W' (a common acceptance limit): add a trial.",
+        "The three-parameter model's Pmax cannot be trusted: its standard error is at least Pmax itself, it is not "
+        "above the highest trial power, or no trial is shorter than about 2 min. Ignore this Pmax and prefer a "
+        "2-parameter model, or add a trial shorter than 2 min.",
+        "CP or W' came out zero or negative, so the trials do not follow the power-duration relationship (a higher "
+        "power must give a shorter time). Check the trials for typing errors or an effort that was not maximal.",
+        "A parameter lies outside the generous plausible range (CP 30-700 W, W' 1-80 kJ, Pmax up to 3000 W). Check "
+        "the units and the trials.",
+        "A trial's power is at or below the fitted CP, so this model says it could have been held indefinitely, "
+        "yet it ended in exhaustion. Check that trial and prefer another model.",
+        "The model could not be fitted; the reason is given with it.",
+        "With only two trials every 2-parameter model passes exactly through both and gives the same CP and W'; "
+        "the hyperbolic model is reported by default.",
+        "No model gave physiologically valid parameters with standard errors, so no best model can be named. "
+        "Check the trials, or add one."};
+    static const char *const speed[CPD_PD_NFLAGS] = {
+        "Fewer than 3 trials: the fit cannot check its own error. Add trials; 3 to 5 on separate days is the "
+        "convention.",
+        "As many trials as model parameters: the curve passes exactly through them, so there is no standard error "
+        "or confidence interval. Add a trial to measure the uncertainty.",
+        "A trial is shorter than 2 min. The hyperbola fits best between about 2 and 15 min (Drake et al. 2024 Eur J "
+        "Appl Physiol 124:507); keep trials in that window, or compare with the three-parameter model.",
+        "A trial is longer than 15 min. The hyperbola fits best between about 2 and 15 min (Drake et al. 2024 Eur J "
+        "Appl Physiol 124:507); check this trial's residual, or replace it with one of 10 to 15 min.",
+        "The trial durations are too close together (the longest is less than twice the shortest, or two trials "
+        "are within 10 % of each other's duration), so CS and D' trade off against each other. Spread the trials "
+        "over about 2 to 15 min, for example 3, 7 and 12 min.",
+        "The standard error of CS is more than 5 % of CS (a common acceptance limit): add a trial.",
+        "The standard error of D' is more than 10 % of D' (a common acceptance limit): add a trial.",
+        "The three-parameter model's vmax cannot be trusted: its standard error is at least vmax itself, it is not "
+        "above the highest trial speed, or no trial is shorter than about 2 min. Ignore this vmax and prefer a "
+        "2-parameter model, or add a trial shorter than 2 min.",
+        "CS or D' came out zero or negative, so the trials do not follow the speed-duration relationship (a higher "
+        "speed must give a shorter time). Check the trials for typing errors or an effort that was not maximal.",
+        "A parameter lies outside the generous plausible range (CS 0.3-12 m/s, D' 5-1500 m, vmax up to 15 m/s). "
+        "Check the units and the trials.",
+        "A trial's speed is at or below the fitted CS, so this model says it could have been held indefinitely, "
+        "yet it ended in exhaustion. Check that trial and prefer another model.",
+        "The model could not be fitted; the reason is given with it.",
+        "With only two trials every 2-parameter model passes exactly through both and gives the same CS and D'; "
+        "the hyperbolic model is reported by default.",
+        "No model gave physiologically valid parameters with standard errors, so no best model can be named. "
+        "Check the trials, or add one."};
+    int i = flag_index(flag);
+    if (i < 0)
+        return NULL;
+    return modality == CPD_PD_SPEED ? speed[i] : power[i];
+}
+
+const char *cpd_pd_pred_text(cpd_pd_pred_status s)
+{
+    static const char *const text[CPD_PD_NPREDS] = {
+        [CPD_PD_PRED_OK] = "predicted",
+        [CPD_PD_PRED_NO_FIT] = "the model has no result to predict from",
+        [CPD_PD_PRED_INVALID_MODEL] = "the model's critical intensity or W' is not positive, so it cannot predict",
+        [CPD_PD_PRED_NOT_W_PRIME_LIMITED] = "at or below the critical intensity: no W'-limited task failure is "
+                                            "predicted",
+        [CPD_PD_PRED_ABOVE_P_MAX] = "at or above the three-parameter model's maximal intensity: no positive "
+                                    "duration is predicted",
+        [CPD_PD_PRED_WITHIN_D_PRIME] = "the distance is at or below D': the 2-parameter model gives no finite time "
+                                       "for it",
+    };
+    return (unsigned)s < CPD_PD_NPREDS ? text[s] : "unknown";
+}
+
+/* The parameters of m as (cp, w, a) and a gradient helper. The covariance is stored in
+ * (cp, w_prime, p_max); a gradient g in (cp, w, a) maps to (cp, w_prime, p_max) through
+ * da/dcp = a^2/w, da/dw = a/w, da/dpmax = -a^2/w. */
+static double grad_var(const cpd_pd_model_fit *m, const double g[3])
+{
+    double h[3] = {g[0], g[1], 0};
+    if (m->has_p_max) {
+        double a = m->t_offset_s, w = m->w_prime;
+        h[0] += g[2] * a * a / w;
+        h[1] += g[2] * a / w;
+        h[2] = -g[2] * a * a / w;
+    }
+    double v = 0;
+    for (int i = 0; i < 3; i++)
+        for (int j = 0; j < 3; j++)
+            v += h[i] * m->cov[i * 3 + j] * h[j];
+    return v > 0 ? v : 0;
+}
+
+/* Common checks; returns CPD_OK to go on, else the code to return with out filled. */
+static int pred_begin(const cpd_pd_model_fit *m, double v, cpd_pd_pred *out)
+{
+    if (!m || !out || !(isfinite(v) && v > 0))
+        return CPD_EUSAGE;
+    memset(out, 0, sizeof *out);
+    if (!m->ok) {
+        out->status = CPD_PD_PRED_NO_FIT;
+        return CPD_ENODATA;
+    }
+    if (!(m->cp > 0 && m->w_prime > 0)) {
+        out->status = CPD_PD_PRED_INVALID_MODEL;
+        return CPD_ENODATA;
+    }
+    return CPD_OK;
+}
+
+static double quantile(const cpd_pd_model_fit *m)
+{
+    return gsl_cdf_tdist_Pinv(0.975, (double)m->dof);
+}
+
+/* Sets value and an interval on ln(value) from the variance of value. */
+static void finish_log(const cpd_pd_model_fit *m, double value, double var, cpd_pd_pred *out)
+{
+    out->status = CPD_PD_PRED_OK;
+    out->valid = 1;
+    out->value = value;
+    if (m->has_se && m->dof > 0) {
+        double sl = sqrt(var) / value, q = quantile(m);
+        out->ci_valid = 1;
+        out->ci95[0] = value * exp(-q * sl);
+        out->ci95[1] = value * exp(q * sl);
+    }
+}
+
+int cpd_pd_predict_time(const cpd_pd_model_fit *m, double intensity, cpd_pd_pred *out)
+{
+    int rc = pred_begin(m, intensity, out);
+    if (rc)
+        return rc;
+    double d = intensity - m->cp;
+    if (!(d > AT_CP_REL * m->cp)) {
+        out->status = CPD_PD_PRED_NOT_W_PRIME_LIMITED;
+        return CPD_OK;
+    }
+    double t = m->w_prime / d - m->t_offset_s;
+    if (!(t > 0) || !isfinite(t)) {
+        out->status = CPD_PD_PRED_ABOVE_P_MAX;
+        return CPD_OK;
+    }
+    const double g[3] = {m->w_prime / (d * d), 1 / d, -1};
+    finish_log(m, t, grad_var(m, g), out);
+    return CPD_OK;
+}
+
+int cpd_pd_predict_intensity(const cpd_pd_model_fit *m, double duration_s, cpd_pd_pred *out)
+{
+    int rc = pred_begin(m, duration_s, out);
+    if (rc)
+        return rc;
+    double u = duration_s + m->t_offset_s;
+    double p = m->cp + m->w_prime / u;
+    const double g[3] = {1, 1 / u, -m->w_prime / (u * u)};
+    out->status = CPD_PD_PRED_OK;
+    out->valid = 1;
+    out->value = p;
+    if (m->has_se && m->dof > 0) {
+        double h = quantile(m) * sqrt(grad_var(m, g));
+        out->ci_valid = 1;
+        out->ci95[0] = p - h;
+        out->ci95[1] = p + h;
+    }
+    return CPD_OK;
+}
+
+int cpd_pd_predict_distance_time(const cpd_pd_model_fit *m, double distance_m, cpd_pd_pred *out)
+{
+    if (m && m->modality != CPD_PD_SPEED)
+        return CPD_EUSAGE;
+    int rc = pred_begin(m, distance_m, out);
+    if (rc)
+        return rc;
+    double cs = m->cp, dp = m->w_prime, a = m->t_offset_s, D = distance_m;
+    if (!m->has_p_max) {
+        if (!(D > dp)) {
+            out->status = CPD_PD_PRED_WITHIN_D_PRIME;
+            return CPD_OK;
+        }
+        double t = (D - dp) / cs;
+        const double g[3] = {-t / cs, -1 / cs, 0};
+        finish_log(m, t, grad_var(m, g), out);
+        return CPD_OK;
+    }
+    /* cs t^2 + (cs a + dp - D) t - D a = 0; the positive root, in the form that avoids cancellation */
+    double B = cs * a + dp - D;
+    double sq = sqrt(B * B + 4 * cs * D * a);
+    double t = B > 0 ? 2 * D * a / (B + sq) : (sq - B) / (2 * cs);
+    /* implicit differentiation of F(t; cs, dp, a) = 0 */
+    double Ft = 2 * cs * t + B;
+    const double g[3] = {-(t * t + a * t) / Ft, -t / Ft, -(cs * t - D) / Ft};
+    finish_log(m, t, grad_var(m, g), out);
+    return CPD_OK;
+}
