@@ -18,11 +18,11 @@ ALL_LDFLAGS = $(SANFLAGS) $(LDFLAGS)
 
 # The library: every module but the CLI.
 LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.c src/validate.c \
-           src/import_trials.c src/import_athletes.c src/store.c src/store_athlete.c
+           src/import_trials.c src/import_athletes.c src/store.c src/store_athlete.c src/store_fit.c
 LIB_SRCS += src/protocol.c src/balance.c
 LIB_SRCS += src/pd.c
 # The CLI: main and one file per command family.
-CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c
+CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance

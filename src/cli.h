@@ -79,5 +79,9 @@ void cj_push_num(cli_json *arr, double v);
 /* Prints the document to stdout followed by a newline, frees it, returns 0 or 74 on failure. */
 int cj_print(cli_json *doc);
 void cj_free(cli_json *doc);
+/* The document as compact JSON text (the document stays owned by the caller); free it with
+ * cj_render_free. NULL when out of memory. */
+char *cj_render(const cli_json *doc);
+void cj_render_free(char *s);
 
 #endif

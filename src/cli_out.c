@@ -341,3 +341,11 @@ void cj_free(cli_json *doc)
 {
     cJSON_Delete(J(doc));
 }
+char *cj_render(const cli_json *doc)
+{
+    return cJSON_PrintUnformatted((const cJSON *)(const void *)doc);
+}
+void cj_render_free(char *s)
+{
+    cJSON_free(s);
+}

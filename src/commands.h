@@ -7,5 +7,8 @@
 int cmd_init(cli_ctx *c, int argc, char **argv);
 int cmd_athlete(cli_ctx *c, int argc, char **argv);
 int cmd_trial(cli_ctx *c, int argc, char **argv);
+int cmd_fit(cli_ctx *c, int argc, char **argv);
+int cmd_predict(cli_ctx *c, int argc, char **argv);
+int cmd_solve(cli_ctx *c, int argc, char **argv);
 
 #endif

@@ -90,4 +90,32 @@ int cpd_store_trial_set_excluded(cpd_store *s, int64_t id, int excluded, const c
 /* Removes trial id. CPD_ENOENT when absent. */
 int cpd_store_trial_remove(cpd_store *s, int64_t id);
 
+
+/* ---- saved power-duration fits ---- */
+typedef struct {
+    const char *model;  /* SPEC model name */
+    int ok;             /* 1 when fitted */
+    double cp, cp_se, w_prime, w_prime_se, p_max, p_max_se; /* W or m/s, J or m */
+    int has_se, has_p_max;
+    const char *detail; /* the model's JSON output */
+} cpd_fit_model_rec;
+
+typedef struct {
+    int64_t id;                    /* store id (set by cpd_store_fit_save) */
+    char athlete[CPD_CODE_MAX + 1];
+    char created_at[21];           /* UTC; "" lets the store set it */
+    char source[8];                /* "trials" or "curve" */
+    char modality[8];              /* "power" or "speed" */
+    char date_from[11], date_to[11];
+    size_t n;                      /* data points used */
+    char best[24];                 /* best model name, "" when none */
+    char flags[512];               /* comma-separated flag names */
+    char tool_version[16];
+} cpd_fit_run;
+
+/* Saves a fit run with its models and the ids of the trials it used, atomically; run->id receives
+ * the id. CPD_ENOENT when the athlete is unknown. */
+int cpd_store_fit_save(cpd_store *s, cpd_fit_run *run, const cpd_fit_model_rec *models, size_t nmodels,
+                       const int64_t *trial_ids, size_t ntrials);
+
 #endif

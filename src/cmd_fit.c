@@ -1,0 +1,502 @@
+/* cmd_fit.c: 'fit' (the power-duration models, saved with the trials they used) and 'predict'
+ * (time to task failure, or the intensity for a duration or a distance). */
+#include "cli_pd.h"
+#include "commands.h"
+#include "cpdomain/units.h"
+#include "cpdomain/version.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+static const char HELP_FIT[] =
+    "usage: cpdomain fit CODE [--model NAME|all] [--from D] [--to D]\n\n"
+    "Fits the power-duration (speed-duration) models to the athlete's trials that are not excluded:\n"
+    "  hyperbolic       t = W'/(P - CP), least squares on the measured duration\n"
+    "  linear-total     W = CP*t + W' (distance D = CS*t + D')\n"
+    "  linear-inverse   P = W'*(1/t) + CP\n"
+    "  three-parameter  t = W'/(P - CP) - W'/(Pmax - CP), needs 4 trials\n"
+    "Each model is shown with standard errors, 95 % confidence intervals (t distribution), %SEE,\n"
+    "residuals and leave-one-out influence; the best model is named by a stated rule and the fit\n"
+    "is saved in the store with the trials it used. Distance trials count as their mean speed.\n"
+    "--model picks one model (default all); --from/--to restrict the trial dates (YYYY-MM-DD).\n\n"
+    "examples:\n  cpdomain fit C03\n  cpdomain --json fit R07 --model all --from 2026-09-01\n";
+
+static const char HELP_PREDICT[] =
+    "usage: cpdomain predict CODE (--power W | --speed M_S | --duration T | --distance M |\n"
+    "                              --protocol SPEC [--balance-model NAME] [--trace FILE.csv])\n"
+    "                              [--model NAME] [--from D] [--to D]\n\n"
+    "From the athlete's current fit (the best model unless --model):\n"
+    "  --power W / --speed M_S   time to task failure t = W'/(P - CP) with its 95 % interval;\n"
+    "                            at or below CP (CS) no W'-limited failure is predicted\n"
+    "  --duration T              the power (speed) that can be held for T, with its 95 % interval\n"
+    "  --distance M              runners and swimmers: the predicted time for the distance\n"
+    "  --protocol SPEC           the W' (D') balance through a session, second by second: its lowest\n"
+    "                            point, the end balance and the predicted failure time, if any;\n"
+    "                            --balance-model differential (default), integral or elite;\n"
+    "                            --trace writes time_s,intensity,balance per second to a CSV file\n"
+    "                            SPEC: DURATION@INTENSITY segments separated by ';' or ',', Nx(...)\n"
+    "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n\n"
+    "examples:\n  cpdomain predict C03 --power 350\n  cpdomain --json predict R07 --distance 5000\n"
+    "  cpdomain predict C03 --protocol \"10min@150W; 5x(3min@340W, 3min@140W)\" --trace c03.csv\n"
+    "  cpdomain predict C03 --duration 8min --model linear-total\n";
+
+typedef struct {
+    const char *model, *from, *to, *power, *speed, *duration, *distance, *protocol, *bmodel, *trace;
+} fit_opts;
+
+static int fit_opt(int opt, const char *arg, void *ud)
+{
+    fit_opts *o = ud;
+    switch (opt) {
+    case 'm': o->model = arg; break;
+    case 'f': o->from = arg; break;
+    case 't': o->to = arg; break;
+    case 'p': o->power = arg; break;
+    case 's': o->speed = arg; break;
+    case 'd': o->duration = arg; break;
+    case 'D': o->distance = arg; break;
+    case 'P': o->protocol = arg; break;
+    case 'b': o->bmodel = arg; break;
+    case 'T': o->trace = arg; break;
+    default: return EX_USAGE;
+    }
+    return 0;
+}
+
+static const struct option fit_longopts[] = {
+    {"model", required_argument, NULL, 'm'},    {"from", required_argument, NULL, 'f'},
+    {"to", required_argument, NULL, 't'},       {"power", required_argument, NULL, 'p'},
+    {"speed", required_argument, NULL, 's'},    {"duration", required_argument, NULL, 'd'},
+    {"distance", required_argument, NULL, 'D'}, {"help", no_argument, NULL, 'h'},
+    {"protocol", required_argument, NULL, 'P'}, {"balance-model", required_argument, NULL, 'b'},
+    {"trace", required_argument, NULL, 'T'},
+    {NULL, 0, NULL, 0},
+};
+
+/* Parses the common options: exactly one CODE; dates valid; model known. -1 after --help. */
+static int parse(int argc, char **argv, const char *help, fit_opts *o, int *first, unsigned *mask)
+{
+    int done = 0;
+    memset(o, 0, sizeof *o);
+    int rc = cli_getopt(argc, argv, "h", fit_longopts, help, fit_opt, o, first, &done);
+    if (rc)
+        return rc;
+    if (done)
+        return -1;
+    if (argc - *first < 1)
+        return cli_usage(argv[0], "missing argument CODE");
+    if (argc - *first > 1)
+        return cli_usage(argv[0], "unexpected argument '%s'", argv[*first + 1]);
+    int d = 0;
+    if (o->from && cpd_parse_date(o->from, &d))
+        return cli_usage(argv[0], "--from: '%s' is not a date (YYYY-MM-DD)", o->from);
+    if (o->to && cpd_parse_date(o->to, &d))
+        return cli_usage(argv[0], "--to: '%s' is not a date (YYYY-MM-DD)", o->to);
+    if (o->from && o->to && strcmp(o->from, o->to) > 0)
+        return cli_usage(argv[0], "--from %s is after --to %s", o->from, o->to);
+    *mask = CPD_PD_ALL_MODELS;
+    if (o->model && strcmp(o->model, "all") != 0) {
+        cpd_pd_model m;
+        if (cpd_pd_model_parse(o->model, &m))
+            return cli_usage(argv[0], "--model: '%s' is not a model (hyperbolic, linear-total, linear-inverse, "
+                             "three-parameter%s)", o->model, strcmp(argv[0], "fit") == 0 ? " or all" : "");
+        *mask = CPD_PD_MODEL_BIT(m);
+    }
+    return 0;
+}
+
+/* Formats an intensity for people: W as integer-ish, speed as m/s with pace. */
+static const char *fmt_intensity(const cli_pd_fit *f, double v, char *buf, size_t n)
+{
+    char num[32];
+    if (f->modality == CPD_PD_POWER)
+        snprintf(buf, n, "%s W", cli_num(num, sizeof num, v, 1));
+    else {
+        const char *lab;
+        double per = cli_pd_pace_m(&f->athlete, &lab);
+        char pace[32];
+        cpd_format_pace(v, per, pace, sizeof pace);
+        snprintf(buf, n, "%s m/s (%s%s)", cli_num(num, sizeof num, v, 2), pace, lab);
+    }
+    return buf;
+}
+
+static void print_fit(const cli_pd_fit *f, unsigned mask)
+{
+    const cpd_pd_result *r = f->res;
+    int spd = f->modality == CPD_PD_SPEED;
+    printf("%s %s: %s-duration fit of %zu trials, %s to %s\n\n", f->athlete.code, f->athlete.name,
+           spd ? "speed" : "power", f->n, f->trials[0].date, f->trials[f->n - 1].date);
+    const char *head[] = {"model", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)", "95% CI",
+                          spd ? "vmax (m/s)" : "Pmax (W)", "%SEE CP", "%SEE W'", "R2", "status"};
+    if (spd) {
+        head[6] = "%SEE CS";
+        head[7] = "%SEE D'";
+    }
+    cli_table *t = cli_table_new(10, head, "lrrrrrrrrl");
+    double wsc = spd ? 1.0 : 1e-3; /* W' shown in kJ */
+    int cpd_dec = spd ? 3 : 1, wd = spd ? 0 : 2;
+    for (int k = 0; k < CPD_PD_NMODELS; k++) {
+        if (!(mask & CPD_PD_MODEL_BIT(k)))
+            continue;
+        const cpd_pd_model_fit *m = &r->models[k];
+        char name[40], cp[32], cpci[64], w[32], wci[64], pm[32], s1[16], s2[16], r2[16], st[160];
+        char a[32], b[32];
+        snprintf(name, sizeof name, "%s%s", cpd_pd_model_name((cpd_pd_model)k), r->has_best && r->best == (cpd_pd_model)k ? " *" : "");
+        if (m->ok) {
+            cli_num(cp, sizeof cp, m->cp, cpd_dec);
+            cli_num(w, sizeof w, m->w_prime * wsc, wd);
+            if (m->has_se) {
+                snprintf(cpci, sizeof cpci, "%s-%s", cli_num(a, sizeof a, m->cp_ci95[0], cpd_dec), cli_num(b, sizeof b, m->cp_ci95[1], cpd_dec));
+                snprintf(wci, sizeof wci, "%s-%s", cli_num(a, sizeof a, m->w_prime_ci95[0] * wsc, wd),
+                         cli_num(b, sizeof b, m->w_prime_ci95[1] * wsc, wd));
+            } else {
+                snprintf(cpci, sizeof cpci, "-");
+                snprintf(wci, sizeof wci, "-");
+            }
+            if (m->has_p_max)
+                cli_num(pm, sizeof pm, m->p_max, spd ? 2 : 0);
+            else
+                snprintf(pm, sizeof pm, "-");
+            cli_num(s1, sizeof s1, m->see_valid ? m->see_cp_pct : NAN, 1);
+            cli_num(s2, sizeof s2, m->see_valid ? m->see_w_prime_pct : NAN, 1);
+            cli_num(r2, sizeof r2, m->r2, 4);
+            snprintf(st, sizeof st, "%s", m->flags & ~(CPD_PD_FLAG_FEW_TRIALS | CPD_PD_FLAG_TWO_TRIALS_EXACT) ? "flagged" : "ok");
+        } else {
+            snprintf(cp, sizeof cp, "-");
+            snprintf(cpci, sizeof cpci, "-");
+            snprintf(w, sizeof w, "-");
+            snprintf(wci, sizeof wci, "-");
+            snprintf(pm, sizeof pm, "-");
+            snprintf(s1, sizeof s1, "-");
+            snprintf(s2, sizeof s2, "-");
+            snprintf(r2, sizeof r2, "-");
+            snprintf(st, sizeof st, "failed: %s", cpd_pd_fail_text(m->fail));
+        }
+        const char *row[] = {name, cp, cpci, w, wci, pm, s1, s2, r2, st};
+        cli_table_row(t, row);
+    }
+    cli_table_print(t);
+    if (r->has_best) {
+        const cpd_pd_model_fit *m = &r->models[r->best];
+        char buf[64];
+        printf("\n* best: %s  %s = %s", cpd_pd_model_name(r->best), spd ? "CS" : "CP", fmt_intensity(f, m->cp, buf, sizeof buf));
+        if (spd)
+            printf(", D' = %.0f m\n", m->w_prime);
+        else
+            printf(", W' = %.2f kJ\n", m->w_prime / 1000);
+        printf("  (lowest combined %%SEE among valid fits; the rule in full: cpdomain --json fit %s, key best_rule)\n",
+               f->athlete.code);
+
+        printf("\ntrials, %s model:\n", cpd_pd_model_name(r->best));
+        const char *th[] = {"id", "date", spd ? "speed" : "power", "duration", "residual", "resid %",
+                            spd ? "dCS if dropped" : "dCP if dropped", spd ? "dD' if dropped" : "dW' if dropped"};
+        cli_table *tt = cli_table_new(8, th, "rlrrrrrr");
+        for (size_t i = 0; i < f->n; i++) {
+            char id[24], x[64], du[24], rs[24], rp[24], lc[24], lw[24];
+            snprintf(id, sizeof id, "%lld", (long long)f->trials[i].id);
+            fmt_intensity(f, f->x[i], x, sizeof x);
+            cpd_format_duration(f->t[i], du, sizeof du);
+            if (m->resid_valid[i]) {
+                snprintf(rs, sizeof rs, "%+.1f s", m->resid_s[i]);
+                snprintf(rp, sizeof rp, "%+.1f", m->resid_pct[i]);
+            } else {
+                snprintf(rs, sizeof rs, "-");
+                snprintf(rp, sizeof rp, "-");
+            }
+            if (m->has_loo && m->loo_valid[i]) {
+                snprintf(lc, sizeof lc, "%+.*f", spd ? 3 : 1, m->loo_d_cp[i]);
+                snprintf(lw, sizeof lw, spd ? "%+.0f m" : "%+.2f kJ", m->loo_d_w_prime[i] * wsc);
+            } else {
+                snprintf(lc, sizeof lc, "-");
+                snprintf(lw, sizeof lw, "-");
+            }
+            const char *row[] = {id, f->trials[i].date, x, du, rs, rp, lc, lw};
+            cli_table_row(tt, row);
+        }
+        cli_table_print(tt);
+    } else {
+        printf("\nno model qualifies as best: read the flags below before using any estimate\n");
+    }
+    if (r->flags) {
+        printf("\nflags:\n");
+        cli_pd_flags_print(r->flags, f->modality);
+    }
+    for (int k = 0; k < CPD_PD_NMODELS; k++) {
+        const cpd_pd_model_fit *m = &r->models[k];
+        if (!(mask & CPD_PD_MODEL_BIT(k)) || (r->has_best && r->best == (cpd_pd_model)k))
+            continue;
+        unsigned extra = m->flags & ~r->flags;
+        if (extra) {
+            printf("%s model:\n", cpd_pd_model_name((cpd_pd_model)k));
+            cli_pd_flags_print(extra, f->modality);
+        }
+    }
+}
+
+static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
+{
+    fit_opts o;
+    int first = 0;
+    unsigned mask = 0;
+    int rc = parse(argc, argv, HELP_FIT, &o, &first, &mask);
+    if (rc)
+        return rc < 0 ? 0 : rc;
+    if (o.power || o.speed || o.duration || o.distance || o.protocol || o.bmodel || o.trace)
+        return cli_usage("fit", "--power, --speed, --duration, --distance and --protocol belong to 'predict'");
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    cli_pd_fit f;
+    if ((rc = cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
+        return rc;
+    const cpd_pd_result *r = f.res;
+
+    /* one JSON document per model: printed, and saved as the model's detail */
+    cli_json *doc = cj_obj();
+    cj_str(doc, "athlete", f.athlete.code);
+    cj_str(doc, "modality", f.modality == CPD_PD_SPEED ? "speed" : "power");
+    cj_str(doc, "best", r->has_best ? cpd_pd_model_name(r->best) : NULL);
+    cj_str(doc, "best_rule", cpd_pd_best_rule());
+    cj_str(doc, "from", f.trials[0].date);
+    cj_str(doc, "to", f.trials[f.n - 1].date);
+    cli_json *models = cj_add_arr(doc, "models");
+    cpd_fit_model_rec rec[CPD_PD_NMODELS];
+    char *detail[CPD_PD_NMODELS] = {0};
+    size_t nrec = 0;
+    for (int k = 0; k < CPD_PD_NMODELS; k++) {
+        if (!(mask & CPD_PD_MODEL_BIT(k)))
+            continue;
+        const cpd_pd_model_fit *m = &r->models[k];
+        cli_json *mo = cj_obj();
+        cli_pd_model_json(mo, &f, m);
+        detail[nrec] = cj_render(mo);
+        rec[nrec] = (cpd_fit_model_rec){cpd_pd_model_name((cpd_pd_model)k), m->ok, m->cp, m->cp_se, m->w_prime,
+                                        m->w_prime_se, m->p_max, m->p_max_se, m->has_se, m->has_p_max, detail[nrec]};
+        nrec++;
+        cj_push(models, mo);
+    }
+    cli_pd_flags_json(cj_add_arr(doc, "flags"), r->flags, f.modality);
+    cli_json *notes = cj_add_arr(doc, "flag_notes");
+    for (unsigned b = 0; b < CPD_PD_NFLAGS; b++)
+        if (r->flags & (1u << b))
+            cj_push_str(notes, cpd_pd_flag_text(1u << b, f.modality));
+
+    cpd_fit_run run;
+    memset(&run, 0, sizeof run);
+    snprintf(run.athlete, sizeof run.athlete, "%s", f.athlete.code);
+    snprintf(run.source, sizeof run.source, "trials");
+    snprintf(run.modality, sizeof run.modality, "%s", f.modality == CPD_PD_SPEED ? "speed" : "power");
+    snprintf(run.date_from, sizeof run.date_from, "%s", f.trials[0].date);
+    snprintf(run.date_to, sizeof run.date_to, "%s", f.trials[f.n - 1].date);
+    run.n = f.n;
+    snprintf(run.best, sizeof run.best, "%s", r->has_best ? cpd_pd_model_name(r->best) : "");
+    for (unsigned b = 0; b < CPD_PD_NFLAGS; b++)
+        if (r->flags & (1u << b)) {
+            size_t L = strlen(run.flags);
+            snprintf(run.flags + L, sizeof run.flags - L, "%s%s", L ? "," : "", cpd_pd_flag_name(1u << b, f.modality));
+        }
+    snprintf(run.tool_version, sizeof run.tool_version, "%s", CPDOMAIN_VERSION);
+    int64_t *ids = calloc(f.n, sizeof *ids);
+    for (size_t i = 0; ids && i < f.n; i++)
+        ids[i] = f.trials[i].id;
+    rc = ids ? CPD_OK : CPD_ENOMEM;
+    if (!rc)
+        rc = cpd_store_begin(c->store);
+    if (!rc)
+        rc = cpd_store_fit_save(c->store, &run, rec, nrec, ids, f.n);
+    if (!rc)
+        rc = cpd_store_commit(c->store);
+    free(ids);
+    for (size_t i = 0; i < nrec; i++)
+        cj_render_free(detail[i]);
+    if (rc) {
+        cj_free(doc);
+        cli_pd_fit_free(&f);
+        return cli_store_fail(c, rc);
+    }
+    cj_int(doc, "fit_id", run.id);
+    if (c->json) {
+        rc = cj_print(doc);
+    } else {
+        cj_free(doc);
+        print_fit(&f, mask);
+        printf("\nsaved as fit %lld\n", (long long)run.id);
+    }
+    cli_pd_fit_free(&f);
+    return rc;
+}
+
+/* The domain word for an intensity against the fit (GET is not known here: below CP is
+ * "moderate or heavy"). */
+static const char *domain_of(const cpd_pd_model_fit *m, double x)
+{
+    return x > m->cp ? "severe" : "moderate-or-heavy";
+}
+
+static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
+{
+    fit_opts o;
+    int first = 0;
+    unsigned mask = 0;
+    int rc = parse(argc, argv, HELP_PREDICT, &o, &first, &mask);
+    if (rc)
+        return rc < 0 ? 0 : rc;
+    int nq = (o.power != NULL) + (o.speed != NULL) + (o.duration != NULL) + (o.distance != NULL) + (o.protocol != NULL);
+    if (nq != 1)
+        return cli_usage("predict", "give exactly one of --power, --speed, --duration, --distance and --protocol");
+    if ((o.bmodel || o.trace) && !o.protocol)
+        return cli_usage("predict", "--balance-model and --trace go with --protocol");
+    double q = 0;
+    if (o.protocol)
+        rc = 0;
+    else if (o.duration)
+        rc = cli_duration("--duration", o.duration, &q);
+    else
+        rc = cli_number(o.power ? "--power" : o.speed ? "--speed" : "--distance",
+                        o.power ? o.power : o.speed ? o.speed : o.distance, &q);
+    if (rc)
+        return rc;
+    const cpd_range *rg = o.power ? &CPD_RANGE_POWER : o.speed ? &CPD_RANGE_SPEED : o.distance ? &CPD_RANGE_DISTANCE
+                                                                                          : &CPD_RANGE_DURATION;
+    if (!o.protocol && !cpd_in_range(rg, q)) {
+        char m[CPD_MSG_MAX];
+        cpd_range_msg(rg, q, m, sizeof m);
+        return cli_usage("predict", "%s", m);
+    }
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    cli_pd_fit f;
+    if ((rc = cli_pd_load_fit(c, argv[first], o.from, o.to, o.model ? mask : CPD_PD_ALL_MODELS, &f)))
+        return rc;
+    const cpd_pd_result *r = f.res;
+    int spd = f.modality == CPD_PD_SPEED;
+    if ((o.power && spd) || (o.speed && !spd) || (o.distance && !spd)) {
+        int ex = cli_usage("predict", "%s's fit is in %s: use %s", f.athlete.code, spd ? "speed" : "power",
+                           spd ? "--speed, --distance or --duration" : "--power or --duration");
+        cli_pd_fit_free(&f);
+        return ex;
+    }
+    cpd_pd_model which;
+    if (o.model)
+        cpd_pd_model_parse(o.model, &which);
+    else if (r->has_best)
+        which = r->best;
+    else {
+        int ex = cli_fail(c, CPD_ENODATA, "%s: no model qualifies as best; name one with --model (see 'cpdomain fit %s')",
+                          f.athlete.code, f.athlete.code);
+        cli_pd_fit_free(&f);
+        return ex;
+    }
+    const cpd_pd_model_fit *m = &r->models[which];
+    if (o.protocol) {
+        if (!m->ok) {
+            rc = cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", f.athlete.code, cpd_pd_model_name(which),
+                          cpd_pd_fail_text(m->fail));
+        } else
+            rc = cli_predict_protocol(c, &f, m, o.protocol, o.bmodel, o.trace);
+        cli_pd_fit_free(&f);
+        return rc;
+    }
+    cpd_pd_pred p;
+    if (o.power || o.speed)
+        rc = cpd_pd_predict_time(m, q, &p);
+    else if (o.duration)
+        rc = cpd_pd_predict_intensity(m, q, &p);
+    else
+        rc = cpd_pd_predict_distance_time(m, q, &p);
+    if (rc) {
+        int ex = cli_fail(c, rc, "%s model for %s: %s", cpd_pd_model_name(which), f.athlete.code, cpd_pd_pred_text(p.status));
+        cli_pd_fit_free(&f);
+        return ex;
+    }
+    const char *ikey = spd ? "speed_m_s" : "power_w";
+    if (c->json) {
+        cli_json *d = cj_obj();
+        cj_str(d, "athlete", f.athlete.code);
+        cj_str(d, "model", cpd_pd_model_name(which));
+        char k[32];
+        cj_num(d, cli_pd_key(f.modality, "cp", k, sizeof k), m->cp);
+        cj_num(d, cli_pd_key(f.modality, "w_prime", k, sizeof k), m->w_prime);
+        if (o.power || o.speed) {
+            cj_num(d, ikey, q);
+            cj_num(d, "time_to_failure_s", p.valid ? p.value : NAN);
+            cj_pair(d, "time_to_failure_ci95", p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
+            cj_str(d, "domain", domain_of(m, q));
+        } else if (o.duration) {
+            char ck[32];
+            snprintf(ck, sizeof ck, "%s_ci95", ikey);
+            cj_num(d, "duration_s", q);
+            cj_num(d, ikey, p.valid ? p.value : NAN);
+            cj_pair(d, ck, p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
+        } else {
+            cj_num(d, "distance_m", q);
+            cj_num(d, "time_s", p.valid ? p.value : NAN);
+            cj_pair(d, "time_ci95", p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
+        }
+        cj_str(d, "note", p.valid ? NULL : cpd_pd_pred_text(p.status));
+        cli_pd_flags_json(cj_add_arr(d, "flags"), r->flags | m->flags, f.modality);
+        cj_str(d, "caution", CLI_CAUTION);
+        rc = cj_print(d);
+    } else {
+        char a[64], b[64], v[64];
+        printf("%s %s, %s model (%s = %s, %s = %s)\n", f.athlete.code, f.athlete.name, cpd_pd_model_name(which),
+               spd ? "CS" : "CP", fmt_intensity(&f, m->cp, v, sizeof v), spd ? "D'" : "W'",
+               spd ? (snprintf(a, sizeof a, "%.0f m", m->w_prime), a) : (snprintf(a, sizeof a, "%.2f kJ", m->w_prime / 1000), a));
+        if (o.power || o.speed) {
+            fmt_intensity(&f, q, v, sizeof v);
+            if (p.valid) {
+                cpd_format_duration(p.value, a, sizeof a);
+                printf("at %s: time to task failure %s", v, a);
+                if (p.ci_valid) {
+                    cpd_format_duration(p.ci95[0], a, sizeof a);
+                    cpd_format_duration(p.ci95[1], b, sizeof b);
+                    printf(" (95%% interval %s to %s)", a, b);
+                }
+                printf(", severe domain\n");
+            } else
+                printf("at %s: %s\n", v, cpd_pd_pred_text(p.status));
+        } else if (o.duration) {
+            cpd_format_duration(q, a, sizeof a);
+            if (p.valid) {
+                printf("for %s: %s", a, fmt_intensity(&f, p.value, v, sizeof v));
+                if (p.ci_valid)
+                    printf(" (95%% interval %s to %s)", fmt_intensity(&f, p.ci95[0], a, sizeof a),
+                           fmt_intensity(&f, p.ci95[1], b, sizeof b));
+                printf("\n");
+            } else
+                printf("for %s: %s\n", a, cpd_pd_pred_text(p.status));
+        } else {
+            if (p.valid) {
+                cpd_format_duration(p.value, a, sizeof a);
+                printf("%.0f m: predicted time %s", q, a);
+                if (p.ci_valid) {
+                    cpd_format_duration(p.ci95[0], a, sizeof a);
+                    cpd_format_duration(p.ci95[1], b, sizeof b);
+                    printf(" (95%% interval %s to %s)", a, b);
+                }
+                printf("\n");
+            } else
+                printf("%.0f m: %s\n", q, cpd_pd_pred_text(p.status));
+        }
+        if (r->flags | m->flags) {
+            printf("flags:\n");
+            cli_pd_flags_print(r->flags | m->flags, f.modality);
+        }
+        printf("\n%s\n", CLI_CAUTION);
+    }
+    cli_pd_fit_free(&f);
+    return rc;
+}
+
+int cmd_fit(cli_ctx *c, int argc, char **argv)
+{
+    return cmd_fit_run(c, argc, argv);
+}
+
+int cmd_predict(cli_ctx *c, int argc, char **argv)
+{
+    return cmd_predict_run(c, argc, argv);
+}

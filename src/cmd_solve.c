@@ -1,0 +1,366 @@
+/* cmd_solve.c: W' (D') balance through a typed protocol ('predict --protocol') and the one unknown
+ * intensity of a protocol ('solve'). */
+#include "cli_pd.h"
+#include "commands.h"
+#include "cpdomain/balance.h"
+#include "cpdomain/protocol.h"
+#include "cpdomain/units.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+/* Parses the protocol and checks it against the fit's modality. Returns 0 or an exit code. */
+static int load_protocol(cli_ctx *c, const cli_pd_fit *f, const char *text, cpd_protocol **p)
+{
+    char msg[CPD_MSG_MAX];
+    int rc = cpd_protocol_parse(text, p, msg);
+    if (rc)
+        return cli_fail(c, rc == CPD_EDATA ? CPD_EUSAGE : rc, "--protocol: %s", msg);
+    cpd_protocol_modality want = f->modality == CPD_PD_SPEED ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER;
+    if ((*p)->modality != CPD_PROTOCOL_UNSPECIFIED && (*p)->modality != want) {
+        int ex = cli_fail(c, CPD_EUSAGE, "--protocol is in %s but %s's fit is in %s", cpd_protocol_modality_name((*p)->modality),
+                          f->athlete.code, cpd_protocol_modality_name(want));
+        cpd_protocol_free(*p);
+        *p = NULL;
+        return ex;
+    }
+    return 0;
+}
+
+static int write_trace(cli_ctx *c, const char *path, const double *x, const double *trace, size_t n, int spd)
+{
+    FILE *o = fopen(path, "w");
+    if (!o)
+        return cli_fail(c, CPD_ECREATE, "--trace: cannot create '%s'", path);
+    fprintf(o, "time_s,%s,%s\n", spd ? "speed_m_s" : "power_w", spd ? "balance_m" : "balance_j");
+    for (size_t i = 0; i < n; i++)
+        fprintf(o, "%zu,%.6g,%.6f\n", i + 1, x[i], trace[i]);
+    if (fclose(o) != 0)
+        return cli_fail(c, CPD_ECREATE, "--trace: writing '%s' failed", path);
+    return 0;
+}
+
+int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
+                         const char *balance_model, const char *trace_path)
+{
+    cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
+    if (balance_model && cpd_balance_model_parse(balance_model, &bm))
+        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or elite", balance_model);
+    cpd_protocol *p = NULL;
+    int rc = load_protocol(c, f, text, &p);
+    if (rc)
+        return rc;
+    if (p->has_unknown) {
+        cpd_protocol_free(p);
+        return cli_usage("predict", "--protocol has a '?': 'cpdomain solve' finds the unknown intensity");
+    }
+    int spd = f->modality == CPD_PD_SPEED;
+    double *x = malloc(p->total_s * sizeof *x), *trace = malloc(p->total_s * sizeof *trace);
+    cpd_balance_result br;
+    cpd_balance_params bp = {bm, m->cp, m->w_prime};
+    if (!x || !trace)
+        rc = CPD_ENOMEM;
+    else if (!(rc = cpd_protocol_expand(p, m->cp, 0, x, p->total_s)))
+        rc = cpd_balance_run(&bp, x, p->total_s, trace, &br);
+    if (rc) {
+        int ex = cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
+        free(x);
+        free(trace);
+        cpd_protocol_free(p);
+        return ex;
+    }
+    if (trace_path && (rc = write_trace(c, trace_path, x, trace, p->total_s, spd))) {
+        free(x);
+        free(trace);
+        cpd_protocol_free(p);
+        return rc;
+    }
+    const char *u = spd ? "m" : "j";
+    char k[40];
+    if (c->json) {
+        cli_json *d = cj_obj();
+        cj_str(d, "athlete", f->athlete.code);
+        cj_str(d, "model", cpd_pd_model_name(m->model));
+        cj_str(d, "balance_model", cpd_balance_model_name(bm));
+        cj_num(d, cli_pd_key(f->modality, "cp", k, sizeof k), m->cp);
+        cj_num(d, cli_pd_key(f->modality, "w_prime", k, sizeof k), m->w_prime);
+        cj_int(d, "duration_s", (long long)p->total_s);
+        snprintf(k, sizeof k, "min_balance_%s", u);
+        cj_num(d, k, br.min_balance);
+        cj_int(d, "min_balance_at_s", (long long)br.min_at_s);
+        snprintf(k, sizeof k, "end_balance_%s", u);
+        cj_num(d, k, br.end_balance);
+        if (br.failed)
+            cj_int(d, "failure_at_s", (long long)br.failure_at_s);
+        else
+            cj_null(d, "failure_at_s");
+        if (bm == CPD_BALANCE_INTEGRAL && br.has_dcp)
+            cj_num(d, "tau_s", br.tau_s);
+        cj_str(d, "discretisation", "1-s steps, each second at the protocol's intensity; balance at the end of each second");
+        if (trace_path)
+            cj_str(d, "trace_file", trace_path);
+        cj_str(d, "caution", CLI_CAUTION);
+        rc = cj_print(d);
+    } else {
+        char a[32], b[32];
+        double sc = spd ? 1.0 : 1e-3;
+        const char *un = spd ? "m" : "kJ";
+        printf("%s %s: %s balance (%s model, %s = %.*f %s, %s = %.*f %s)\n", f->athlete.code, f->athlete.name,
+               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", spd ? 2 : 1, m->cp, cli_pd_unit(f->modality),
+               spd ? "D'" : "W'", spd ? 0 : 2, m->w_prime * sc, un);
+        cpd_format_duration((double)p->total_s, a, sizeof a);
+        printf("protocol of %s in %zu segments\n\n", a, p->n);
+        static const char *const head[] = {"segment", "ends at", "intensity", "balance at end", "lowest in segment"};
+        cli_table *t = cli_table_new(5, head, "rrrrr");
+        size_t s0 = 0;
+        for (size_t i = 0; i < p->n && i < 200; i++) {
+            size_t s1 = s0 + p->seg[i].duration_s;
+            double lo = trace[s0];
+            for (size_t q = s0; q < s1; q++)
+                lo = trace[q] < lo ? trace[q] : lo;
+            char idx[16], end[32], in[48], be[32], lw[32], num[32];
+            snprintf(idx, sizeof idx, "%zu", i + 1);
+            cpd_format_duration((double)s1, end, sizeof end);
+            snprintf(in, sizeof in, "%s %s", cli_num(num, sizeof num, x[s0], spd ? 2 : 0), cli_pd_unit(f->modality));
+            snprintf(be, sizeof be, "%s %s", cli_num(num, sizeof num, trace[s1 - 1] * sc, spd ? 0 : 2), un);
+            snprintf(lw, sizeof lw, "%s %s", cli_num(num, sizeof num, lo * sc, spd ? 0 : 2), un);
+            const char *row[] = {idx, end, in, be, lw};
+            cli_table_row(t, row);
+            s0 = s1;
+        }
+        cli_table_print(t);
+        cpd_format_duration((double)br.min_at_s, a, sizeof a);
+        printf("\nlowest balance %.*f %s at %s; end balance %.*f %s (%.0f %% of %s)\n", spd ? 0 : 2, br.min_balance * sc, un, a,
+               spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime, spd ? "D'" : "W'");
+        if (br.failed) {
+            cpd_format_duration((double)br.failure_at_s, b, sizeof b);
+            printf("predicted task failure at %s (second %zu)\n", b, br.failure_at_s);
+        } else
+            printf("no task failure predicted\n");
+        if (trace_path)
+            printf("trace written to %s\n", trace_path);
+        printf("\n%s\n", CLI_CAUTION);
+    }
+    free(x);
+    free(trace);
+    cpd_protocol_free(p);
+    return rc;
+}
+
+/* The protocol text with every '?' replaced by value, written in the unit the '?' carried. */
+static void subst_unknown(const char *text, cpd_protocol_unit unit, double v, double cp, char *buf, size_t n)
+{
+    size_t o = 0;
+    for (const char *t = text; *t && o + 32 < n; t++) {
+        if (*t != '?') {
+            buf[o++] = *t;
+            continue;
+        }
+        char r[32];
+        switch (unit) {
+        case CPD_PROTOCOL_UNIT_NONE:
+            snprintf(r, sizeof r, v >= 20 ? "%.0fW" : "%.3fm/s", v); /* bare '?': W for power, m/s for speed */
+            break;
+        case CPD_PROTOCOL_UNIT_W:
+            snprintf(r, sizeof r, "%.0f", v);
+            break;
+        case CPD_PROTOCOL_UNIT_PCT_CP:
+        case CPD_PROTOCOL_UNIT_PCT_CS:
+            snprintf(r, sizeof r, "%.1f", 100 * v / cp);
+            break;
+        case CPD_PROTOCOL_UNIT_M_S:
+            snprintf(r, sizeof r, "%.3f", v);
+            break;
+        case CPD_PROTOCOL_UNIT_KM_H:
+            snprintf(r, sizeof r, "%.2f", 3.6 * v);
+            break;
+        case CPD_PROTOCOL_UNIT_PACE_KM:
+            cpd_format_pace(v, 1000, r, sizeof r);
+            break;
+        case CPD_PROTOCOL_UNIT_PACE_100M:
+            cpd_format_pace(v, 100, r, sizeof r);
+            break;
+        }
+        size_t L = strlen(r);
+        memcpy(buf + o, r, L);
+        o += L;
+    }
+    buf[o] = '\0';
+}
+
+static const char HELP_SOLVE[] =
+    "usage: cpdomain solve CODE --protocol SPEC --finish PCT [--model NAME] [--balance-model NAME]\n"
+    "                           [--from D] [--to D]\n\n"
+    "Finds the one unknown intensity '?' of a protocol so that it ends with PCT % of W' (D') left,\n"
+    "without passing through task failure on the way (bracketed root finding, GSL's Brent method).\n"
+    "Protocol: segments DURATION@INTENSITY separated by ';' or ','; Nx( ... ) repeats a group;\n"
+    "intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m or ?. Balance models: differential\n"
+    "(default; Skiba et al. 2015), integral (Skiba et al. 2012), elite (Bartram et al. 2018).\n"
+    "An impossible request exits 69 and says why.\n\n"
+    "examples:\n"
+    "  cpdomain solve C03 --protocol \"15min@150W; 5x(3min@?, 3min@140W)\" --finish 20\n"
+    "  cpdomain --json solve R07 --protocol \"10min@3.2m/s; 6x(800s@?, 2min@2.5m/s)\" --finish 10\n";
+
+typedef struct {
+    const char *protocol, *finish, *model, *bmodel, *from, *to;
+} solve_opts;
+
+static int solve_opt(int opt, const char *arg, void *ud)
+{
+    solve_opts *o = ud;
+    switch (opt) {
+    case 'p': o->protocol = arg; break;
+    case 'F': o->finish = arg; break;
+    case 'm': o->model = arg; break;
+    case 'b': o->bmodel = arg; break;
+    case 'f': o->from = arg; break;
+    case 't': o->to = arg; break;
+    default: return EX_USAGE;
+    }
+    return 0;
+}
+
+int cmd_solve(cli_ctx *c, int argc, char **argv)
+{
+    static const struct option lo[] = {
+        {"protocol", required_argument, NULL, 'p'}, {"finish", required_argument, NULL, 'F'},
+        {"model", required_argument, NULL, 'm'},    {"balance-model", required_argument, NULL, 'b'},
+        {"from", required_argument, NULL, 'f'},     {"to", required_argument, NULL, 't'},
+        {"help", no_argument, NULL, 'h'},           {NULL, 0, NULL, 0},
+    };
+    solve_opts o = {0};
+    int first = 0, done = 0;
+    int rc = cli_getopt(argc, argv, "h", lo, HELP_SOLVE, solve_opt, &o, &first, &done);
+    if (rc || done)
+        return rc;
+    if (argc - first != 1)
+        return cli_usage("solve", argc - first < 1 ? "missing argument CODE" : "unexpected argument '%s'", argv[first + 1]);
+    if (!o.protocol || !o.finish)
+        return cli_usage("solve", "--protocol and --finish are required");
+    double pct = 0;
+    if ((rc = cli_number("--finish", o.finish, &pct)))
+        return rc;
+    if (pct < 0 || pct >= 100)
+        return cli_usage("solve", "--finish must be a percentage of W' from 0 to below 100 (got %g)", pct);
+    cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
+    if (o.bmodel && cpd_balance_model_parse(o.bmodel, &bm))
+        return cli_usage("solve", "--balance-model: '%s' is not differential, integral or elite", o.bmodel);
+    unsigned mask = CPD_PD_ALL_MODELS;
+    cpd_pd_model which = CPD_PD_HYPERBOLIC;
+    if (o.model) {
+        if (cpd_pd_model_parse(o.model, &which))
+            return cli_usage("solve", "--model: '%s' is not a model", o.model);
+        mask = CPD_PD_MODEL_BIT(which);
+    }
+    int dd = 0;
+    if ((o.from && cpd_parse_date(o.from, &dd)) || (o.to && cpd_parse_date(o.to, &dd)))
+        return cli_usage("solve", "--from/--to: use YYYY-MM-DD");
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    cli_pd_fit f;
+    if ((rc = cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
+        return rc;
+    if (!o.model) {
+        if (!f.res->has_best) {
+            rc = cli_fail(c, CPD_ENODATA, "%s: no model qualifies as best; name one with --model", f.athlete.code);
+            cli_pd_fit_free(&f);
+            return rc;
+        }
+        which = f.res->best;
+    }
+    const cpd_pd_model_fit *m = &f.res->models[which];
+    if (!m->ok) {
+        rc = cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", f.athlete.code, cpd_pd_model_name(which),
+                      cpd_pd_fail_text(m->fail));
+        cli_pd_fit_free(&f);
+        return rc;
+    }
+    cpd_protocol *p = NULL;
+    if ((rc = load_protocol(c, &f, o.protocol, &p))) {
+        cli_pd_fit_free(&f);
+        return rc;
+    }
+    if (!p->has_unknown) {
+        cpd_protocol_free(p);
+        cli_pd_fit_free(&f);
+        return cli_usage("solve", "--protocol has no '?': mark the one intensity to find with '?'");
+    }
+    int spd = f.modality == CPD_PD_SPEED;
+    cpd_balance_params bp = {bm, m->cp, m->w_prime};
+    cpd_balance_ws *w = cpd_balance_alloc(p->total_s);
+    cpd_balance_solution sol;
+    memset(&sol, 0, sizeof sol);
+    rc = w ? cpd_balance_solve(w, &bp, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sol) : CPD_ENOMEM;
+    cpd_balance_free(w);
+    static const char *const why[] = {
+        "solved",
+        "the protocol fails even with the unknown at the lowest intensity",
+        "even the lowest intensity ends below the requested balance",
+        "the requested balance is reachable only by passing through task failure first",
+        "the end balance jumps over the requested value (integral model, at CP): no intensity gives it",
+    };
+    const char *ikey = spd ? "speed_m_s" : "power_w";
+    const char *u = spd ? "m" : "j";
+    char k[40];
+    int has_reason = rc == CPD_OK || rc == CPD_ENODATA; /* ENODATA: refused, sol.reason says why */
+    int ok = rc == CPD_OK && sol.reason == CPD_SOLVE_OK;
+    int ex = ok ? 0 : rc == CPD_OK || rc == CPD_ENODATA ? EX_UNAVAILABLE : cli_exit_code(rc);
+    if (c->json) {
+        cli_json *d = cj_obj();
+        cj_str(d, "athlete", f.athlete.code);
+        cj_str(d, "model", cpd_pd_model_name(which));
+        cj_str(d, "balance_model", cpd_balance_model_name(bm));
+        cj_num(d, cli_pd_key(f.modality, "cp", k, sizeof k), m->cp);
+        cj_num(d, cli_pd_key(f.modality, "w_prime", k, sizeof k), m->w_prime);
+        cj_num(d, ikey, ok ? sol.intensity : NAN);
+        snprintf(k, sizeof k, "end_balance_%s", u);
+        cj_num(d, k, sol.has_end_balance ? sol.end_balance : NAN);
+        snprintf(k, sizeof k, "target_balance_%s", u);
+        cj_num(d, k, sol.target_balance);
+        cj_num(d, "finish_pct", pct);
+        cj_str(d, "result", has_reason ? why[sol.reason] : cpd_strerror(rc));
+        if (ok && spd) {
+            const char *lab;
+            char pace[32];
+            cpd_format_pace(sol.intensity, cli_pd_pace_m(&f.athlete, &lab), pace, sizeof pace);
+            snprintf(k, sizeof k, "pace%s", strcmp(lab, "/km") == 0 ? "_per_km" : "_per_100m");
+            cj_str(d, k, pace);
+        }
+        cj_str(d, "caution", CLI_CAUTION);
+        int prc = cj_print(d);
+        if (!ex)
+            ex = prc;
+        if (!ok)
+            fprintf(stderr, "cpdomain: solve: %s\n", has_reason ? why[sol.reason] : cpd_strerror(rc));
+    } else if (ok) {
+        char v[48], num[32];
+        snprintf(v, sizeof v, "%s %s", cli_num(num, sizeof num, sol.intensity, spd ? 3 : 1), cli_pd_unit(f.modality));
+        printf("%s %s: '?' = %s", f.athlete.code, f.athlete.name, v);
+        if (spd) {
+            const char *lab;
+            char pace[32];
+            cpd_format_pace(sol.intensity, cli_pd_pace_m(&f.athlete, &lab), pace, sizeof pace);
+            printf(" (%s%s)", pace, lab);
+        } else
+            printf(" (%.0f %% of CP)", 100 * sol.intensity / m->cp);
+        printf("\nthe protocol then ends with %.*f %s of %s left (target %.0f %%), %s model, %s balance\n", spd ? 0 : 2,
+               sol.end_balance * (spd ? 1 : 1e-3), spd ? "m" : "kJ", spd ? "D'" : "W'", pct, cpd_pd_model_name(which),
+               cpd_balance_model_name(bm));
+        char check[1024];
+        subst_unknown(o.protocol, p->unknown_unit, sol.intensity, m->cp, check, sizeof check);
+        printf("check it: cpdomain predict %s --protocol \"%s\"\n", f.athlete.code, check);
+        printf("\n%s\n", CLI_CAUTION);
+    } else {
+        fprintf(stderr, "cpdomain: solve: %s", has_reason ? why[sol.reason] : cpd_strerror(rc));
+        if (has_reason && sol.has_end_balance)
+            fprintf(stderr, " (the closest end balance without failure is %.0f %% of %s)",
+                    100 * sol.end_balance / m->w_prime, spd ? "D'" : "W'");
+        fputc('\n', stderr);
+    }
+    cpd_protocol_free(p);
+    cli_pd_fit_free(&f);
+    return ex;
+}
