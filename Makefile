@@ -18,7 +18,8 @@ ALL_LDFLAGS = $(SANFLAGS) $(LDFLAGS)
 
 # The library: every module but the CLI.
 LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.c src/validate.c \
-           src/import_trials.c src/import_athletes.c src/store.c src/store_athlete.c src/store_fit.c
+           src/import_trials.c src/import_athletes.c src/store.c src/store_athlete.c src/store_fit.c \
+           src/store_gx.c src/import_gx.c
 LIB_SRCS += src/protocol.c src/balance.c
 LIB_SRCS += src/pd.c
 # The CLI: main and one file per command family.

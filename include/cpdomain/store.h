@@ -3,6 +3,8 @@
 #ifndef CPDOMAIN_STORE_H
 #define CPDOMAIN_STORE_H
 
+#include "cpdomain/gx.h"
+
 #include <stddef.h>
 #include <stdint.h>
 
@@ -117,5 +119,69 @@ typedef struct {
  * the id. CPD_ENOENT when the athlete is unknown. */
 int cpd_store_fit_save(cpd_store *s, cpd_fit_run *run, const cpd_fit_model_rec *models, size_t nmodels,
                        const int64_t *trial_ids, size_t ntrials);
+
+
+/* ---- gas-exchange tests: ramps and constant-power bouts ---- */
+typedef enum { CPD_GXT_RAMP, CPD_GXT_BOUT } cpd_gxt_kind;
+
+typedef struct {
+    int64_t id;                     /* store id */
+    char athlete[CPD_CODE_MAX + 1]; /* athlete code */
+    cpd_gxt_kind kind;              /* ramp or bout */
+    char date[11];                  /* YYYY-MM-DD */
+    int speed;                      /* 1: intensities in m/s (treadmill), 0: W */
+    double rate_per_min;            /* ramp: W/min or (m/s)/min */
+    double start;                   /* ramp: intensity at onset */
+    double intensity;               /* bout: constant intensity */
+    int has_baseline;               /* 1 when baseline is known */
+    double baseline;                /* intensity before onset */
+    double onset_s;                 /* file time at which the exercise began, s */
+    int has_mrt;                    /* ramp: 1 when the user gave the MRT */
+    double mrt_s;                   /* s */
+    int has_get_manual;             /* ramp: 1 when a reviewer set the GET */
+    double get_vo2_manual;          /* mL/min */
+    int has_rcp_manual;             /* ramp: 1 when a reviewer set the RCP */
+    double rcp_vo2_manual;          /* mL/min */
+    size_t n_samples;               /* samples stored */
+    char note[CPD_NOTE_MAX + 1];
+    char source_file[CPD_PATH_MAX + 1];
+    char imported_at[21];           /* "" lets the store set it */
+} cpd_gx_test;
+
+/* Stores a test and its samples (every channel of series) atomically; *id receives its id. */
+int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *series, int64_t *id);
+/* Reads test id of the given kind; with series != NULL also its samples (the caller frees *series
+ * with cpd_gx_free). CPD_ENOENT when there is no such test. */
+int cpd_store_gx_get(cpd_store *s, int64_t id, cpd_gxt_kind kind, cpd_gx_test *t, cpd_gx_series **series);
+/* The athlete's tests of a kind, oldest first (code NULL: everyone's). The caller frees *out. */
+int cpd_store_gx_list(cpd_store *s, const char *code, cpd_gxt_kind kind, cpd_gx_test **out, size_t *n);
+/* Sets (has = 1) or clears a ramp's manual GET (which = 0) or RCP (which = 1) VO2. */
+int cpd_store_gx_set_manual(cpd_store *s, int64_t id, int which, int has, double vo2_ml_min);
+/* Removes a test of the given kind with its samples. CPD_ENOENT when absent. */
+int cpd_store_gx_remove(cpd_store *s, int64_t id, cpd_gxt_kind kind);
+
+/* ---- blood-lactate step tests ---- */
+#define CPD_LACTATE_STAGES_MAX 64
+
+typedef struct {
+    int64_t id;
+    char athlete[CPD_CODE_MAX + 1];
+    char date[11];
+    int speed;                                  /* 1: stages in m/s, 0: W */
+    size_t n;                                   /* stages */
+    double intensity[CPD_LACTATE_STAGES_MAX];   /* W or m/s, increasing */
+    double lactate[CPD_LACTATE_STAGES_MAX];     /* mmol/L */
+    double hr[CPD_LACTATE_STAGES_MAX];          /* beats/min; valid when has_hr */
+    double stage_s[CPD_LACTATE_STAGES_MAX];     /* s; valid when has_stage_s */
+    int has_hr, has_stage_s;
+    char note[CPD_NOTE_MAX + 1];
+    char source_file[CPD_PATH_MAX + 1];
+    char imported_at[21];
+} cpd_lactate_test;
+
+int cpd_store_lactate_add(cpd_store *s, const cpd_lactate_test *t, int64_t *id);
+int cpd_store_lactate_get(cpd_store *s, int64_t id, cpd_lactate_test *t);
+/* The athlete's lactate tests, oldest first, with their stages. The caller frees *out. */
+int cpd_store_lactate_list(cpd_store *s, const char *code, cpd_lactate_test **out, size_t *n);
 
 #endif

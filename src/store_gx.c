@@ -1,0 +1,477 @@
+/* store_gx.c: gas-exchange tests (ramps, bouts) with their samples as one BLOB per channel, and
+ * lactate step tests with one row per stage. */
+#include "store_int.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+/* Samples are stored as IEEE-754 binary64 in little-endian order whatever the host's order. */
+static int host_is_le(void)
+{
+    const unsigned one = 1;
+    return *(const unsigned char *)&one == 1;
+}
+
+static void encode(const double *v, size_t n, unsigned char *out)
+{
+    int le = host_is_le();
+    for (size_t i = 0; i < n; i++) {
+        unsigned char b[8];
+        memcpy(b, &v[i], 8);
+        for (int k = 0; k < 8; k++)
+            out[8 * i + (size_t)k] = le ? b[k] : b[7 - k];
+    }
+}
+
+static void decode(const unsigned char *in, size_t n, double *v)
+{
+    int le = host_is_le();
+    for (size_t i = 0; i < n; i++) {
+        unsigned char b[8];
+        for (int k = 0; k < 8; k++)
+            b[k] = le ? in[8 * i + (size_t)k] : in[8 * i + 7 - (size_t)k];
+        memcpy(&v[i], b, 8);
+    }
+}
+
+static const char *kind_sql(cpd_gxt_kind k)
+{
+    return k == CPD_GXT_BOUT ? "bout" : "ramp";
+}
+
+static void bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
+{
+    if (valid)
+        sqlite3_bind_double(st, idx, v);
+    else
+        sqlite3_bind_null(st, idx);
+}
+
+static int add_channel(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
+                       unsigned char *buf)
+{
+    encode(v, n, buf);
+    sqlite3_reset(st);
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, name, -1, SQLITE_STATIC);
+    sqlite3_bind_blob(st, 3, buf, (int)(8 * n), SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        return cpd_st_fail(s, "storing samples");
+    return CPD_OK;
+}
+
+int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *series, int64_t *id)
+{
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, t->athlete, &aid);
+    if (rc)
+        return rc;
+    if (series->n == 0 || series->n > 50000000)
+        return cpd_st_err(s, CPD_EUSAGE, "a test needs between 1 and 50 million samples");
+    unsigned char *buf = malloc(8 * series->n);
+    if (!buf)
+        return CPD_ENOMEM;
+    sqlite3_stmt *st = NULL;
+    if ((rc = cpd_st_savepoint(s))) {
+        free(buf);
+        return rc;
+    }
+    rc = cpd_st_prepare(s,
+                        "INSERT INTO gx_test (athlete_id, kind, date, modality, rate_per_min, start, intensity, baseline, "
+                        "onset_s, mrt_s, get_vo2_manual, rcp_vo2_manual, n_samples, note, source_file, imported_at) "
+                        "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, ?13, ?14, ?15, "
+                        "COALESCE(?16, strftime('%Y-%m-%dT%H:%M:%SZ', 'now')))",
+                        &st);
+    if (rc)
+        goto done;
+    int ramp = t->kind == CPD_GXT_RAMP;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, kind_sql(t->kind), -1, SQLITE_STATIC);
+    sqlite3_bind_text(st, 3, t->date, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(st, 4, t->speed ? "speed" : "power", -1, SQLITE_STATIC);
+    bind_opt(st, 5, ramp, t->rate_per_min);
+    bind_opt(st, 6, ramp, t->start);
+    bind_opt(st, 7, !ramp, t->intensity);
+    bind_opt(st, 8, t->has_baseline, t->baseline);
+    sqlite3_bind_double(st, 9, t->onset_s);
+    bind_opt(st, 10, ramp && t->has_mrt, t->mrt_s);
+    bind_opt(st, 11, ramp && t->has_get_manual, t->get_vo2_manual);
+    bind_opt(st, 12, ramp && t->has_rcp_manual, t->rcp_vo2_manual);
+    sqlite3_bind_int64(st, 13, (sqlite3_int64)series->n);
+    sqlite3_bind_text(st, 14, t->note, -1, SQLITE_TRANSIENT);
+    cpd_st_bind_text(st, 15, t->source_file, 1);
+    cpd_st_bind_text(st, 16, t->imported_at, 1);
+    if (sqlite3_step(st) != SQLITE_DONE) {
+        rc = cpd_st_fail(s, "storing a test");
+        goto done;
+    }
+    *id = sqlite3_last_insert_rowid(s->db);
+    sqlite3_finalize(st);
+    st = NULL;
+    if ((rc = cpd_st_prepare(s, "INSERT INTO gx_channel (test_id, channel, data) VALUES (?1, ?2, ?3)", &st)))
+        goto done;
+    if ((rc = add_channel(s, st, *id, "time_s", series->t_s, series->n, buf)))
+        goto done;
+    for (int c = 0; c < CPD_GX_NCHAN; c++)
+        if (series->ch[c] && (rc = add_channel(s, st, *id, cpd_gx_channel_name(c), series->ch[c], series->n, buf)))
+            goto done;
+done:
+    sqlite3_finalize(st);
+    free(buf);
+    return cpd_st_release(s, rc);
+}
+
+#define GX_COLS                                                                                                \
+    "t.id, a.code, t.kind, t.date, t.modality, t.rate_per_min, t.start, t.intensity, t.baseline, t.onset_s, " \
+    "t.mrt_s, t.get_vo2_manual, t.rcp_vo2_manual, t.n_samples, t.note, t.source_file, t.imported_at"
+
+static double opt(sqlite3_stmt *st, int col, int *has)
+{
+    int h = sqlite3_column_type(st, col) != SQLITE_NULL;
+    if (has)
+        *has = h;
+    return h ? sqlite3_column_double(st, col) : 0.0;
+}
+
+static void read_test(sqlite3_stmt *st, cpd_gx_test *t)
+{
+    memset(t, 0, sizeof *t);
+    t->id = sqlite3_column_int64(st, 0);
+    cpd_st_text(st, 1, t->athlete, sizeof t->athlete);
+    const unsigned char *k = sqlite3_column_text(st, 2);
+    t->kind = k && strcmp((const char *)k, "bout") == 0 ? CPD_GXT_BOUT : CPD_GXT_RAMP;
+    cpd_st_text(st, 3, t->date, sizeof t->date);
+    const unsigned char *m = sqlite3_column_text(st, 4);
+    t->speed = m && strcmp((const char *)m, "speed") == 0;
+    t->rate_per_min = opt(st, 5, NULL);
+    t->start = opt(st, 6, NULL);
+    t->intensity = opt(st, 7, NULL);
+    t->baseline = opt(st, 8, &t->has_baseline);
+    t->onset_s = sqlite3_column_double(st, 9);
+    t->mrt_s = opt(st, 10, &t->has_mrt);
+    t->get_vo2_manual = opt(st, 11, &t->has_get_manual);
+    t->rcp_vo2_manual = opt(st, 12, &t->has_rcp_manual);
+    t->n_samples = (size_t)sqlite3_column_int64(st, 13);
+    cpd_st_text(st, 14, t->note, sizeof t->note);
+    cpd_st_text(st, 15, t->source_file, sizeof t->source_file);
+    cpd_st_text(st, 16, t->imported_at, sizeof t->imported_at);
+}
+
+static int load_series(cpd_store *s, const cpd_gx_test *t, cpd_gx_series **out)
+{
+    *out = NULL;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT channel, data FROM gx_channel WHERE test_id = ?1", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, t->id);
+    /* first pass: which channels are there */
+    unsigned mask = 0;
+    int r, has_time = 0;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+        const char *name = (const char *)sqlite3_column_text(st, 0);
+        if (name && strcmp(name, "time_s") == 0)
+            has_time = 1;
+        for (int c = 0; c < CPD_GX_NCHAN; c++)
+            if (name && strcmp(name, cpd_gx_channel_name(c)) == 0)
+                mask |= CPD_GX_BIT(c);
+    }
+    if (r != SQLITE_DONE || !has_time) {
+        rc = r != SQLITE_DONE ? cpd_st_fail(s, "reading samples") : cpd_st_err(s, CPD_ESTORE, "test %lld has no time channel", (long long)t->id);
+        goto done;
+    }
+    cpd_gx_series *g = cpd_gx_alloc(t->n_samples, mask);
+    if (!g) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    sqlite3_reset(st);
+    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+        const char *name = (const char *)sqlite3_column_text(st, 0);
+        const void *blob = sqlite3_column_blob(st, 1);
+        size_t bytes = (size_t)sqlite3_column_bytes(st, 1);
+        if (bytes != 8 * t->n_samples) {
+            rc = cpd_st_err(s, CPD_ESTORE, "test %lld: channel %s has %zu bytes, expected %zu", (long long)t->id,
+                            name ? name : "?", bytes, 8 * t->n_samples);
+            cpd_gx_free(g);
+            goto done;
+        }
+        double *dst = NULL;
+        if (strcmp(name, "time_s") == 0)
+            dst = g->t_s;
+        for (int c = 0; c < CPD_GX_NCHAN && !dst; c++)
+            if (strcmp(name, cpd_gx_channel_name(c)) == 0)
+                dst = g->ch[c];
+        if (dst && bytes)
+            decode(blob, t->n_samples, dst);
+    }
+    if (r != SQLITE_DONE) {
+        rc = cpd_st_fail(s, "reading samples");
+        cpd_gx_free(g);
+        goto done;
+    }
+    *out = g;
+done:
+    sqlite3_finalize(st);
+    return rc;
+}
+
+int cpd_store_gx_get(cpd_store *s, int64_t id, cpd_gxt_kind kind, cpd_gx_test *t, cpd_gx_series **series)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT " GX_COLS " FROM gx_test t JOIN athlete a ON a.id = t.athlete_id WHERE t.id = ?1 AND t.kind = ?2", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, kind_sql(kind), -1, SQLITE_STATIC);
+    int r = sqlite3_step(st);
+    if (r == SQLITE_ROW)
+        read_test(st, t);
+    else if (r == SQLITE_DONE)
+        rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", kind_sql(kind), (long long)id);
+    else
+        rc = cpd_st_fail(s, "reading a test");
+    sqlite3_finalize(st);
+    if (!rc && series)
+        rc = load_series(s, t, series);
+    return rc;
+}
+
+int cpd_store_gx_list(cpd_store *s, const char *code, cpd_gxt_kind kind, cpd_gx_test **out, size_t *n)
+{
+    *out = NULL;
+    *n = 0;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT " GX_COLS " FROM gx_test t JOIN athlete a ON a.id = t.athlete_id "
+                            "WHERE (?1 IS NULL OR a.code = ?1) AND t.kind = ?2 ORDER BY a.code, t.date, t.id",
+                            &st);
+    if (rc)
+        return rc;
+    cpd_st_bind_text(st, 1, code, 0);
+    sqlite3_bind_text(st, 2, kind_sql(kind), -1, SQLITE_STATIC);
+    size_t cap = 0;
+    cpd_gx_test *v = NULL;
+    int r;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+        if (*n == cap) {
+            cap = cap ? 2 * cap : 8;
+            cpd_gx_test *nv = realloc(v, cap * sizeof *v);
+            if (!nv) {
+                rc = CPD_ENOMEM;
+                goto done;
+            }
+            v = nv;
+        }
+        read_test(st, &v[(*n)++]);
+    }
+    if (r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing tests");
+done:
+    sqlite3_finalize(st);
+    if (rc) {
+        free(v);
+        *n = 0;
+        return rc;
+    }
+    *out = v;
+    return CPD_OK;
+}
+
+int cpd_store_gx_set_manual(cpd_store *s, int64_t id, int which, int has, double vo2_ml_min)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            which ? "UPDATE gx_test SET rcp_vo2_manual = ?2 WHERE id = ?1 AND kind = 'ramp'"
+                                  : "UPDATE gx_test SET get_vo2_manual = ?2 WHERE id = ?1 AND kind = 'ramp'",
+                            &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    bind_opt(st, 2, has, vo2_ml_min);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "updating a ramp");
+    else if (sqlite3_changes(s->db) == 0)
+        rc = cpd_st_err(s, CPD_ENOENT, "no ramp with id %lld", (long long)id);
+    sqlite3_finalize(st);
+    return rc;
+}
+
+int cpd_store_gx_remove(cpd_store *s, int64_t id, cpd_gxt_kind kind)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "DELETE FROM gx_test WHERE id = ?1 AND kind = ?2", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, kind_sql(kind), -1, SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "removing a test");
+    else if (sqlite3_changes(s->db) == 0)
+        rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", kind_sql(kind), (long long)id);
+    sqlite3_finalize(st);
+    return rc;
+}
+
+/* ---- lactate ---- */
+
+int cpd_store_lactate_add(cpd_store *s, const cpd_lactate_test *t, int64_t *id)
+{
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, t->athlete, &aid);
+    if (rc)
+        return rc;
+    if ((rc = cpd_st_savepoint(s)))
+        return rc;
+    sqlite3_stmt *st = NULL;
+    rc = cpd_st_prepare(s,
+                        "INSERT INTO lactate_test (athlete_id, date, modality, note, source_file, imported_at) VALUES "
+                        "(?1, ?2, ?3, ?4, ?5, COALESCE(?6, strftime('%Y-%m-%dT%H:%M:%SZ', 'now')))",
+                        &st);
+    if (rc)
+        goto done;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, t->date, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(st, 3, t->speed ? "speed" : "power", -1, SQLITE_STATIC);
+    sqlite3_bind_text(st, 4, t->note, -1, SQLITE_TRANSIENT);
+    cpd_st_bind_text(st, 5, t->source_file, 1);
+    cpd_st_bind_text(st, 6, t->imported_at, 1);
+    if (sqlite3_step(st) != SQLITE_DONE) {
+        rc = cpd_st_fail(s, "storing a lactate test");
+        goto done;
+    }
+    *id = sqlite3_last_insert_rowid(s->db);
+    sqlite3_finalize(st);
+    st = NULL;
+    if ((rc = cpd_st_prepare(s,
+                             "INSERT INTO lactate_stage (test_id, stage, intensity, lactate_mmol_l, hr_bpm, stage_s) "
+                             "VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+                             &st)))
+        goto done;
+    for (size_t i = 0; i < t->n; i++) {
+        sqlite3_reset(st);
+        sqlite3_bind_int64(st, 1, *id);
+        sqlite3_bind_int64(st, 2, (sqlite3_int64)(i + 1));
+        sqlite3_bind_double(st, 3, t->intensity[i]);
+        sqlite3_bind_double(st, 4, t->lactate[i]);
+        bind_opt(st, 5, t->has_hr, t->hr[i]);
+        bind_opt(st, 6, t->has_stage_s, t->stage_s[i]);
+        if (sqlite3_step(st) != SQLITE_DONE) {
+            rc = cpd_st_fail(s, "storing a lactate stage");
+            goto done;
+        }
+    }
+done:
+    sqlite3_finalize(st);
+    return cpd_st_release(s, rc);
+}
+
+static int load_stages(cpd_store *s, cpd_lactate_test *t)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT intensity, lactate_mmol_l, hr_bpm, stage_s FROM lactate_stage WHERE test_id = ?1 "
+                            "ORDER BY stage",
+                            &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, t->id);
+    t->n = 0;
+    t->has_hr = t->has_stage_s = 1;
+    int r;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW && t->n < CPD_LACTATE_STAGES_MAX) {
+        int h = 0, g = 0;
+        t->intensity[t->n] = sqlite3_column_double(st, 0);
+        t->lactate[t->n] = sqlite3_column_double(st, 1);
+        t->hr[t->n] = opt(st, 2, &h);
+        t->stage_s[t->n] = opt(st, 3, &g);
+        t->has_hr &= h;
+        t->has_stage_s &= g;
+        t->n++;
+    }
+    if (r != SQLITE_DONE && r != SQLITE_ROW)
+        rc = cpd_st_fail(s, "reading lactate stages");
+    if (t->n == 0)
+        t->has_hr = t->has_stage_s = 0;
+    sqlite3_finalize(st);
+    return rc;
+}
+
+#define LAC_COLS "t.id, a.code, t.date, t.modality, t.note, t.source_file, t.imported_at"
+
+static void read_lactate(sqlite3_stmt *st, cpd_lactate_test *t)
+{
+    memset(t, 0, sizeof *t);
+    t->id = sqlite3_column_int64(st, 0);
+    cpd_st_text(st, 1, t->athlete, sizeof t->athlete);
+    cpd_st_text(st, 2, t->date, sizeof t->date);
+    const unsigned char *m = sqlite3_column_text(st, 3);
+    t->speed = m && strcmp((const char *)m, "speed") == 0;
+    cpd_st_text(st, 4, t->note, sizeof t->note);
+    cpd_st_text(st, 5, t->source_file, sizeof t->source_file);
+    cpd_st_text(st, 6, t->imported_at, sizeof t->imported_at);
+}
+
+int cpd_store_lactate_get(cpd_store *s, int64_t id, cpd_lactate_test *t)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT " LAC_COLS " FROM lactate_test t JOIN athlete a ON a.id = t.athlete_id WHERE t.id = ?1", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    int r = sqlite3_step(st);
+    if (r == SQLITE_ROW)
+        read_lactate(st, t);
+    else if (r == SQLITE_DONE)
+        rc = cpd_st_err(s, CPD_ENOENT, "no lactate test with id %lld", (long long)id);
+    else
+        rc = cpd_st_fail(s, "reading a lactate test");
+    sqlite3_finalize(st);
+    if (!rc)
+        rc = load_stages(s, t);
+    return rc;
+}
+
+int cpd_store_lactate_list(cpd_store *s, const char *code, cpd_lactate_test **out, size_t *n)
+{
+    *out = NULL;
+    *n = 0;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT " LAC_COLS " FROM lactate_test t JOIN athlete a ON a.id = t.athlete_id "
+                            "WHERE ?1 IS NULL OR a.code = ?1 ORDER BY a.code, t.date, t.id",
+                            &st);
+    if (rc)
+        return rc;
+    cpd_st_bind_text(st, 1, code, 0);
+    size_t cap = 0;
+    cpd_lactate_test *v = NULL;
+    int r;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+        if (*n == cap) {
+            cap = cap ? 2 * cap : 4;
+            cpd_lactate_test *nv = realloc(v, cap * sizeof *v);
+            if (!nv) {
+                rc = CPD_ENOMEM;
+                goto done;
+            }
+            v = nv;
+        }
+        read_lactate(st, &v[(*n)++]);
+    }
+    if (r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing lactate tests");
+    sqlite3_finalize(st);
+    st = NULL;
+    for (size_t i = 0; !rc && i < *n; i++)
+        rc = load_stages(s, &v[i]);
+done:
+    sqlite3_finalize(st);
+    if (rc) {
+        free(v);
+        *n = 0;
+        return rc;
+    }
+    *out = v;
+    return CPD_OK;
+}
