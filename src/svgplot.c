@@ -37,6 +37,12 @@ static const char *const dash_array[CPD_SVGPLOT_NDASH] = {NULL, "6 4", "1 3", "8
 
 enum { L_LINE, L_POINTS, L_BAND, L_STEP, L_HREGION, L_VLINE, L_HLINE };
 
+/* Series carry data and legend entries; the other kinds are annotations. */
+static int is_series(int kind)
+{
+    return kind == L_LINE || kind == L_POINTS || kind == L_BAND || kind == L_STEP;
+}
+
 typedef struct {
     int kind;
     cpd_svgplot_style st;
@@ -299,10 +305,8 @@ int cpd_svgplot_ticks(double lo, double hi, size_t max_ticks, double *out, size_
         }
     }
     size_t cnt = (size_t)(k1 - k0 + 1);
-    for (size_t i = 0; i < cnt; i++) {
-        double v = scaled(k0 + (double)i, m, e);
-        out[i] = v == 0 ? 0.0 : v; /* no -0 */
-    }
+    for (size_t i = 0; i < cnt; i++)
+        out[i] = scaled(k0 + (double)i, m, e);
     *n = cnt;
     *step = d;
     return CPD_OK;
@@ -563,7 +567,7 @@ static int add_layer(cpd_svgplot *p, int kind, const cpd_svgplot_style *st, cons
     if (!p)
         return CPD_EUSAGE;
     cpd_svgplot_style s;
-    int series = kind == L_LINE || kind == L_POINTS || kind == L_BAND || kind == L_STEP;
+    int series = is_series(kind);
     if (st)
         s = *st;
     else
@@ -578,25 +582,27 @@ static int add_layer(cpd_svgplot *p, int kind, const cpd_svgplot_style *st, cons
         p->layer = l;
         p->cap = cap;
     }
+    int rc = CPD_OK;
     layer L;
     memset(&L, 0, sizeof L);
     L.kind = kind;
     L.st = s;
     L.n = n;
-    if (n > 0 && narr > 0) {
-        L.mem = malloc(n * narr * sizeof(double));
-        if (!L.mem)
-            return CPD_ENOMEM;
+    if (n > 0 && narr > 0 && !(L.mem = malloc(n * narr * sizeof(double)))) {
+        rc = CPD_ENOMEM;
+        goto done;
     }
-    if (set_text(&L.label, label) != CPD_OK) {
-        free(L.mem);
-        return CPD_ENOMEM;
-    }
+    rc = set_text(&L.label, label);
+    if (rc)
+        goto done;
     p->layer[p->nlayer] = L;
     *out = &p->layer[p->nlayer++];
     if (series)
         p->nseries++;
-    return CPD_OK;
+done:
+    if (rc)
+        free(L.mem);
+    return rc;
 }
 
 /* Copies src (n values) into the next free slice of the layer's block, or leaves *dst NULL. */
@@ -640,7 +646,7 @@ int cpd_svgplot_step(cpd_svgplot *p, const double *x, const double *y, size_t n,
 int cpd_svgplot_points(cpd_svgplot *p, const double *x, const double *y, size_t n, const cpd_svgplot_errors *err,
                        const cpd_svgplot_style *st, const char *label)
 {
-    if (!p || (n > 0 && (!x || !y)))
+    if (!p || (n > 0 && (!x || !y)) || n > NMAX)
         return CPD_EUSAGE;
     const double *e[4] = {NULL, NULL, NULL, NULL};
     if (err) {
@@ -1087,11 +1093,6 @@ static void fit_ticks(const cpd_svgplot *p, int id, axis *a)
 }
 
 /* ---- rendering: layout ----------------------------------------------------------------------- */
-
-static int is_series(int kind)
-{
-    return kind == L_LINE || kind == L_POINTS || kind == L_BAND || kind == L_STEP;
-}
 
 #define LEG_SAMPLE 22.0 /* width of a legend sample, px */
 #define LEG_ROW 16.0    /* legend row height, px */

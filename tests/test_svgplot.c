@@ -958,6 +958,8 @@ static void api_errors(void **state)
     assert_int_equal(cpd_svgplot_band(NULL, x, y, y, 2, NULL, NULL), CPD_EUSAGE);
     /* n is checked before anything is copied, so a huge n with short arrays is safe here */
     assert_int_equal(cpd_svgplot_line(p, x, y, (size_t)100000001, NULL, NULL), CPD_EUSAGE);
+    cpd_svgplot_errors huge = {x, NULL, NULL, NULL};
+    assert_int_equal(cpd_svgplot_points(p, x, y, (size_t)100000001, &huge, NULL, NULL), CPD_EUSAGE);
 
     const double neg[2] = {0.5, -0.01}, nan2[2] = {NAN, 0.2};
     cpd_svgplot_errors e = {neg, NULL, NULL, NULL};
