@@ -19,8 +19,8 @@
 #define LAB_MAX 32      /* one tick label */
 
 /* Text sizes (px) and the average advance of a sans-serif glyph (em), used to estimate text widths
- * because the renderer's font is unknown; 0.62 em fits DejaVu Sans digits, the widest common
- * default (common practice, measured from memory). */
+ * because the renderer's font is unknown; 0.62 em lies between Liberation Sans digits (0.56 em) and
+ * DejaVu Sans digits (0.64 em), the common defaults (from memory). */
 #define FS_TITLE 14.0
 #define FS_LABEL 12.0
 #define FS_TICK 11.0
@@ -1660,7 +1660,7 @@ static void draw_legend(ctx *c)
 {
     if (!c->nleg)
         return;
-    sb_puts(&c->sb, "<g class=\"legend\">\n");
+    sb_puts(&c->sb, "<g class=\"cpd-legend\">\n");
     for (size_t i = 0; i < c->nleg; i++) {
         const layer *L = &c->p->layer[c->leg[i].layer];
         const cpd_svgplot_style *st = &L->st;
@@ -1709,7 +1709,7 @@ static void draw_axes(ctx *c)
     sbuf *b = &c->sb;
     double L = c->left, R = c->left + c->w, T = c->top, B = c->top + c->h;
     /* frame */
-    sb_puts(b, "<rect class=\"plot-area\" x=\"");
+    sb_puts(b, "<rect class=\"cpd-plot-area\" x=\"");
     sb_num(b, L);
     sb_puts(b, "\" y=\"");
     sb_num(b, T);
@@ -1834,7 +1834,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
         c.top = top;
         c.w = W - 32;
         c.h = H - top - 16;
-        sb_puts(&c.sb, "<rect class=\"plot-area\" x=\"16\" y=\"");
+        sb_puts(&c.sb, "<rect class=\"cpd-plot-area\" x=\"16\" y=\"");
         sb_num(&c.sb, top);
         sb_printf(&c.sb, "\" width=\"%d\" height=\"", p->width_px - 32);
         sb_num(&c.sb, c.h);
@@ -1864,7 +1864,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
     layout(&c);
 
     draw_grid(&c);
-    sb_puts(&c.sb, "<g class=\"data\">\n");
+    sb_puts(&c.sb, "<g class=\"cpd-data\">\n");
     for (size_t k = 0; k < p->nlayer && !c.oom; k++) {
         const layer *L = &p->layer[k];
         switch (L->kind) {

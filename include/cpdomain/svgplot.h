@@ -8,11 +8,12 @@
 
 typedef struct cpd_svgplot cpd_svgplot;
 
-/* Palette (our own; see cpd_svgplot_color_hex). The first six are line colours: each has at least
- * 3:1 contrast against white (W3C 2018, WCAG 2.1 SC 1.4.11 non-text contrast) and distinct
- * lightness, so they survive greyscale printing; any two of the eight stay at least 15 CIELAB units
- * apart under simulated protanopia, deuteranopia and tritanopia (Machado, Oliveira & Fernandes 2009,
- * IEEE Trans Vis Comput Graph 15:1291, severity 1). SKY and YELLOW are light: meant for fills.
+/* Palette (our own; see cpd_svgplot_color_hex). The first six are line colours, each with at least
+ * 3:1 contrast against white (W3C 2018, WCAG 2.1 SC 1.4.11 non-text contrast), so they print well;
+ * any two of the eight stay at least 15 CIELAB units apart for normal vision and under simulated
+ * protanopia, deuteranopia and tritanopia (Machado, Oliveira & Fernandes 2009, IEEE Trans Vis Comput
+ * Graph 15:1291, severity 1). Some pairs share a lightness (BLUE/RED, ORANGE/GREEN): in greyscale,
+ * tell series apart by dash and marker. SKY and YELLOW are light: meant for fills.
  * Suggested intensity-domain bands: moderate SKY, heavy YELLOW, severe ORANGE, extreme RED. */
 enum {
     CPD_SVGPLOT_BLUE,   /* #1b5e9e */
@@ -53,7 +54,8 @@ enum {
     CPD_SVGPLOT_NFORMAT
 };
 
-/* How a layer is drawn. Fill it with cpd_svgplot_style_init, then change what you need. */
+/* How a layer is drawn. Fill it with cpd_svgplot_style_init, then change what you need (a zeroed
+ * struct is rejected: y_axis 0 is the x axis). */
 typedef struct {
     int color;           /* palette index, CPD_SVGPLOT_BLUE .. CPD_SVGPLOT_YELLOW */
     double stroke_px;    /* line, marker outline and error-bar width, px, 0..20 */
@@ -148,12 +150,11 @@ int cpd_svgplot_hregion(cpd_svgplot *p, double y0, double y1, const cpd_svgplot_
 int cpd_svgplot_vline(cpd_svgplot *p, double x, const cpd_svgplot_style *st, const char *label);
 int cpd_svgplot_hline(cpd_svgplot *p, double y, const cpd_svgplot_style *st, const char *label);
 
-/* Renders the plot as one complete <svg> element (xmlns, width, height, viewBox, role="img", a
- * <title> first) into a new NUL-terminated string *out of *len bytes (len may be NULL). Ticks are
- * nice numbers (cpd_svgplot_ticks) thinned until their labels do not touch; coordinates have two
- * decimals at most; data are clipped to the plot area. A plot without any finite series point says
- * "no data". Returns CPD_OK, CPD_EUSAGE for NULL arguments, CPD_ENOMEM (then *out is NULL).
- * The caller frees *out with free(). */
+/* Renders the plot as one standalone <svg> (xmlns, width, height, viewBox, role="img", <title> first;
+ * no ids or CSS, so many fit in one HTML page) into a new string *out of *len bytes (len may be NULL).
+ * Nice ticks thinned until labels do not touch; two decimals at most; data clipped to the plot area;
+ * legend rows above it (dropped below a 60 px area); "no data" without any finite series point.
+ * Returns CPD_OK, CPD_EUSAGE for NULL arguments, CPD_ENOMEM (*out NULL). The caller frees *out. */
 int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len);
 
 /* Nice tick values covering [lo, hi]: a step of 1, 2 or 5 x 10^k chosen as in Heckbert 1990

@@ -21,11 +21,11 @@ def main(path):
     kids = list(root)
     out["title_first"] = 1 if kids and kids[0].tag == NS + "title" and (kids[0].text or "") != "" else 0
 
-    area = [e for e in root.iter(NS + "rect") if e.get("class") == "plot-area"]
+    area = [e for e in root.iter(NS + "rect") if e.get("class") == "cpd-plot-area"]
     for k in ("x", "y", "width", "height"):
         out["area_" + k] = float(area[0].get(k)) if len(area) == 1 else None
 
-    data = [g for g in root.iter(NS + "g") if g.get("class") == "data"]
+    data = [g for g in root.iter(NS + "g") if g.get("class") == "cpd-data"]
     circles, rects, paths = [], [], []
     for g in data:
         circles += list(g.iter(NS + "circle"))
@@ -55,7 +55,7 @@ def main(path):
         out[name + "_max"] = max(vals) if vals else None
 
     out["n_text"] = len(list(root.iter(NS + "text")))
-    legend = [g for g in root.iter(NS + "g") if g.get("class") == "legend"]
+    legend = [g for g in root.iter(NS + "g") if g.get("class") == "cpd-legend"]
     out["n_legend_text"] = sum(len(list(g.iter(NS + "text"))) for g in legend)
     bad = 0
     for e in root.iter():
