@@ -104,3 +104,13 @@ json_is 'd["power_w"]' None "impossible: power_w null"
 err_has "reachable only by passing through task failure" "impossible request explained"
 expect 64 "solve without ?" solve X1 --protocol "10min@300W" --finish 5
 expect 64 "finish out of range" solve X1 --protocol "10min@?" --finish 120
+
+# Regression: two exact trials started the hyperbolic fit at its own solution, and GSL's driver
+# answered "no progress on the first iteration" (EMAXITER with info ENOPROG), once reported as a
+# failed fit. The demo's C03 (360 W for 184 s, 275 W for 800 s) showed it.
+expect 0 "athlete with two trials" athlete add X3 --name "Two Exact"
+expect 0 "trial 1" trial add X3 --date 2026-10-13 --power 360 --duration 184
+expect 0 "trial 2" trial add X3 --date 2026-10-20 --power 275 --duration 800
+expect 0 "fit" --json fit X3
+json_is 'd["best"], d["models"][0]["ok"], round(d["models"][0]["cp"], 6), round(d["models"][0]["w_prime"], 4)' \
+  "('hyperbolic', True, 249.61039, 20311.6883)" "two exact trials: the hyperbolic fit succeeds (CP = 153760/616 W)"
