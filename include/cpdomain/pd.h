@@ -49,7 +49,7 @@ typedef enum {
     CPD_PD_FAIL_NOT_REQUESTED,    /* not in the caller's model mask */
     CPD_PD_FAIL_TOO_FEW_TRIALS,   /* 2-parameter models need 2 trials, the three-parameter model 4 */
     CPD_PD_FAIL_SINGULAR,         /* all intensities equal, or all durations equal */
-    CPD_PD_FAIL_NO_CONVERGENCE,   /* the iteration did not converge (optimum at the domain's edge) */
+    CPD_PD_FAIL_NO_CONVERGENCE,   /* the iteration did not converge */
     CPD_PD_FAIL_P_MAX_DEGENERATE, /* three-parameter: Pmax runs to infinity (or below CP) */
     CPD_PD_FAIL_DIVERGED,         /* the optimum is at CP -> -infinity: durations do not fall with intensity */
     CPD_PD_NFAILS
