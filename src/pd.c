@@ -18,6 +18,7 @@ struct cpd_pd_ws {
     double y[CPD_PD_NMAX];     /* linear response */
     double sx[CPD_PD_NMAX];    /* leave-one-out subset: intensities */
     double st[CPD_PD_NMAX];    /* leave-one-out subset: durations */
+    int oom;                   /* the engine ran out of memory during this fit */
 };
 
 /* The estimate of one model on one set of trials, before the reporting around it. The
@@ -239,6 +240,8 @@ static void solve_nl(cpd_pd_ws *w, const double *x, const double *t, size_t n, s
     } else if (rc) {
         c->fail = CPD_PD_FAIL_NO_CONVERGENCE;
         c->engine_status = rc;
+        if (rc == CPD_ENOMEM)
+            w->oom = 1;
     } else if (diverged(x, n, r.b[0])) {
         c->fail = CPD_PD_FAIL_DIVERGED;
     } else if (k == 3 && !(r.b[2] > A_ZERO_FRAC * thi)) {
@@ -711,6 +714,7 @@ int cpd_pd_fit(cpd_pd_ws *w, cpd_pd_modality modality, const double *intensity, 
     res->n = n;
     res->has_best = 0;
     res->best = CPD_PD_HYPERBOLIC;
+    w->oom = 0;
     core cores[CPD_PD_NMODELS];
     unsigned mask = opts->models;
     for (size_t m = 0; m < CPD_PD_NMODELS; m++) {
@@ -752,6 +756,11 @@ int cpd_pd_fit(cpd_pd_ws *w, cpd_pd_modality modality, const double *intensity, 
         if (msg)
             snprintf(msg, CPD_MSG_MAX, "at least 2 trials are needed to fit the power-duration models (got %zu)", n);
         return CPD_ENODATA;
+    }
+    if (w->oom) {
+        if (msg)
+            snprintf(msg, CPD_MSG_MAX, "out of memory in the nonlinear fit");
+        return CPD_ENOMEM;
     }
     return CPD_OK;
 }
@@ -920,8 +929,8 @@ const char *cpd_pd_pred_text(cpd_pd_pred_status s)
     return (unsigned)s < CPD_PD_NPREDS ? text[s] : "unknown";
 }
 
-/* The parameters of m as (cp, w, a) and a gradient helper. The covariance is stored in
- * (cp, w_prime, p_max); a gradient g in (cp, w, a) maps to (cp, w_prime, p_max) through
+/* Delta-method variance of a prediction from its gradient g in (cp, w, a). The covariance is
+ * stored in (cp, w_prime, p_max), so g first maps there through a = w/(pmax - cp):
  * da/dcp = a^2/w, da/dw = a/w, da/dpmax = -a^2/w. */
 static double grad_var(const cpd_pd_model_fit *m, const double g[3])
 {
