@@ -19,7 +19,9 @@
 typedef struct {
     gsl_multifit_nlinear_workspace *gw; /* sized n x p */
     size_t n, p;                        /* 0 when the slot is empty */
-    gsl_matrix *covar;                  /* p x p */
+    gsl_matrix *qr;                     /* n x p: QR of J for the covariance */
+    gsl_vector *tau, *norm;             /* p each, QRPT scratch */
+    gsl_permutation *perm;              /* p */
     double *jbuf;                       /* n * p row-major Jacobian scratch */
     double *fbuf;                       /* n residuals, for GSL vectors that are not contiguous */
     unsigned long used;                 /* clock value at last use, for least-recently-used eviction */
@@ -119,7 +121,10 @@ cpd_nlfit_ws *cpd_nlfit_alloc(void)
 static void release(slot *sl)
 {
     gsl_multifit_nlinear_free(sl->gw);
-    gsl_matrix_free(sl->covar);
+    gsl_matrix_free(sl->qr);
+    gsl_vector_free(sl->tau);
+    gsl_vector_free(sl->norm);
+    gsl_permutation_free(sl->perm);
     free(sl->jbuf);
     free(sl->fbuf);
     memset(sl, 0, sizeof *sl);
@@ -156,10 +161,14 @@ static int ensure(cpd_nlfit_ws *w, size_t n, size_t p)
     par.scale = gsl_multifit_nlinear_scale_levenberg;
     par.solver = gsl_multifit_nlinear_solver_qr;
     victim->gw = gsl_multifit_nlinear_alloc(gsl_multifit_nlinear_trust, &par, n, p);
-    victim->covar = gsl_matrix_alloc(p, p);
+    victim->qr = gsl_matrix_alloc(n, p);
+    victim->tau = gsl_vector_alloc(p);
+    victim->norm = gsl_vector_alloc(p);
+    victim->perm = gsl_permutation_alloc(p);
     victim->jbuf = malloc(n * p * sizeof(double));
     victim->fbuf = malloc(n * sizeof(double));
-    if (!victim->gw || !victim->covar || !victim->jbuf || !victim->fbuf) {
+    if (!victim->gw || !victim->qr || !victim->tau || !victim->norm || !victim->perm || !victim->jbuf ||
+        !victim->fbuf) {
         release(victim);
         return CPD_ENOMEM;
     }
@@ -168,6 +177,38 @@ static int ensure(cpd_nlfit_ws *w, size_t n, size_t p)
     victim->used = ++w->clock;
     w->cur = victim;
     return CPD_OK;
+}
+
+/* (J'J)^-1 = P R^-1 R^-T P' from the pivoted QR J P = Q R, the method of
+ * gsl_multifit_nlinear_covar, on the slot's scratch (that function allocates on every call).
+ * cov is p x p row-major. Returns 0, or -1 when J is rank deficient (a zero pivot). */
+static int unscaled_covar(slot *sl, const gsl_matrix *J, size_t p, double *cov)
+{
+    int signum;
+    gsl_matrix_memcpy(sl->qr, J);
+    if (gsl_linalg_QRPT_decomp(sl->qr, sl->tau, sl->perm, &signum, sl->norm) != GSL_SUCCESS)
+        return -1;
+    double Ri[CPD_NLFIT_PMAX * CPD_NLFIT_PMAX] = {0}; /* R^-1, upper triangular */
+    for (size_t k = p; k-- > 0;) {
+        double rkk = gsl_matrix_get(sl->qr, k, k);
+        if (!(fabs(rkk) > 0) || !isfinite(rkk))
+            return -1;
+        Ri[k * p + k] = 1 / rkk;
+        for (size_t j = k + 1; j < p; j++) {
+            double sum = 0;
+            for (size_t l = k + 1; l <= j; l++)
+                sum += gsl_matrix_get(sl->qr, k, l) * Ri[l * p + j];
+            Ri[k * p + j] = -sum / rkk;
+        }
+    }
+    for (size_t i = 0; i < p; i++)
+        for (size_t j = 0; j < p; j++) {
+            double sum = 0;
+            for (size_t l = i > j ? i : j; l < p; l++)
+                sum += Ri[i * p + l] * Ri[j * p + l];
+            cov[gsl_permutation_get(sl->perm, i) * p + gsl_permutation_get(sl->perm, j)] = sum;
+        }
+    return 0;
 }
 
 int cpd_nlfit_solve(cpd_nlfit_ws *w, const cpd_nlfit_problem *pr, const double *b0,
@@ -253,19 +294,15 @@ int cpd_nlfit_solve(cpd_nlfit_ws *w, const cpd_nlfit_problem *pr, const double *
         if (!isfinite(res->b[j]))
             return CPD_ENOCONV;
 
-    const gsl_matrix *J = gsl_multifit_nlinear_jac(w->cur->gw);
-    gsl_matrix_view cv = gsl_matrix_submatrix(w->cur->covar, 0, 0, pr->p, pr->p);
-    if (res->dof > 0 && gsl_multifit_nlinear_covar(J, 0.0, &cv.matrix) == GSL_SUCCESS) {
+    if (res->dof > 0 && unscaled_covar(w->cur, gsl_multifit_nlinear_jac(w->cur->gw), pr->p, res->cov) == 0) {
         double s2 = rss / (double)res->dof;
         res->s = sqrt(s2);
         res->has_se = 1;
-        for (size_t i = 0; i < pr->p; i++)
-            for (size_t j = 0; j < pr->p; j++) {
-                double c = gsl_matrix_get(&cv.matrix, i, j) * s2;
-                if (!isfinite(c))
-                    res->has_se = 0;
-                res->cov[i * pr->p + j] = c;
-            }
+        for (size_t k = 0; k < pr->p * pr->p; k++) {
+            res->cov[k] *= s2;
+            if (!isfinite(res->cov[k]))
+                res->has_se = 0;
+        }
         for (size_t j = 0; j < pr->p && res->has_se; j++) {
             double d = res->cov[j * pr->p + j];
             if (!(d >= 0))
@@ -273,10 +310,6 @@ int cpd_nlfit_solve(cpd_nlfit_ws *w, const cpd_nlfit_problem *pr, const double *
             else
                 res->se[j] = sqrt(d);
         }
-        /* a dependent column gets zero variance from GSL: that is not a precise estimate */
-        for (size_t j = 0; j < pr->p && res->has_se; j++)
-            if (res->se[j] == 0.0 && rss > 0)
-                res->has_se = 0;
         if (!res->has_se) {
             memset(res->se, 0, sizeof res->se);
             memset(res->cov, 0, sizeof res->cov);

@@ -245,7 +245,9 @@ static void loo_by_hand(void **state)
 }
 
 /* Five trials from the three-parameter generator: each 3-p refit uses 4 trials, and its change
- * must equal a direct fit of the four trials. */
+ * must equal a direct fit of the four trials. The refit starts from the all-trials answer and
+ * stops at a relative change of 1e-10, the direct fit starts cold and stops at 1e-14: they agree to
+ * a few 1e-10, so 1e-8 leaves room. */
 static void loo_three_parameter_matches_direct_refits(void **state)
 {
     (void)state;
@@ -256,6 +258,7 @@ static void loo_three_parameter_matches_direct_refits(void **state)
     cpd_pd_model_fit all = res.models[CPD_PD_THREE_PARAMETER];
     assert_int_equal(all.ok, 1);
     assert_int_equal(all.has_loo, 1);
+    int valid = 0;
     for (size_t i = 0; i < 5; i++) {
         double sx[4], st[4];
         size_t j = 0;
@@ -269,10 +272,12 @@ static void loo_three_parameter_matches_direct_refits(void **state)
         const cpd_pd_model_fit *f = &res.models[CPD_PD_THREE_PARAMETER];
         assert_int_equal(all.loo_valid[i], f->ok);
         if (f->ok) {
-            assert_true(close_rel(all.cp + all.loo_d_cp[i], f->cp, 1e-12));
-            assert_true(close_rel(all.w_prime + all.loo_d_w_prime[i], f->w_prime, 1e-12));
+            assert_true(close_rel(all.cp + all.loo_d_cp[i], f->cp, 1e-8));
+            assert_true(close_rel(all.w_prime + all.loo_d_w_prime[i], f->w_prime, 1e-8));
+            valid++;
         }
     }
+    assert_true(valid >= 4);
 }
 
 /* ---- statistics by hand -------------------------------------------------------------------- */

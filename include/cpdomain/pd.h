@@ -49,7 +49,7 @@ typedef enum {
     CPD_PD_FAIL_NOT_REQUESTED,    /* not in the caller's model mask */
     CPD_PD_FAIL_TOO_FEW_TRIALS,   /* 2-parameter models need 2 trials, the three-parameter model 4 */
     CPD_PD_FAIL_SINGULAR,         /* all intensities equal, or all durations equal */
-    CPD_PD_FAIL_NO_CONVERGENCE,   /* the iteration did not converge (optimum at the domain's edge) */
+    CPD_PD_FAIL_NO_CONVERGENCE,   /* the iteration did not converge */
     CPD_PD_FAIL_P_MAX_DEGENERATE, /* three-parameter: Pmax runs to infinity (or below CP) */
     CPD_PD_FAIL_DIVERGED,         /* the optimum is at CP -> -infinity: durations do not fall with intensity */
     CPD_PD_NFAILS
@@ -149,11 +149,12 @@ void cpd_pd_free(cpd_pd_ws *w);
 
 /* Fits the models in opts (NULL: defaults) to n trials: intensity[i] (W or m/s) held to
  * exhaustion for duration_s[i]. Nonlinear fits converge to a relative change of about 1e-14
- * (nlfit) from starts given by the linear fits; the three-parameter fit starts from the hyperbolic
- * answer. Returns CPD_OK whenever the input is valid, even when models fail (each says why);
- * CPD_EUSAGE for NULL pointers, a bad modality or mask, n > CPD_PD_NMAX; CPD_EDATA for an
- * intensity or duration that is not a positive finite number; CPD_ENODATA for n < 2; CPD_ENOMEM.
- * On an error msg (CPD_MSG_MAX bytes, may be NULL) receives a sentence naming the trial. */
+ * (nlfit's defaults; leave-one-out refits to 1e-10) from starts given by the linear fits; the
+ * three-parameter fit starts from the hyperbolic answer. Returns CPD_OK whenever the input is
+ * valid, even when models fail (each says why); CPD_ENODATA for n < 2 (res then says so: every
+ * model TOO_FEW_TRIALS, NO_VALID_MODEL); CPD_EUSAGE for NULL pointers, a bad modality or mask,
+ * n > CPD_PD_NMAX; CPD_EDATA for an intensity or duration that is not a positive finite number;
+ * CPD_ENOMEM when the engine's scratch for a new trial count cannot be had. On an error msg (CPD_MSG_MAX bytes, may be NULL) receives a sentence naming the trial. */
 int cpd_pd_fit(cpd_pd_ws *w, cpd_pd_modality modality, const double *intensity, const double *duration_s,
                size_t n, const cpd_pd_opts *opts, cpd_pd_result *res, char *msg);
 
@@ -208,7 +209,8 @@ const char *cpd_pd_pred_text(cpd_pd_pred_status s);
 /* Time to task failure at a constant intensity (W or m/s): t = W′/(P − CP), three-parameter
  * t = W′/(P − CP) − W′/(Pmax − CP). The 95 % interval propagates the covariance by the delta method
  * on ln t (so it stays positive and is skewed like t), t quantile with the fit's dof. Returns
- * CPD_OK (also at or below CP: status NOT_W_PRIME_LIMITED, valid 0), CPD_EUSAGE for a NULL
+ * CPD_OK (also at or below CP, within 1e-9 of CP counting as at: status NOT_W_PRIME_LIMITED,
+ * valid 0; and at or above a 3-p Pmax: status ABOVE_P_MAX), CPD_EUSAGE for a NULL
  * pointer or an intensity that is not positive and finite, CPD_ENODATA when the model has no
  * valid result (status NO_FIT or INVALID_MODEL). */
 int cpd_pd_predict_time(const cpd_pd_model_fit *m, double intensity, cpd_pd_pred *out);
