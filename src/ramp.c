@@ -33,10 +33,12 @@
 #define OUTLIER_PASSES 3
 #define PLATEAU_WIN_S 90.0
 #define PLATEAU_FRAC 0.5
+#define MIN_RAMP_SLOPE 0.1 /* mL/min per s: below this VO2 does not follow a ramp */
 #define COLUMN_MISMATCH_FRAC 0.05
 
 struct pt {
-    double x, y, a, b, c, d; /* regressor, response and riders (VE/VCO2, PETO2, PETCO2) */
+    double x, y;             /* regressor, response */
+    double a, b, c, d, e;    /* riders: VE/VCO2, VE/VO2, PETO2 (mmHg), PETCO2 (mmHg), VE (L/min) */
     size_t i;                /* sample index: ties in x keep time order */
 };
 
@@ -102,7 +104,7 @@ void cpd_ramp_opts_init(cpd_ramp_opts *o)
     memset(o, 0, sizeof *o);
     o->modality = CPD_RAMP_POWER;
     o->outlier_k = 4.0;
-    o->outlier_half = 5;
+    o->outlier_half = 10;
     o->peak_window_s = 30.0;
     o->smooth_s = 20.0;
     o->bin_s = 10.0;
@@ -274,8 +276,9 @@ int cpd_ramp_twoseg_fit(const double *x, const double *y, size_t n, size_t min_s
     out->s1_se = f1.se[1];
     out->s2_se = f2.se[1];
     out->rss = f1.rss + f2.rss;
+    /* below 1e-9 of the slopes the SE is rounding: the segments are exact and z is undefined */
     double se = sqrt(f1.se[1] * f1.se[1] + f2.se[1] * f2.se[1]);
-    if (se > 0) {
+    if (se > 1e-9 * (fabs(out->s1) + fabs(out->s2))) {
         out->has_z = 1;
         out->z = (out->s2 - out->s1) / se;
     }
@@ -473,7 +476,7 @@ static int cmp_pt(const void *a, const void *b)
 
 /* Collects the clean samples with time in [t_lo, t_hi] as points, one per time bin of bin_s seconds
  * (one per sample when bin_s is 0): x = mean of channel cx, y = mean of cy, riders VE/VCO2, VE/VO2,
- * PETO2, PETCO2 from the bin means; sorted by x. Returns the count. Bin means cut the breath noise
+ * PETO2, PETCO2 and VE from the bin means; sorted by x. Returns the count. Bin means cut the breath noise
  * in x, which would otherwise flatten both OLS slopes (errors in variables) and smear the split. */
 static size_t collect(cpd_ramp_ws *w, double bin_s, int cx, int cy, double t_lo, double t_hi, int kind)
 {
@@ -507,6 +510,7 @@ static size_t collect(cpd_ramp_ws *w, double bin_s, int cx, int cy, double t_lo,
         p->b = ve ? 1000.0 * se / so : 0;
         p->c = sp / dk;
         p->d = sq / dk;
+        p->e = se / dk;
         p->i = first;
     }
     qsort(w->pts, m, sizeof *w->pts, cmp_pt);
@@ -515,8 +519,9 @@ static size_t collect(cpd_ramp_ws *w, double bin_s, int cx, int cy, double t_lo,
         w->py[kind][k] = w->pts[k].y;
         if (kind == CPD_RAMP_PTS_VSLOPE) {
             w->ra[k] = w->pts[k].a;
+            w->rb[k] = w->pts[k].b;
             w->px[CPD_RAMP_PTS_VEQ][k] = w->pts[k].x;
-            w->py[CPD_RAMP_PTS_VEQ][k] = w->pts[k].b;
+            w->py[CPD_RAMP_PTS_VEQ][k] = w->pts[k].e;
             w->rc[k] = w->pts[k].c;
             w->rd[k] = w->pts[k].d;
         }
@@ -591,6 +596,11 @@ static double tail_slope(const double *x, const double *v, size_t k0, size_t n)
     return f.b[1];
 }
 
+/* The ventilatory-equivalent GET: VE/VO2 starts to rise where VE on VO2 steepens beyond VE/VO2
+ * itself, so the breakpoint of VE on VO2 is taken (two segments as for the V-slope); the rise must
+ * be real (upper slope > VE/VO2 at the break) and isocapnic (VE/VCO2 rising at most a quarter as
+ * fast as VE/VO2 above the break). PETO2 and PETCO2, when present, are reported as support. A
+ * two-line fit of the ratio itself is biased low by its early hyperbolic fall. */
 static void find_veq(struct ctx *c, size_t n, size_t ms)
 {
     cpd_ramp_result *r = c->res;
@@ -606,34 +616,35 @@ static void find_veq(struct ctx *c, size_t n, size_t ms)
     const double *x = w->px[CPD_RAMP_PTS_VEQ];
     if (cpd_ramp_twoseg_fit(x, w->py[CPD_RAMP_PTS_VEQ], n, ms, &q->fit) != CPD_OK) {
         q->reason = CPD_RAMP_R_FIT_FAILED;
-        say(q->why, sizeof q->why, "no two-segment fit of VE/VO2 on VO2");
+        say(q->why, sizeof q->why, "no two-segment fit of VE on VO2");
         return;
     }
     w->pn[CPD_RAMP_PTS_VEQ] = n;
     w->pvalid[CPD_RAMP_PTS_VEQ] = 1;
     const cpd_ramp_twoseg *f = &q->fit;
-    if (!gate(f, &tmp, "VE/VO2")) {
+    if (!gate(f, &tmp, "VE on VO2")) {
         q->reason = tmp.reason;
         memcpy(q->why, tmp.why, sizeof q->why);
         return;
     }
-    if (!(f->s2 > 0) || !(f->s2 > f->s1)) {
+    if (!(f->s2 > f->y_cross / f->x_cross)) {
         q->reason = CPD_RAMP_R_SLOPES;
-        say(q->why, sizeof q->why, "VE/VO2 does not start to rise (slopes %.3g, %.3g per L/min)", 1000 * f->s1,
-            1000 * f->s2);
+        say(q->why, sizeof q->why, "VE/VO2 does not rise above the breakpoint (slope %.4g <= ratio %.4g)", f->s2,
+            f->y_cross / f->x_cross);
         return;
     }
     size_t k0 = f->split;
     double span = f->x_hi - f->x_cross;
+    q->veo2_slope = tail_slope(x, w->rb, k0, n);
     q->vevco2_slope = tail_slope(x, w->ra, k0, n);
     if (w->clean->ch[CPD_GX_PETO2])
         q->peto2_rises = tail_slope(x, w->rc, k0, n) * span > PET_CHANGE_MMHG;
     if (w->clean->ch[CPD_GX_PETCO2])
         q->petco2_steady = tail_slope(x, w->rd, k0, n) * span > -PET_CHANGE_MMHG;
-    if (q->vevco2_slope > ISOCAPNIC_FRAC * f->s2) {
+    if (q->vevco2_slope > ISOCAPNIC_FRAC * q->veo2_slope) {
         q->reason = CPD_RAMP_R_NOT_ISOCAPNIC;
         say(q->why, sizeof q->why, "VE/VCO2 rises with VE/VO2 (%.3g vs %.3g per L/min)", 1000 * q->vevco2_slope,
-            1000 * f->s2);
+            1000 * q->veo2_slope);
         return;
     }
     q->status = CPD_THR_FOUND;
@@ -734,83 +745,108 @@ static void baseline(struct ctx *c)
     }
 }
 
+/* Lagged-linear MRT from the line a + s t (cov: its covariance, row-major 2 x 2) and the baseline;
+ * 0 when no baseline. Fills the estimate fields or the reason. */
+static void mrt_from_line(struct ctx *c, double a, double s, const double *cov)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    r->has_mrt_est = 0;
+    r->mrt_est_s = r->mrt_est_se_s = 0;
+    if (!r->has_baseline) {
+        r->mrt_reason = CPD_RAMP_R_NO_BASELINE;
+        say(r->mrt_why, sizeof r->mrt_why, "no baseline: need %.0f s and %d samples before onset", BASE_MIN_S,
+            BASE_MIN_N);
+        return;
+    }
+    const cpd_gx_series *cs = c->w->clean;
+    double b = r->baseline_vo2_ml_min, ss = 0;
+    size_t m = 0;
+    for (size_t i = 0; i < cs->n && cs->t_s[i] < 0; i++)
+        if (cs->t_s[i] >= -BASE_WIN_S) {
+            double d = cs->ch[CPD_GX_VO2][i] - b;
+            ss += d * d;
+            m++;
+        }
+    double vb = ss / (double)(m - 1) / (double)m; /* variance of the baseline mean */
+    double d = b - a;
+    double mrt = d / s + 60.0 * (o->start - r->baseline_intensity) / o->rate_per_min;
+    /* delta method: dMRT/db = 1/s, dMRT/da = -1/s, dMRT/ds = -(b - a)/s^2 */
+    double var = (vb + cov[0]) / (s * s) + d * d / (s * s * s * s) * cov[3] + 2 * d / (s * s * s) * cov[1];
+    if (!(mrt >= 0 && mrt <= MRT_MAX_S)) {
+        r->mrt_reason = CPD_RAMP_R_IMPLAUSIBLE;
+        say(r->mrt_why, sizeof r->mrt_why, "lagged-linear MRT %.0f s outside 0..%.0f s", mrt, MRT_MAX_S);
+        return;
+    }
+    r->mrt_reason = CPD_RAMP_R_NONE;
+    r->mrt_why[0] = '\0';
+    r->has_mrt_est = 1;
+    r->mrt_est_s = mrt;
+    r->mrt_est_se_s = var > 0 ? sqrt(var) : 0;
+}
+
+/* VO2 on time over [t_lo, t_hi] below the GET: gain and, with a baseline, the MRT. Returns 1 when
+ * the line exists. */
+static int sub_get_line(struct ctx *c, double t_lo, double t_hi)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    cpd_linfit_result f;
+    size_t m = 0;
+    if (t_hi - t_lo < GAIN_MIN_SPAN_S) {
+        r->gain_reason = CPD_RAMP_R_FEW_POINTS;
+        say(r->gain_why, sizeof r->gain_why, "the GET at %.0f s leaves less than %.0f s of linear range", t_hi,
+            GAIN_MIN_SPAN_S);
+        return 0;
+    }
+    if (vo2_line(c->w, t_lo, t_hi, GAIN_MIN_N, &f, &m) != CPD_OK) {
+        r->gain_reason = m < GAIN_MIN_N ? CPD_RAMP_R_FEW_POINTS : CPD_RAMP_R_FIT_FAILED;
+        say(r->gain_why, sizeof r->gain_why, "%zu samples between %.0f and %.0f s", m, t_lo, t_hi);
+        return 0;
+    }
+    if (!(f.b[1] > MIN_RAMP_SLOPE)) {
+        r->gain_reason = CPD_RAMP_R_IMPLAUSIBLE;
+        say(r->gain_why, sizeof r->gain_why, "VO2 does not rise below the GET (%.3g mL/min per s)", f.b[1]);
+        return 0;
+    }
+    r->gain_status = CPD_THR_FOUND;
+    r->gain_reason = CPD_RAMP_R_NONE;
+    r->gain = 60.0 * f.b[1] / o->rate_per_min;
+    r->gain_se = 60.0 * f.se[1] / o->rate_per_min;
+    r->gain_t_lo_s = t_lo;
+    r->gain_t_hi_s = t_hi;
+    r->slope_ml_min_s = f.b[1];
+    r->gain_in_range = o->modality == CPD_RAMP_POWER ? r->gain >= GAIN_LO && r->gain <= GAIN_HI : -1;
+    mrt_from_line(c, f.b[0], f.b[1], f.cov);
+    return 1;
+}
+
 /* Gain and MRT by the lagged-linear model (Whipp et al. 1981 J Appl Physiol 50:217): above the
  * on-transient, VO2(t) = b + G (P(t - MRT) - P_base). With P(t) = start + rate t / 60 the data give
- * a line a + s t, so G = 60 s / rate and MRT = (b - a) / s + 60 (start - P_base) / rate. */
+ * a line a + s t, so G = 60 s / rate and MRT = (b - a) / s + 60 (start - P_base) / rate. The line
+ * starts at 120 s (60 s when the GET comes before 210 s). After a step at onset (larger than half a
+ * minute of ramp) the step's exponential may still be present there: when 4 MRT of the first
+ * estimate lies later and leaves 90 s below the GET, the line is fitted once more from 4 MRT. */
 static void gain_mrt(struct ctx *c)
 {
     cpd_ramp_result *r = c->res;
     const cpd_ramp_opts *o = c->o;
     r->gain_in_range = -1;
     const cpd_ramp_threshold *get = &r->get;
-    int gain_ok = 0;
-    double a = 0, s = 0, va = 0, vs = 0, cas = 0;
     if (get->status == CPD_THR_NOT_FOUND) {
         r->gain_reason = CPD_RAMP_R_NO_GET;
         say(r->gain_why, sizeof r->gain_why, "the gain is fitted below the GET, which is not available");
     } else {
         double t_hi = get->time_s;
         double t_lo = t_hi - GAIN_T_LO_S >= 90.0 ? GAIN_T_LO_S : EXCLUDE_FIRST_S;
-        cpd_linfit_result f;
-        size_t m = 0;
-        if (t_hi - t_lo < GAIN_MIN_SPAN_S) {
-            r->gain_reason = CPD_RAMP_R_FEW_POINTS;
-            say(r->gain_why, sizeof r->gain_why, "the GET at %.0f s leaves less than %.0f s of linear range", t_hi,
-                GAIN_MIN_SPAN_S);
-        } else if (vo2_line(c->w, t_lo, t_hi, GAIN_MIN_N, &f, &m) != CPD_OK) {
-            r->gain_reason = m < GAIN_MIN_N ? CPD_RAMP_R_FEW_POINTS : CPD_RAMP_R_FIT_FAILED;
-            say(r->gain_why, sizeof r->gain_why, "%zu samples between %.0f and %.0f s", m, t_lo, t_hi);
-        } else if (!(f.b[1] > 0)) {
-            r->gain_reason = CPD_RAMP_R_IMPLAUSIBLE;
-            say(r->gain_why, sizeof r->gain_why, "VO2 does not rise below the GET (%.3g mL/min per s)", f.b[1]);
-        } else {
-            gain_ok = 1;
-            a = f.b[0];
-            s = f.b[1];
-            va = f.cov[0];
-            vs = f.cov[3];
-            cas = f.cov[1];
-            r->gain_status = CPD_THR_FOUND;
-            r->gain = 60.0 * s / o->rate_per_min;
-            r->gain_se = 60.0 * f.se[1] / o->rate_per_min;
-            r->gain_t_lo_s = t_lo;
-            r->gain_t_hi_s = t_hi;
-            r->slope_ml_min_s = s;
-            if (o->modality == CPD_RAMP_POWER)
-                r->gain_in_range = r->gain >= GAIN_LO && r->gain <= GAIN_HI;
-        }
+        int step = fabs(o->start - r->baseline_intensity) > o->rate_per_min / 2;
+        if (sub_get_line(c, t_lo, t_hi) && step && r->has_mrt_est && 4 * r->mrt_est_s > t_lo &&
+            t_hi - 4 * r->mrt_est_s >= 90.0)
+            sub_get_line(c, 4 * r->mrt_est_s, t_hi);
     }
-
-    if (!gain_ok) {
+    if (r->gain_status != CPD_THR_FOUND) {
         r->mrt_reason = r->gain_reason;
         say(r->mrt_why, sizeof r->mrt_why, "MRT needs the sub-GET VO2 line: %s", r->gain_why);
-    } else if (!r->has_baseline) {
-        r->mrt_reason = CPD_RAMP_R_NO_BASELINE;
-        say(r->mrt_why, sizeof r->mrt_why, "no baseline: need %.0f s and %d samples before onset", BASE_MIN_S,
-            BASE_MIN_N);
-    } else {
-        /* baseline variance from the spread of the baseline samples */
-        const cpd_gx_series *cs = c->w->clean;
-        double b = r->baseline_vo2_ml_min, ss = 0;
-        size_t m = 0;
-        for (size_t i = 0; i < cs->n && cs->t_s[i] < 0; i++)
-            if (cs->t_s[i] >= -BASE_WIN_S) {
-                double d = cs->ch[CPD_GX_VO2][i] - b;
-                ss += d * d;
-                m++;
-            }
-        double vb = ss / (double)(m - 1) / (double)m;
-        double d = b - a;
-        double mrt = d / s + 60.0 * (o->start - r->baseline_intensity) / o->rate_per_min;
-        double var = (vb + va) / (s * s) + d * d / (s * s * s * s) * vs + 2 * d / (s * s * s) * cas;
-        if (!(mrt >= 0 && mrt <= MRT_MAX_S)) {
-            r->mrt_reason = CPD_RAMP_R_IMPLAUSIBLE;
-            say(r->mrt_why, sizeof r->mrt_why, "lagged-linear MRT %.0f s outside 0..%.0f s", mrt, MRT_MAX_S);
-        } else {
-            r->has_mrt_est = 1;
-            r->mrt_est_s = mrt;
-            r->mrt_est_se_s = var > 0 ? sqrt(var) : 0;
-        }
     }
     if (o->mrt_given) {
         r->mrt_status = CPD_THR_MANUAL;
@@ -859,8 +895,9 @@ static void plateau(struct ctx *c)
         }
         r->ref_slope_ml_min_s = g.b[1];
     }
-    if (!(r->ref_slope_ml_min_s > 0)) {
-        say(r->plateau_why, sizeof r->plateau_why, "VO2 does not rise during the ramp");
+    if (!(r->ref_slope_ml_min_s > MIN_RAMP_SLOPE)) {
+        say(r->plateau_why, sizeof r->plateau_why, "VO2 does not rise during the ramp (%.3g mL/min per s)",
+            r->ref_slope_ml_min_s);
         r->ref_slope_ml_min_s = 0;
         return;
     }

@@ -66,8 +66,10 @@ typedef struct {
     double s1, s2, s3;    /* VCO2-VO2 slopes below GET, GET..RCP, above RCP */
     double rer_base;      /* VCO2/VO2 at baseline */
     double ve0, veq1;     /* VE = ve0 + veq1 VCO2 / 1000 below the RCP: L/min, slope (dimensionless) */
+    double ve_k1;         /* VE slope factor between GET and RCP (1: isocapnic buffering) */
     double ve_k2;         /* VE slope factor above the RCP */
     double sd_vo2, rho;   /* breath noise SD, mL/min; VO2-VCO2 noise correlation */
+    double ve_cv;         /* VE noise of its own, fraction (besides the part shared with VCO2) */
     double bi_lo, bi_hi;  /* breath interval range, s */
     double plateau_s;     /* final plateau length, s (0: none) */
     double outlier_frac;  /* fraction of wild breaths */
@@ -118,8 +120,10 @@ static double synth_vco2(const synth_ramp *p, double v)
 /* VE in L/min from VCO2 in mL/min. */
 static double synth_ve(const synth_ramp *p, double c)
 {
-    double cr = synth_vco2(p, p->rcp_vo2);
+    double cg = synth_vco2(p, p->get_vo2), cr = synth_vco2(p, p->rcp_vo2);
     double ve = p->ve0 + p->veq1 * c / 1000.0;
+    if (c > cg)
+        ve += p->veq1 * (p->ve_k1 - 1) * ((c < cr ? c : cr) - cg) / 1000.0;
     if (c > cr)
         ve += p->veq1 * (p->ve_k2 - 1) * (c - cr) / 1000.0;
     return ve;
@@ -162,9 +166,11 @@ static void synth_draw(synth_rng *r, synth_ramp *p)
     p->rer_base = synth_range(r, 0.78, 0.9);
     p->ve0 = synth_range(r, 2, 5);
     p->veq1 = synth_range(r, 22, 28);
+    p->ve_k1 = 1.0;
     p->ve_k2 = synth_range(r, 1.5, 2.2);
     p->sd_vo2 = synth_range(r, 50, 100);
     p->rho = synth_range(r, 0.8, 0.95);
+    p->ve_cv = 0.02;
     p->bi_lo = 2.0;
     p->bi_hi = 3.0;
     p->outlier_frac = 0.01;
@@ -202,7 +208,7 @@ static cpd_gx_series *synth_make(const synth_ramp *p, synth_rng *r, size_t *n_wi
         if (s->ch[CPD_GX_VCO2])
             s->ch[CPD_GX_VCO2][n] = f * (c + ec);
         if (s->ch[CPD_GX_VE])
-            s->ch[CPD_GX_VE][n] = f * ve * (1 + 0.7 * ec / c + 0.02 * synth_norm(r));
+            s->ch[CPD_GX_VE][n] = f * ve * (1 + 0.7 * ec / c + p->ve_cv * synth_norm(r));
         if (s->ch[CPD_GX_HR]) {
             double h = p->hr0 + p->hr_gain * (synth_intensity(p, u - 25) - p->base) + synth_norm(r);
             s->ch[CPD_GX_HR][n] = h < 40 ? 40 : h > 220 ? 220 : h;

@@ -73,7 +73,7 @@ typedef struct {
     int end_given;               /* 1: end_s is the file time at which the ramp ended */
     double end_s;                /* s, file time; used when end_given */
     double outlier_k;            /* outlier rule, SD (default 4) */
-    size_t outlier_half;         /* outlier rule, neighbours on each side (default 5) */
+    size_t outlier_half;         /* outlier rule, neighbours on each side (default 10) */
     double peak_window_s;        /* VO2peak rolling-mean window, s, 5..120 (default 30) */
     double smooth_s;             /* centred smoothing used to place a VO2 level in time, s, 5..120 (default 20) */
     double bin_s;                /* regressions run on means over bins of bin_s, s, 0..30 (default 10; 0 = samples) */
@@ -107,8 +107,9 @@ typedef struct {
     int status;                 /* CPD_THR_FOUND or CPD_THR_NOT_FOUND */
     int reason;                 /* cpd_ramp_reason */
     char why[CPD_RAMP_WHY_MAX]; /* reason in words */
-    double vo2_ml_min;          /* mL/min: breakpoint of VE/VO2 against VO2 */
-    cpd_ramp_twoseg fit;        /* VE/VO2 (dimensionless) on VO2 (mL/min) */
+    double vo2_ml_min;          /* mL/min: where VE/VO2 starts to rise (breakpoint of VE on VO2) */
+    cpd_ramp_twoseg fit;        /* VE (L/min) on VO2 (mL/min) */
+    double veo2_slope;          /* 1/(mL/min): slope of VE/VO2 on VO2 above the breakpoint */
     double vevco2_slope;        /* 1/(mL/min): slope of VE/VCO2 on VO2 above the breakpoint */
     int peto2_rises;            /* 1 PETO2 rises > 1 mmHg above the breakpoint, 0 it does not, -1 no PETO2 */
     int petco2_steady;          /* 1 PETCO2 falls < 1 mmHg above the breakpoint, 0 it falls more, -1 no PETCO2 */
@@ -177,7 +178,7 @@ typedef struct {
 typedef enum {
     CPD_RAMP_PTS_VSLOPE = 0, /* x VO2, y VCO2 (mL/min), sorted by VO2: the V-slope plot */
     CPD_RAMP_PTS_RCP,        /* x VCO2 (mL/min), y VE (L/min), sorted by VCO2 */
-    CPD_RAMP_PTS_VEQ         /* x VO2 (mL/min), y VE/VO2 (dimensionless), sorted by VO2 */
+    CPD_RAMP_PTS_VEQ         /* x VO2 (mL/min), y VE (L/min), sorted by VO2 (VE/VO2 = 1000 y / x) */
 } cpd_ramp_pts;
 
 typedef struct cpd_ramp_ws cpd_ramp_ws;
