@@ -1,5 +1,5 @@
-/* ramp.c: ramp incremental test analysis. Regressions run on the cleaned samples (independent
- * breath noise); the 1-s grid serves rolling means and the placing of a VO2 level in time. */
+/* ramp.c: ramp incremental test analysis. Breakpoint regressions run on 10-s bin means of the
+ * cleaned samples; the 1-s grid serves rolling means and the placing of a VO2 level in time. */
 #include "cpdomain/ramp.h"
 #include "cpdomain/linfit.h"
 #include "cpdomain/status.h"
@@ -92,7 +92,6 @@ const char *cpd_ramp_reason_text(int reason)
         [CPD_RAMP_R_NO_BASELINE] = "no baseline before onset",
         [CPD_RAMP_R_IMPLAUSIBLE] = "implausible estimate",
         [CPD_RAMP_R_FIT_FAILED] = "regression failed",
-        [CPD_RAMP_R_NOT_POWER] = "not a power ramp",
     };
     if (reason < 0 || reason >= CPD_RAMP_NREASONS)
         return "unknown reason";
@@ -745,8 +744,8 @@ static void baseline(struct ctx *c)
     }
 }
 
-/* Lagged-linear MRT from the line a + s t (cov: its covariance, row-major 2 x 2) and the baseline;
- * 0 when no baseline. Fills the estimate fields or the reason. */
+/* Lagged-linear MRT from the line a + s t (cov: its covariance, row-major 2 x 2) and the baseline.
+ * Fills the estimate fields or the reason. */
 static void mrt_from_line(struct ctx *c, double a, double s, const double *cov)
 {
     cpd_ramp_result *r = c->res;
@@ -841,8 +840,11 @@ static void gain_mrt(struct ctx *c)
         double t_lo = t_hi - GAIN_T_LO_S >= 90.0 ? GAIN_T_LO_S : EXCLUDE_FIRST_S;
         int step = fabs(o->start - r->baseline_intensity) > o->rate_per_min / 2;
         if (sub_get_line(c, t_lo, t_hi) && step && r->has_mrt_est && 4 * r->mrt_est_s > t_lo &&
-            t_hi - 4 * r->mrt_est_s >= 90.0)
-            sub_get_line(c, 4 * r->mrt_est_s, t_hi);
+            t_hi - 4 * r->mrt_est_s >= 90.0) {
+            cpd_ramp_result first = *r;
+            if (!sub_get_line(c, 4 * r->mrt_est_s, t_hi))
+                *r = first;
+        }
     }
     if (r->gain_status != CPD_THR_FOUND) {
         r->mrt_reason = r->gain_reason;

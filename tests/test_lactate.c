@@ -23,6 +23,25 @@ static void near_(double a, double b, double tol, const char *what, const char *
     }
 }
 
+/* Every double of a result is finite (the "never NaN" rule). */
+static void assert_finite(const cpd_lactate_result *r)
+{
+    const cpd_lactate_value *v[4] = {&r->lt1, &r->dmax, &r->dmax_mod, &r->obla};
+    for (int k = 0; k < 4; k++) {
+        assert_true(isfinite(v[k]->intensity) && isfinite(v[k]->lactate_mmol_l) && isfinite(v[k]->hr_bpm));
+        if (v[k]->status == CPD_LACTATE_NOT_FOUND) {
+            assert_int_not_equal(v[k]->reason, CPD_LACTATE_R_NONE);
+            assert_true(v[k]->why[0] != '\0');
+            assert_near(v[k]->intensity, 0, 0);
+        }
+    }
+    const double w[] = {r->cubic[0], r->cubic[1], r->cubic[2], r->cubic[3], r->dmax_line[0], r->dmax_line[1],
+                        r->dmax_mod_line[0], r->dmax_mod_line[1], r->loglog.s1, r->loglog.s2, r->loglog.b1,
+                        r->loglog.b2, r->loglog.x_cross, r->loglog.y_cross, r->loglog.z};
+    for (size_t i = 0; i < sizeof w / sizeof w[0]; i++)
+        assert_true(isfinite(w[i]));
+}
+
 /* Stages on an exact cubic: la = 1 + 2 u^3 with u = (x - 100) / 200, x = 100..300 W.
  * Values: 1, 1.03125, 1.25, 1.84375, 3. The least-squares cubic is the curve itself.
  * Dmax (by hand): the line through (100, 1) and (300, 3) has slope 0.01 per W; la' = 0.03 u^2 per W,
@@ -43,6 +62,7 @@ static void dmax_on_an_exact_cubic(void **state)
     cpd_lactate_result r;
     char msg[CPD_MSG_MAX];
     assert_int_equal(cpd_lactate_analyse(x, la, hr, 5, &r, msg), CPD_OK);
+    assert_finite(&r);
     assert_int_equal(r.n, 5);
     assert_int_equal(r.has_cubic, 1);
     /* the SVD reproduces an exact cubic to ~1e-12 relative at these scales */
@@ -161,6 +181,7 @@ static void values_that_cannot_be_found(void **state)
     /* three stages: OBLA only; 2.5 -> 5.0 between 150 and 200 W gives 150 + 50 (1.5 / 2.5) = 180 W */
     const double x3[3] = {100, 150, 200}, l3[3] = {1.0, 2.5, 5.0};
     assert_int_equal(cpd_lactate_analyse(x3, l3, NULL, 3, &r, NULL), CPD_OK);
+    assert_finite(&r);
     assert_int_equal(r.lt1.reason, CPD_LACTATE_R_FEW_STAGES);
     assert_int_equal(r.dmax.reason, CPD_LACTATE_R_FEW_STAGES);
     assert_int_equal(r.dmax_mod.reason, CPD_LACTATE_R_FEW_STAGES);
@@ -170,6 +191,7 @@ static void values_that_cannot_be_found(void **state)
     const double x[6] = {100, 130, 160, 190, 220, 250};
     const double conc[6] = {1.0, 2.0, 2.7, 3.2, 3.5, 3.7};
     assert_int_equal(cpd_lactate_analyse(x, conc, NULL, 6, &r, NULL), CPD_OK);
+    assert_finite(&r);
     assert_int_equal(r.lt1.status, CPD_LACTATE_NOT_FOUND);
     assert_int_equal(r.lt1.reason, CPD_LACTATE_R_NO_BREAK);
     assert_int_equal(r.dmax.reason, CPD_LACTATE_R_NOT_CONVEX);
@@ -178,11 +200,13 @@ static void values_that_cannot_be_found(void **state)
     /* a jump between 120 and 130 W: log-log lines cross near 36 W, outside the stages (numpy) */
     const double xj[6] = {100, 110, 120, 130, 140, 150}, lj[6] = {1.0, 1.05, 1.1, 3.0, 3.3, 3.6};
     assert_int_equal(cpd_lactate_analyse(xj, lj, NULL, 6, &r, NULL), CPD_OK);
+    assert_finite(&r);
     assert_int_equal(r.lt1.reason, CPD_LACTATE_R_OUTSIDE);
     /* an erratic sample (5.2 then 2.7): the fitted cubic's slope never equals the line's in range
      * (numpy.roots finds none either), so there is no Dmax */
     const double le[6] = {1.2, 1.7, 1.8, 5.2, 2.7, 5.3};
     assert_int_equal(cpd_lactate_analyse(x, le, NULL, 6, &r, NULL), CPD_OK);
+    assert_finite(&r);
     assert_int_equal(r.dmax.reason, CPD_LACTATE_R_OUTSIDE);
     assert_int_equal(r.dmax_mod.reason, CPD_LACTATE_R_OUTSIDE);
     /* small rises only (largest 0.38): no modified Dmax; already 4.3 at the first stage: no OBLA */
@@ -192,6 +216,7 @@ static void values_that_cannot_be_found(void **state)
     assert_int_equal(r.dmax.status, CPD_LACTATE_FOUND);
     const double lh[6] = {4.3, 4.8, 5.6, 6.9, 8.8, 11.4};
     assert_int_equal(cpd_lactate_analyse(x, lh, NULL, 6, &r, NULL), CPD_OK);
+    assert_finite(&r);
     assert_int_equal(r.obla.reason, CPD_LACTATE_R_ABOVE_AT_START);
     assert_string_equal(cpd_lactate_reason_text(CPD_LACTATE_R_NO_RISE), "no rise above 0.4 mmol/L between stages");
     assert_string_equal(cpd_lactate_reason_text(CPD_LACTATE_NREASONS), "unknown reason");

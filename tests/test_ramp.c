@@ -106,7 +106,7 @@ static void vslope_get_on_200_noisy_ramps(void **state)
     (void)state;
     synth_rng rng = {.s = 0x5eed1234abcdULL};
     cpd_ramp_ws *w = cpd_ramp_alloc();
-    int found = 0, in3 = 0, in6 = 0;
+    int found = 0, in3 = 0, in6 = 0, rcp5 = 0, t20 = 0;
     double sum = 0;
     for (int k = 0; k < 200; k++) {
         synth_ramp p;
@@ -123,16 +123,22 @@ static void vslope_get_on_200_noisy_ramps(void **state)
             in3 += fabs(e) <= 0.03;
             in6 += fabs(e) <= 0.06;
             sum += e;
+            t20 += fabs(r.get.time_s - synth_time_at_vo2(&p, p.get_vo2)) <= 20;
         } else {
             assert_int_not_equal(r.get.reason, CPD_RAMP_R_NONE);
             assert_true(r.get.why[0] != '\0');
         }
+        rcp5 += r.rcp.status == CPD_THR_FOUND && fabs(r.rcp.vo2_ml_min - p.rcp_vo2) <= 0.05 * p.rcp_vo2;
         cpd_gx_free(s);
     }
+    /* measured on this seed: 197 found, 162 within 3 %, 191 within 6 %, mean -0.7 %; RCP within 5 %
+     * in 185; GET time within 20 s in 181 (20 s is 100 mL/min of VO2 at 30 W/min) */
     assert_true(found >= 190);
     assert_true(in3 >= 150);
     assert_true(in6 >= 190);
     assert_true(fabs(sum / found) <= 0.01);
+    assert_true(rcp5 >= 175);
+    assert_true(t20 >= 175);
     cpd_ramp_free(w);
 }
 
@@ -533,8 +539,11 @@ static void mrt_correction_arithmetic(void **state)
         i++;
     o.manual_get_vo2_ml_min = sm[i];
     assert_int_equal(run(&p, 0xabcdef01ULL, &o, w, &r), CPD_OK);
-    if (r.get.time_s < 339) /* the smoothed series may touch the level a little earlier */
-        assert_true(r.get.time_s > 330);
+    /* the smoothed series reaches that level at 340 s at the latest, a few seconds earlier when its
+     * noise (about 4 mL/min, under a second of ramp) touched it before */
+    assert_true(r.get.time_s > 330 && r.get.time_s <= 340 + 1e-9);
+    assert_near(r.get.ramp_intensity, 200, 5);
+    assert_near(r.get.equiv_intensity, 186, 5);
     assert_near(r.get.equiv_intensity, r.get.ramp_intensity - 14, 1e-12);
     cpd_ramp_free(w);
 }
@@ -647,7 +656,8 @@ static void outliers_are_removed_and_counted(void **state)
     cpd_ramp_result r;
     assert_int_equal(cpd_ramp_analyse(w, s, &o, &r, NULL), CPD_OK);
     assert_int_equal(r.n_samples, s->n);
-    /* all five found; k = 4 lets a genuine breath through at a rate of about 1e-4 each */
+    /* all five found; with 20 neighbours, k = 4 also drops about one genuine breath in 1000 per channel
+     * (Student t with 19 dof), so up to two more here */
     assert_true(r.n_outliers >= 5 && r.n_outliers <= 7);
     const cpd_gx_series *c = cpd_ramp_samples(w);
     assert_int_equal(c->n, s->n - r.n_outliers);
@@ -916,6 +926,7 @@ static void degenerate_physiology(void **state)
     assert_int_equal(cpd_ramp_analyse(w, s, &o, &r, NULL), CPD_OK);
     assert_int_equal(r.get.reason, CPD_RAMP_R_FIT_FAILED);
     assert_int_equal(r.rcp.reason, CPD_RAMP_R_FIT_FAILED);
+    assert_int_equal(r.veq.reason, CPD_RAMP_R_FIT_FAILED);
     assert_int_equal(r.plateau, -1); /* VO2 does not rise */
     assert_finite(&r);
     cpd_gx_free(s);

@@ -9,6 +9,25 @@
 
 #include <stddef.h>
 
+/* The rules, with their defaults (times from onset):
+ * - Cleaning: cpd_gx_outliers on VO2, VCO2 and VE (4 SD of +-10 neighbours), repeated up to three
+ *   passes; 1-s interpolation; a centred 20-s mean places a VO2 level in time (first second at which it
+ *   reaches the level, interpolated); a trailing 30-s mean gives VO2peak.
+ * - Intensity: the nominal ramp start + rate t / 60 wins. The intensity column, when present, gives
+ *   the end of the ramp (its first maximum, unless end_given), the baseline intensity (mean over the
+ *   final 60 s before onset, unless baseline_given) and a consistency flag.
+ * - Breakpoints use 10-s bin means (less noise in x for the OLS slopes); at least max(6, n/10) bins per
+ *   side (n/20 for the RCP); a break needs the lines to cross inside the data and z >= 3.
+ * - RCP: VE on VCO2 from 60 s to the end, upper slope >= 1.15 x lower; placed where the smoothed VCO2
+ *   reaches the crossing. GET: V-slope, VCO2 on VO2 from 60 s to the RCP (to the end without one),
+ *   S1 >= 0.6, S2 > 1, S2 - S1 > 0.1. Cross-check: breakpoint of VE on VO2 (VE/VO2 starts to rise)
+ *   with VE/VCO2 rising at most 1/4 as fast; agreement within 5 % of VO2peak.
+ * - Gain and MRT: VO2 on time from 120 s (60 s when the GET is before 210 s) to the GET; MRT with the
+ *   baseline VO2 of the final 60 s before onset (>= 30 s, 8 samples), refitted from 4 MRT after a step
+ *   at onset, refused outside 0..180 s; a given MRT wins. Gain flag 8..12 mL/min/W (power only).
+ * - Plateau: VO2-time slope over the final 90 s below half the sub-GET slope (else the 120 s to
+ *   end - 90 s slope). */
+
 #define CPD_RAMP_WHY_MAX 128 /* bytes of a reason text, with its terminator */
 
 /* Limits checked at the boundary (physiological plausibility, common practice). */
@@ -44,7 +63,6 @@ typedef enum {
     CPD_RAMP_R_NO_BASELINE,  /* no pre-onset baseline (need >= 30 s and 8 samples before onset) */
     CPD_RAMP_R_IMPLAUSIBLE,  /* the estimate lies outside its plausible range */
     CPD_RAMP_R_FIT_FAILED,   /* a regression failed (degenerate data) */
-    CPD_RAMP_R_NOT_POWER,    /* applies only to power ramps */
     CPD_RAMP_NREASONS
 } cpd_ramp_reason;
 
@@ -191,15 +209,12 @@ void cpd_ramp_opts_init(cpd_ramp_opts *o);
 cpd_ramp_ws *cpd_ramp_alloc(void);
 void cpd_ramp_free(cpd_ramp_ws *w);
 
-/* Analyses the ramp in s (file times; times must not run backwards; VO2 required). Outliers are
- * removed by cpd_gx_outliers in VO2, VCO2 and VE; the series is shifted to onset and interpolated to
- * 1 s. The nominal ramp start + rate * t / 60 gives the intensity; the intensity column, when present,
- * only finds the end of the ramp (its smoothed maximum, unless end_given), the baseline intensity and a
- * consistency check. GET: V-slope (Beaver, Wasserman & Whipp 1986 J Appl Physiol 60:2020) on the
- * samples from 60 s to the RCP; RCP: breakpoint of VE on VCO2 from 60 s to the end; MRT: lagged-linear
- * model (Whipp et al. 1981 J Appl Physiol 50:217). Returns CPD_OK (thresholds may still be NOT_FOUND),
- * CPD_EUSAGE for bad options, CPD_EDATA for invalid data (time backwards, VO2 <= 0 or absurd, no VO2),
- * CPD_ENODATA for too short a ramp, CPD_ENOMEM. msg (CPD_MSG_MAX bytes, may be NULL) gets the detail. */
+/* Analyses the ramp in s (file times that never run backwards; VO2 required) by the rules above:
+ * GET by V-slope (Beaver, Wasserman & Whipp 1986 J Appl Physiol 60:2020), MRT by the lagged-linear
+ * model (Whipp et al. 1981 J Appl Physiol 50:217). Returns CPD_OK (thresholds may be NOT_FOUND),
+ * CPD_EUSAGE for bad options, CPD_EDATA for invalid data (time backwards, VO2 <= 0 or absurd, no
+ * VO2), CPD_ENODATA for too short a ramp, CPD_ENOMEM; res is zeroed on error. msg (CPD_MSG_MAX bytes,
+ * may be NULL) gets the detail. Results of the fits stay readable in w until its next analysis. */
 int cpd_ramp_analyse(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts *o, cpd_ramp_result *res,
                      char *msg);
 
