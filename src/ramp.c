@@ -1004,7 +1004,7 @@ static int prepare(struct ctx *c, const cpd_gx_series *s, char *msg)
     double t_end;
     if (o->end_given) {
         t_end = o->end_s - o->onset_s;
-        if (!(t_end > 0) || t_end > cl->t_s[cl->n - 1]) {
+        if (!(t_end > 0) || t_end > s->t_s[s->n - 1] - o->onset_s) {
             say(msg, CPD_MSG_MAX, "the ramp end %.1f s lies outside the samples after onset", o->end_s);
             return CPD_EUSAGE;
         }
