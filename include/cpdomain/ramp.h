@@ -1,0 +1,245 @@
+/* ramp.h: analysis of a ramp incremental test from breath-by-breath (or per-second) gas exchange:
+ * VO2peak, plateau, GET by V-slope with a ventilatory-equivalent cross-check, RCP, VO2-intensity gain,
+ * mean response time and the constant-intensity equivalents. Nothing is invented: a value that cannot
+ * be found carries a status and a reason instead. */
+#ifndef CPDOMAIN_RAMP_H
+#define CPDOMAIN_RAMP_H
+
+#include "cpdomain/gx.h"
+
+#include <stddef.h>
+
+/* The rules, with their defaults (times from onset):
+ * - Cleaning: cpd_gx_outliers on VO2, VCO2 and VE (4 SD of +-10 neighbours), repeated up to three
+ *   passes; 1-s interpolation; a centred 20-s mean places a VO2 level in time (first second at which it
+ *   reaches the level, interpolated); a trailing 30-s mean gives VO2peak.
+ * - Intensity: the nominal ramp start + rate t / 60 wins. The intensity column, when present, gives
+ *   the end of the ramp (its first maximum, unless end_given), the baseline intensity (mean over the
+ *   final 60 s before onset, unless baseline_given) and a consistency flag.
+ * - Breakpoints use 10-s bin means (less noise in x for the OLS slopes); at least max(6, n/10) bins per
+ *   side (n/20 for the RCP); a break needs the lines to cross inside the data and z >= 3.
+ * - RCP: VE on VCO2 from 60 s to the end, upper slope >= 1.15 x lower; placed where the smoothed VCO2
+ *   reaches the crossing. GET: V-slope, VCO2 on VO2 from 60 s to the RCP (to the end without one),
+ *   S1 >= 0.6, S2 > 1, S2 - S1 > 0.1. Cross-check: breakpoint of VE on VO2 (VE/VO2 starts to rise)
+ *   with VE/VCO2 rising at most 1/4 as fast; agreement within 5 % of VO2peak.
+ * - Gain and MRT: VO2 on time from 120 s (60 s when the GET is before 210 s) to the GET; MRT with the
+ *   baseline VO2 of the final 60 s before onset (>= 30 s, 8 samples), refitted from 4 MRT after a step
+ *   at onset, refused outside 0..180 s; a given MRT wins. Gain flag 8..12 mL/min/W (power only).
+ * - Plateau: VO2-time slope over the final 90 s below half the sub-GET slope (else the 120 s to
+ *   end - 90 s slope). */
+
+#define CPD_RAMP_WHY_MAX 128 /* bytes of a reason text, with its terminator */
+
+/* Limits checked at the boundary (physiological plausibility, common practice). */
+#define CPD_RAMP_VO2_MAX_ML_MIN 10000.0 /* a breath above this is not a measurement */
+#define CPD_RAMP_VE_MAX_L_MIN 350.0
+#define CPD_RAMP_MIN_SAMPLES 30   /* samples during the ramp */
+#define CPD_RAMP_MIN_DURATION_S 180.0 /* shortest analysable ramp */
+
+typedef enum {
+    CPD_RAMP_POWER = 0, /* cycle (or other) ergometer: intensity in W, rate in W/min */
+    CPD_RAMP_SPEED = 1  /* treadmill: intensity in m/s, rate in (m/s)/min */
+} cpd_ramp_modality;
+
+/* Status of a threshold or an estimate. */
+typedef enum {
+    CPD_THR_NOT_FOUND = 0, /* not available; see reason and why */
+    CPD_THR_FOUND = 1,     /* found automatically */
+    CPD_THR_MANUAL = 2     /* set by a reviewer (manual VO2) */
+} cpd_thr_status;
+
+/* Why a value is not available. */
+typedef enum {
+    CPD_RAMP_R_NONE = 0,     /* available */
+    CPD_RAMP_R_NO_VCO2,      /* the series has no VCO2 */
+    CPD_RAMP_R_NO_VE,        /* the series has no VE */
+    CPD_RAMP_R_FEW_POINTS,   /* the eligible range holds too few samples or too short a time */
+    CPD_RAMP_R_NO_BREAK,     /* no significant change of slope: no visible threshold */
+    CPD_RAMP_R_SLOPES,       /* a breakpoint exists but its slopes fail the acceptance criteria */
+    CPD_RAMP_R_OUTSIDE,      /* the two lines do not cross inside the data */
+    CPD_RAMP_R_NOT_REACHED,  /* the smoothed series never reaches the threshold's level during the ramp */
+    CPD_RAMP_R_NOT_ISOCAPNIC,/* VE/VCO2 rises together with VE/VO2 */
+    CPD_RAMP_R_NO_GET,       /* depends on a GET that is not available */
+    CPD_RAMP_R_NO_BASELINE,  /* no pre-onset baseline (need >= 30 s and 8 samples before onset) */
+    CPD_RAMP_R_IMPLAUSIBLE,  /* the estimate lies outside its plausible range */
+    CPD_RAMP_R_FIT_FAILED,   /* a regression failed (degenerate data) */
+    CPD_RAMP_NREASONS
+} cpd_ramp_reason;
+
+/* Two straight lines fitted by OLS to the lower and upper parts of (x, y) sorted by x. */
+typedef struct {
+    size_t n;             /* points */
+    size_t split;         /* points in the lower segment; the upper holds n - split */
+    double s1, b1;        /* lower line: slope (y unit per x unit), intercept (y unit) */
+    double s2, b2;        /* upper line: slope, intercept */
+    double s1_se, s2_se;  /* standard errors of the slopes (0 when a segment has no residual dof) */
+    double rss;           /* pooled residual sum of squares, y unit squared */
+    int has_z;            /* 1 when z is defined (some slope SE > 0) */
+    double z;             /* (s2 - s1) / sqrt(s1_se^2 + s2_se^2), dimensionless; 0 when !has_z */
+    int has_cross;        /* 1 when the lines are not parallel */
+    double x_cross;       /* intersection, x unit; 0 when !has_cross */
+    double y_cross;       /* intersection, y unit; 0 when !has_cross */
+    double x_lo, x_hi;    /* smallest and largest x, x unit */
+} cpd_ramp_twoseg;
+
+/* Options of an analysis. Fill with cpd_ramp_opts_init, then set at least rate_per_min and start. */
+typedef struct {
+    cpd_ramp_modality modality;  /* CPD_RAMP_POWER (default) or CPD_RAMP_SPEED */
+    double rate_per_min;         /* ramp rate, W/min or (m/s)/min, > 0 (required) */
+    double start;                /* intensity at onset, W or m/s, >= 0 (default 0) */
+    double onset_s;              /* file time at which the ramp began, s (default 0) */
+    int end_given;               /* 1: end_s is the file time at which the ramp ended */
+    double end_s;                /* s, file time; used when end_given */
+    double outlier_k;            /* outlier rule, SD (default 4) */
+    size_t outlier_half;         /* outlier rule, neighbours on each side (default 10) */
+    double peak_window_s;        /* VO2peak rolling-mean window, s, 5..120 (default 30) */
+    double smooth_s;             /* centred smoothing used to place a VO2 level in time, s, 5..120 (default 20) */
+    double bin_s;                /* regressions run on means over bins of bin_s, s, 0..30 (default 10; 0 = samples) */
+    int mrt_given;               /* 1: use mrt_s instead of the estimate */
+    double mrt_s;                /* given MRT, s, 0..300 */
+    int baseline_given;          /* 1: baseline_intensity is the intensity before onset */
+    double baseline_intensity;   /* W or m/s before onset, >= 0 */
+    double mass_kg;              /* body mass, kg; 0 = unknown */
+    double manual_get_vo2_ml_min;/* reviewer's GET, mL/min; 0 = none */
+    double manual_rcp_vo2_ml_min;/* reviewer's RCP, mL/min; 0 = none */
+} cpd_ramp_opts;
+
+/* A threshold (GET or RCP) placed on the ramp. */
+typedef struct {
+    int status;                 /* cpd_thr_status */
+    int reason;                 /* cpd_ramp_reason; CPD_RAMP_R_NONE unless NOT_FOUND */
+    char why[CPD_RAMP_WHY_MAX]; /* the reason in words with its numbers; "" when available */
+    const char *method;         /* static text: how the value was found; "" when not found */
+    double vo2_ml_min;          /* mL/min */
+    double pct_vo2peak;         /* % of VO2peak */
+    double time_s;              /* s from onset: where the smoothed VO2 first reaches vo2_ml_min */
+    double ramp_intensity;      /* W or m/s: start + rate * time_s / 60 */
+    int has_equiv;              /* 1 when an MRT is known */
+    double equiv_intensity;     /* W or m/s: ramp_intensity - rate * MRT / 60 (constant-intensity equivalent) */
+    int has_hr;                 /* 1 when the series has HR */
+    double hr_bpm;              /* beats/min, smoothed, at time_s */
+} cpd_ramp_threshold;
+
+/* The ventilatory-equivalent cross-check of the GET. */
+typedef struct {
+    int status;                 /* CPD_THR_FOUND or CPD_THR_NOT_FOUND */
+    int reason;                 /* cpd_ramp_reason */
+    char why[CPD_RAMP_WHY_MAX]; /* reason in words */
+    double vo2_ml_min;          /* mL/min: where VE/VO2 starts to rise (breakpoint of VE on VO2) */
+    cpd_ramp_twoseg fit;        /* VE (L/min) on VO2 (mL/min) */
+    double veo2_slope;          /* 1/(mL/min): slope of VE/VO2 on VO2 above the breakpoint */
+    double vevco2_slope;        /* 1/(mL/min): slope of VE/VCO2 on VO2 above the breakpoint */
+    int peto2_rises;            /* 1 PETO2 rises > 1 mmHg above the breakpoint, 0 it does not, -1 no PETO2 */
+    int petco2_steady;          /* 1 PETCO2 falls < 1 mmHg above the breakpoint, 0 it falls more, -1 no PETCO2 */
+    int has_diff;               /* 1 when both this and the automatic V-slope GET exist */
+    double diff_ml_min;         /* mL/min: this VO2 - V-slope GET VO2 */
+    int agree;                  /* 1 when |diff| <= 5 % of VO2peak, 0 when not, -1 when !has_diff */
+} cpd_ramp_veq;
+
+/* Everything an analysis finds. Every double is finite; one that is not available is 0 and
+ * flagged by its status or has_ field. */
+typedef struct {
+    int modality;                /* cpd_ramp_modality */
+    size_t n_samples;            /* input samples */
+    size_t n_outliers;           /* samples dropped as outliers (in VO2, VCO2 or VE) */
+    double duration_s;           /* s: ramp length from onset to its end */
+    double peak_intensity;       /* W or m/s at the end of the ramp */
+    double vo2peak_ml_min;       /* mL/min: highest rolling mean over peak_window_s during the ramp */
+    double vo2peak_time_s;       /* s from onset: end of that window */
+    double vo2peak_intensity;    /* W or m/s: ramp intensity at vo2peak_time_s */
+    int has_relative;            /* 1 when mass is known */
+    double vo2peak_ml_kg_min;    /* mL/kg/min */
+
+    int plateau;                 /* 1 VO2 plateau, 0 none, -1 unknown (plateau_why) */
+    char plateau_why[CPD_RAMP_WHY_MAX]; /* why unknown */
+    double final_slope_ml_min_s; /* mL/min per s: VO2 on time over the final 90 s */
+    double ref_slope_ml_min_s;   /* mL/min per s: the reference slope (sub-GET fit, else 120 s to end - 90 s) */
+
+    cpd_ramp_threshold get;      /* the GET reported: manual when given, else automatic */
+    cpd_ramp_threshold get_auto; /* the automatic GET (V-slope) */
+    cpd_ramp_threshold rcp;      /* the RCP reported: manual when given, else automatic */
+    cpd_ramp_threshold rcp_auto; /* the automatic RCP (VE on VCO2 breakpoint) */
+    cpd_ramp_twoseg vslope;      /* V-slope fit, VCO2 (mL/min) on VO2 (mL/min); valid when has_vslope */
+    int has_vslope;              /* 1 when the V-slope regression ran (its acceptance is get_auto.status) */
+    double vslope_t_lo_s;        /* s from onset: eligible range of the V-slope */
+    double vslope_t_hi_s;        /* s from onset: upper end (the automatic RCP, else the end of the ramp) */
+    cpd_ramp_twoseg rcp_fit;     /* VE (L/min) on VCO2 (mL/min); valid when has_rcp_fit */
+    int has_rcp_fit;             /* 1 when the RCP regression ran */
+    cpd_ramp_veq veq;            /* ventilatory-equivalent cross-check of the GET */
+
+    int gain_status;             /* CPD_THR_FOUND or CPD_THR_NOT_FOUND */
+    int gain_reason;             /* cpd_ramp_reason */
+    char gain_why[CPD_RAMP_WHY_MAX]; /* reason in words */
+    double gain;                 /* mL/min per W (per m/s for speed): VO2 on intensity below the GET */
+    double gain_se;              /* same unit */
+    int gain_in_range;           /* 1 inside 8-12 mL/min/W, 0 outside, -1 unknown or not a power ramp */
+    double gain_t_lo_s, gain_t_hi_s; /* s from onset: range of the fit */
+    double slope_ml_min_s;       /* mL/min per s: VO2 on time over that range */
+
+    int mrt_status;              /* FOUND when estimated, MANUAL when given, NOT_FOUND when neither */
+    int mrt_reason;              /* cpd_ramp_reason for the estimate */
+    char mrt_why[CPD_RAMP_WHY_MAX]; /* why the estimate is missing */
+    double mrt_s;                /* s: the MRT used for the constant-intensity equivalents */
+    int has_mrt_est;             /* 1 when the estimate exists (also when a given MRT is used) */
+    double mrt_est_s;            /* s: lagged-linear estimate */
+    double mrt_est_se_s;         /* s: its standard error (delta method) */
+    int has_baseline;            /* 1 when a pre-onset baseline exists */
+    double baseline_vo2_ml_min;  /* mL/min: mean VO2 over the final 60 s before onset */
+    double baseline_intensity;   /* W or m/s before onset (given, else the column, else start) */
+
+    int has_column;              /* 1 when the series carries the modality's intensity column */
+    double column_mad;           /* W or m/s: mean |column - nominal ramp| over the ramp */
+    int column_mismatch;         /* 1 when column_mad exceeds 5 % of the ramp's intensity span */
+} cpd_ramp_result;
+
+/* Which points cpd_ramp_points returns. */
+typedef enum {
+    CPD_RAMP_PTS_VSLOPE = 0, /* x VO2, y VCO2 (mL/min), sorted by VO2: the V-slope plot */
+    CPD_RAMP_PTS_RCP,        /* x VCO2 (mL/min), y VE (L/min), sorted by VCO2 */
+    CPD_RAMP_PTS_VEQ         /* x VO2 (mL/min), y VE (L/min), sorted by VO2 (VE/VO2 = 1000 y / x) */
+} cpd_ramp_pts;
+
+typedef struct cpd_ramp_ws cpd_ramp_ws;
+
+/* Fills o with the defaults above (power modality, rate 0 which the caller must set). */
+void cpd_ramp_opts_init(cpd_ramp_opts *o);
+
+/* A reusable workspace; it grows to the series it sees. NULL when out of memory.
+ * The caller frees it with cpd_ramp_free (which accepts NULL). */
+cpd_ramp_ws *cpd_ramp_alloc(void);
+void cpd_ramp_free(cpd_ramp_ws *w);
+
+/* Analyses the ramp in s (file times that never run backwards; VO2 required) by the rules above:
+ * GET by V-slope (Beaver, Wasserman & Whipp 1986 J Appl Physiol 60:2020), MRT by the lagged-linear
+ * model (Whipp et al. 1981 J Appl Physiol 50:217). Returns CPD_OK (thresholds may be NOT_FOUND),
+ * CPD_EUSAGE for bad options, CPD_EDATA for invalid data (time backwards, VO2 <= 0 or absurd, no
+ * VO2), CPD_ENODATA for too short a ramp, CPD_ENOMEM; res is zeroed on error. msg (CPD_MSG_MAX bytes,
+ * may be NULL) gets the detail. Results of the fits stay readable in w until its next analysis. */
+int cpd_ramp_analyse(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts *o, cpd_ramp_result *res,
+                     char *msg);
+
+/* The points behind a fit of the last successful analysis in w (see cpd_ramp_pts), owned by w and
+ * valid until the next analysis or cpd_ramp_free. Returns CPD_OK, CPD_ENODATA when that fit did not
+ * run, CPD_EUSAGE for a bad which. */
+int cpd_ramp_points(const cpd_ramp_ws *w, int which, const double **x, const double **y, size_t *n);
+
+/* The cleaned 1-s series of the last successful analysis (times from onset, outliers removed), owned
+ * by w and valid as above; NULL before any. smoothed_vo2 (may be NULL) receives the centred mean used
+ * to place thresholds in time, same length. */
+const cpd_gx_series *cpd_ramp_grid(const cpd_ramp_ws *w, const double **smoothed_vo2);
+
+/* The cleaned samples (breaths) of the last successful analysis: outliers removed, times from onset;
+ * owned by w and valid as above; NULL before any. */
+const cpd_gx_series *cpd_ramp_samples(const cpd_ramp_ws *w);
+
+/* Two-segment linear regression: x sorted ascending, every split with at least min_seg points on
+ * each side, two OLS lines, the split with the least pooled RSS (first on ties); the method of the
+ * V-slope (Beaver, Wasserman & Whipp 1986) and of the log-log lactate threshold (Beaver, Wasserman &
+ * Whipp 1985 J Appl Physiol 59:1936). Returns CPD_OK, CPD_EUSAGE for min_seg < 2, n < 2 min_seg or
+ * unsorted x, CPD_ENODATA for a non-finite value or when no split has two non-degenerate segments. */
+int cpd_ramp_twoseg_fit(const double *x, const double *y, size_t n, size_t min_seg, cpd_ramp_twoseg *out);
+
+/* Short static English text of a cpd_ramp_reason; never NULL. */
+const char *cpd_ramp_reason_text(int reason);
+
+#endif

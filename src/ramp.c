@@ -1,0 +1,1148 @@
+/* ramp.c: ramp incremental test analysis. Breakpoint regressions run on 10-s bin means of the
+ * cleaned samples; the 1-s grid serves rolling means and the placing of a VO2 level in time. */
+#include "cpdomain/ramp.h"
+#include "cpdomain/linfit.h"
+#include "cpdomain/status.h"
+
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Rules of this module (documented in ramp.h and the report). */
+#define EXCLUDE_FIRST_S 60.0 /* CO2-store kinetics early in the ramp (Beaver et al. 1986) */
+#define MIN_SEG 6            /* fewest samples on either side of a breakpoint */
+#define Z_MIN 3.0            /* slope change must exceed 3 SE to be a visible threshold */
+#define VS_S1_MIN 0.6        /* V-slope acceptance, METHODS 4 (Beaver et al. 1986 [M]) */
+#define VS_S2_MIN 1.0
+#define VS_DIFF_MIN 0.1
+#define RCP_RATIO_MIN 1.15   /* VE-VCO2 slope must rise by 15 % at the RCP (our rule) */
+#define ISOCAPNIC_FRAC 0.25  /* VE/VCO2 may rise at most a quarter as fast as VE/VO2 (our rule) */
+#define PET_CHANGE_MMHG 1.0  /* a PET change smaller than this is "no change" (our rule) */
+#define AGREE_FRAC 0.05      /* V-slope and ventilatory-equivalent GET agree within 5 % of VO2peak */
+#define BASE_WIN_S 60.0      /* baseline: the final minute before onset */
+#define BASE_MIN_S 30.0
+#define BASE_MIN_N 8
+#define GAIN_T_LO_S 120.0    /* after the on-transient of the ramp (e.g. tau 40 s: 3 tau) */
+#define GAIN_MIN_SPAN_S 60.0
+#define GAIN_MIN_N 15
+#define GAIN_LO 8.0          /* common practice for cycling; Ozyener et al. 2011 JSSM 10:584: 10.3 +- 0.7 */
+#define GAIN_HI 12.0
+#define MRT_MAX_S 180.0      /* plausible MRT range (Iannetta et al. 2019: 28 +- 16 s; our bound) */
+#define OUTLIER_PASSES 3
+#define PLATEAU_WIN_S 90.0
+#define PLATEAU_FRAC 0.5
+#define MIN_RAMP_SLOPE 0.1 /* mL/min per s: below this VO2 does not follow a ramp */
+#define COLUMN_MISMATCH_FRAC 0.05
+
+struct pt {
+    double x, y;             /* regressor, response */
+    double a, b, c, d, e;    /* riders: VE/VCO2, VE/VO2, PETO2 (mmHg), PETCO2 (mmHg), VE (L/min) */
+    size_t i;                /* sample index: ties in x keep time order */
+};
+
+struct cpd_ramp_ws {
+    cpd_gx_series *clean; /* outliers removed, times from onset */
+    cpd_gx_series *grid;  /* 1 s */
+    double *sm_vo2, *sm_vco2, *sm_hr, *trail;
+    size_t cap_grid;
+    struct pt *pts;
+    double *px[3], *py[3];
+    double *ra, *rb, *rc, *rd; /* riders of the V-slope points in VO2 order */
+    size_t pn[3];
+    int pvalid[3];
+    unsigned char *drop, *flag;
+    size_t cap_samp;
+    int valid;
+};
+
+/* Shared state of one analysis. */
+struct ctx {
+    const cpd_ramp_opts *o;
+    cpd_ramp_ws *w;
+    cpd_ramp_result *res;
+    size_t i0, i1;  /* grid indices of onset and end */
+    double t_end;   /* s from onset */
+};
+
+static void say(char *buf, size_t len, const char *fmt, ...)
+{
+    if (!buf)
+        return;
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(buf, len, fmt, ap);
+    va_end(ap);
+}
+
+const char *cpd_ramp_reason_text(int reason)
+{
+    static const char *const text[CPD_RAMP_NREASONS] = {
+        [CPD_RAMP_R_NONE] = "available",
+        [CPD_RAMP_R_NO_VCO2] = "no VCO2 in the data",
+        [CPD_RAMP_R_NO_VE] = "no VE in the data",
+        [CPD_RAMP_R_FEW_POINTS] = "too few samples in the eligible range",
+        [CPD_RAMP_R_NO_BREAK] = "no visible threshold",
+        [CPD_RAMP_R_SLOPES] = "slopes fail the acceptance criteria",
+        [CPD_RAMP_R_OUTSIDE] = "the lines do not cross inside the data",
+        [CPD_RAMP_R_NOT_REACHED] = "level not reached during the ramp",
+        [CPD_RAMP_R_NOT_ISOCAPNIC] = "VE/VCO2 rises with VE/VO2",
+        [CPD_RAMP_R_NO_GET] = "no GET",
+        [CPD_RAMP_R_NO_BASELINE] = "no baseline before onset",
+        [CPD_RAMP_R_IMPLAUSIBLE] = "implausible estimate",
+        [CPD_RAMP_R_FIT_FAILED] = "regression failed",
+    };
+    if (reason < 0 || reason >= CPD_RAMP_NREASONS)
+        return "unknown reason";
+    return text[reason];
+}
+
+void cpd_ramp_opts_init(cpd_ramp_opts *o)
+{
+    memset(o, 0, sizeof *o);
+    o->modality = CPD_RAMP_POWER;
+    o->outlier_k = 4.0;
+    o->outlier_half = 10;
+    o->peak_window_s = 30.0;
+    o->smooth_s = 20.0;
+    o->bin_s = 10.0;
+}
+
+cpd_ramp_ws *cpd_ramp_alloc(void)
+{
+    return calloc(1, sizeof(cpd_ramp_ws));
+}
+
+static void release_series(cpd_ramp_ws *w)
+{
+    cpd_gx_free(w->clean);
+    cpd_gx_free(w->grid);
+    w->clean = w->grid = NULL;
+    w->valid = 0;
+}
+
+void cpd_ramp_free(cpd_ramp_ws *w)
+{
+    if (!w)
+        return;
+    release_series(w);
+    free(w->sm_vo2);
+    free(w->sm_vco2);
+    free(w->sm_hr);
+    free(w->trail);
+    free(w->pts);
+    for (int k = 0; k < 3; k++) {
+        free(w->px[k]);
+        free(w->py[k]);
+    }
+    free(w->ra);
+    free(w->rb);
+    free(w->rc);
+    free(w->rd);
+    free(w->drop);
+    free(w->flag);
+    free(w);
+}
+
+static int grow(void **p, size_t n, size_t size)
+{
+    void *q = realloc(*p, (n ? n : 1) * size);
+    if (!q)
+        return CPD_ENOMEM;
+    *p = q;
+    return CPD_OK;
+}
+
+static int reserve_samples(cpd_ramp_ws *w, size_t n)
+{
+    if (n <= w->cap_samp)
+        return CPD_OK;
+    int rc = grow((void **)&w->pts, n, sizeof(struct pt));
+    for (int k = 0; k < 3 && !rc; k++) {
+        rc = grow((void **)&w->px[k], n, sizeof(double));
+        if (!rc)
+            rc = grow((void **)&w->py[k], n, sizeof(double));
+    }
+    if (!rc)
+        rc = grow((void **)&w->ra, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->rb, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->rc, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->rd, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->drop, n, 1);
+    if (!rc)
+        rc = grow((void **)&w->flag, n, 1);
+    if (!rc)
+        w->cap_samp = n;
+    return rc;
+}
+
+static int reserve_grid(cpd_ramp_ws *w, size_t n)
+{
+    if (n <= w->cap_grid)
+        return CPD_OK;
+    int rc = grow((void **)&w->sm_vo2, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->sm_vco2, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->sm_hr, n, sizeof(double));
+    if (!rc)
+        rc = grow((void **)&w->trail, n, sizeof(double));
+    if (!rc)
+        w->cap_grid = n;
+    return rc;
+}
+
+/* ---- two-segment regression ---- */
+
+/* Residual sum of squares of a line through m points with the given centred sums; -1 when the
+ * x values are all equal (no line). */
+static double seg_rss(double m, double sx, double sy, double sxx, double sxy, double syy)
+{
+    double cxx = sxx - sx * sx / m;
+    double cxy = sxy - sx * sy / m;
+    double cyy = syy - sy * sy / m;
+    if (!(cxx > 1e-12 * (sxx > 0 ? sxx : 1)))
+        return -1;
+    double r = cyy - cxy * cxy / cxx;
+    return r > 0 ? r : 0;
+}
+
+int cpd_ramp_twoseg_fit(const double *x, const double *y, size_t n, size_t min_seg, cpd_ramp_twoseg *out)
+{
+    if (!x || !y || !out || min_seg < 2 || n < 2 * min_seg)
+        return CPD_EUSAGE;
+    memset(out, 0, sizeof *out);
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(x[i]) || !isfinite(y[i]))
+            return CPD_ENODATA;
+        if (i > 0 && x[i] < x[i - 1])
+            return CPD_EUSAGE;
+    }
+    /* Centring keeps the running sums free of cancellation at VO2 scales. */
+    double mx = 0, my = 0;
+    for (size_t i = 0; i < n; i++) {
+        mx += x[i];
+        my += y[i];
+    }
+    mx /= (double)n;
+    my /= (double)n;
+    double T[5] = {0, 0, 0, 0, 0}, L[5] = {0, 0, 0, 0, 0};
+    for (size_t i = 0; i < n; i++) {
+        double u = x[i] - mx, v = y[i] - my;
+        T[0] += u;
+        T[1] += v;
+        T[2] += u * u;
+        T[3] += u * v;
+        T[4] += v * v;
+    }
+    size_t best = 0;
+    double best_rss = 0;
+    for (size_t k = 1; k < n; k++) {
+        double u = x[k - 1] - mx, v = y[k - 1] - my;
+        L[0] += u;
+        L[1] += v;
+        L[2] += u * u;
+        L[3] += u * v;
+        L[4] += v * v;
+        if (k < min_seg || n - k < min_seg)
+            continue;
+        double r1 = seg_rss((double)k, L[0], L[1], L[2], L[3], L[4]);
+        double r2 = seg_rss((double)(n - k), T[0] - L[0], T[1] - L[1], T[2] - L[2], T[3] - L[3], T[4] - L[4]);
+        if (r1 < 0 || r2 < 0)
+            continue;
+        if (best == 0 || r1 + r2 < best_rss) {
+            best = k;
+            best_rss = r1 + r2;
+        }
+    }
+    if (best == 0)
+        return CPD_ENODATA;
+
+    cpd_linfit_result f1, f2;
+    if (cpd_linfit_line(x, y, best, &f1) != CPD_OK || cpd_linfit_line(x + best, y + best, n - best, &f2) != CPD_OK)
+        return CPD_ENODATA;
+    out->n = n;
+    out->split = best;
+    out->b1 = f1.b[0];
+    out->s1 = f1.b[1];
+    out->b2 = f2.b[0];
+    out->s2 = f2.b[1];
+    out->s1_se = f1.se[1];
+    out->s2_se = f2.se[1];
+    out->rss = f1.rss + f2.rss;
+    /* below 1e-9 of the slopes the SE is rounding: the segments are exact and z is undefined */
+    double se = sqrt(f1.se[1] * f1.se[1] + f2.se[1] * f2.se[1]);
+    if (se > 1e-9 * (fabs(out->s1) + fabs(out->s2))) {
+        out->has_z = 1;
+        out->z = (out->s2 - out->s1) / se;
+    }
+    double ds = out->s1 - out->s2;
+    if (fabs(ds) > 1e-12 * (fabs(out->s1) + fabs(out->s2))) {
+        double xc = (out->b2 - out->b1) / ds;
+        if (isfinite(xc)) {
+            out->has_cross = 1;
+            out->x_cross = xc;
+            out->y_cross = out->b1 + out->s1 * xc;
+        }
+    }
+    out->x_lo = x[0];
+    out->x_hi = x[n - 1];
+    return CPD_OK;
+}
+
+/* ---- input checks ---- */
+
+static int check_opts(const cpd_ramp_opts *o, char *msg)
+{
+    if (o->modality != CPD_RAMP_POWER && o->modality != CPD_RAMP_SPEED) {
+        say(msg, CPD_MSG_MAX, "unknown modality %d", (int)o->modality);
+        return CPD_EUSAGE;
+    }
+    if (!(o->rate_per_min > 0) || !isfinite(o->rate_per_min)) {
+        say(msg, CPD_MSG_MAX, "the ramp rate must be positive");
+        return CPD_EUSAGE;
+    }
+    if (!(o->start >= 0) || !isfinite(o->start) || !isfinite(o->onset_s) || (o->end_given && !isfinite(o->end_s))) {
+        say(msg, CPD_MSG_MAX, "start intensity, onset and end must be finite, start >= 0");
+        return CPD_EUSAGE;
+    }
+    if (!(o->outlier_k > 0) || !isfinite(o->outlier_k) || o->outlier_half == 0) {
+        say(msg, CPD_MSG_MAX, "the outlier rule needs k > 0 and at least one neighbour");
+        return CPD_EUSAGE;
+    }
+    if (!(o->peak_window_s >= 5 && o->peak_window_s <= 120) || !(o->smooth_s >= 5 && o->smooth_s <= 120)) {
+        say(msg, CPD_MSG_MAX, "the VO2peak and smoothing windows must lie in 5..120 s");
+        return CPD_EUSAGE;
+    }
+    if (!(o->bin_s >= 0 && o->bin_s <= 30)) {
+        say(msg, CPD_MSG_MAX, "the bin width must lie in 0..30 s");
+        return CPD_EUSAGE;
+    }
+    if (o->mrt_given && !(o->mrt_s >= 0 && o->mrt_s <= 300)) {
+        say(msg, CPD_MSG_MAX, "a given MRT must lie in 0..300 s");
+        return CPD_EUSAGE;
+    }
+    if (o->baseline_given && !(o->baseline_intensity >= 0 && isfinite(o->baseline_intensity))) {
+        say(msg, CPD_MSG_MAX, "the baseline intensity must be finite and >= 0");
+        return CPD_EUSAGE;
+    }
+    if (!(o->mass_kg >= 0 && o->mass_kg <= 400) || !(o->manual_get_vo2_ml_min >= 0) ||
+        !(o->manual_rcp_vo2_ml_min >= 0) || o->manual_get_vo2_ml_min > CPD_RAMP_VO2_MAX_ML_MIN ||
+        o->manual_rcp_vo2_ml_min > CPD_RAMP_VO2_MAX_ML_MIN) {
+        say(msg, CPD_MSG_MAX, "mass (0..400 kg) and manual VO2 values (0..%.0f mL/min) out of range",
+            CPD_RAMP_VO2_MAX_ML_MIN);
+        return CPD_EUSAGE;
+    }
+    return CPD_OK;
+}
+
+static int check_series(const cpd_gx_series *s, char *msg)
+{
+    /* lowest and highest plausible value of each channel; lower bounds exclusive where 0 is absurd */
+    static const double lo[CPD_GX_NCHAN] = {0, 0, 0, 20, 0, 0, 0, 0};
+    static const double hi[CPD_GX_NCHAN] = {CPD_RAMP_VO2_MAX_ML_MIN, CPD_RAMP_VO2_MAX_ML_MIN, CPD_RAMP_VE_MAX_L_MIN,
+                                            250, 3000, 15, 200, 200};
+    static const int open_lo[CPD_GX_NCHAN] = {1, 1, 1, 0, 0, 0, 1, 1};
+    if (!s->t_s || !s->ch[CPD_GX_VO2]) {
+        say(msg, CPD_MSG_MAX, "the series has no %s", s->t_s ? "VO2" : "time");
+        return CPD_EDATA;
+    }
+    for (size_t i = 0; i < s->n; i++) {
+        if (!isfinite(s->t_s[i])) {
+            say(msg, CPD_MSG_MAX, "sample %zu: time is not a number", i + 1);
+            return CPD_EDATA;
+        }
+        if (i > 0 && s->t_s[i] < s->t_s[i - 1]) {
+            say(msg, CPD_MSG_MAX, "sample %zu: time runs backwards (%.3f s after %.3f s)", i + 1, s->t_s[i],
+                s->t_s[i - 1]);
+            return CPD_EDATA;
+        }
+        for (int c = 0; c < CPD_GX_NCHAN; c++) {
+            if (!s->ch[c])
+                continue;
+            double v = s->ch[c][i];
+            int bad = !isfinite(v) || v > hi[c] || (open_lo[c] ? !(v > lo[c]) : !(v >= lo[c]));
+            if (bad) {
+                say(msg, CPD_MSG_MAX, "sample %zu: %s = %g is outside its plausible range", i + 1,
+                    cpd_gx_channel_name(c), v);
+                return CPD_EDATA;
+            }
+        }
+    }
+    return CPD_OK;
+}
+
+/* ---- small helpers on the grid ---- */
+
+/* Centred mean over +-h samples (fewer at the ends). gx's rolling mean is trailing and would place a
+ * level in time half a window late. */
+static void centred_mean(const double *x, size_t n, size_t h, double *out)
+{
+    double sum = 0;
+    size_t lo = 0, hi = 0; /* window [lo, hi) */
+    for (size_t i = 0; i < n; i++) {
+        size_t want_hi = i + h + 1 < n ? i + h + 1 : n;
+        size_t want_lo = i > h ? i - h : 0;
+        while (hi < want_hi)
+            sum += x[hi++];
+        while (lo < want_lo)
+            sum -= x[lo++];
+        out[i] = sum / (double)(hi - lo);
+    }
+}
+
+/* Linear interpolation of v on the 1-s grid at time t (clamped to the grid). */
+static double grid_at(const cpd_gx_series *g, const double *v, double t)
+{
+    double u = t - g->t_s[0];
+    if (u <= 0)
+        return v[0];
+    size_t k = (size_t)floor(u);
+    if (k + 1 >= g->n)
+        return v[g->n - 1];
+    double f = u - (double)k;
+    return v[k] + f * (v[k + 1] - v[k]);
+}
+
+/* First time in grid [i0, i1] at which v reaches level, interpolated between seconds. */
+static int first_reach(const struct ctx *c, const double *v, double level, double *t_out)
+{
+    const double *t = c->w->grid->t_s;
+    for (size_t i = c->i0; i <= c->i1; i++)
+        if (v[i] >= level) {
+            if (i == c->i0) {
+                *t_out = t[i];
+            } else {
+                double f = (level - v[i - 1]) / (v[i] - v[i - 1]);
+                *t_out = t[i - 1] + f * (t[i] - t[i - 1]);
+            }
+            return 1;
+        }
+    return 0;
+}
+
+static void not_found(cpd_ramp_threshold *th, int reason, const char *fmt, ...)
+{
+    memset(th, 0, sizeof *th);
+    th->status = CPD_THR_NOT_FOUND;
+    th->reason = reason;
+    th->method = "";
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(th->why, sizeof th->why, fmt, ap);
+    va_end(ap);
+}
+
+static void place_at(const struct ctx *c, cpd_ramp_threshold *th, double t, double vo2, int status,
+                     const char *method)
+{
+    memset(th, 0, sizeof *th);
+    th->status = status;
+    th->reason = CPD_RAMP_R_NONE;
+    th->method = method;
+    th->vo2_ml_min = vo2;
+    th->pct_vo2peak = 100.0 * vo2 / c->res->vo2peak_ml_min;
+    th->time_s = t;
+    th->ramp_intensity = c->o->start + c->o->rate_per_min * t / 60.0;
+    if (c->w->grid->ch[CPD_GX_HR]) {
+        th->has_hr = 1;
+        th->hr_bpm = grid_at(c->w->grid, c->w->sm_hr, t);
+    }
+}
+
+static void place_vo2(const struct ctx *c, cpd_ramp_threshold *th, double vo2, int status, const char *method)
+{
+    double t;
+    if (!first_reach(c, c->w->sm_vo2, vo2, &t)) {
+        not_found(th, CPD_RAMP_R_NOT_REACHED, "smoothed VO2 never reaches %.0f mL/min during the ramp", vo2);
+        return;
+    }
+    place_at(c, th, t, vo2, status, method);
+}
+
+static int cmp_pt(const void *a, const void *b)
+{
+    const struct pt *p = a, *q = b;
+    if (p->x != q->x)
+        return p->x < q->x ? -1 : 1;
+    return p->i < q->i ? -1 : (p->i > q->i);
+}
+
+/* Collects the clean samples with time in [t_lo, t_hi] as points, one per time bin of bin_s seconds
+ * (one per sample when bin_s is 0): x = mean of channel cx, y = mean of cy, riders VE/VCO2, VE/VO2,
+ * PETO2, PETCO2 and VE from the bin means; sorted by x. Returns the count. Bin means cut the breath noise
+ * in x, which would otherwise flatten both OLS slopes (errors in variables) and smear the split. */
+static size_t collect(cpd_ramp_ws *w, double bin_s, int cx, int cy, double t_lo, double t_hi, int kind)
+{
+    const cpd_gx_series *s = w->clean;
+    const double *ve = s->ch[CPD_GX_VE], *vc = s->ch[CPD_GX_VCO2], *o2 = s->ch[CPD_GX_PETO2],
+                 *co2 = s->ch[CPD_GX_PETCO2];
+    size_t m = 0, i = 0;
+    while (i < s->n && s->t_s[i] < t_lo)
+        i++;
+    while (i < s->n && s->t_s[i] <= t_hi) {
+        double bin = bin_s > 0 ? floor((s->t_s[i] - t_lo) / bin_s) : 0;
+        double sx = 0, sy = 0, so = 0, sc = 0, se = 0, sp = 0, sq = 0;
+        size_t k = 0, first = i;
+        while (i < s->n && s->t_s[i] <= t_hi &&
+               (bin_s > 0 ? floor((s->t_s[i] - t_lo) / bin_s) == bin : k == 0)) {
+            sx += s->ch[cx][i];
+            sy += s->ch[cy][i];
+            so += s->ch[CPD_GX_VO2][i];
+            sc += vc ? vc[i] : 0;
+            se += ve ? ve[i] : 0;
+            sp += o2 ? o2[i] : 0;
+            sq += co2 ? co2[i] : 0;
+            k++;
+            i++;
+        }
+        double dk = (double)k;
+        struct pt *p = &w->pts[m++];
+        p->x = sx / dk;
+        p->y = sy / dk;
+        p->a = ve && vc ? 1000.0 * se / sc : 0;
+        p->b = ve ? 1000.0 * se / so : 0;
+        p->c = sp / dk;
+        p->d = sq / dk;
+        p->e = se / dk;
+        p->i = first;
+    }
+    qsort(w->pts, m, sizeof *w->pts, cmp_pt);
+    for (size_t k = 0; k < m; k++) {
+        w->px[kind][k] = w->pts[k].x;
+        w->py[kind][k] = w->pts[k].y;
+        if (kind == CPD_RAMP_PTS_VSLOPE) {
+            w->ra[k] = w->pts[k].a;
+            w->rb[k] = w->pts[k].b;
+            w->px[CPD_RAMP_PTS_VEQ][k] = w->pts[k].x;
+            w->py[CPD_RAMP_PTS_VEQ][k] = w->pts[k].e;
+            w->rc[k] = w->pts[k].c;
+            w->rd[k] = w->pts[k].d;
+        }
+    }
+    return m;
+}
+
+/* The common gate of a breakpoint: lines cross inside the data and the slope change is significant. */
+static int gate(const cpd_ramp_twoseg *f, cpd_ramp_threshold *th, const char *what)
+{
+    if (!f->has_cross || f->x_cross < f->x_lo || f->x_cross > f->x_hi) {
+        not_found(th, CPD_RAMP_R_OUTSIDE, "%s: the two lines do not cross inside the data", what);
+        return 0;
+    }
+    if (f->has_z && f->z < Z_MIN) {
+        not_found(th, CPD_RAMP_R_NO_BREAK, "%s: slope change not significant (z = %.2f < %.0f)", what, f->z, Z_MIN);
+        return 0;
+    }
+    return 1;
+}
+
+/* ---- the analyses ---- */
+
+static void find_rcp(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    cpd_ramp_ws *w = c->w;
+    cpd_ramp_threshold *th = &r->rcp_auto;
+    if (!w->clean->ch[CPD_GX_VCO2]) {
+        not_found(th, CPD_RAMP_R_NO_VCO2, "RCP needs VCO2");
+        return;
+    }
+    if (!w->clean->ch[CPD_GX_VE]) {
+        not_found(th, CPD_RAMP_R_NO_VE, "RCP needs VE");
+        return;
+    }
+    size_t n = collect(w, c->o->bin_s, CPD_GX_VCO2, CPD_GX_VE, EXCLUDE_FIRST_S, c->t_end, CPD_RAMP_PTS_RCP);
+    size_t ms = n / 20 > MIN_SEG ? n / 20 : MIN_SEG;
+    if (n < 2 * ms) {
+        not_found(th, CPD_RAMP_R_FEW_POINTS, "RCP: %zu samples after the first minute, need %zu", n, 2 * ms);
+        return;
+    }
+    cpd_ramp_twoseg *f = &r->rcp_fit;
+    if (cpd_ramp_twoseg_fit(w->px[CPD_RAMP_PTS_RCP], w->py[CPD_RAMP_PTS_RCP], n, ms, f) != CPD_OK) {
+        not_found(th, CPD_RAMP_R_FIT_FAILED, "RCP: no two-segment fit of VE on VCO2");
+        return;
+    }
+    r->has_rcp_fit = 1;
+    w->pn[CPD_RAMP_PTS_RCP] = n;
+    w->pvalid[CPD_RAMP_PTS_RCP] = 1;
+    if (!gate(f, th, "RCP"))
+        return;
+    if (!(f->s1 > 0) || f->s2 < RCP_RATIO_MIN * f->s1) {
+        not_found(th, CPD_RAMP_R_SLOPES, "RCP: VE-VCO2 slope rises only from %.4g to %.4g (need x%.2f)", f->s1, f->s2,
+                  RCP_RATIO_MIN);
+        return;
+    }
+    double t;
+    if (!first_reach(c, w->sm_vco2, f->x_cross, &t)) {
+        not_found(th, CPD_RAMP_R_NOT_REACHED, "RCP: smoothed VCO2 never reaches %.0f mL/min", f->x_cross);
+        return;
+    }
+    place_at(c, th, t, grid_at(w->grid, w->sm_vo2, t), CPD_THR_FOUND, "VE-VCO2 breakpoint");
+}
+
+/* OLS slope of v on x over points [k0, n); 0 when it cannot be fitted. */
+static double tail_slope(const double *x, const double *v, size_t k0, size_t n)
+{
+    cpd_linfit_result f;
+    if (n - k0 < 3 || cpd_linfit_line(x + k0, v + k0, n - k0, &f) != CPD_OK)
+        return 0;
+    return f.b[1];
+}
+
+/* The ventilatory-equivalent GET: VE/VO2 starts to rise where VE on VO2 steepens beyond VE/VO2
+ * itself, so the breakpoint of VE on VO2 is taken (two segments as for the V-slope); the rise must
+ * be real (upper slope > VE/VO2 at the break) and isocapnic (VE/VCO2 rising at most a quarter as
+ * fast as VE/VO2 above the break). PETO2 and PETCO2, when present, are reported as support. A
+ * two-line fit of the ratio itself is biased low by its early hyperbolic fall. */
+static void find_veq(struct ctx *c, size_t n, size_t ms)
+{
+    cpd_ramp_result *r = c->res;
+    cpd_ramp_ws *w = c->w;
+    cpd_ramp_veq *q = &r->veq;
+    q->peto2_rises = q->petco2_steady = q->agree = -1;
+    cpd_ramp_threshold tmp;
+    if (!w->clean->ch[CPD_GX_VE]) {
+        q->reason = CPD_RAMP_R_NO_VE;
+        say(q->why, sizeof q->why, "the ventilatory-equivalent check needs VE");
+        return;
+    }
+    const double *x = w->px[CPD_RAMP_PTS_VEQ];
+    if (cpd_ramp_twoseg_fit(x, w->py[CPD_RAMP_PTS_VEQ], n, ms, &q->fit) != CPD_OK) {
+        q->reason = CPD_RAMP_R_FIT_FAILED;
+        say(q->why, sizeof q->why, "no two-segment fit of VE on VO2");
+        return;
+    }
+    w->pn[CPD_RAMP_PTS_VEQ] = n;
+    w->pvalid[CPD_RAMP_PTS_VEQ] = 1;
+    const cpd_ramp_twoseg *f = &q->fit;
+    if (!gate(f, &tmp, "VE on VO2")) {
+        q->reason = tmp.reason;
+        memcpy(q->why, tmp.why, sizeof q->why);
+        return;
+    }
+    if (!(f->s2 > f->y_cross / f->x_cross)) {
+        q->reason = CPD_RAMP_R_SLOPES;
+        say(q->why, sizeof q->why, "VE/VO2 does not rise above the breakpoint (slope %.4g <= ratio %.4g)", f->s2,
+            f->y_cross / f->x_cross);
+        return;
+    }
+    size_t k0 = f->split;
+    double span = f->x_hi - f->x_cross;
+    q->veo2_slope = tail_slope(x, w->rb, k0, n);
+    q->vevco2_slope = tail_slope(x, w->ra, k0, n);
+    if (w->clean->ch[CPD_GX_PETO2])
+        q->peto2_rises = tail_slope(x, w->rc, k0, n) * span > PET_CHANGE_MMHG;
+    if (w->clean->ch[CPD_GX_PETCO2])
+        q->petco2_steady = tail_slope(x, w->rd, k0, n) * span > -PET_CHANGE_MMHG;
+    if (q->vevco2_slope > ISOCAPNIC_FRAC * q->veo2_slope) {
+        q->reason = CPD_RAMP_R_NOT_ISOCAPNIC;
+        say(q->why, sizeof q->why, "VE/VCO2 rises with VE/VO2 (%.3g vs %.3g per L/min)", 1000 * q->vevco2_slope,
+            1000 * q->veo2_slope);
+        return;
+    }
+    q->status = CPD_THR_FOUND;
+    q->reason = CPD_RAMP_R_NONE;
+    q->vo2_ml_min = f->x_cross;
+    if (r->get_auto.status == CPD_THR_FOUND) {
+        q->has_diff = 1;
+        q->diff_ml_min = q->vo2_ml_min - r->get_auto.vo2_ml_min;
+        q->agree = fabs(q->diff_ml_min) <= AGREE_FRAC * r->vo2peak_ml_min;
+    }
+}
+
+static void find_get(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    cpd_ramp_ws *w = c->w;
+    cpd_ramp_threshold *th = &r->get_auto;
+    r->veq.peto2_rises = r->veq.petco2_steady = r->veq.agree = -1;
+    if (!w->clean->ch[CPD_GX_VCO2]) {
+        not_found(th, CPD_RAMP_R_NO_VCO2, "V-slope needs VCO2");
+        r->veq.reason = CPD_RAMP_R_NO_VCO2;
+        say(r->veq.why, sizeof r->veq.why, "the ventilatory-equivalent check needs VCO2");
+        return;
+    }
+    double t_hi = r->rcp_auto.status == CPD_THR_FOUND ? r->rcp_auto.time_s : c->t_end;
+    r->vslope_t_lo_s = EXCLUDE_FIRST_S;
+    r->vslope_t_hi_s = t_hi;
+    size_t n = collect(w, c->o->bin_s, CPD_GX_VO2, CPD_GX_VCO2, EXCLUDE_FIRST_S, t_hi, CPD_RAMP_PTS_VSLOPE);
+    size_t ms = n / 10 > MIN_SEG ? n / 10 : MIN_SEG;
+    if (n < 2 * ms) {
+        not_found(th, CPD_RAMP_R_FEW_POINTS, "V-slope: %zu samples between %.0f and %.0f s, need %zu", n,
+                  EXCLUDE_FIRST_S, t_hi, 2 * ms);
+        r->veq.reason = CPD_RAMP_R_FEW_POINTS;
+        say(r->veq.why, sizeof r->veq.why, "too few samples");
+        return;
+    }
+    cpd_ramp_twoseg *f = &r->vslope;
+    if (cpd_ramp_twoseg_fit(w->px[CPD_RAMP_PTS_VSLOPE], w->py[CPD_RAMP_PTS_VSLOPE], n, ms, f) != CPD_OK) {
+        not_found(th, CPD_RAMP_R_FIT_FAILED, "V-slope: no two-segment fit of VCO2 on VO2");
+    } else {
+        r->has_vslope = 1;
+        w->pn[CPD_RAMP_PTS_VSLOPE] = n;
+        w->pvalid[CPD_RAMP_PTS_VSLOPE] = 1;
+        if (gate(f, th, "V-slope")) {
+            if (f->s1 < VS_S1_MIN)
+                not_found(th, CPD_RAMP_R_SLOPES, "V-slope: S1 %.3f below %.1f", f->s1, VS_S1_MIN);
+            else if (!(f->s2 > VS_S2_MIN))
+                not_found(th, CPD_RAMP_R_SLOPES, "V-slope: S2 %.3f not above %.1f", f->s2, VS_S2_MIN);
+            else if (!(f->s2 - f->s1 > VS_DIFF_MIN))
+                not_found(th, CPD_RAMP_R_SLOPES, "V-slope: S2 - S1 = %.3f not above %.1f", f->s2 - f->s1,
+                          VS_DIFF_MIN);
+            else
+                place_vo2(c, th, f->x_cross, CPD_THR_FOUND, "V-slope (Beaver, Wasserman & Whipp 1986)");
+        }
+    }
+    find_veq(c, n, ms);
+}
+
+/* VO2 on time over the clean samples in [t_lo, t_hi]. */
+static int vo2_line(const cpd_ramp_ws *w, double t_lo, double t_hi, size_t min_n, cpd_linfit_result *f, size_t *m_out)
+{
+    const cpd_gx_series *s = w->clean;
+    size_t a = 0, m = 0;
+    while (a < s->n && s->t_s[a] < t_lo)
+        a++;
+    while (a + m < s->n && s->t_s[a + m] <= t_hi)
+        m++;
+    *m_out = m;
+    if (m < min_n)
+        return CPD_ENODATA;
+    return cpd_linfit_line(s->t_s + a, s->ch[CPD_GX_VO2] + a, m, f);
+}
+
+static void baseline(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_gx_series *s = c->w->clean;
+    int col = c->o->modality == CPD_RAMP_POWER ? CPD_GX_POWER : CPD_GX_SPEED;
+    double sum = 0, sumc = 0;
+    size_t m = 0;
+    for (size_t i = 0; i < s->n && s->t_s[i] < 0; i++)
+        if (s->t_s[i] >= -BASE_WIN_S) {
+            double v = s->ch[CPD_GX_VO2][i];
+            sum += v;
+            if (s->ch[col])
+                sumc += s->ch[col][i];
+            m++;
+        }
+    if (c->o->baseline_given)
+        r->baseline_intensity = c->o->baseline_intensity;
+    else if (s->ch[col] && m > 0)
+        r->baseline_intensity = sumc / (double)m;
+    else
+        r->baseline_intensity = c->o->start;
+    if (m >= BASE_MIN_N && s->t_s[0] <= -BASE_MIN_S) {
+        r->has_baseline = 1;
+        r->baseline_vo2_ml_min = sum / (double)m;
+    }
+}
+
+/* Lagged-linear MRT from the line a + s t (cov: its covariance, row-major 2 x 2) and the baseline.
+ * Fills the estimate fields or the reason. */
+static void mrt_from_line(struct ctx *c, double a, double s, const double *cov)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    r->has_mrt_est = 0;
+    r->mrt_est_s = r->mrt_est_se_s = 0;
+    if (!r->has_baseline) {
+        r->mrt_reason = CPD_RAMP_R_NO_BASELINE;
+        say(r->mrt_why, sizeof r->mrt_why, "no baseline: need %.0f s and %d samples before onset", BASE_MIN_S,
+            BASE_MIN_N);
+        return;
+    }
+    const cpd_gx_series *cs = c->w->clean;
+    double b = r->baseline_vo2_ml_min, ss = 0;
+    size_t m = 0;
+    for (size_t i = 0; i < cs->n && cs->t_s[i] < 0; i++)
+        if (cs->t_s[i] >= -BASE_WIN_S) {
+            double d = cs->ch[CPD_GX_VO2][i] - b;
+            ss += d * d;
+            m++;
+        }
+    double vb = ss / (double)(m - 1) / (double)m; /* variance of the baseline mean */
+    double d = b - a;
+    double mrt = d / s + 60.0 * (o->start - r->baseline_intensity) / o->rate_per_min;
+    /* delta method: dMRT/db = 1/s, dMRT/da = -1/s, dMRT/ds = -(b - a)/s^2 */
+    double var = (vb + cov[0]) / (s * s) + d * d / (s * s * s * s) * cov[3] + 2 * d / (s * s * s) * cov[1];
+    if (!(mrt >= 0 && mrt <= MRT_MAX_S)) {
+        r->mrt_reason = CPD_RAMP_R_IMPLAUSIBLE;
+        say(r->mrt_why, sizeof r->mrt_why, "lagged-linear MRT %.0f s outside 0..%.0f s", mrt, MRT_MAX_S);
+        return;
+    }
+    r->mrt_reason = CPD_RAMP_R_NONE;
+    r->mrt_why[0] = '\0';
+    r->has_mrt_est = 1;
+    r->mrt_est_s = mrt;
+    r->mrt_est_se_s = var > 0 ? sqrt(var) : 0;
+}
+
+/* VO2 on time over [t_lo, t_hi] below the GET: gain and, with a baseline, the MRT. Returns 1 when
+ * the line exists. */
+static int sub_get_line(struct ctx *c, double t_lo, double t_hi)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    cpd_linfit_result f;
+    size_t m = 0;
+    if (t_hi - t_lo < GAIN_MIN_SPAN_S) {
+        r->gain_reason = CPD_RAMP_R_FEW_POINTS;
+        say(r->gain_why, sizeof r->gain_why, "the GET at %.0f s leaves less than %.0f s of linear range", t_hi,
+            GAIN_MIN_SPAN_S);
+        return 0;
+    }
+    if (vo2_line(c->w, t_lo, t_hi, GAIN_MIN_N, &f, &m) != CPD_OK) {
+        r->gain_reason = m < GAIN_MIN_N ? CPD_RAMP_R_FEW_POINTS : CPD_RAMP_R_FIT_FAILED;
+        say(r->gain_why, sizeof r->gain_why, "%zu samples between %.0f and %.0f s", m, t_lo, t_hi);
+        return 0;
+    }
+    if (!(f.b[1] > MIN_RAMP_SLOPE)) {
+        r->gain_reason = CPD_RAMP_R_IMPLAUSIBLE;
+        say(r->gain_why, sizeof r->gain_why, "VO2 does not rise below the GET (%.3g mL/min per s)", f.b[1]);
+        return 0;
+    }
+    r->gain_status = CPD_THR_FOUND;
+    r->gain_reason = CPD_RAMP_R_NONE;
+    r->gain = 60.0 * f.b[1] / o->rate_per_min;
+    r->gain_se = 60.0 * f.se[1] / o->rate_per_min;
+    r->gain_t_lo_s = t_lo;
+    r->gain_t_hi_s = t_hi;
+    r->slope_ml_min_s = f.b[1];
+    r->gain_in_range = o->modality == CPD_RAMP_POWER ? r->gain >= GAIN_LO && r->gain <= GAIN_HI : -1;
+    mrt_from_line(c, f.b[0], f.b[1], f.cov);
+    return 1;
+}
+
+/* Gain and MRT by the lagged-linear model (Whipp et al. 1981 J Appl Physiol 50:217): above the
+ * on-transient, VO2(t) = b + G (P(t - MRT) - P_base). With P(t) = start + rate t / 60 the data give
+ * a line a + s t, so G = 60 s / rate and MRT = (b - a) / s + 60 (start - P_base) / rate. The line
+ * starts at 120 s (60 s when the GET comes before 210 s). After a step at onset (larger than half a
+ * minute of ramp) the step's exponential may still be present there: when 4 MRT of the first
+ * estimate lies later and leaves 90 s below the GET, the line is fitted once more from 4 MRT. */
+static void gain_mrt(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    r->gain_in_range = -1;
+    const cpd_ramp_threshold *get = &r->get;
+    if (get->status == CPD_THR_NOT_FOUND) {
+        r->gain_reason = CPD_RAMP_R_NO_GET;
+        say(r->gain_why, sizeof r->gain_why, "the gain is fitted below the GET, which is not available");
+    } else {
+        double t_hi = get->time_s;
+        double t_lo = t_hi - GAIN_T_LO_S >= 90.0 ? GAIN_T_LO_S : EXCLUDE_FIRST_S;
+        int step = fabs(o->start - r->baseline_intensity) > o->rate_per_min / 2;
+        if (sub_get_line(c, t_lo, t_hi) && step && r->has_mrt_est && 4 * r->mrt_est_s > t_lo &&
+            t_hi - 4 * r->mrt_est_s >= 90.0) {
+            cpd_ramp_result first = *r;
+            if (!sub_get_line(c, 4 * r->mrt_est_s, t_hi))
+                *r = first;
+        }
+    }
+    if (r->gain_status != CPD_THR_FOUND) {
+        r->mrt_reason = r->gain_reason;
+        say(r->mrt_why, sizeof r->mrt_why, "MRT needs the sub-GET VO2 line: %s", r->gain_why);
+    }
+    if (o->mrt_given) {
+        r->mrt_status = CPD_THR_MANUAL;
+        r->mrt_s = o->mrt_s;
+    } else if (r->has_mrt_est) {
+        r->mrt_status = CPD_THR_FOUND;
+        r->mrt_s = r->mrt_est_s;
+    } else {
+        r->mrt_status = CPD_THR_NOT_FOUND;
+    }
+}
+
+static void equivalents(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    if (r->mrt_status == CPD_THR_NOT_FOUND)
+        return;
+    cpd_ramp_threshold *all[4] = {&r->get, &r->get_auto, &r->rcp, &r->rcp_auto};
+    double shift = c->o->rate_per_min * r->mrt_s / 60.0;
+    for (int k = 0; k < 4; k++)
+        if (all[k]->status != CPD_THR_NOT_FOUND) {
+            all[k]->has_equiv = 1;
+            all[k]->equiv_intensity = all[k]->ramp_intensity - shift;
+        }
+}
+
+static void plateau(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    cpd_linfit_result f;
+    size_t m = 0;
+    r->plateau = -1;
+    if (vo2_line(c->w, c->t_end - PLATEAU_WIN_S, c->t_end, 10, &f, &m) != CPD_OK) {
+        say(r->plateau_why, sizeof r->plateau_why, "%zu samples in the final %.0f s", m, PLATEAU_WIN_S);
+        return;
+    }
+    r->final_slope_ml_min_s = f.b[1];
+    if (r->gain_status == CPD_THR_FOUND) {
+        r->ref_slope_ml_min_s = r->slope_ml_min_s;
+    } else {
+        cpd_linfit_result g;
+        double hi = c->t_end - PLATEAU_WIN_S;
+        if (hi - GAIN_T_LO_S < GAIN_MIN_SPAN_S || vo2_line(c->w, GAIN_T_LO_S, hi, GAIN_MIN_N, &g, &m) != CPD_OK) {
+            say(r->plateau_why, sizeof r->plateau_why, "no reference slope before the final %.0f s", PLATEAU_WIN_S);
+            return;
+        }
+        r->ref_slope_ml_min_s = g.b[1];
+    }
+    if (!(r->ref_slope_ml_min_s > MIN_RAMP_SLOPE)) {
+        say(r->plateau_why, sizeof r->plateau_why, "VO2 does not rise during the ramp (%.3g mL/min per s)",
+            r->ref_slope_ml_min_s);
+        r->ref_slope_ml_min_s = 0;
+        return;
+    }
+    r->plateau = r->final_slope_ml_min_s < PLATEAU_FRAC * r->ref_slope_ml_min_s;
+}
+
+static void column_check(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_gx_series *g = c->w->grid;
+    int col = c->o->modality == CPD_RAMP_POWER ? CPD_GX_POWER : CPD_GX_SPEED;
+    if (!g->ch[col])
+        return;
+    r->has_column = 1;
+    double sum = 0;
+    for (size_t i = c->i0; i <= c->i1; i++)
+        sum += fabs(g->ch[col][i] - (c->o->start + c->o->rate_per_min * g->t_s[i] / 60.0));
+    r->column_mad = sum / (double)(c->i1 - c->i0 + 1);
+    r->column_mismatch = r->column_mad > COLUMN_MISMATCH_FRAC * c->o->rate_per_min * c->t_end / 60.0;
+}
+
+/* Flags outliers in VO2, VCO2 and VE (cpd_gx_outliers) and drops the samples; repeats on what
+ * remains, up to OUTLIER_PASSES times, because one wild breath inflates its neighbours' SD and hides
+ * a second one close by. w->clean receives the result; *count the samples dropped. */
+static int remove_outliers(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts *o, size_t *count)
+{
+    static const int chk[3] = {CPD_GX_VO2, CPD_GX_VCO2, CPD_GX_VE};
+    const cpd_gx_series *cur = s;
+    cpd_gx_series *own = NULL;
+    int rc = CPD_OK;
+    for (int pass = 0; pass < OUTLIER_PASSES; pass++) {
+        memset(w->drop, 0, cur->n);
+        for (int k = 0; k < 3; k++) {
+            size_t nf = 0;
+            if (!cur->ch[chk[k]])
+                continue;
+            rc = cpd_gx_outliers(cur, chk[k], o->outlier_half, o->outlier_k, w->flag, &nf);
+            if (rc)
+                goto done;
+            for (size_t i = 0; i < cur->n; i++)
+                w->drop[i] |= w->flag[i];
+        }
+        size_t m = 0;
+        for (size_t i = 0; i < cur->n; i++)
+            m += w->drop[i];
+        if (own && m == 0)
+            break;
+        cpd_gx_series *next = cpd_gx_filter(cur, w->drop);
+        if (!next) {
+            rc = CPD_ENOMEM;
+            goto done;
+        }
+        cpd_gx_free(own);
+        own = next;
+        cur = own;
+        *count += m;
+        if (m == 0)
+            break;
+    }
+done:
+    if (rc)
+        cpd_gx_free(own);
+    else
+        w->clean = own;
+    return rc;
+}
+
+/* Outlier removal, shift to onset, 1-s grid; finds the end of the ramp. */
+static int prepare(struct ctx *c, const cpd_gx_series *s, char *msg)
+{
+    cpd_ramp_ws *w = c->w;
+    const cpd_ramp_opts *o = c->o;
+    int rc = reserve_samples(w, s->n);
+    if (rc)
+        return rc;
+    rc = remove_outliers(w, s, o, &c->res->n_outliers);
+    if (rc)
+        return rc;
+    cpd_gx_shift(w->clean, -o->onset_s);
+    const cpd_gx_series *cl = w->clean;
+    if (cl->n < 2 || !(cl->t_s[cl->n - 1] > 0)) {
+        say(msg, CPD_MSG_MAX, "no samples after the onset at %.1f s", o->onset_s);
+        return CPD_ENODATA;
+    }
+    rc = cpd_gx_interp(cl, 1.0, &w->grid);
+    if (rc) {
+        say(msg, CPD_MSG_MAX, "the series spans less than 2 s");
+        return rc;
+    }
+    const cpd_gx_series *g = w->grid;
+    rc = reserve_grid(w, g->n);
+    if (rc)
+        return rc;
+    size_t i0 = 0;
+    while (i0 < g->n && g->t_s[i0] < 0)
+        i0++;
+    if (i0 >= g->n) {
+        say(msg, CPD_MSG_MAX, "no samples after the onset");
+        return CPD_ENODATA;
+    }
+    int col = o->modality == CPD_RAMP_POWER ? CPD_GX_POWER : CPD_GX_SPEED;
+    double t_end;
+    if (o->end_given) {
+        t_end = o->end_s - o->onset_s;
+        if (!(t_end > 0) || t_end > s->t_s[s->n - 1] - o->onset_s) {
+            say(msg, CPD_MSG_MAX, "the ramp end %.1f s lies outside the samples after onset", o->end_s);
+            return CPD_EUSAGE;
+        }
+        if (t_end > g->t_s[g->n - 1])
+            t_end = g->t_s[g->n - 1];
+    } else if (g->ch[col]) {
+        /* the first maximum of the column: recovery after the ramp does not count */
+        size_t im = i0;
+        for (size_t i = i0; i < g->n; i++)
+            if (g->ch[col][i] > g->ch[col][im])
+                im = i;
+        t_end = g->t_s[im];
+    } else {
+        t_end = g->t_s[g->n - 1];
+    }
+    size_t i1 = i0;
+    while (i1 + 1 < g->n && g->t_s[i1 + 1] <= t_end)
+        i1++;
+    size_t m = 0;
+    for (size_t i = 0; i < cl->n; i++)
+        m += cl->t_s[i] >= 0 && cl->t_s[i] <= t_end;
+    if (t_end < CPD_RAMP_MIN_DURATION_S || m < CPD_RAMP_MIN_SAMPLES) {
+        say(msg, CPD_MSG_MAX, "the ramp lasts %.0f s with %zu samples; need %.0f s and %d", t_end, m,
+            CPD_RAMP_MIN_DURATION_S, CPD_RAMP_MIN_SAMPLES);
+        return CPD_ENODATA;
+    }
+    c->i0 = i0;
+    c->i1 = i1;
+    c->t_end = t_end;
+    return CPD_OK;
+}
+
+static void peak(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    const cpd_gx_series *g = c->w->grid;
+    size_t win = (size_t)lround(o->peak_window_s);
+    size_t h = (size_t)lround(o->smooth_s / 2);
+    cpd_gx_rolling_mean(g->ch[CPD_GX_VO2], g->n, win, c->w->trail);
+    centred_mean(g->ch[CPD_GX_VO2], g->n, h, c->w->sm_vo2);
+    if (g->ch[CPD_GX_VCO2])
+        centred_mean(g->ch[CPD_GX_VCO2], g->n, h, c->w->sm_vco2);
+    if (g->ch[CPD_GX_HR])
+        centred_mean(g->ch[CPD_GX_HR], g->n, h, c->w->sm_hr);
+    size_t ib = c->i0 + win - 1;
+    for (size_t i = ib; i <= c->i1; i++)
+        if (c->w->trail[i] > c->w->trail[ib])
+            ib = i;
+    r->vo2peak_ml_min = c->w->trail[ib];
+    r->vo2peak_time_s = g->t_s[ib];
+    r->vo2peak_intensity = o->start + o->rate_per_min * g->t_s[ib] / 60.0;
+    r->duration_s = c->t_end;
+    r->peak_intensity = o->start + o->rate_per_min * c->t_end / 60.0;
+    if (o->mass_kg > 0) {
+        r->has_relative = 1;
+        r->vo2peak_ml_kg_min = r->vo2peak_ml_min / o->mass_kg;
+    }
+}
+
+int cpd_ramp_analyse(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts *o, cpd_ramp_result *res,
+                     char *msg)
+{
+    if (msg)
+        msg[0] = '\0';
+    if (!w || !s || !o || !res) {
+        say(msg, CPD_MSG_MAX, "missing argument");
+        return CPD_EUSAGE;
+    }
+    memset(res, 0, sizeof *res);
+    release_series(w);
+    for (int k = 0; k < 3; k++)
+        w->pvalid[k] = 0;
+    int rc = check_opts(o, msg);
+    if (!rc)
+        rc = check_series(s, msg);
+    if (rc)
+        goto done;
+    res->modality = o->modality;
+    res->n_samples = s->n;
+    struct ctx c = {.o = o, .w = w, .res = res};
+    rc = prepare(&c, s, msg);
+    if (rc)
+        goto done;
+    if (c.i1 < c.i0 + (size_t)lround(o->peak_window_s) - 1) {
+        say(msg, CPD_MSG_MAX, "the ramp is shorter than the VO2peak window");
+        rc = CPD_ENODATA;
+        goto done;
+    }
+    peak(&c);
+    find_rcp(&c);
+    find_get(&c);
+    if (o->manual_get_vo2_ml_min > 0)
+        place_vo2(&c, &res->get, o->manual_get_vo2_ml_min, CPD_THR_MANUAL, "manual");
+    else
+        res->get = res->get_auto;
+    if (o->manual_rcp_vo2_ml_min > 0)
+        place_vo2(&c, &res->rcp, o->manual_rcp_vo2_ml_min, CPD_THR_MANUAL, "manual");
+    else
+        res->rcp = res->rcp_auto;
+    baseline(&c);
+    gain_mrt(&c);
+    equivalents(&c);
+    plateau(&c);
+    column_check(&c);
+    w->valid = 1;
+done:
+    if (rc) {
+        release_series(w);
+        for (int k = 0; k < 3; k++)
+            w->pvalid[k] = 0;
+        memset(res, 0, sizeof *res);
+    }
+    return rc;
+}
+
+int cpd_ramp_points(const cpd_ramp_ws *w, int which, const double **x, const double **y, size_t *n)
+{
+    if (!w || !x || !y || !n || which < CPD_RAMP_PTS_VSLOPE || which > CPD_RAMP_PTS_VEQ)
+        return CPD_EUSAGE;
+    if (!w->valid || !w->pvalid[which])
+        return CPD_ENODATA;
+    *x = w->px[which];
+    *y = w->py[which];
+    *n = w->pn[which];
+    return CPD_OK;
+}
+
+const cpd_gx_series *cpd_ramp_grid(const cpd_ramp_ws *w, const double **smoothed_vo2)
+{
+    if (!w || !w->valid)
+        return NULL;
+    if (smoothed_vo2)
+        *smoothed_vo2 = w->sm_vo2;
+    return w->grid;
+}
+
+const cpd_gx_series *cpd_ramp_samples(const cpd_ramp_ws *w)
+{
+    return w && w->valid ? w->clean : NULL;
+}
