@@ -23,10 +23,12 @@ LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.
 LIB_SRCS += src/protocol.c src/balance.c
 LIB_SRCS += src/pd.c
 LIB_SRCS += src/svgplot.c
+LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
 # The CLI: main and one file per command family.
-CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c
+CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
+           src/cmd_ramp.c src/cmd_lactate.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance

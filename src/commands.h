@@ -10,5 +10,7 @@ int cmd_trial(cli_ctx *c, int argc, char **argv);
 int cmd_fit(cli_ctx *c, int argc, char **argv);
 int cmd_predict(cli_ctx *c, int argc, char **argv);
 int cmd_solve(cli_ctx *c, int argc, char **argv);
+int cmd_ramp(cli_ctx *c, int argc, char **argv);
+int cmd_lactate(cli_ctx *c, int argc, char **argv);
 
 #endif

@@ -14,6 +14,8 @@ static const cli_command commands[] = {
     {"init", cmd_init, "create or upgrade the store", NULL},
     {"athlete", cmd_athlete, "add, list, show, change or remove athletes", NULL},
     {"trial", cmd_trial, "time-to-exhaustion trials and time trials", NULL},
+    {"ramp", cmd_ramp, "ramp incremental tests: VO2peak, GET, RCP, gain, MRT", NULL},
+    {"lactate", cmd_lactate, "blood-lactate step tests: LT1, Dmax, modified Dmax, 4 mmol/L", NULL},
     {"fit", cmd_fit, "fit CP and W' (CS and D') with uncertainty; saved for the history", NULL},
     {"predict", cmd_predict, "time to task failure, power for a duration, W' balance of a session", NULL},
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},

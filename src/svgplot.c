@@ -1627,6 +1627,11 @@ static void text_at(ctx *c, double x, double y, const char *anchor, double fs, c
 static void draw_annotation_labels(ctx *c)
 {
     const cpd_svgplot *p = c->p;
+    /* vertical-line labels that would overlap drop to the next of a few rows (greedy, by the
+     * estimated text width), so thresholds close together stay readable */
+    enum { ROWS = 4, SPANS = 32 };
+    double span_lo[ROWS][SPANS], span_hi[ROWS][SPANS];
+    size_t nspan[ROWS] = {0};
     for (size_t k = 0; k < p->nlayer; k++) {
         const layer *L = &p->layer[k];
         if (!L->label)
@@ -1643,8 +1648,27 @@ static void draw_annotation_labels(ctx *c)
             if (!inside(x, c->left, c->left + c->w))
                 continue;
             int right_half = x > c->left + 0.7 * c->w;
-            text_at(c, right_half ? x - 4 : x + 4, c->top + FS_NOTE + 2, right_half ? "end" : NULL, FS_NOTE, NULL,
-                    L->label, 1);
+            double tw = 0.62 * FS_NOTE * (double)strlen(L->label);
+            double lo = right_half ? x - 4 - tw : x + 4, hi = right_half ? x - 4 : x + 4 + tw;
+            size_t row = 0;
+            for (; row < ROWS; row++) {
+                int clash = 0;
+                for (size_t q = 0; q < nspan[row] && !clash; q++)
+                    clash = lo < span_hi[row][q] + 3 && hi > span_lo[row][q] - 3;
+                if (!clash)
+                    break;
+            }
+            if (row == ROWS)
+                row = ROWS - 1;
+            if (nspan[row] < SPANS) {
+                span_lo[row][nspan[row]] = lo;
+                span_hi[row][nspan[row]] = hi;
+                nspan[row]++;
+            }
+            char fill[32]; /* the label takes its line's colour, so a label beside another line is not misread */
+            snprintf(fill, sizeof fill, " fill=\"%s\"", cpd_svgplot_color_hex(L->st.color));
+            text_at(c, right_half ? x - 4 : x + 4, c->top + (FS_NOTE + 2) * (double)(row + 1), right_half ? "end" : NULL,
+                    FS_NOTE, fill, L->label, 1);
         } else if (L->kind == L_HLINE) {
             double y = map(&c->ax[L->st.y_axis], L->v0);
             if (!inside(y, c->top, c->top + c->h))

@@ -1,0 +1,25 @@
+/* plots.h: the charts of cpdomain (V-slope, ventilatory equivalents, lactate curve, ...) drawn from
+ * analysis results through svgplot. Pure: results in, an SVG string out. */
+#ifndef CPDOMAIN_PLOTS_H
+#define CPDOMAIN_PLOTS_H
+
+#include "cpdomain/lactate.h"
+#include "cpdomain/ramp.h"
+
+#include <stddef.h>
+
+/* The V-slope plot of the last analysis in w: VCO2 against VO2 (both L/min, equal scales) with the
+ * two fitted lines and the GET (and RCP) marked. *svg is malloc'd; the caller frees it with free().
+ * Returns CPD_OK, CPD_ENODATA when the V-slope regression did not run, CPD_ENOMEM. */
+int cpd_plot_vslope(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg);
+
+/* Ventilatory equivalents VE/VO2 and VE/VCO2 (and PETO2, PETCO2 when present) against time from
+ * onset, with the GET and RCP times marked. Same ownership and return codes. */
+int cpd_plot_veq(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg);
+
+/* Lactate against intensity: the stages, the fitted cubic and the thresholds found.
+ * Same ownership and return codes (CPD_ENODATA for no stages). */
+int cpd_plot_lactate(const double *intensity, const double *lactate, size_t n, int speed,
+                     const cpd_lactate_result *r, char **svg);
+
+#endif

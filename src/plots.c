@@ -1,0 +1,177 @@
+/* plots.c: the charts of cpdomain, all through svgplot so that no chart repeats plotting code. */
+#include "cpdomain/plots.h"
+#include "cpdomain/status.h"
+#include "cpdomain/svgplot.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+static int finish(cpd_svgplot *p, char **svg)
+{
+    size_t len = 0;
+    int rc = cpd_svgplot_render(p, svg, &len);
+    cpd_svgplot_free(p);
+    return rc;
+}
+
+static void style(cpd_svgplot_style *st, int color, int marker, double stroke, int dash)
+{
+    cpd_svgplot_style_init(st, color);
+    st->marker = marker;
+    st->stroke_px = stroke;
+    st->dash = dash;
+}
+
+int cpd_plot_vslope(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg)
+{
+    *svg = NULL;
+    const double *x = NULL, *y = NULL;
+    size_t n = 0;
+    int rc = cpd_ramp_points(w, CPD_RAMP_PTS_VSLOPE, &x, &y, &n);
+    if (rc)
+        return rc;
+    cpd_svgplot *p = cpd_svgplot_alloc(640, 480);
+    double *xl = malloc(n * sizeof *xl), *yl = malloc(n * sizeof *yl);
+    if (!p || !xl || !yl) {
+        cpd_svgplot_free(p);
+        free(xl);
+        free(yl);
+        return CPD_ENOMEM;
+    }
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t i = 0; i < n; i++) {
+        xl[i] = x[i] / 1000;
+        yl[i] = y[i] / 1000;
+        lo = fmin(lo, fmin(xl[i], yl[i]));
+        hi = fmax(hi, fmax(xl[i], yl[i]));
+    }
+    cpd_svgplot_set_title(p, "V-slope: VCO2 against VO2");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "VO2 (L/min)");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "VCO2 (L/min)");
+    /* equal scales on both axes, as the method asks (Beaver, Wasserman & Whipp 1986) */
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_X, lo, hi);
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, lo, hi);
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_CIRCLE, 0, CPD_SVGPLOT_SOLID);
+    st.marker_px = 2.5;
+    cpd_svgplot_points(p, xl, yl, n, NULL, &st, "samples (10-s means)");
+    if (r->has_vslope) {
+        const cpd_ramp_twoseg *f = &r->vslope;
+        double split = f->has_cross ? f->x_cross / 1000 : xl[f->split ? f->split - 1 : 0];
+        double ax[2] = {xl[0], split}, bx[2] = {split, xl[n - 1]};
+        double ay[2], by[2];
+        for (int k = 0; k < 2; k++) {
+            ay[k] = (f->b1 / 1000) + f->s1 * ax[k];
+            by[k] = (f->b2 / 1000) + f->s2 * bx[k];
+        }
+        style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2.5, CPD_SVGPLOT_SOLID);
+        cpd_svgplot_line(p, ax, ay, 2, &st, "lower line S1");
+        style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 2.5, CPD_SVGPLOT_SOLID);
+        cpd_svgplot_line(p, bx, by, 2, &st, "upper line S2");
+    }
+    if (r->get.status != CPD_THR_NOT_FOUND) {
+        style(&st, CPD_SVGPLOT_GREEN, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_DASHED);
+        cpd_svgplot_vline(p, r->get.vo2_ml_min / 1000, &st, r->get.status == CPD_THR_MANUAL ? "GET (manual)" : "GET");
+    }
+    if (r->rcp.status != CPD_THR_NOT_FOUND) {
+        style(&st, CPD_SVGPLOT_RED, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_DOTTED);
+        cpd_svgplot_vline(p, r->rcp.vo2_ml_min / 1000, &st, r->rcp.status == CPD_THR_MANUAL ? "RCP (manual)" : "RCP");
+    }
+    free(xl);
+    free(yl);
+    return finish(p, svg);
+}
+
+int cpd_plot_veq(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg)
+{
+    *svg = NULL;
+    const cpd_gx_series *g = cpd_ramp_grid(w, NULL);
+    if (!g || !g->ch[CPD_GX_VE] || !g->ch[CPD_GX_VCO2])
+        return CPD_ENODATA;
+    size_t n = g->n;
+    double *a = malloc(n * sizeof *a), *b = malloc(n * sizeof *b), *sa = malloc(n * sizeof *sa),
+           *sb = malloc(n * sizeof *sb);
+    cpd_svgplot *p = cpd_svgplot_alloc(640, 400);
+    if (!a || !b || !sa || !sb || !p) {
+        free(a);
+        free(b);
+        free(sa);
+        free(sb);
+        cpd_svgplot_free(p);
+        return CPD_ENOMEM;
+    }
+    for (size_t i = 0; i < n; i++) {
+        a[i] = g->ch[CPD_GX_VO2][i] > 0 ? 1000 * g->ch[CPD_GX_VE][i] / g->ch[CPD_GX_VO2][i] : NAN;
+        b[i] = g->ch[CPD_GX_VCO2][i] > 0 ? 1000 * g->ch[CPD_GX_VE][i] / g->ch[CPD_GX_VCO2][i] : NAN;
+    }
+    /* 15-s trailing means: breath noise hides the isocapnic buffering otherwise */
+    cpd_gx_rolling_mean(a, n, 15, sa);
+    cpd_gx_rolling_mean(b, n, 15, sb);
+    cpd_svgplot_set_title(p, "Ventilatory equivalents");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "time from ramp onset (min:s)");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_TIME_S);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "VE/VO2 and VE/VCO2");
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, g->t_s, sa, n, &st, "VE/VO2");
+    style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 2, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, g->t_s, sb, n, &st, "VE/VCO2");
+    if (r->get.status != CPD_THR_NOT_FOUND) {
+        style(&st, CPD_SVGPLOT_GREEN, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_DASHED);
+        cpd_svgplot_vline(p, r->get.time_s, &st, "GET");
+    }
+    if (r->rcp.status != CPD_THR_NOT_FOUND) {
+        style(&st, CPD_SVGPLOT_RED, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_DOTTED);
+        cpd_svgplot_vline(p, r->rcp.time_s, &st, "RCP");
+    }
+    free(a);
+    free(b);
+    free(sa);
+    free(sb);
+    return finish(p, svg);
+}
+
+int cpd_plot_lactate(const double *intensity, const double *lactate, size_t n, int speed,
+                     const cpd_lactate_result *r, char **svg)
+{
+    *svg = NULL;
+    if (n == 0)
+        return CPD_ENODATA;
+    cpd_svgplot *p = cpd_svgplot_alloc(640, 400);
+    if (!p)
+        return CPD_ENOMEM;
+    cpd_svgplot_set_title(p, "Blood lactate");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, speed ? "speed (m/s)" : "power (W)");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "lactate (mmol/L)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, 0, NAN);
+    cpd_svgplot_style st;
+    if (r->has_cubic) {
+        enum { M = 60 };
+        double cx[M], cy[M];
+        for (int i = 0; i < M; i++) {
+            double x = intensity[0] + (intensity[n - 1] - intensity[0]) * i / (M - 1);
+            cx[i] = x;
+            cy[i] = r->cubic[0] + x * (r->cubic[1] + x * (r->cubic[2] + x * r->cubic[3]));
+        }
+        style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2, CPD_SVGPLOT_SOLID);
+        cpd_svgplot_line(p, cx, cy, M, &st, "cubic fit");
+    }
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_CIRCLE, 0, CPD_SVGPLOT_SOLID);
+    st.marker_px = 4;
+    cpd_svgplot_points(p, intensity, lactate, n, NULL, &st, "stages");
+    const struct {
+        const cpd_lactate_value *v;
+        const char *name;
+        int color, dash;
+    } thr[] = {{&r->lt1, "LT1", CPD_SVGPLOT_GREEN, CPD_SVGPLOT_DASHED},
+               {&r->dmax, "Dmax", CPD_SVGPLOT_PURPLE, CPD_SVGPLOT_DOTTED},
+               {&r->dmax_mod, "modified Dmax", CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_DASHDOT},
+               {&r->obla, "4 mmol/L", CPD_SVGPLOT_RED, CPD_SVGPLOT_DASHED}};
+    for (size_t k = 0; k < sizeof thr / sizeof thr[0]; k++)
+        if (thr[k].v->status == CPD_LACTATE_FOUND) {
+            style(&st, thr[k].color, CPD_SVGPLOT_MARKER_NONE, 1.5, thr[k].dash);
+            cpd_svgplot_vline(p, thr[k].v->intensity, &st, thr[k].name);
+        }
+    return finish(p, svg);
+}
