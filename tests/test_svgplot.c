@@ -622,8 +622,9 @@ static void each_layer_type(void **state)
     svg = render_checked(p, "reflines", 400, 260, k);
     assert_true(k[K_N_PATH] == 3 && k[K_N_PAIRS] == 6);
     assert_non_null(strstr(svg, ">GET</text>"));
-    assert_non_null(strstr(svg, "text-anchor=\"end\" font-size=\"10\" stroke=\"#fff\" stroke-width=\"3\" "
-                                "stroke-linejoin=\"round\" paint-order=\"stroke\">RCP"));
+    /* the RCP line sits in the right part: its label ends at the line, in the line's colour */
+    assert_non_null(strstr(svg, "text-anchor=\"end\" font-size=\"10\" fill=\"#"));
+    assert_non_null(strstr(svg, "stroke-linejoin=\"round\" paint-order=\"stroke\">RCP"));
     free(svg);
     cpd_svgplot_free(p);
 }
@@ -1044,6 +1045,31 @@ static void extreme_ranges(void **state)
     cpd_svgplot_free(p);
 }
 
+/* Vertical-line labels close together drop to separate rows instead of overlapping (a lactate
+ * plot's Dmax and modified Dmax are often a few watts apart). */
+static void close_vline_labels_do_not_overlap(void **state)
+{
+    (void)state;
+    const double x[6] = {1.1, 2.2, 3.3, 4.4, 5.5, 6.6}, y[6] = {2, 3, 5, 4, 6, 7};
+    double k[K_COUNT];
+    cpd_svgplot *p = cpd_svgplot_alloc(400, 260);
+    assert_int_equal(cpd_svgplot_vline(p, 3.0, NULL, "modified Dmax"), CPD_OK);
+    assert_int_equal(cpd_svgplot_vline(p, 3.2, NULL, "Dmax"), CPD_OK);
+    assert_int_equal(cpd_svgplot_points(p, x, y, 6, NULL, NULL, NULL), CPD_OK);
+    char *svg = render_checked(p, "reflines_close", 400, 260, k);
+    const char *a = strstr(svg, ">modified Dmax</text>"), *b = strstr(svg, ">Dmax</text>");
+    assert_non_null(a);
+    assert_non_null(b);
+    const char *ya = a, *yb = b; /* the y attribute of each label's <text> */
+    while (ya > svg && strncmp(ya, " y=\"", 4) != 0)
+        ya--;
+    while (yb > svg && strncmp(yb, " y=\"", 4) != 0)
+        yb--;
+    assert_true(strtod(ya + 4, NULL) != strtod(yb + 4, NULL));
+    free(svg);
+    cpd_svgplot_free(p);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1060,6 +1086,7 @@ int main(void)
         cmocka_unit_test(clipped_to_area),
         cmocka_unit_test(long_series_decimated),
         cmocka_unit_test(each_layer_type),
+        cmocka_unit_test(close_vline_labels_do_not_overlap),
         cmocka_unit_test(sheet_plots),
         cmocka_unit_test(date_and_time_axes),
         cmocka_unit_test(legend_and_default_colours),
