@@ -173,10 +173,11 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
     cpd_gx_series *g = NULL;
     if ((rc = cpd_import_gx(argv[first + 1], o.map, CPD_RAMP_MIN_SAMPLES, &g, msg)))
         return cli_fail(c, rc, "%s", msg);
-    if (t.onset_s < g->t_s[0] || t.onset_s >= g->t_s[g->n - 1]) {
+    if (t.onset_s >= g->t_s[g->n - 1]) {
+        int ex = cli_usage("ramp add", "--onset %g s lies outside the file's times (%g to %g s)", t.onset_s, g->t_s[0],
+                           g->t_s[g->n - 1]);
         cpd_gx_free(g);
-        return cli_usage("ramp add", "--onset %g s lies outside the file's times (%g to %g s)", t.onset_s, g->t_s[0],
-                         g->t_s[g->n - 1]);
+        return ex;
     }
     int64_t id = 0;
     rc = cpd_store_gx_add(c->store, &t, g, &id);

@@ -25,7 +25,7 @@ for t in "$build"/tests/test_*; do
     fi
     printf '%-28s %4d passed, %d failed\n' "$name" "$p" "$f"
 done
-for t in tests/cli/test_*.sh; do
+for t in tests/cli/cli_*.sh; do
     [ -f "$t" ] || continue
     name=$(basename "$t" .sh)
     sh "$t" >"$log" 2>&1
