@@ -11,6 +11,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include <cmocka.h>
+#include "near.h"
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -107,10 +108,10 @@ static void trial_rows_are_validated(void **state)
     assert_int_equal(cpd_import_trials(path, NULL, today, &b, msg), CPD_OK);
     assert_int_equal(b.n, 2);
     assert_int_equal(b.trial[0].kind, CPD_TRIAL_SPEED);
-    assert_float_equal(b.trial[0].value, 4.62, 0);
-    assert_float_equal(b.trial[0].duration_s, 331, 0);
+    assert_near(b.trial[0].value, 4.62, 0);
+    assert_near(b.trial[0].duration_s, 331, 0);
     assert_int_equal(b.trial[1].kind, CPD_TRIAL_DISTANCE);
-    assert_float_equal(b.trial[1].duration_s, 478.5, 0);
+    assert_near(b.trial[1].duration_s, 478.5, 0);
     assert_int_equal(b.line[1], 3);
     assert_int_equal(b.athlete_col, 1);
     cpd_trial_batch_free(&b);

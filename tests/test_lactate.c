@@ -12,16 +12,8 @@
 #include <stdint.h>
 #include <string.h>
 #include <cmocka.h>
+#include "near.h"
 
-/* cmocka's assert_float_equal works in float; this one in double, and prints both values. */
-#define assert_near(a, b, tol) near_((double)(a), (double)(b), (double)(tol), #a, __FILE__, __LINE__)
-static void near_(double a, double b, double tol, const char *what, const char *file, int line)
-{
-    if (!(fabs(a - b) <= tol)) {
-        print_error("%s = %.17g, expected %.17g +- %.3g\n", what, a, b, tol);
-        _fail(file, line);
-    }
-}
 
 /* Every double of a result is finite (the "never NaN" rule). */
 static void assert_finite(const cpd_lactate_result *r)

@@ -13,6 +13,7 @@
 #include <stdint.h>
 #include <string.h>
 #include <cmocka.h>
+#include "near.h"
 
 /* A clean, low-noise cycling ramp with round known values: GET 2000 mL/min (54 % of VO2peak),
  * RCP 3000 mL/min, gain 10 mL/min/W, MRT 25 + 10 = 35 s, 30 W/min from 30 W, onset at 180.4 s. */
@@ -31,15 +32,6 @@ static synth_ramp quiet_ramp(void)
     return p;
 }
 
-/* cmocka's assert_float_equal works in float; this one in double, and prints both values. */
-#define assert_near(a, b, tol) near_((double)(a), (double)(b), (double)(tol), #a, __FILE__, __LINE__)
-static void near_(double a, double b, double tol, const char *what, const char *file, int line)
-{
-    if (!(fabs(a - b) <= tol)) {
-        print_error("%s = %.17g, expected %.17g +- %.3g\n", what, a, b, tol);
-        _fail(file, line);
-    }
-}
 
 static void opts_for(const synth_ramp *p, cpd_ramp_opts *o)
 {

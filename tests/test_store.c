@@ -8,6 +8,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include <cmocka.h>
+#include "near.h"
 #include <sqlite3.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -122,7 +123,7 @@ static void athletes_crud(void **state)
     assert_string_equal(g.name, "Name of W01");
     assert_string_equal(g.sport, "rowing");
     assert_int_equal(g.has_mass, 1);
-    assert_float_equal(g.mass_kg, 82.35, 0);
+    assert_near(g.mass_kg, 82.35, 0);
     g.has_mass = 0;
     snprintf(g.notes, sizeof g.notes, "it's \"quoted\"; DROP TABLE athlete; --");
     assert_int_equal(cpd_store_athlete_update(f->s, &g), CPD_OK);
