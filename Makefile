@@ -26,6 +26,7 @@ LIB_SRCS += src/svgplot.c
 LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
+LIB_SRCS += src/domains.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c
@@ -34,6 +35,7 @@ TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
 TESTS += test_pd
 TESTS += test_svgplot
+TESTS += test_domains
 TESTS += test_ramp
 TESTS += test_lactate
 # Benchmarks.

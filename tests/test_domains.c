@@ -1,0 +1,178 @@
+/* test_domains.c: boundaries, targets and flags of the domains module on fits whose answers are
+ * known in closed form (METHODS.md section 9 identities: P = CP + W'/t). */
+#include "cpdomain/domains.h"
+#include "cpdomain/status.h"
+#include "cpdomain/units.h"
+
+#include <setjmp.h>
+#include <stdarg.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <cmocka.h>
+#include "near.h"
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Four trials on the exact hyperbola CP 250 W, W' 20 000 J, one of them 1.5 % long so that the
+ * fit has a (small) standard error. */
+static cpd_pd_result *fit_exactish(void)
+{
+    static const double P[4] = {400, 350, 310, 280};
+    double t[4] = {20000.0 / 150, 20000.0 / 100, 20000.0 / 60, 20000.0 / 30};
+    t[2] *= 1.015;
+    cpd_pd_ws *w = cpd_pd_alloc();
+    cpd_pd_result *r = calloc(1, sizeof *r);
+    assert_int_equal(cpd_pd_fit(w, CPD_PD_POWER, P, t, 4, NULL, r, NULL), CPD_OK);
+    cpd_pd_free(w);
+    return r;
+}
+
+static void input_for(cpd_domains_input *in, const cpd_pd_model_fit *m)
+{
+    memset(in, 0, sizeof *in);
+    in->modality = CPD_PD_POWER;
+    in->fit = m;
+    snprintf(in->fit_date, sizeof in->fit_date, "2026-11-20");
+    assert_int_equal(cpd_parse_date("2026-12-01", &in->today), CPD_OK);
+}
+
+static void boundaries_follow_the_model(void **state)
+{
+    (void)state;
+    cpd_pd_result *r = fit_exactish();
+    const cpd_pd_model_fit *m = &r->models[CPD_PD_LINEAR_TOTAL];
+    assert_true(m->ok && m->has_se);
+    cpd_domains_input in;
+    input_for(&in, m);
+    in.has_get = 1;
+    in.get = 182.5;
+    snprintf(in.get_source, sizeof in.get_source, "ramp 4");
+    snprintf(in.get_date, sizeof in.get_date, "2026-11-02");
+    in.has_peak = 1;
+    in.peak = 362.5;
+    in.has_mass = 1;
+    in.mass_kg = 72.5;
+    in.has_hr_get = in.has_hr_rcp = 1;
+    in.hr_get = 142;
+    in.hr_rcp = 171;
+    cpd_domains_result d;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_near(d.b[CPD_BND_MOD_HEAVY].value, 182.5, 0);
+    assert_near(d.b[CPD_BND_HEAVY_SEVERE].value, m->cp, 0);
+    assert_true(d.b[CPD_BND_HEAVY_SEVERE].has_ci);
+    /* no kinetics: t_lim = 100 s, so P = CP + W'/100 (the 2-parameter identity) */
+    assert_near(d.t_vo2max_s, 100, 0);
+    assert_near(d.b[CPD_BND_SEVERE_EXTREME].value, m->cp + m->w_prime / 100, 1e-9);
+    assert_true(d.flags & CPD_DOMAINS_F_TAU_ASSUMED);
+    assert_false(d.flags & CPD_DOMAINS_F_STALE);
+    /* heavy work below CP's lower 95 % bound */
+    assert_near(d.heavy_ceiling, m->cp_ci95[0], 0);
+    assert_near(d.range[CPD_DOM_HEAVY].hi, m->cp_ci95[0], 0);
+    assert_near(d.range[CPD_DOM_HEAVY].lo, 182.5, 0);
+    assert_near(d.range[CPD_DOM_MODERATE].hi_w_kg, 182.5 / 72.5, 1e-12);
+    assert_near(d.range[CPD_DOM_SEVERE].lo_pct_cp, 100, 1e-12);
+    assert_near(d.range[CPD_DOM_HEAVY].hr_hi, 171, 0);
+    /* severe efforts: P = CP + W'/t for 2, 3, 5, 8, 12 min */
+    static const double ts[5] = {120, 180, 300, 480, 720};
+    for (int k = 0; k < 5; k++) {
+        assert_true(d.effort[k].valid && d.effort[k].has_ci);
+        assert_near(d.effort[k].value, m->cp + m->w_prime / ts[k], 1e-9);
+        assert_true(d.effort[k].ci95[0] < d.effort[k].value && d.effort[k].value < d.effort[k].ci95[1]);
+    }
+    /* 50 %delta halfway between the GET and the peak equivalents (common practice) */
+    assert_true(d.has_delta);
+    assert_near(d.delta_value[1], 272.5, 1e-12);
+    assert_int_equal(cpd_domains_classify(&d, 150), CPD_DOM_MODERATE);
+    assert_int_equal(cpd_domains_classify(&d, 200), CPD_DOM_HEAVY);
+    assert_int_equal(cpd_domains_classify(&d, 300), CPD_DOM_SEVERE);
+    assert_int_equal(cpd_domains_classify(&d, 500), CPD_DOM_EXTREME);
+    assert_string_equal(cpd_boundary_name(CPD_BND_SEVERE_EXTREME), "severe-extreme");
+    assert_string_equal(cpd_domain_name(CPD_DOM_HEAVY), "heavy");
+
+    /* with kinetics: 4 tau = 120 s gives P = CP + W'/120 */
+    in.has_tau = 1;
+    in.tau_s = 30;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_near(d.b[CPD_BND_SEVERE_EXTREME].value, m->cp + m->w_prime / 120, 1e-9);
+    assert_false(d.flags & CPD_DOMAINS_F_TAU_ASSUMED);
+    free(r);
+}
+
+static void flags_and_staleness(void **state)
+{
+    (void)state;
+    cpd_pd_result *r = fit_exactish();
+    const cpd_pd_model_fit *m = &r->models[CPD_PD_LINEAR_TOTAL];
+    cpd_domains_input in;
+    input_for(&in, m);
+    cpd_domains_result d;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_true(d.flags & CPD_DOMAINS_F_NO_GET);
+    assert_false(d.b[CPD_BND_MOD_HEAVY].valid);
+    assert_int_equal(cpd_domains_classify(&d, 200), CPD_DOM_N); /* below CP but no GET: unknown */
+    assert_int_equal(cpd_domains_classify(&d, 300), CPD_DOM_SEVERE);
+
+    in.has_lt1 = 1;
+    in.lt1 = 171;
+    snprintf(in.lt1_date, sizeof in.lt1_date, "2026-03-10"); /* 266 days before today */
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_true(d.flags & CPD_DOMAINS_F_GET_FROM_LT1);
+    assert_true(d.b[CPD_BND_MOD_HEAVY].stale);
+    assert_non_null(strstr(d.b[CPD_BND_MOD_HEAVY].stale_why, "266 days old"));
+    assert_true(d.flags & CPD_DOMAINS_F_STALE);
+
+    in.has_get = 1;
+    in.get = 262; /* above CP: inconsistent */
+    in.has_recent = 1;
+    in.recent_cp = m->cp_ci95[1] + 5;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_true(d.flags & CPD_DOMAINS_F_GET_ABOVE_CP);
+    assert_true(d.b[CPD_BND_HEAVY_SEVERE].stale);
+    assert_non_null(strstr(d.b[CPD_BND_HEAVY_SEVERE].stale_why, "outside this fit's 95 % interval"));
+
+    in.stale_days = 400; /* a longer window makes the LT1 date fresh */
+    in.has_get = 0;
+    in.has_recent = 0;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_false(d.b[CPD_BND_MOD_HEAVY].stale);
+    for (unsigned b = 0; b < CPD_DOMAINS_NFLAGS; b++) {
+        assert_non_null(cpd_domains_flag_name(1u << b));
+        assert_non_null(cpd_domains_flag_text(1u << b));
+    }
+    assert_null(cpd_domains_flag_name(1u << 20));
+    free(r);
+}
+
+static void two_trials_use_a_margin(void **state)
+{
+    (void)state;
+    const double P[2] = {360, 275}, t[2] = {184, 800};
+    cpd_pd_ws *w = cpd_pd_alloc();
+    cpd_pd_result *r = calloc(1, sizeof *r);
+    assert_int_equal(cpd_pd_fit(w, CPD_PD_POWER, P, t, 2, NULL, r, NULL), CPD_OK);
+    cpd_domains_input in;
+    input_for(&in, &r->models[CPD_PD_HYPERBOLIC]);
+    cpd_domains_result d;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    assert_true(d.flags & CPD_DOMAINS_F_NO_CP_CI);
+    assert_near(d.heavy_ceiling, 0.95 * r->models[CPD_PD_HYPERBOLIC].cp, 1e-9);
+    assert_false(d.b[CPD_BND_HEAVY_SEVERE].has_ci);
+    /* bad input */
+    in.fit = NULL;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_EUSAGE);
+    in.fit = &r->models[CPD_PD_THREE_PARAMETER]; /* not fitted with 2 trials */
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_EUSAGE);
+    cpd_pd_free(w);
+    free(r);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(boundaries_follow_the_model),
+        cmocka_unit_test(flags_and_staleness),
+        cmocka_unit_test(two_trials_use_a_margin),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
