@@ -156,6 +156,10 @@ int cpd_nlfit_solve(cpd_nlfit_ws *w, const cpd_nlfit_problem *pr, const double *
     res->rss = rss;
     res->iter = gsl_multifit_nlinear_niter(w->gw);
 
+    /* GSL's driver reports no progress on the first iteration as GSL_EMAXITER with info
+     * GSL_ENOPROG: the start is already the minimum (a refit from a converged estimate) */
+    if (st == GSL_EMAXITER && info == GSL_ENOPROG)
+        st = GSL_ENOPROG;
     if (st == GSL_ENOPROG) {
         /* No step can reduce the cost: at a minimum this is success (GSL reports it when the
          * residual is already at rounding level). Accept it when the gradient J'f is negligible

@@ -75,6 +75,25 @@ static void boxbod(void **state)
     check_expo("BoxBOD.dat");
 }
 
+/* A refit started at the converged estimate must succeed: GSL's driver reports such a start as
+ * "maximum iterations" with no progress, which once came back as CPD_ENOCONV. */
+static void refit_from_the_optimum(void **state)
+{
+    (void)state;
+    nist_set s;
+    assert_int_equal(nist_read(TESTDATA "/nist/Misra1a.dat", 1, &s), 0);
+    cpd_nlfit_ws *w = cpd_nlfit_alloc();
+    cpd_nlfit_problem pr = {(size_t)s.n, 2, expo_f, expo_df, &s};
+    cpd_nlfit_result r, again;
+    assert_int_equal(cpd_nlfit_solve(w, &pr, s.start1, NULL, &r), CPD_OK);
+    assert_int_equal(cpd_nlfit_solve(w, &pr, r.b, NULL, &again), CPD_OK);
+    for (int j = 0; j < 2; j++) {
+        assert_true(lre(again.b[j], s.cert[j]) >= 6);
+        assert_true(lre(again.se[j], s.cert_sd[j]) >= 6);
+    }
+    cpd_nlfit_free(w);
+}
+
 static int never_f(const double *b, void *ctx, double *f)
 {
     (void)b;
@@ -102,6 +121,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(misra1a),
         cmocka_unit_test(boxbod),
+        cmocka_unit_test(refit_from_the_optimum),
         cmocka_unit_test(bad_problems_are_refused),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
