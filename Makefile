@@ -17,10 +17,12 @@ ALL_LDFLAGS = $(SANFLAGS) $(LDFLAGS)
 
 # The library: every module but the CLI.
 LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c
+LIB_SRCS += src/kinetics.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx
+TESTS += test_kinetics
 # Benchmarks.
 BENCHES  =
 
