@@ -236,7 +236,8 @@ static int model_df(const double *b, void *vc, double *J)
 
 /* ---- fit statistics ---- */
 
-/* Wald-Wolfowitz runs test on the signs of r (zeros skipped); normal approximation. */
+/* Wald-Wolfowitz runs test on the signs of r (zeros skipped), normal approximation (Wald &
+ * Wolfowitz 1940 Ann Math Stat 11:147, from memory). */
 static void runs_test(const double *r, size_t n, cpd_kinetics_fitres *o)
 {
     size_t np = 0, nn = 0, runs = 0;
@@ -424,7 +425,8 @@ int cpd_kinetics_fit(cpd_kinetics_ws *w, const double *t_s, const double *vo2_ml
         out->chi2_red = out->rss_eff / ((double)out->dof * spec->noise_sd_ml_min * spec->noise_sd_ml_min);
         out->chi2_valid = 1;
     }
-    /* AICc for least squares with K = p + 1 (the variance counts), Burnham & Anderson 2002 */
+    /* AICc for least squares with K = p + 1 (the variance counts): Burnham & Anderson 2002, Model
+     * Selection and Multimodel Inference, Springer (from memory) */
     double K = (double)c.p + 1.0, ne = (double)n_eff;
     if (out->rss_eff > 0 && ne - K - 1.0 > 0) {
         out->aicc = ne * log(out->rss_eff / ne) + 2.0 * K + 2.0 * K * (K + 1.0) / (ne - K - 1.0);
@@ -606,6 +608,9 @@ static int opts_ok(const cpd_kinetics_opts *o)
            o->peak_fraction > 0 && o->peak_fraction <= 1;
 }
 
+#if defined(__GNUC__)
+static int fail(cpd_kinetics_data *d, int rc, int reason, const char *fmt, ...) __attribute__((format(printf, 4, 5)));
+#endif
 static int fail(cpd_kinetics_data *d, int rc, int reason, const char *fmt, ...)
 {
     d->reason = reason;

@@ -1,5 +1,5 @@
 /* synth_bout.h: test-only synthetic breath-by-breath bouts with known kinetics. Deterministic:
- * splitmix64 (Steele, Lea & Flood 2014) and Box-Muller normals; no library RNG. */
+ * splitmix64 (Steele, Lea & Flood 2014 OOPSLA, from memory) and Box-Muller normals. */
 #ifndef CPD_TEST_SYNTH_BOUT_H
 #define CPD_TEST_SYNTH_BOUT_H
 

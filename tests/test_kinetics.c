@@ -114,7 +114,7 @@ static void model_values_by_hand(void **state)
 
 /* A constant model (only the baseline free) has closed-form statistics: the estimate is the mean,
  * SE = s / sqrt(n); the runs test and AICc follow from their textbook formulas (Wald & Wolfowitz
- * 1940 Ann Math Stat 11:147; Hurvich & Tsai 1989 Biometrika 76:297). */
+ * 1940 Ann Math Stat 11:147; Hurvich & Tsai 1989 Biometrika 76:297; both from memory). */
 static void fit_statistics_by_hand(void **state)
 {
     (void)state;
@@ -318,6 +318,7 @@ static void tau_ci_covers_in_single_bouts(void **state)
         sum_gain += res.primary.gain_ml_min_w;
         cpd_gx_free(s);
     }
+    print_message("single bouts: tau CI covers %d/200, mean tau %.2f s (true %.1f)\n", cover, sum_tau / 200.0, p.tau1);
     assert_in_range(cover, 180, 198);
     /* unbiased within 3 %: the SD of one tau is about 2 s, of the mean of 200 about 0.15 s */
     assert_true(fabs(sum_tau / 200.0 - p.tau1) < 0.03 * p.tau1);
@@ -380,6 +381,8 @@ static void tau_ci_covers_in_ensembles(void **state)
         for (int j = 0; j < 3; j++)
             cpd_gx_free(s[j]);
     }
+    print_message("ensembles of 3: breath-counted CI covers %d/100 (mean width %.2f s), 1-s points as independent %d/100"
+                  " (%.2f s)\n", honest, width_h / 100.0, naive, width_n / 100.0);
     assert_in_range(honest, 88, 99);
     assert_true(naive <= 85);
     assert_true(width_h > 1.5 * width_n);

@@ -30,7 +30,8 @@ enum {
     CPD_KIN_BI = 2    /* all seven (Barstow & Mole 1991 J Appl Physiol 71:2099, independent delays) */
 };
 
-/* Intensity domains as judged from the response (Hill, Poole & Smith 2002 Med Sci Sports Exerc 34:709). */
+/* Intensity domains as judged from the response (Hill, Poole & Smith 2002; journal details from
+ * memory: Med Sci Sports Exerc 34:709). */
 enum {
     CPD_KIN_UNDETERMINED = 0, /* the response does not decide it (bout too short) */
     CPD_KIN_MODERATE,         /* no slow component, steady by 3 min */
@@ -52,7 +53,7 @@ enum {
     CPD_KIN_R_NO_CONVERGENCE, /* the fit did not converge (CPD_ENOCONV) */
     CPD_KIN_R_START_OUTSIDE,  /* the start values lie outside the model's domain, e.g. tau <= 0 (CPD_ENODATA) */
     CPD_KIN_R_SINGULAR,       /* converged, but the parameters are not identifiable: no SEs (CPD_ENODATA) */
-    CPD_KIN_R_NO_RESPONSE,    /* the primary amplitude is not distinguishable from 0 (CPD_ENODATA) */
+    CPD_KIN_R_NO_RESPONSE,    /* primary amplitude within its 95 % CI of 0 or below one breath SD (CPD_ENODATA) */
     CPD_KIN_R_NOMEM,          /* out of memory (CPD_ENOMEM) */
     CPD_KIN_R_NREASON
 };
@@ -155,6 +156,33 @@ typedef struct {
     double onset_s;          /* file time of the power step, s */
 } cpd_kinetics_input;
 
+/* Rules and thresholds of cpd_kinetics_analyse (all defaults in cpd_kinetics_opts):
+ * - Cleaning: a breath more than 4 SDs from the mean of its 5 + 5 neighbours is removed (Lamarra
+ *   et al. 1987 J Appl Physiol 62:2003 is the usual citation; 4 SD is convention, some labs use 3).
+ * - Baseline: mean of the breaths in the 60 s before the onset, at least 3 breaths, else "no
+ *   baseline data". It is not fitted: after phase I with a free delay, base + A1 (1 - e^(-(t-TD)/tau))
+ *   = (base + A1) - A1 e^(TD/tau) e^(-t/tau), so base, A1 and TD cannot all be told apart.
+ * - Phase I: the first 20 s are excluded from every fit (METHODS 6.1; Bell et al. 2001 fitted from 20 s).
+ * - Fits: mono-exponential phase I to end; mono-exponential phase I to 180 s; bi-exponential with
+ *   independent delays over the whole bout (Barstow & Mole 1991) when it lasts 300 s; the windowed
+ *   fit (cpd_kinetics_window). Bout marks allow CPD_KIN_END_TOL_S for the last breath.
+ * - CIs count breaths: one bout is fitted on its cleaned breaths; an ensemble or bins use the
+ *   breath-noise variance and n_eff = breaths (cpd_kinetics_fit). t quantile with n_eff - p dof.
+ * - Slow component supported: extra-sum-of-squares F (mono vs bi, breaths) p < 0.01, TD2 > TD1, and
+ *   A2' > t(0.975) SE(A2'). Level 0.01, not 0.05: TD2 and tau2 are undefined when A2 = 0, so the
+ *   nominal F level is optimistic; on synthetic moderate bouts 0.05 gave 4 % false slow components.
+ * - Primary: the whole-bout mono-exponential without a slow component; with one, the
+ *   bi-exponential's (or, by option, the mono to 180 s or the windowed one).
+ * - No response: |A1| within t(0.975) SE of 0 or below the baseline breath SD -> CPD_ENODATA.
+ * - Domain, first rule that holds (Hill, Poole & Smith 2002; Poole et al. as summarised there):
+ *   end VO2 (last 30 s) >= 95 % of a given VO2peak -> severe; bout < 300 s -> undetermined; OLS
+ *   slope of the breaths in the final 120 s > 80 mL/min per min -> severe (still rising); slow
+ *   component, or delta VO2(6-3) >= 100 mL/min -> heavy; else moderate (steady by 3 min). The 100
+ *   mL/min is from memory (~50-100 is used for "steady"); the 80 is chosen, not published [Calc]:
+ *   a heavy-domain slow component that levels off (A2 <= 500 mL/min, tau2 <= 150 s) rises by < 50 mL/min per min
+ *   in the 5th-6th min, one heading for VO2max by > ~100. Without VO2peak a severe bout that already
+ *   sits at VO2max (flat end) cannot be told from a heavy one. */
+
 /* Analysis options. cpd_kinetics_opts_init fills the defaults named here. */
 typedef struct {
     double outlier_sd;          /* breath outlier threshold in local SDs, default 4 (Lamarra et al. 1987) */
@@ -181,7 +209,7 @@ typedef struct {
  * stay valid until its next use. */
 typedef struct {
     size_t n_repeats;            /* transitions */
-    size_t n_breaths;            /* cleaned breaths kept, all repeats, whole record */
+    size_t n_breaths;            /* cleaned breaths kept up to end_s (baseline included), all repeats */
     size_t n_outliers;           /* breaths removed as outliers */
     int baseline_given;          /* 1 when opts.baseline_ml_min supplied the baseline */
     size_t n_baseline;           /* breaths in the baseline window, all repeats */
@@ -281,13 +309,14 @@ double cpd_kinetics_eval(int model, const double *b, double t_s);
  * points are averages (ensemble, bins): the noise variance comes from the raw breaths' residuals
  * and (J'J)^-1 is scaled by n / n_eff, n_eff = raw breaths in the window (METHODS 6.2).
  * Returns CPD_OK, CPD_EUSAGE (out->reason BAD_ARG), CPD_ENODATA (TOO_FEW_POINTS, START_OUTSIDE),
- * CPD_ENOCONV (NO_CONVERGENCE), CPD_ENOMEM. On failure out->valid is 0 and no estimate is kept. */
+ * CPD_ENOCONV (NO_CONVERGENCE, also when tau runs off to 100 spans of the data: a straight line),
+ * CPD_ENOMEM. On failure out->valid is 0 and no estimate is kept. */
 int cpd_kinetics_fit(cpd_kinetics_ws *w, const double *t_s, const double *vo2_ml_min, size_t n,
                      const cpd_kinetics_spec *spec, cpd_kinetics_fitres *out);
 
 /* Compares a fit with a larger nested one on the same window and observations: extra-sum-of-
  * squares F on rss_eff with df2 = n_eff - p_full (Bates & Watts 1988), and delta AICc (Hurvich &
- * Tsai 1989 Biometrika 76:297). Returns CPD_OK, or CPD_EUSAGE when the fits are invalid, differ in
+ * Tsai 1989 Biometrika 76:297, from memory). Returns CPD_OK, or CPD_EUSAGE when the fits are invalid, differ in
  * window or observations, or the second is not larger. */
 int cpd_kinetics_compare(const cpd_kinetics_fitres *simple, const cpd_kinetics_fitres *full, cpd_kinetics_cmp *out);
 
@@ -314,16 +343,11 @@ void cpd_kinetics_opts_init(cpd_kinetics_opts *o);
 int cpd_kinetics_prepare(cpd_kinetics_ws *w, const cpd_kinetics_input *rep, size_t m,
                          const cpd_kinetics_opts *opts, cpd_kinetics_data *out);
 
-/* Full analysis of m repeats of one transition (m = 1 for a single bout), after cpd_kinetics_prepare:
- * mono-exponential over [phase1_s, end]; bi-exponential with independent delays when end >= 300 s;
- * slow component supported when F p < sc_alpha, TD2 > TD1 and the amplitude reached at the end,
- * A2', lies above 0 by more than t(0.975) SE (delta method);
- * windowed primary fit; domain by the first rule that holds: end VO2 >= peak_fraction VO2peak ->
- * severe; end < 300 s -> undetermined; final-2-min slope > rising limit -> severe; slow component
- * or delta(6-3) >= steady_delta -> heavy; else moderate (criteria of Hill, Poole & Smith 2002).
- * Returns CPD_OK or the prepare codes, CPD_ENODATA (TOO_SHORT below 120 s, SINGULAR, NO_RESPONSE when
- * |A1| is within its 95 % CI of 0 or below the baseline breath SD), CPD_ENOCONV
- * when the primary fit fails; out->reason and out->msg say why; a failed fit is never reported. */
+/* Full analysis of m repeats of one transition (m = 1 for a single bout): cpd_kinetics_prepare,
+ * the fits, the slow-component test, the SPEC `bout show` quantities and the domain, by the rules
+ * listed above cpd_kinetics_opts. opts NULL means the defaults. Returns CPD_OK or the prepare codes,
+ * CPD_ENODATA (TOO_SHORT below 120 s, SINGULAR, NO_RESPONSE), CPD_ENOCONV when the primary fit
+ * fails; out->reason and out->msg say why. A fit that failed is never reported (valid 0). */
 int cpd_kinetics_analyse(cpd_kinetics_ws *w, const cpd_kinetics_input *rep, size_t m,
                          const cpd_kinetics_opts *opts, cpd_kinetics_result *out);
 
