@@ -27,6 +27,7 @@ LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
 LIB_SRCS += src/domains.c
+LIB_SRCS += src/kinetics.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c
@@ -38,6 +39,7 @@ TESTS += test_svgplot
 TESTS += test_domains
 TESTS += test_ramp
 TESTS += test_lactate
+TESTS += test_kinetics
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

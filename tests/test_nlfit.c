@@ -264,9 +264,30 @@ static void bad_problems_are_refused(void **state)
     cpd_nlfit_free(NULL);
 }
 
+/* A refit started at the converged estimate must succeed: GSL's driver reports such a start as
+ * "maximum iterations" with no progress, which once came back as CPD_ENOCONV. */
+static void refit_from_the_optimum(void **state)
+{
+    (void)state;
+    nist_set s;
+    assert_int_equal(nist_read(TESTDATA "/nist/Misra1a.dat", 1, &s), 0);
+    cpd_nlfit_ws *w = cpd_nlfit_alloc();
+    nist_ctx c = {&s, m_expo};
+    cpd_nlfit_problem pr = {(size_t)s.n, 2, nist_f, nist_df, &c};
+    cpd_nlfit_result r, again;
+    assert_int_equal(cpd_nlfit_solve(w, &pr, s.start1, NULL, &r), CPD_OK);
+    assert_int_equal(cpd_nlfit_solve(w, &pr, r.b, NULL, &again), CPD_OK);
+    for (int j = 0; j < 2; j++) {
+        assert_true(lre(again.b[j], s.cert[j]) >= 6);
+        assert_true(lre(again.se[j], s.cert_sd[j]) >= 6);
+    }
+    cpd_nlfit_free(w);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(refit_from_the_optimum),
         cmocka_unit_test(misra1a_1),  cmocka_unit_test(misra1a_2),  cmocka_unit_test(misra1b_1),
         cmocka_unit_test(misra1b_2),  cmocka_unit_test(boxbod_1),   cmocka_unit_test(boxbod_2),
         cmocka_unit_test(rat42_1),    cmocka_unit_test(rat42_2),    cmocka_unit_test(mgh09_1),
