@@ -23,6 +23,7 @@ LIB_SRCS = src/status.c src/units.c src/nlfit.c src/linfit.c src/gx.c src/csvin.
 LIB_SRCS += src/protocol.c src/balance.c
 LIB_SRCS += src/pd.c
 LIB_SRCS += src/svgplot.c
+LIB_SRCS += src/session.c src/mmp.c src/allout.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c
 # Unit tests: one cmocka program per module.
@@ -30,9 +31,11 @@ TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
 TESTS += test_pd
 TESTS += test_svgplot
+TESTS += test_session test_mmp test_allout
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
+BENCHES += bench_mmp
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 
