@@ -81,7 +81,8 @@ const char *cpd_session_error_text(cpd_session_error e)
     switch (e) {
     case CPD_SESSION_ERR_NONE: return "cleaned";
     case CPD_SESSION_ERR_EMPTY: return "the session has no samples";
-    case CPD_SESSION_ERR_ONE_SAMPLE: return "the session has a single sample, which spans no time";
+    case CPD_SESSION_ERR_ONE_SAMPLE:
+        return "the session has a single sample (or all at one instant), which spans no time";
     case CPD_SESSION_ERR_TIME_NONFINITE: return "a time is not a finite number";
     case CPD_SESSION_ERR_VALUE_NONFINITE: return "a value is not a finite number";
     case CPD_SESSION_ERR_NEGATIVE: return "a value is below zero";
@@ -128,6 +129,8 @@ static int check(const double *time_s, const double *value, size_t n, cpd_sessio
             return fail(s, CPD_EDATA, CPD_SESSION_ERR_BACKWARDS, i, msg, d);
         }
     }
+    if (time_s[n - 1] - time_s[0] <= CPD_SESSION_TIME_TOL_S)
+        return fail(s, CPD_ENODATA, CPD_SESSION_ERR_ONE_SAMPLE, 0, msg, "");
     if (!(time_s[n - 1] - time_s[0] <= CPD_SESSION_MAX_SPAN_S)) {
         snprintf(d, sizeof d, " (%.0f s)", time_s[n - 1] - time_s[0]);
         return fail(s, CPD_EDATA, CPD_SESSION_ERR_TOO_LONG, n - 1, msg, d);
@@ -220,7 +223,8 @@ int cpd_session_clean(cpd_session_ws *w, const double *time_s, const double *val
     if ((opts->modality != CPD_SESSION_POWER && opts->modality != CPD_SESSION_SPEED) || !isfinite(opts->ceiling) ||
         opts->ceiling < 0) {
         if (msg)
-            snprintf(msg, CPD_MSG_MAX, "the spike ceiling must be a finite number >= 0 and the modality power or speed");
+            snprintf(msg, CPD_MSG_MAX,
+                     "the spike ceiling must be a finite number >= 0 and the modality power or speed");
         return CPD_EUSAGE;
     }
     if (!w || (n > 0 && (!time_s || !value))) {

@@ -119,7 +119,8 @@ int main(void)
     t0 = now_s();
     for (int k = 0; k < SESSIONS; k++) {
         uint64_t n;
-        if (fread(&n, sizeof n, 1, store) != 1 || n > CPD_MMP_NMAX || fread(blob, sizeof(double), 3 * n, store) != 3 * n) {
+        if (fread(&n, sizeof n, 1, store) != 1 || n > CPD_MMP_NMAX ||
+            fread(blob, sizeof(double), 3 * n, store) != 3 * n) {
             fprintf(stderr, "bench_mmp: reading curve %d back failed\n", k);
             goto done;
         }

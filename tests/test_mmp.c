@@ -105,6 +105,21 @@ static void ties_take_the_earliest(void **state)
     assert_int_equal(cpd_mmp_segments(w, g, 1, &c), CPD_OK);
     assert_true(c.value[0] == 150 && c.start_s[0] == 6);
     assert_true(c.value[2] == (150 + 100 + 150) / 3.0 && c.start_s[2] == 6);
+    /* equal maxima in the same lane (windows 4 and 8) */
+    for (int i = 0; i < 37; i++)
+        v[i] = 100;
+    v[4] = v[8] = 175.5;
+    assert_int_equal(cpd_mmp_segments(w, g, 1, &c), CPD_OK);
+    assert_true(c.value[0] == 175.5 && c.start_s[0] == 5 + 4);
+    /* and in the tail of the scan: 39 one-second windows, the last three after the unrolled part */
+    double u[39];
+    for (int i = 0; i < 39; i++)
+        u[i] = i >= 37 ? 120 : 100;
+    cpd_session_segment gu = seg(0, u, 39);
+    assert_int_equal(cpd_mmp_segments(w, &gu, 1, &c), CPD_OK);
+    assert_true(c.value[0] == 120 && c.start_s[0] == 37);
+    assert_true(c.value[1] == 120 && c.start_s[1] == 37);
+    assert_true(c.value[2] == 340 / 3.0 && c.start_s[2] == 36);
     cpd_mmp_free(w);
 }
 
@@ -162,7 +177,8 @@ static void against_numpy(void **state)
     (void)state;
     /* four sessions: two ordinary, one with a segment of more than an hour (coarse grid), one with
      * a caller's ceiling of 1500 W instead of the default spike limit */
-    const spec sp[4] = {{1600, 1000, 0, 700, 0.0015}, {950, 0, 1500, 400, 0.003}, {4500, 37, 0, 4380, 0}, {240, 5, 0, 120, 0}};
+    const spec sp[4] = {
+        {1600, 1000, 0, 700, 0.0015}, {950, 0, 1500, 400, 0.003}, {4500, 37, 0, 4380, 0}, {240, 5, 0, 120, 0}};
     enum { MAXN = 4600, MAXOUT = 4 * (3 * 3700 + 1) + 5 * 3700 + 1 };
     double *t[4], *v[4];
     size_t n[4];

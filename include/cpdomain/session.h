@@ -3,9 +3,10 @@
  * a result that points into a caller-owned workspace out.
  *
  * The cleaning rules (SPEC.md "Sessions"), in the order they are applied:
- *  1. Checks: at least 2 samples; every time and value finite; values >= 0; time never runs
- *     backwards; the file spans at most CPD_SESSION_MAX_SPAN_S. Any failure is an error with a
- *     reason and the index of the offending sample; nothing is cleaned.
+ *  1. Checks: at least 2 samples spanning some time; every time and value finite; values >= 0;
+ *     time never runs backwards (equal times are allowed, rule 4); the file spans at most
+ *     CPD_SESSION_MAX_SPAN_S. Any failure is an error with a reason and the index of the
+ *     offending sample; nothing is cleaned.
  *  2. The grid: whole seconds counted from the first sample, k = 0, 1, 2, ... at file time
  *     time_s[0] + k. A file already at 1 Hz (with any constant offset) lands on the grid exactly.
  *  3. Spikes: a value above the limit (CPD_SESSION_SPIKE_POWER_W or CPD_SESSION_SPIKE_SPEED_M_S,
@@ -30,7 +31,9 @@
 #include <stdint.h>
 
 #define CPD_SESSION_SPIKE_POWER_W 2500.0  /* W: above this a 1-s power is a meter spike (common practice) */
-#define CPD_SESSION_SPIKE_SPEED_M_S 12.0  /* m/s: above this a speed is a GPS spike (sprinting peaks near 12.4 m/s; common practice) */
+/* m/s: above this a speed is a GPS spike (common practice); the fastest sprinters peak near
+ * 12.3 m/s (from memory), so a sprint group needs a caller's ceiling */
+#define CPD_SESSION_SPIKE_SPEED_M_S 12.0
 #define CPD_SESSION_MAX_FILL_S 5          /* s: longest dropout filled by interpolation (SPEC.md) */
 #define CPD_SESSION_DROPOUT_S 1.5         /* s: consecutive samples farther apart than this are a dropout */
 #define CPD_SESSION_TIME_TOL_S 1e-6       /* s: times closer than this are the same instant */
@@ -50,7 +53,7 @@ typedef struct {
 typedef enum {
     CPD_SESSION_ERR_NONE = 0,       /* cleaned */
     CPD_SESSION_ERR_EMPTY,          /* no samples */
-    CPD_SESSION_ERR_ONE_SAMPLE,     /* a single sample spans no time */
+    CPD_SESSION_ERR_ONE_SAMPLE,     /* a single sample, or all at one instant: no time spanned */
     CPD_SESSION_ERR_TIME_NONFINITE, /* a time is NaN or infinite */
     CPD_SESSION_ERR_VALUE_NONFINITE,/* a value is NaN or infinite */
     CPD_SESSION_ERR_NEGATIVE,       /* a value is below zero */
@@ -83,7 +86,7 @@ typedef struct {
     size_t n_dropouts;            /* gaps of more than CPD_SESSION_DROPOUT_S between kept samples */
     size_t dropout_s;             /* s: whole seconds inside those gaps (filled or not) */
     size_t filled_s;              /* s: seconds filled across dropouts of up to CPD_SESSION_MAX_FILL_S */
-    size_t resampled_s;           /* s: seconds interpolated between samples at most 1.5 s apart (non-integer times) */
+    size_t resampled_s;           /* s: seconds interpolated between samples <= 1.5 s apart (non-integer times) */
     size_t n_splits;              /* gaps longer than CPD_SESSION_MAX_FILL_S + 1 s */
     size_t n_spikes;              /* samples dropped as spikes */
     double spike_limit;           /* W or m/s: the limit used */
