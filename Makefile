@@ -28,6 +28,7 @@ LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
 LIB_SRCS += src/domains.c
 LIB_SRCS += src/kinetics.c
+LIB_SRCS += src/session.c src/mmp.c src/allout.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c
@@ -40,9 +41,11 @@ TESTS += test_domains
 TESTS += test_ramp
 TESTS += test_lactate
 TESTS += test_kinetics
+TESTS += test_session test_mmp test_allout
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
+BENCHES += bench_mmp
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 
