@@ -74,6 +74,8 @@ void cj_bool(cli_json *o, const char *key, int v);
 void cj_null(cli_json *o, const char *key);
 void cj_pair(cli_json *o, const char *key, double lo, double hi); /* [lo, hi] */
 void cj_push(cli_json *arr, cli_json *item);
+/* Adds item (an object or array the caller built) under key; o takes ownership. */
+void cj_set(cli_json *o, const char *key, cli_json *item);
 void cj_push_str(cli_json *arr, const char *v);
 void cj_push_num(cli_json *arr, double v);
 /* Prints the document to stdout followed by a newline, frees it, returns 0 or 74 on failure. */

@@ -317,6 +317,10 @@ void cj_push(cli_json *arr, cli_json *item)
 {
     cJSON_AddItemToArray(J(arr), J(item));
 }
+void cj_set(cli_json *o, const char *key, cli_json *item)
+{
+    cJSON_AddItemToObject(J(o), key, J(item));
+}
 void cj_push_str(cli_json *arr, const char *v)
 {
     cJSON_AddItemToArray(J(arr), v ? cJSON_CreateString(v) : cJSON_CreateNull());

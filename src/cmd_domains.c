@@ -1,0 +1,254 @@
+/* cmd_domains.c: 'domains CODE': the intensity-domain boundaries, what they rest on, and the
+ * training targets in each domain. */
+#include "cli_domains.h"
+#include "commands.h"
+#include "cpdomain/units.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+static const char HELP[] =
+    "usage: cpdomain domains CODE [--model NAME] [--from D] [--to D] [--stale-days N]\n\n"
+    "The athlete's four intensity domains and what each boundary rests on:\n"
+    "  moderate-heavy  the gas exchange threshold of the newest ramp at its constant-power\n"
+    "                  equivalent (ramp power - rate x MRT), or the lactate LT1 without a ramp\n"
+    "  heavy-severe    critical power (speed) of the best fit, with its 95 % interval\n"
+    "  severe-extreme  the power whose predicted time to failure equals the time to reach VO2max\n"
+    "Then targets per domain (W, % of CP, W/kg, pace, heart rate from the ramp), heavy work kept below\n"
+    "the lower 95 % bound of CP, severe efforts for 2-12 min with intervals, and 25/50/75 %delta.\n"
+    "A boundary whose data are older than --stale-days (default 56) or that a newer block of\n"
+    "trials contradicts is marked stale.\n\n"
+    "examples:\n  cpdomain domains C03\n  cpdomain --json domains R07 --stale-days 42\n";
+
+typedef struct {
+    const char *model, *from, *to, *stale;
+} dom_opts;
+
+static int dom_opt(int opt, const char *arg, void *ud)
+{
+    dom_opts *o = ud;
+    switch (opt) {
+    case 'm': o->model = arg; break;
+    case 'f': o->from = arg; break;
+    case 't': o->to = arg; break;
+    case 's': o->stale = arg; break;
+    default: return EX_USAGE;
+    }
+    return 0;
+}
+
+static const char HR_CAUTION[] =
+    "Heart rate drifts upward during long efforts and with heat, dehydration and fatigue: use it to "
+    "check, not to set, intensity in the heavy and severe domains.";
+
+static void range_json(cli_json *o, const cli_domains *d, const cpd_domain_range *r)
+{
+    const char *k = d->fit.modality == CPD_PD_SPEED ? "speed_m_s" : "power_w";
+    cli_json *a = cj_add_arr(o, k);
+    cj_push_num(a, r->has_lo ? r->lo : NAN);
+    cj_push_num(a, r->has_hi ? r->hi : NAN);
+    a = cj_add_arr(o, d->fit.modality == CPD_PD_SPEED ? "pct_cs" : "pct_cp");
+    cj_push_num(a, r->has_lo ? r->lo_pct_cp : NAN);
+    cj_push_num(a, r->has_hi ? r->hi_pct_cp : NAN);
+    if (r->has_mass) {
+        a = cj_add_arr(o, "w_kg");
+        cj_push_num(a, r->has_lo ? r->lo_w_kg : NAN);
+        cj_push_num(a, r->has_hi ? r->hi_w_kg : NAN);
+    }
+    if (r->has_hr_lo || r->has_hr_hi) {
+        a = cj_add_arr(o, "hr_bpm");
+        cj_push_num(a, r->has_hr_lo ? r->hr_lo : NAN);
+        cj_push_num(a, r->has_hr_hi ? r->hr_hi : NAN);
+    }
+}
+
+static void print_range(const cli_domains *d, const char *name, const cpd_domain_range *r)
+{
+    char lo[64] = "", hi[64] = "", pct[48], wkg[48] = "", hr[48] = "";
+    if (r->has_lo)
+        cli_domains_fmt(d, r->lo, lo, sizeof lo);
+    if (r->has_hi)
+        cli_domains_fmt(d, r->hi, hi, sizeof hi);
+    char span[160];
+    if (r->has_lo && r->has_hi)
+        snprintf(span, sizeof span, "%s to %s", lo, hi);
+    else if (r->has_hi)
+        snprintf(span, sizeof span, "below %s", hi);
+    else if (r->has_lo)
+        snprintf(span, sizeof span, "above %s", lo);
+    else
+        snprintf(span, sizeof span, "unknown (a boundary is missing)");
+    if (r->has_lo && r->has_hi)
+        snprintf(pct, sizeof pct, "%.0f-%.0f %%", r->lo_pct_cp, r->hi_pct_cp);
+    else if (r->has_hi)
+        snprintf(pct, sizeof pct, "< %.0f %%", r->hi_pct_cp);
+    else if (r->has_lo)
+        snprintf(pct, sizeof pct, "> %.0f %%", r->lo_pct_cp);
+    else
+        snprintf(pct, sizeof pct, "-");
+    if (r->has_mass && r->has_lo && r->has_hi)
+        snprintf(wkg, sizeof wkg, "%.2f-%.2f W/kg", r->lo_w_kg, r->hi_w_kg);
+    else if (r->has_mass && r->has_hi)
+        snprintf(wkg, sizeof wkg, "< %.2f W/kg", r->hi_w_kg);
+    else if (r->has_mass && r->has_lo)
+        snprintf(wkg, sizeof wkg, "> %.2f W/kg", r->lo_w_kg);
+    if (r->has_hr_lo && r->has_hr_hi)
+        snprintf(hr, sizeof hr, "HR %.0f-%.0f", r->hr_lo, r->hr_hi);
+    else if (r->has_hr_hi)
+        snprintf(hr, sizeof hr, "HR < %.0f", r->hr_hi);
+    else if (r->has_hr_lo)
+        snprintf(hr, sizeof hr, "HR > %.0f", r->hr_lo);
+    printf("  %-9s %-40s %-11s %-17s %s\n", name, span, pct, wkg, hr);
+}
+
+int cmd_domains(cli_ctx *c, int argc, char **argv)
+{
+    static const struct option lo[] = {
+        {"model", required_argument, NULL, 'm'}, {"from", required_argument, NULL, 'f'},
+        {"to", required_argument, NULL, 't'},    {"stale-days", required_argument, NULL, 's'},
+        {"help", no_argument, NULL, 'h'},        {NULL, 0, NULL, 0},
+    };
+    dom_opts o = {0};
+    int first = 0, done = 0;
+    int rc = cli_getopt(argc, argv, "h", lo, HELP, dom_opt, &o, &first, &done);
+    if (rc || done)
+        return rc;
+    if (argc - first != 1)
+        return cli_usage("domains", argc - first < 1 ? "missing argument CODE" : "unexpected argument '%s'", argv[first + 1]);
+    int stale = 0;
+    if (o.stale) {
+        double v = 0;
+        if ((rc = cli_number("--stale-days", o.stale, &v)))
+            return rc;
+        if (!(v >= 1 && v <= 3650) || v != floor(v))
+            return cli_usage("domains", "--stale-days must be a whole number of days from 1 to 3650");
+        stale = (int)v;
+    }
+    int dd = 0;
+    if ((o.from && cpd_parse_date(o.from, &dd)) || (o.to && cpd_parse_date(o.to, &dd)))
+        return cli_usage("domains", "--from/--to: use YYYY-MM-DD");
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    cli_domains d;
+    if ((rc = cli_domains_build(c, argv[first], o.from, o.to, o.model, stale, &d)))
+        return rc;
+    const cpd_domains_result *r = &d.res;
+    int spd = d.fit.modality == CPD_PD_SPEED;
+    const char *ikey = spd ? "speed_m_s" : "power_w";
+    if (c->json) {
+        cli_json *doc = cj_obj();
+        cj_str(doc, "athlete", d.fit.athlete.code);
+        cj_str(doc, "modality", spd ? "speed" : "power");
+        cj_str(doc, "model", cpd_pd_model_name(d.model));
+        cli_json *bs = cj_add_arr(doc, "boundaries");
+        cli_json *st = cj_arr();
+        for (int b = 0; b < CPD_BND_N; b++) {
+            const cpd_boundary *x = &r->b[b];
+            cli_json *o2 = cj_obj();
+            cj_str(o2, "name", cpd_boundary_name((cpd_boundary_id)b));
+            cj_num(o2, ikey, x->valid ? x->value : NAN);
+            cj_pair(o2, "ci95", x->valid && x->has_ci ? x->ci95[0] : NAN, x->ci95[1]);
+            cj_str(o2, "source", x->valid ? x->source : NULL);
+            cj_str(o2, "method", x->valid ? x->method : NULL);
+            cj_str(o2, "date", x->valid && x->date[0] ? x->date : NULL);
+            cj_bool(o2, "manual", x->manual);
+            cj_bool(o2, "stale", x->stale);
+            cj_str(o2, "reason", x->valid ? NULL : x->why);
+            cj_push(bs, o2);
+            if (x->stale) {
+                cli_json *s2 = cj_obj();
+                cj_str(s2, "boundary", cpd_boundary_name((cpd_boundary_id)b));
+                cj_str(s2, "why", x->stale_why);
+                cj_push(st, s2);
+            }
+        }
+        cj_set(doc, "stale", st);
+        cli_json *t = cj_add_obj(doc, "targets");
+        for (int k = 0; k < CPD_DOM_N; k++)
+            range_json(cj_add_obj(t, cpd_domain_name((cpd_domain)k)), &d, &r->range[k]);
+        cj_num(doc, spd ? "heavy_ceiling_m_s" : "heavy_ceiling_w", r->heavy_ceiling);
+        cj_num(doc, "time_to_vo2max_s", r->t_vo2max_s);
+        cli_json *ef = cj_add_arr(doc, "severe_efforts");
+        for (int k = 0; k < CPD_DOMAINS_NEFFORTS; k++) {
+            const cpd_domain_effort *e = &r->effort[k];
+            cli_json *o2 = cj_obj();
+            cj_num(o2, "time_to_failure_s", e->duration_s);
+            cj_num(o2, ikey, e->valid ? e->value : NAN);
+            cj_pair(o2, "ci95", e->valid && e->has_ci ? e->ci95[0] : NAN, e->ci95[1]);
+            cj_push(ef, o2);
+        }
+        cli_json *dl = cj_add_arr(doc, "delta");
+        for (int k = 0; r->has_delta && k < CPD_DOMAINS_NDELTA; k++) {
+            cli_json *o2 = cj_obj();
+            cj_num(o2, "pct", r->delta_pct[k]);
+            cj_num(o2, ikey, r->delta_value[k]);
+            cj_push(dl, o2);
+        }
+        cli_json *fl = cj_add_arr(doc, "flags");
+        for (unsigned b = 0; b < CPD_DOMAINS_NFLAGS; b++)
+            if (r->flags & (1u << b))
+                cj_push_str(fl, cpd_domains_flag_name(1u << b));
+        cli_pd_flags_json(cj_add_arr(doc, "fit_flags"), d.fit.res->flags, d.fit.modality);
+        cj_str(doc, "hr_caution", HR_CAUTION);
+        cj_str(doc, "caution", CLI_CAUTION);
+        rc = cj_print(doc);
+    } else {
+        char a[64], b[64], v[64];
+        printf("%s %s: intensity domains (%s model)\n\nboundaries:\n", d.fit.athlete.code, d.fit.athlete.name,
+               cpd_pd_model_name(d.model));
+        for (int k = 0; k < CPD_BND_N; k++) {
+            const cpd_boundary *x = &r->b[k];
+            if (!x->valid) {
+                printf("  %-15s unknown: %s\n", cpd_boundary_name((cpd_boundary_id)k), x->why);
+                continue;
+            }
+            printf("  %-15s %s", cpd_boundary_name((cpd_boundary_id)k), cli_domains_fmt(&d, x->value, v, sizeof v));
+            if (x->has_ci)
+                printf(" (95%% CI %s to %s)", cli_domains_fmt(&d, x->ci95[0], a, sizeof a), cli_domains_fmt(&d, x->ci95[1], b, sizeof b));
+            printf("\n  %-15s %s, %s%s\n", "", x->source, x->date, x->stale ? "  [STALE]" : "");
+            printf("  %-15s %s\n", "", x->method);
+            if (x->stale)
+                printf("  %-15s stale: %s\n", "", x->stale_why);
+        }
+        printf("\ntargets (%% of %s%s):\n", spd ? "CS" : "CP", d.fit.athlete.has_mass && !spd ? ", W/kg" : "");
+        for (int k = 0; k < CPD_DOM_N; k++)
+            print_range(&d, cpd_domain_name((cpd_domain)k), &r->range[k]);
+        printf("  heavy-domain work is capped at %s, the lower 95 %% bound of %s\n", cli_domains_fmt(&d, r->heavy_ceiling, v, sizeof v),
+               spd ? "CS" : "CP");
+        printf("\nsevere efforts (held to task failure):\n");
+        for (int k = 0; k < CPD_DOMAINS_NEFFORTS; k++) {
+            const cpd_domain_effort *e = &r->effort[k];
+            char t[16];
+            cpd_format_duration(e->duration_s, t, sizeof t);
+            if (!e->valid) {
+                printf("  %5s  -\n", t);
+                continue;
+            }
+            printf("  %5s  %s", t, cli_domains_fmt(&d, e->value, v, sizeof v));
+            if (e->has_ci)
+                printf("  (95%% interval %s to %s)", cli_domains_fmt(&d, e->ci95[0], a, sizeof a), cli_domains_fmt(&d, e->ci95[1], b, sizeof b));
+            printf("\n");
+        }
+        if (r->has_delta) {
+            printf("\n%%delta between the GET and VO2peak equivalents:");
+            for (int k = 0; k < CPD_DOMAINS_NDELTA; k++)
+                printf("  %.0f%%: %s", r->delta_pct[k], cli_domains_fmt(&d, r->delta_value[k], v, sizeof v));
+            printf("\n");
+        }
+        if (r->flags || d.fit.res->flags) {
+            printf("\nflags:\n");
+            for (unsigned k = 0; k < CPD_DOMAINS_NFLAGS; k++)
+                if (r->flags & (1u << k))
+                    printf("  - %s\n", cpd_domains_flag_text(1u << k));
+            cli_pd_flags_print(d.fit.res->flags, d.fit.modality);
+        }
+        if (d.ramp_mrt_missing)
+            printf("  - The newest ramp has a GET but no MRT: give 'ramp add --mrt' for its constant-power equivalent.\n");
+        printf("\n%s\n%s\n", HR_CAUTION, CLI_CAUTION);
+    }
+    cli_domains_free(&d);
+    return rc;
+}
