@@ -1,5 +1,6 @@
 /* cmd_fit.c: 'fit' (the power-duration models, saved with the trials they used) and 'predict'
  * (time to task failure, or the intensity for a duration or a distance). */
+#include "cli_domains.h"
 #include "cli_pd.h"
 #include "commands.h"
 #include "cpdomain/units.h"
@@ -329,11 +330,21 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     return rc;
 }
 
-/* The domain word for an intensity against the fit (GET is not known here: below CP is
- * "moderate or heavy"). */
-static const char *domain_of(const cpd_pd_model_fit *m, double x)
+/* The domain of a constant intensity against the athlete's boundaries (domains module, same
+ * model and dates); without a GET on file, below CP is "moderate-or-heavy". */
+static const char *domain_of(cli_ctx *c, const cli_pd_fit *f, cpd_pd_model which, const char *from, const char *to,
+                             const cpd_pd_model_fit *m, double x)
 {
-    return x > m->cp ? "severe" : "moderate-or-heavy";
+    cli_domains d;
+    int quiet = c->quiet;
+    c->quiet = 1;
+    int rc = cli_domains_build(c, f->athlete.code, from, to, cpd_pd_model_name(which), 0, &d);
+    c->quiet = quiet;
+    if (rc)
+        return x > m->cp ? "severe" : "moderate-or-heavy";
+    cpd_domain k = cpd_domains_classify(&d.res, x);
+    cli_domains_free(&d);
+    return k == CPD_DOM_N ? "moderate-or-heavy" : cpd_domain_name(k);
 }
 
 static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
@@ -424,7 +435,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             cj_num(d, ikey, q);
             cj_num(d, "time_to_failure_s", p.valid ? p.value : NAN);
             cj_pair(d, "time_to_failure_ci95", p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
-            cj_str(d, "domain", domain_of(m, q));
+            cj_str(d, "domain", domain_of(c, &f, which, o.from, o.to, m, q));
         } else if (o.duration) {
             char ck[32];
             snprintf(ck, sizeof ck, "%s_ci95", ikey);
@@ -455,7 +466,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                     cpd_format_duration(p.ci95[1], b, sizeof b);
                     printf(" (95%% interval %s to %s)", a, b);
                 }
-                printf(", severe domain\n");
+                printf(", %s domain\n", domain_of(c, &f, which, o.from, o.to, m, q));
             } else
                 printf("at %s: %s\n", v, cpd_pd_pred_text(p.status));
         } else if (o.duration) {

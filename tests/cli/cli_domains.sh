@@ -1,0 +1,59 @@
+# cli_domains.sh: 'domains' through the real binary: SPEC keys, the boundaries' arithmetic on
+# near-exact trials, sources and staleness, and predict's domain words.
+. "$CPDOMAIN_TESTS/cli/lib.sh"
+DEMO="$CPDOMAIN_TESTS/../demo/data"
+
+expect 0 "init" init
+expect 0 "athlete" athlete add D1 --name "Domain Rider" --mass 64
+# near-exact trials of CP 250 W, W' 20 000 J (METHODS.md section 9), one 1.5 % long for an interval
+printf 'athlete,date,power_w,duration_s\nD1,2026-11-01,400,133.33333333333334\nD1,2026-11-03,350,200\nD1,2026-11-05,310,338.3333333333333\nD1,2026-11-07,280,666.6666666666666\n' >"$TMP/t.csv"
+expect 0 "trials" trial import "$TMP/t.csv"
+expect 0 "an athlete with two trials" athlete add D2 --name "Two Trials"
+expect 0 "trial 1" trial add D2 --date 2026-11-01 --power 360 --duration 184
+expect 0 "trial 2" trial add D2 --date 2026-11-05 --power 275 --duration 800
+expect 69 "a model that cannot fit two trials" domains D2 --model three-parameter
+err_has "did not fit" "the failed model is explained"
+expect 0 "domains without a ramp" --json domains D1 --model linear-total
+json_is '[b["name"] for b in d["boundaries"]]' "['moderate-heavy', 'heavy-severe', 'severe-extreme']" "SPEC boundary names"
+json_is 'all(k in d["boundaries"][1] for k in ("power_w","ci95","source"))' True "SPEC boundary keys"
+json_is 'd["boundaries"][0]["power_w"], "no_get" in d["flags"]' "(None, True)" "no ramp: the moderate-heavy boundary is unknown and flagged"
+cp=$(json 'd["boundaries"][1]["power_w"]')
+json_is 'd["boundaries"][1]["ci95"][0] < d["boundaries"][1]["power_w"] < d["boundaries"][1]["ci95"][1]' True "CP inside its 95 % interval"
+# no kinetics: the severe-extreme boundary is the power held for 100 s, P = CP + W'/100
+json_is 'd["time_to_vo2max_s"], "time_to_vo2max_assumed" in d["flags"]' "(100, True)" "time to VO2max assumed, and flagged"
+expect 0 "fit for W'" --json fit D1 --model linear-total
+w=$(json 'd["models"][0]["w_prime"]')
+expect 0 "domains again" --json domains D1 --model linear-total
+json_is "abs(d['boundaries'][2]['power_w'] - ($cp + $w / 100)) < 1e-6" True "severe-extreme = CP + W'/100"
+json_is "[round(e['power_w'] - ($cp + $w / e['time_to_failure_s']), 6) for e in d['severe_efforts']]" "[0.0, 0.0, 0.0, 0.0, 0.0]" "severe efforts P = CP + W'/t at 2, 3, 5, 8, 12 min"
+json_is 'd["heavy_ceiling_w"] == d["boundaries"][1]["ci95"][0]' True "heavy work capped at CP's lower 95 % bound"
+json_is 'd["targets"]["severe"]["pct_cp"][0]' 100 "severe starts at 100 % of CP"
+json_is 'round(d["targets"]["severe"]["w_kg"][0] * 64 - d["boundaries"][1]["power_w"], 9)' 0.0 "W/kg from the body mass"
+json_is '"screening" in d["caution"] and "drift" in d["hr_caution"]' True "cautions present"
+
+# with the demo ramp of C01 the moderate-heavy boundary is its GET's constant-power equivalent
+expect 0 "ramp" ramp add D1 "$DEMO/ramp_C01.csv" --date 2026-11-10 --rate 25 --start 30 --onset 180
+expect 0 "ramp GET" --json ramp show 1
+get=$(json 'd["get"]["power_w"]')
+expect 0 "domains with a ramp" --json domains D1 --model linear-total
+json_is "abs(d['boundaries'][0]['power_w'] - $get) < 1e-9, d['boundaries'][0]['source']" "(True, 'ramp 1: gas exchange threshold')" "moderate-heavy = the ramp's GET equivalent, with its source"
+json_is 'd["targets"]["heavy"]["power_w"][0] == d["boundaries"][0]["power_w"] and d["targets"]["moderate"]["hr_bpm"][1] > 0' True "heavy starts at the GET; moderate has an HR ceiling"
+json_is 'len(d["delta"]), d["delta"][1]["pct"]' "(3, 50)" "25/50/75 %delta"
+json_is 'd["stale"]' "[]" "fresh data are not stale"
+CPDOMAIN_TODAY=2027-03-01; export CPDOMAIN_TODAY; expect 0 "months later" --json domains D1 --model linear-total
+json_is '[s["boundary"] for s in d["stale"]]' "['moderate-heavy', 'heavy-severe', 'severe-extreme']" "months later every boundary is stale"
+CPDOMAIN_TODAY=2026-12-01; export CPDOMAIN_TODAY
+expect 0 "a shorter stale window" --json domains D1 --model linear-total --stale-days 10
+json_is 'd["boundaries"][0]["stale"], d["boundaries"][1]["stale"]' "(True, True)" "--stale-days 10 makes 3-week-old data stale"
+expect 64 "bad --stale-days" domains D1 --stale-days 0
+expect 65 "unknown athlete" domains NOBODY
+expect 0 "human output" domains D1 --model linear-total
+out_has "heavy-domain work is capped at" "human output states the heavy cap"
+
+# predict names the domain from these boundaries
+expect 0 "predict in the heavy domain" --json predict D1 --power 200 --model linear-total
+json_is 'd["domain"], d["time_to_failure_s"]' "('heavy', None)" "200 W: heavy, no W'-limited failure"
+expect 0 "predict in the moderate domain" --json predict D1 --power 120 --model linear-total
+json_is 'd["domain"]' moderate "120 W: moderate"
+expect 0 "predict in the extreme domain" --json predict D1 --power 600 --model linear-total
+json_is 'd["domain"]' extreme "600 W: extreme"
