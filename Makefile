@@ -27,6 +27,7 @@ LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
 LIB_SRCS += src/domains.c
+LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
 # The CLI: main and one file per command family.
@@ -38,6 +39,7 @@ TESTS += test_protocol test_balance
 TESTS += test_pd
 TESTS += test_svgplot
 TESTS += test_domains
+TESTS += test_history
 TESTS += test_ramp
 TESTS += test_lactate
 TESTS += test_kinetics
