@@ -18,6 +18,7 @@ static const cli_command commands[] = {
     {"lactate", cmd_lactate, "blood-lactate step tests: LT1, Dmax, modified Dmax, 4 mmol/L", NULL},
     {"fit", cmd_fit, "fit CP and W' (CS and D') with uncertainty; saved for the history", NULL},
     {"domains", cmd_domains, "the four intensity domains, their boundaries and training targets", NULL},
+    {"history", cmd_history, "the season: every estimate over time and which changes are meaningful", NULL},
     {"predict", cmd_predict, "time to task failure, power for a duration, W' balance of a session", NULL},
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},
 };

@@ -1,0 +1,311 @@
+/* cmd_history.c: 'history (CODE | --all)': every estimate over the season and which changes are
+ * larger than the noise. */
+#include "cli_gx.h"
+#include "cli_pd.h"
+#include "commands.h"
+#include "cpdomain/history.h"
+#include "cpdomain/units.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sysexits.h>
+
+static const char HELP[] =
+    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME]\n\n"
+    "The season: the power-duration fit of every block of trials (a block holds the trials within\n"
+    "--window days, default 28, of its first trial), the GET and VO2peak of the ramp nearest each\n"
+    "block, and each change from one block to the next with its 95 % interval. A change of CP or W'\n"
+    "is meaningful when its interval, from the combined standard errors of the two fits, excludes\n"
+    "zero; GET and VO2peak changes use typical errors of 6 % and 3 % (common practice, from memory).\n"
+    "--all prints the team: the newest block of every athlete and its change.\n\n"
+    "examples:\n  cpdomain history C02\n  cpdomain --json history --all --window 35\n";
+
+typedef struct {
+    const char *window, *model;
+    int all;
+} hist_opts;
+
+static int hist_opt(int opt, const char *arg, void *ud)
+{
+    hist_opts *o = ud;
+    switch (opt) {
+    case 'w': o->window = arg; break;
+    case 'm': o->model = arg; break;
+    case 'a': o->all = 1; break;
+    default: return EX_USAGE;
+    }
+    return 0;
+}
+
+typedef struct {
+    cli_pd_fit f;        /* the athlete's trials (all models fitted over all of them) */
+    cpd_history *h;
+    int win;
+} athlete_history;
+
+static void free_history(athlete_history *a)
+{
+    cli_pd_fit_free(&a->f);
+    free(a->h);
+}
+
+/* Builds one athlete's history; returns 0, an exit code, or -1 when the athlete has too few
+ * trials (quietly, for --all). */
+static int build(cli_ctx *c, const char *code, int win, const char *model, int quiet_few, athlete_history *a)
+{
+    memset(a, 0, sizeof *a);
+    a->win = win;
+    int q = c->quiet;
+    if (quiet_few)
+        c->quiet = 1;
+    int rc = cli_pd_load_fit(c, code, NULL, NULL, CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL), &a->f);
+    c->quiet = q;
+    if (rc)
+        return rc;
+    a->h = calloc(1, sizeof *a->h);
+    int *day = calloc(a->f.n, sizeof *day);
+    cpd_pd_ws *w = cpd_pd_alloc();
+    if (!a->h || !day || !w) {
+        free(day);
+        cpd_pd_free(w);
+        free_history(a);
+        return cli_fail(c, CPD_ENOMEM, "out of memory");
+    }
+    for (size_t i = 0; i < a->f.n; i++)
+        cpd_parse_date(a->f.trials[i].date, &day[i]);
+    cpd_pd_model m = CPD_PD_HYPERBOLIC;
+    if (model)
+        cpd_pd_model_parse(model, &m);
+    rc = cpd_history_build(w, a->f.modality, day, a->f.x, a->f.t, a->f.n, win, model != NULL, m, a->h);
+    free(day);
+    cpd_pd_free(w);
+    if (rc) {
+        free_history(a);
+        return cli_fail(c, rc, "%s: history: %s", code, cpd_strerror(rc));
+    }
+    /* ramps of the same modality: GET equivalent and VO2peak */
+    cpd_gx_test *v = NULL;
+    size_t n = 0;
+    if ((rc = cpd_store_gx_list(c->store, code, CPD_GXT_RAMP, &v, &n))) {
+        free_history(a);
+        return cli_store_fail(c, rc);
+    }
+    for (size_t i = 0; i < n; i++) {
+        if (v[i].speed != (a->f.modality == CPD_PD_SPEED))
+            continue;
+        cpd_gx_test t;
+        cpd_athlete ath;
+        cpd_ramp_ws *rw = NULL;
+        cpd_ramp_result *rr = calloc(1, sizeof *rr);
+        int qq = c->quiet;
+        c->quiet = 1;
+        if (rr && cli_ramp_analyse(c, v[i].id, NULL, NULL, NULL, &t, &ath, &rw, rr) == 0) {
+            int d = 0;
+            cpd_parse_date(t.date, &d);
+            int has_get = rr->get.status != CPD_THR_NOT_FOUND && rr->get.has_equiv;
+            cpd_history_attach_ramp(a->h, d, has_get, has_get ? rr->get.equiv_intensity : 0, 1, rr->vo2peak_ml_min, win);
+        }
+        c->quiet = qq;
+        cpd_ramp_free(rw);
+        free(rr);
+    }
+    free(v);
+    cpd_history_changes(a->h);
+    return 0;
+}
+
+static void change_json(cli_json *o, const char *key, const cpd_history_change *ch)
+{
+    if (!ch->valid) {
+        cj_null(o, key);
+        return;
+    }
+    cli_json *x = cj_add_obj(o, key);
+    cj_num(x, "delta", ch->delta);
+    cj_pair(x, "ci95", ch->ci95[0], ch->ci95[1]);
+    cj_bool(x, "meaningful", ch->meaningful);
+}
+
+static void block_json(cli_json *o, const athlete_history *a, const cpd_history_block *b)
+{
+    char from[11], to[11], k[40];
+    cpd_pd_modality md = a->f.modality;
+    cpd_format_date(b->from_day, from);
+    cpd_format_date(b->to_day, to);
+    cj_str(o, "from", from);
+    cj_str(o, "to", to);
+    cj_int(o, "trials", (long long)b->n);
+    cj_str(o, "model", b->fitted ? cpd_pd_model_name(b->model) : NULL);
+    cj_num(o, cli_pd_key(md, "cp", k, sizeof k), b->fitted ? b->cp : NAN);
+    cj_pair(o, cli_pd_key(md, "cp_ci95", k, sizeof k), b->fitted && b->has_se ? b->cp_ci95[0] : NAN, b->cp_ci95[1]);
+    cj_num(o, cli_pd_key(md, "w_prime", k, sizeof k), b->fitted ? b->w_prime : NAN);
+    cj_pair(o, cli_pd_key(md, "w_prime_ci95", k, sizeof k), b->fitted && b->has_se ? b->w_prime_ci95[0] : NAN,
+            b->w_prime_ci95[1]);
+    cj_num(o, md == CPD_PD_SPEED ? "get_speed_m_s" : "get_power_w", b->has_get ? b->get : NAN);
+    cj_num(o, "vo2peak_ml_min", b->has_vo2peak ? b->vo2peak_ml_min : NAN);
+    cj_num(o, "tau_s", b->has_tau ? b->tau_s : NAN);
+    cli_json *ch = cj_add_obj(o, "change");
+    change_json(ch, cli_pd_key(md, "cp", k, sizeof k), &b->d_cp);
+    change_json(ch, cli_pd_key(md, "w_prime", k, sizeof k), &b->d_w_prime);
+    change_json(ch, md == CPD_PD_SPEED ? "get_speed_m_s" : "get_power_w", &b->d_get);
+    change_json(ch, "vo2peak_ml_min", &b->d_vo2peak);
+    change_json(ch, "tau_s", &b->d_tau);
+}
+
+static const char *verdict(const cpd_history_change *c)
+{
+    return !c->valid ? "" : c->meaningful ? "meaningful" : "within noise";
+}
+
+static void print_history(const athlete_history *a)
+{
+    int spd = a->f.modality == CPD_PD_SPEED;
+    printf("%s %s: %zu block(s) of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks, a->win);
+    const char *head[] = {"block", "trials", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)",
+                          spd ? "GET (m/s)" : "GET (W)", "VO2peak", spd ? "change in CS" : "change in CP", "verdict"};
+    cli_table *t = cli_table_new(9, head, "lrrrrrrrl");
+    for (size_t k = 0; k < a->h->nblocks; k++) {
+        const cpd_history_block *b = &a->h->block[k];
+        char span[32], from[11], to[11], n[16], cp[32], ci[64], w[32], g[32], vo[32], d[64], x1[32], x2[32];
+        cpd_format_date(b->from_day, from);
+        cpd_format_date(b->to_day, to);
+        snprintf(span, sizeof span, "%s..%s", from, to + 5);
+        snprintf(n, sizeof n, "%zu", b->n);
+        cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, spd ? 2 : 1);
+        if (b->fitted && b->has_se)
+            snprintf(ci, sizeof ci, "%s-%s", cli_num(x1, sizeof x1, b->cp_ci95[0], spd ? 2 : 1), cli_num(x2, sizeof x2, b->cp_ci95[1], spd ? 2 : 1));
+        else
+            snprintf(ci, sizeof ci, "-");
+        cli_num(w, sizeof w, b->fitted ? (spd ? b->w_prime : b->w_prime / 1000) : NAN, spd ? 0 : 2);
+        cli_num(g, sizeof g, b->has_get ? b->get : NAN, spd ? 2 : 0);
+        cli_num(vo, sizeof vo, b->has_vo2peak ? b->vo2peak_ml_min : NAN, 0);
+        if (b->d_cp.valid)
+            snprintf(d, sizeof d, "%+.*f (%+.*f to %+.*f)", spd ? 2 : 1, b->d_cp.delta, spd ? 2 : 1, b->d_cp.ci95[0], spd ? 2 : 1,
+                     b->d_cp.ci95[1]);
+        else
+            snprintf(d, sizeof d, "-");
+        const char *row[] = {span, n, cp, ci, w, g, vo, d, verdict(&b->d_cp)};
+        cli_table_row(t, row);
+    }
+    cli_table_print(t);
+    for (size_t k = 1; k < a->h->nblocks; k++) {
+        const cpd_history_block *b = &a->h->block[k];
+        printf("block %zu against the one before:", k + 1);
+        if (b->d_w_prime.valid)
+            printf(" %s %+.*f %s (%s);", spd ? "D'" : "W'", spd ? 0 : 2, spd ? b->d_w_prime.delta : b->d_w_prime.delta / 1000,
+                   spd ? "m" : "kJ", verdict(&b->d_w_prime));
+        if (b->d_get.valid)
+            printf(" GET %+.*f %s (%s);", spd ? 2 : 0, b->d_get.delta, spd ? "m/s" : "W", verdict(&b->d_get));
+        if (b->d_vo2peak.valid)
+            printf(" VO2peak %+.0f mL/min (%s);", b->d_vo2peak.delta, verdict(&b->d_vo2peak));
+        if (b->d_tau.valid)
+            printf(" tau %+.1f s (%s);", b->d_tau.delta, verdict(&b->d_tau));
+        printf("\n");
+    }
+    printf("\nA change is meaningful when its 95 %% interval excludes zero (combined standard errors of the two fits;\n"
+           "typical errors of 6 %% for the GET and 3 %% for VO2peak, from memory).\n");
+}
+
+int cmd_history(cli_ctx *c, int argc, char **argv)
+{
+    static const struct option lo[] = {
+        {"window", required_argument, NULL, 'w'}, {"model", required_argument, NULL, 'm'},
+        {"all", no_argument, NULL, 'a'},          {"help", no_argument, NULL, 'h'},
+        {NULL, 0, NULL, 0},
+    };
+    hist_opts o = {0};
+    int first = 0, done = 0;
+    int rc = cli_getopt(argc, argv, "h", lo, HELP, hist_opt, &o, &first, &done);
+    if (rc || done)
+        return rc;
+    if (o.all ? argc - first != 0 : argc - first != 1)
+        return cli_usage("history", o.all ? "--all takes no CODE" : "give CODE or --all");
+    int win = CPD_HISTORY_WINDOW_DAYS;
+    if (o.window) {
+        double v = 0;
+        if ((rc = cli_number("--window", o.window, &v)))
+            return rc;
+        if (!(v >= 1 && v <= 365) || v != floor(v))
+            return cli_usage("history", "--window must be a whole number of days from 1 to 365");
+        win = (int)v;
+    }
+    cpd_pd_model m;
+    if (o.model && cpd_pd_model_parse(o.model, &m))
+        return cli_usage("history", "--model: '%s' is not a model", o.model);
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    if (!o.all) {
+        athlete_history a;
+        if ((rc = build(c, argv[first], win, o.model, 0, &a)))
+            return rc;
+        if (c->json) {
+            cli_json *d = cj_obj();
+            cj_str(d, "athlete", a.f.athlete.code);
+            cj_str(d, "modality", a.f.modality == CPD_PD_SPEED ? "speed" : "power");
+            cj_int(d, "window_days", win);
+            cli_json *bs = cj_add_arr(d, "blocks");
+            for (size_t k = 0; k < a.h->nblocks; k++) {
+                cli_json *b = cj_obj();
+                block_json(b, &a, &a.h->block[k]);
+                cj_push(bs, b);
+            }
+            cj_str(d, "rule", "a change is meaningful when its 95 % interval excludes zero: +-1.96 x the combined "
+                              "standard error of the two fits (CP, W'), or of sqrt(2) typical errors of 6 % (GET) "
+                              "and 3 % (VO2peak)");
+            rc = cj_print(d);
+        } else
+            print_history(&a);
+        free_history(&a);
+        return rc;
+    }
+    cpd_athlete *v = NULL;
+    size_t n = 0;
+    if ((rc = cpd_store_athlete_list(c->store, &v, &n)))
+        return cli_store_fail(c, rc);
+    cli_json *doc = c->json ? cj_obj() : NULL;
+    cli_json *arr = doc ? cj_add_arr(doc, "athletes") : NULL;
+    cli_table *t = NULL;
+    if (!doc) {
+        static const char *const head[] = {"code", "blocks", "newest block", "CP/CS", "change", "verdict"};
+        t = cli_table_new(6, head, "lrlrrl");
+    }
+    for (size_t i = 0; i < n; i++) {
+        athlete_history a;
+        int r2 = build(c, v[i].code, win, o.model, 1, &a);
+        if (r2) /* too few trials: listed without blocks */
+            continue;
+        const cpd_history_block *b = a.h->nblocks ? &a.h->block[a.h->nblocks - 1] : NULL;
+        if (doc) {
+            cli_json *x = cj_obj();
+            cj_str(x, "athlete", a.f.athlete.code);
+            cli_json *bs = cj_add_arr(x, "blocks");
+            for (size_t k = 0; k < a.h->nblocks; k++) {
+                cli_json *bj = cj_obj();
+                block_json(bj, &a, &a.h->block[k]);
+                cj_push(bs, bj);
+            }
+            cj_push(arr, x);
+        } else if (b) {
+            char nb[16], span[32], from[11], to[11], cp[32], d[48];
+            snprintf(nb, sizeof nb, "%zu", a.h->nblocks);
+            cpd_format_date(b->from_day, from);
+            cpd_format_date(b->to_day, to);
+            snprintf(span, sizeof span, "%s..%s", from, to);
+            cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, a.f.modality == CPD_PD_SPEED ? 2 : 1);
+            if (b->d_cp.valid)
+                snprintf(d, sizeof d, "%+.*f", a.f.modality == CPD_PD_SPEED ? 2 : 1, b->d_cp.delta);
+            else
+                snprintf(d, sizeof d, "-");
+            const char *row[] = {a.f.athlete.code, nb, span, cp, d, verdict(&b->d_cp)};
+            cli_table_row(t, row);
+        }
+        free_history(&a);
+    }
+    free(v);
+    if (doc)
+        return cj_print(doc);
+    cli_table_print(t);
+    return 0;
+}
