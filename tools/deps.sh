@@ -17,6 +17,8 @@ need python3-numpy    /usr/bin/python3 -c 'import numpy'
 need python3-scipy    /usr/bin/python3 -c 'import scipy.optimize'
 need libxml2-utils    command -v xmllint
 need sqlite3          command -v sqlite3
+# the sheet's browser test renders a page in headless Chromium (tests only)
+need chromium         test -x /usr/bin/chromium
 [ -z "$missing" ] && exit 0
 if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
     echo "deps: installing$missing" >&2
