@@ -12,6 +12,18 @@
 #include <string.h>
 #include <sysexits.h>
 
+/* The model's parameters with CP moved to the lower (side < 0) or upper end of its 95 % interval
+ * and W' moved with it along their joint-normal regression, W' + cov(CP, W')/var(CP) x dCP: the
+ * pairs a refit would most likely give. Returns 0 when the fit has no standard errors. */
+static int param_pair(const cpd_pd_model_fit *m, int side, double *cp, double *w)
+{
+    if (!m->has_se || !(m->cov[0] > 0))
+        return 0;
+    *cp = side < 0 ? m->cp_ci95[0] : m->cp_ci95[1];
+    *w = m->w_prime + m->cov[1] / m->cov[0] * (*cp - m->cp);
+    return *cp > 0 && *w > 0;
+}
+
 /* Parses the protocol and checks it against the fit's modality. Returns 0 or an exit code. */
 static int load_protocol(cli_ctx *c, const cli_pd_fit *f, const char *text, cpd_protocol **p)
 {
@@ -72,6 +84,19 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
         cpd_protocol_free(p);
         return ex;
     }
+    /* the same protocol with CP at the ends of its interval (W' moving with it) */
+    int has_unc[2] = {0, 0};
+    cpd_balance_result bu[2];
+    for (int side = 0; side < 2; side++) {
+        cpd_balance_params bq = bp;
+        if (!param_pair(m, side ? 1 : -1, &bq.cp, &bq.w_prime) || !x || !trace)
+            continue;
+        double *xq = malloc(p->total_s * sizeof *xq);
+        if (xq && cpd_protocol_expand(p, bq.cp, 0, xq, p->total_s) == CPD_OK &&
+            cpd_balance_run(&bq, xq, p->total_s, NULL, &bu[side]) == CPD_OK)
+            has_unc[side] = 1;
+        free(xq);
+    }
     if (trace_path && (rc = write_trace(c, trace_path, x, trace, p->total_s, spd))) {
         free(x);
         free(trace);
@@ -100,6 +125,24 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
         if (bm == CPD_BALANCE_INTEGRAL && br.has_dcp)
             cj_num(d, "tau_s", br.tau_s);
         cj_str(d, "discretisation", "1-s steps, each second at the protocol's intensity; balance at the end of each second");
+        cli_json *un = cj_add_obj(d, "uncertainty");
+        cj_str(un, "method", "the protocol again with CP at each end of its 95 % interval and W' moved with it along "
+                             "their covariance");
+        for (int side = 0; side < 2; side++) {
+            if (!has_unc[side]) {
+                cj_null(un, side ? "cp_high" : "cp_low");
+                continue;
+            }
+            cli_json *u1 = cj_add_obj(un, side ? "cp_high" : "cp_low");
+            snprintf(k, sizeof k, "end_balance_%s", u);
+            cj_num(u1, k, bu[side].end_balance);
+            snprintf(k, sizeof k, "min_balance_%s", u);
+            cj_num(u1, k, bu[side].min_balance);
+            if (bu[side].failed)
+                cj_int(u1, "failure_at_s", (long long)bu[side].failure_at_s);
+            else
+                cj_null(u1, "failure_at_s");
+        }
         if (trace_path)
             cj_str(d, "trace_file", trace_path);
         cj_str(d, "caution", CLI_CAUTION);
@@ -140,6 +183,20 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
             printf("predicted task failure at %s (second %zu)\n", b, br.failure_at_s);
         } else
             printf("no task failure predicted\n");
+        if (has_unc[0] && has_unc[1]) {
+            printf("with CP at the ends of its 95 %% interval (W' moving with it): end balance %.*f to %.*f %s",
+                   spd ? 0 : 2, bu[0].end_balance * sc, spd ? 0 : 2, bu[1].end_balance * sc, un);
+            if (bu[0].failed || bu[1].failed) {
+                char f0[24] = "none", f1[24] = "none";
+                if (bu[0].failed)
+                    cpd_format_duration((double)bu[0].failure_at_s, f0, sizeof f0);
+                if (bu[1].failed)
+                    cpd_format_duration((double)bu[1].failure_at_s, f1, sizeof f1);
+                printf("; failure %s (low CP) / %s (high CP)", f0, f1);
+            }
+            printf("\n");
+        } else
+            printf("no interval: the fit has no standard errors (fewer than 3 trials)\n");
         if (trace_path)
             printf("trace written to %s\n", trace_path);
         printf("\n%s\n", CLI_CAUTION);
@@ -302,6 +359,22 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         "the requested balance is reachable only by passing through task failure first",
         "the end balance jumps over the requested value (integral model, at CP): no intensity gives it",
     };
+    /* the answer again with CP at the ends of its interval (W' moving with it) */
+    int has_range[2] = {0, 0};
+    double range[2] = {0, 0};
+    for (int side = 0; side < 2 && rc == CPD_OK && sol.reason == CPD_SOLVE_OK; side++) {
+        cpd_balance_params bq = bp;
+        if (!param_pair(m, side ? 1 : -1, &bq.cp, &bq.w_prime))
+            continue;
+        cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
+        cpd_balance_solution sq;
+        if (wq && cpd_balance_solve(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
+            sq.reason == CPD_SOLVE_OK) {
+            has_range[side] = 1;
+            range[side] = sq.intensity;
+        }
+        cpd_balance_free(wq);
+    }
     const char *ikey = spd ? "speed_m_s" : "power_w";
     const char *u = spd ? "m" : "j";
     char k[40];
@@ -321,6 +394,10 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         snprintf(k, sizeof k, "target_balance_%s", u);
         cj_num(d, k, sol.target_balance);
         cj_num(d, "finish_pct", pct);
+        snprintf(k, sizeof k, "%s_range", ikey);
+        cj_pair(d, k, has_range[0] && has_range[1] ? fmin(range[0], range[1]) : NAN, fmax(range[0], range[1]));
+        cj_str(d, "range_method", "solved again with CP at each end of its 95 % interval, W' moved with it along "
+                                  "their covariance");
         cj_str(d, "result", has_reason ? why[sol.reason] : cpd_strerror(rc));
         if (ok && spd) {
             const char *lab;
@@ -349,6 +426,13 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         printf("\nthe protocol then ends with %.*f %s of %s left (target %.0f %%), %s model, %s balance\n", spd ? 0 : 2,
                sol.end_balance * (spd ? 1 : 1e-3), spd ? "m" : "kJ", spd ? "D'" : "W'", pct, cpd_pd_model_name(which),
                cpd_balance_model_name(bm));
+        if (has_range[0] && has_range[1]) {
+            char r0[48], r1[48], n0[32], n1[32];
+            snprintf(r0, sizeof r0, "%s", cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1));
+            snprintf(r1, sizeof r1, "%s", cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1));
+            printf("with CP at the ends of its 95 %% interval (W' moving with it) the answer is %s to %s %s\n", r0, r1,
+                   cli_pd_unit(f.modality));
+        }
         char check[1024];
         subst_unknown(o.protocol, p->unknown_unit, sol.intensity, m->cp, check, sizeof check);
         printf("check it: cpdomain predict %s --protocol \"%s\"\n", f.athlete.code, check);

@@ -57,3 +57,11 @@ expect 0 "predict in the moderate domain" --json predict D1 --power 120 --model 
 json_is 'd["domain"]' moderate "120 W: moderate"
 expect 0 "predict in the extreme domain" --json predict D1 --power 600 --model linear-total
 json_is 'd["domain"]' extreme "600 W: extreme"
+
+# predictions through a protocol and solve carry the fit's uncertainty: CP at the ends of its
+# 95 % interval, W' moved with it along their covariance
+expect 0 "solve with a range" --json solve D1 --protocol "10min@150W; 3x(3min@?, 3min@120W); 3min@?" --finish 10 --model linear-total
+json_is 'd["power_w_range"][0] < d["power_w"] < d["power_w_range"][1]' True "solve: the answer lies inside its range"
+p=$(json 'round(d["power_w"])')
+expect 0 "predict with uncertainty" --json predict D1 --model linear-total --protocol "10min@150W; 3x(3min@${p}W, 3min@120W); 3min@${p}W"
+json_is 'd["uncertainty"]["cp_low"]["end_balance_j"] < d["end_balance_j"] < d["uncertainty"]["cp_high"]["end_balance_j"]' True "predict: lower CP, lower end balance"
