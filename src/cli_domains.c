@@ -171,9 +171,10 @@ int cli_domains_build(cli_ctx *c, const char *code, const char *from, const char
     }
     const cpd_pd_model_fit *m = &r->models[d->model];
     if (!m->ok) {
+        int ex = cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", code, cpd_pd_model_name(d->model),
+                          cpd_pd_fail_text(m->fail));
         cli_domains_free(d);
-        return cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", code, cpd_pd_model_name(d->model),
-                        cpd_pd_fail_text(m->fail));
+        return ex;
     }
     cpd_domains_input *in = &d->in;
     in->modality = d->fit.modality;
