@@ -44,6 +44,53 @@ int cpd_st_bind_text(sqlite3_stmt *st, int idx, const char *v, int empty_is_null
     return sqlite3_bind_text(st, idx, v, -1, SQLITE_TRANSIENT);
 }
 
+void cpd_st_bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
+{
+    if (valid)
+        sqlite3_bind_double(st, idx, v);
+    else
+        sqlite3_bind_null(st, idx);
+}
+
+double cpd_st_opt(sqlite3_stmt *st, int col, int *has)
+{
+    int h = sqlite3_column_type(st, col) != SQLITE_NULL;
+    if (has)
+        *has = h;
+    return h ? sqlite3_column_double(st, col) : 0.0;
+}
+
+int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sqlite3_stmt *, void *), void **out,
+                   size_t *n, const char *what)
+{
+    *out = NULL;
+    *n = 0;
+    size_t cap = 0;
+    unsigned char *v = NULL;
+    int r, rc = CPD_OK;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+        if (*n == cap) {
+            cap = cap ? 2 * cap : 16;
+            unsigned char *nv = realloc(v, cap * elem);
+            if (!nv) {
+                rc = CPD_ENOMEM;
+                break;
+            }
+            v = nv;
+        }
+        read(st, v + elem * (*n)++);
+    }
+    if (!rc && r != SQLITE_DONE)
+        rc = cpd_st_err(s, CPD_ESTORE, "listing %s: %s", what, sqlite3_errmsg(s->db));
+    if (rc) {
+        free(v);
+        *n = 0;
+        return rc;
+    }
+    *out = v;
+    return CPD_OK;
+}
+
 int cpd_st_savepoint(cpd_store *s)
 {
     if (sqlite3_exec(s->db, "SAVEPOINT cpd_write", NULL, NULL, NULL) != SQLITE_OK)

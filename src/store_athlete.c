@@ -99,6 +99,11 @@ int cpd_store_athlete_remove(cpd_store *s, const char *code)
     return rc;
 }
 
+static void read_athlete_row(sqlite3_stmt *st, void *dst)
+{
+    read_athlete(st, dst);
+}
+
 int cpd_store_athlete_list(cpd_store *s, cpd_athlete **out, size_t *n)
 {
     *out = NULL;
@@ -107,32 +112,11 @@ int cpd_store_athlete_list(cpd_store *s, cpd_athlete **out, size_t *n)
     int rc = cpd_st_prepare(s, "SELECT " ATHLETE_COLS " FROM athlete ORDER BY code", &st);
     if (rc)
         return rc;
-    size_t cap = 0;
-    cpd_athlete *v = NULL;
-    int r;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
-        if (*n == cap) {
-            cap = cap ? 2 * cap : 16;
-            cpd_athlete *nv = realloc(v, cap * sizeof *v);
-            if (!nv) {
-                rc = CPD_ENOMEM;
-                goto done;
-            }
-            v = nv;
-        }
-        read_athlete(st, &v[(*n)++]);
-    }
-    if (r != SQLITE_DONE)
-        rc = cpd_st_fail(s, "listing athletes");
-done:
+    void *v = NULL;
+    rc = cpd_st_collect(s, st, sizeof **out, read_athlete_row, &v, n, "athletes");
     sqlite3_finalize(st);
-    if (rc) {
-        free(v);
-        *n = 0;
-        return rc;
-    }
     *out = v;
-    return CPD_OK;
+    return rc;
 }
 
 /* ---- trials ---- */
@@ -252,6 +236,11 @@ int cpd_store_trial_get(cpd_store *s, int64_t id, cpd_trial *t)
     return rc;
 }
 
+static void read_trial_row(sqlite3_stmt *st, void *dst)
+{
+    read_trial(st, dst);
+}
+
 int cpd_store_trial_list(cpd_store *s, const char *code, cpd_trial **out, size_t *n)
 {
     *out = NULL;
@@ -264,32 +253,11 @@ int cpd_store_trial_list(cpd_store *s, const char *code, cpd_trial **out, size_t
     if (rc)
         return rc;
     cpd_st_bind_text(st, 1, code, 0);
-    size_t cap = 0;
-    cpd_trial *v = NULL;
-    int r;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
-        if (*n == cap) {
-            cap = cap ? 2 * cap : 16;
-            cpd_trial *nv = realloc(v, cap * sizeof *v);
-            if (!nv) {
-                rc = CPD_ENOMEM;
-                goto done;
-            }
-            v = nv;
-        }
-        read_trial(st, &v[(*n)++]);
-    }
-    if (r != SQLITE_DONE)
-        rc = cpd_st_fail(s, "listing trials");
-done:
+    void *v = NULL;
+    rc = cpd_st_collect(s, st, sizeof **out, read_trial_row, &v, n, "trials");
     sqlite3_finalize(st);
-    if (rc) {
-        free(v);
-        *n = 0;
-        return rc;
-    }
     *out = v;
-    return CPD_OK;
+    return rc;
 }
 
 int cpd_store_trial_set_excluded(cpd_store *s, int64_t id, int excluded, const char *reason)

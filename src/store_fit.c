@@ -3,14 +3,6 @@
 
 #include <string.h>
 
-static void bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
-{
-    if (valid)
-        sqlite3_bind_double(st, idx, v);
-    else
-        sqlite3_bind_null(st, idx);
-}
-
 int cpd_store_fit_save(cpd_store *s, cpd_fit_run *run, const cpd_fit_model_rec *models, size_t nmodels,
                        const int64_t *trial_ids, size_t ntrials)
 {
@@ -57,12 +49,12 @@ int cpd_store_fit_save(cpd_store *s, cpd_fit_run *run, const cpd_fit_model_rec *
         sqlite3_bind_int64(st, 1, run->id);
         sqlite3_bind_text(st, 2, m->model, -1, SQLITE_TRANSIENT);
         sqlite3_bind_int(st, 3, m->ok ? 1 : 0);
-        bind_opt(st, 4, m->ok, m->cp);
-        bind_opt(st, 5, m->ok && m->has_se, m->cp_se);
-        bind_opt(st, 6, m->ok, m->w_prime);
-        bind_opt(st, 7, m->ok && m->has_se, m->w_prime_se);
-        bind_opt(st, 8, m->ok && m->has_p_max, m->p_max);
-        bind_opt(st, 9, m->ok && m->has_p_max && m->has_se, m->p_max_se);
+        cpd_st_bind_opt(st, 4, m->ok, m->cp);
+        cpd_st_bind_opt(st, 5, m->ok && m->has_se, m->cp_se);
+        cpd_st_bind_opt(st, 6, m->ok, m->w_prime);
+        cpd_st_bind_opt(st, 7, m->ok && m->has_se, m->w_prime_se);
+        cpd_st_bind_opt(st, 8, m->ok && m->has_p_max, m->p_max);
+        cpd_st_bind_opt(st, 9, m->ok && m->has_p_max && m->has_se, m->p_max_se);
         sqlite3_bind_text(st, 10, m->detail ? m->detail : "{}", -1, SQLITE_TRANSIENT);
         if (sqlite3_step(st) != SQLITE_DONE) {
             rc = cpd_st_fail(s, "saving a fitted model");

@@ -39,14 +39,6 @@ static const char *kind_sql(cpd_gxt_kind k)
     return k == CPD_GXT_BOUT ? "bout" : "ramp";
 }
 
-static void bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
-{
-    if (valid)
-        sqlite3_bind_double(st, idx, v);
-    else
-        sqlite3_bind_null(st, idx);
-}
-
 static int add_channel(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
                        unsigned char *buf)
 {
@@ -89,14 +81,14 @@ int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *se
     sqlite3_bind_text(st, 2, kind_sql(t->kind), -1, SQLITE_STATIC);
     sqlite3_bind_text(st, 3, t->date, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(st, 4, t->speed ? "speed" : "power", -1, SQLITE_STATIC);
-    bind_opt(st, 5, ramp, t->rate_per_min);
-    bind_opt(st, 6, ramp, t->start);
-    bind_opt(st, 7, !ramp, t->intensity);
-    bind_opt(st, 8, t->has_baseline, t->baseline);
+    cpd_st_bind_opt(st, 5, ramp, t->rate_per_min);
+    cpd_st_bind_opt(st, 6, ramp, t->start);
+    cpd_st_bind_opt(st, 7, !ramp, t->intensity);
+    cpd_st_bind_opt(st, 8, t->has_baseline, t->baseline);
     sqlite3_bind_double(st, 9, t->onset_s);
-    bind_opt(st, 10, ramp && t->has_mrt, t->mrt_s);
-    bind_opt(st, 11, ramp && t->has_get_manual, t->get_vo2_manual);
-    bind_opt(st, 12, ramp && t->has_rcp_manual, t->rcp_vo2_manual);
+    cpd_st_bind_opt(st, 10, ramp && t->has_mrt, t->mrt_s);
+    cpd_st_bind_opt(st, 11, ramp && t->has_get_manual, t->get_vo2_manual);
+    cpd_st_bind_opt(st, 12, ramp && t->has_rcp_manual, t->rcp_vo2_manual);
     sqlite3_bind_int64(st, 13, (sqlite3_int64)series->n);
     sqlite3_bind_text(st, 14, t->note, -1, SQLITE_TRANSIENT);
     cpd_st_bind_text(st, 15, t->source_file, 1);
@@ -125,14 +117,6 @@ done:
     "t.id, a.code, t.kind, t.date, t.modality, t.rate_per_min, t.start, t.intensity, t.baseline, t.onset_s, " \
     "t.mrt_s, t.get_vo2_manual, t.rcp_vo2_manual, t.n_samples, t.note, t.source_file, t.imported_at"
 
-static double opt(sqlite3_stmt *st, int col, int *has)
-{
-    int h = sqlite3_column_type(st, col) != SQLITE_NULL;
-    if (has)
-        *has = h;
-    return h ? sqlite3_column_double(st, col) : 0.0;
-}
-
 static void read_test(sqlite3_stmt *st, cpd_gx_test *t)
 {
     memset(t, 0, sizeof *t);
@@ -143,14 +127,14 @@ static void read_test(sqlite3_stmt *st, cpd_gx_test *t)
     cpd_st_text(st, 3, t->date, sizeof t->date);
     const unsigned char *m = sqlite3_column_text(st, 4);
     t->speed = m && strcmp((const char *)m, "speed") == 0;
-    t->rate_per_min = opt(st, 5, NULL);
-    t->start = opt(st, 6, NULL);
-    t->intensity = opt(st, 7, NULL);
-    t->baseline = opt(st, 8, &t->has_baseline);
+    t->rate_per_min = cpd_st_opt(st, 5, NULL);
+    t->start = cpd_st_opt(st, 6, NULL);
+    t->intensity = cpd_st_opt(st, 7, NULL);
+    t->baseline = cpd_st_opt(st, 8, &t->has_baseline);
     t->onset_s = sqlite3_column_double(st, 9);
-    t->mrt_s = opt(st, 10, &t->has_mrt);
-    t->get_vo2_manual = opt(st, 11, &t->has_get_manual);
-    t->rcp_vo2_manual = opt(st, 12, &t->has_rcp_manual);
+    t->mrt_s = cpd_st_opt(st, 10, &t->has_mrt);
+    t->get_vo2_manual = cpd_st_opt(st, 11, &t->has_get_manual);
+    t->rcp_vo2_manual = cpd_st_opt(st, 12, &t->has_rcp_manual);
     t->n_samples = (size_t)sqlite3_column_int64(st, 13);
     cpd_st_text(st, 14, t->note, sizeof t->note);
     cpd_st_text(st, 15, t->source_file, sizeof t->source_file);
@@ -237,6 +221,11 @@ int cpd_store_gx_get(cpd_store *s, int64_t id, cpd_gxt_kind kind, cpd_gx_test *t
     return rc;
 }
 
+static void read_test_row(sqlite3_stmt *st, void *dst)
+{
+    read_test(st, dst);
+}
+
 int cpd_store_gx_list(cpd_store *s, const char *code, cpd_gxt_kind kind, cpd_gx_test **out, size_t *n)
 {
     *out = NULL;
@@ -250,32 +239,11 @@ int cpd_store_gx_list(cpd_store *s, const char *code, cpd_gxt_kind kind, cpd_gx_
         return rc;
     cpd_st_bind_text(st, 1, code, 0);
     sqlite3_bind_text(st, 2, kind_sql(kind), -1, SQLITE_STATIC);
-    size_t cap = 0;
-    cpd_gx_test *v = NULL;
-    int r;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
-        if (*n == cap) {
-            cap = cap ? 2 * cap : 8;
-            cpd_gx_test *nv = realloc(v, cap * sizeof *v);
-            if (!nv) {
-                rc = CPD_ENOMEM;
-                goto done;
-            }
-            v = nv;
-        }
-        read_test(st, &v[(*n)++]);
-    }
-    if (r != SQLITE_DONE)
-        rc = cpd_st_fail(s, "listing tests");
-done:
+    void *v = NULL;
+    rc = cpd_st_collect(s, st, sizeof **out, read_test_row, &v, n, "tests");
     sqlite3_finalize(st);
-    if (rc) {
-        free(v);
-        *n = 0;
-        return rc;
-    }
     *out = v;
-    return CPD_OK;
+    return rc;
 }
 
 int cpd_store_gx_set_manual(cpd_store *s, int64_t id, int which, int has, double vo2_ml_min)
@@ -288,7 +256,7 @@ int cpd_store_gx_set_manual(cpd_store *s, int64_t id, int which, int has, double
     if (rc)
         return rc;
     sqlite3_bind_int64(st, 1, id);
-    bind_opt(st, 2, has, vo2_ml_min);
+    cpd_st_bind_opt(st, 2, has, vo2_ml_min);
     if (sqlite3_step(st) != SQLITE_DONE)
         rc = cpd_st_fail(s, "updating a ramp");
     else if (sqlite3_changes(s->db) == 0)
@@ -354,8 +322,8 @@ int cpd_store_lactate_add(cpd_store *s, const cpd_lactate_test *t, int64_t *id)
         sqlite3_bind_int64(st, 2, (sqlite3_int64)(i + 1));
         sqlite3_bind_double(st, 3, t->intensity[i]);
         sqlite3_bind_double(st, 4, t->lactate[i]);
-        bind_opt(st, 5, t->has_hr, t->hr[i]);
-        bind_opt(st, 6, t->has_stage_s, t->stage_s[i]);
+        cpd_st_bind_opt(st, 5, t->has_hr, t->hr[i]);
+        cpd_st_bind_opt(st, 6, t->has_stage_s, t->stage_s[i]);
         if (sqlite3_step(st) != SQLITE_DONE) {
             rc = cpd_st_fail(s, "storing a lactate stage");
             goto done;
@@ -383,8 +351,8 @@ static int load_stages(cpd_store *s, cpd_lactate_test *t)
         int h = 0, g = 0;
         t->intensity[t->n] = sqlite3_column_double(st, 0);
         t->lactate[t->n] = sqlite3_column_double(st, 1);
-        t->hr[t->n] = opt(st, 2, &h);
-        t->stage_s[t->n] = opt(st, 3, &g);
+        t->hr[t->n] = cpd_st_opt(st, 2, &h);
+        t->stage_s[t->n] = cpd_st_opt(st, 3, &g);
         t->has_hr &= h;
         t->has_stage_s &= g;
         t->n++;
@@ -432,6 +400,11 @@ int cpd_store_lactate_get(cpd_store *s, int64_t id, cpd_lactate_test *t)
     return rc;
 }
 
+static void read_lactate_row(sqlite3_stmt *st, void *dst)
+{
+    read_lactate(st, dst);
+}
+
 int cpd_store_lactate_list(cpd_store *s, const char *code, cpd_lactate_test **out, size_t *n)
 {
     *out = NULL;
@@ -444,34 +417,17 @@ int cpd_store_lactate_list(cpd_store *s, const char *code, cpd_lactate_test **ou
     if (rc)
         return rc;
     cpd_st_bind_text(st, 1, code, 0);
-    size_t cap = 0;
-    cpd_lactate_test *v = NULL;
-    int r;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
-        if (*n == cap) {
-            cap = cap ? 2 * cap : 4;
-            cpd_lactate_test *nv = realloc(v, cap * sizeof *v);
-            if (!nv) {
-                rc = CPD_ENOMEM;
-                goto done;
-            }
-            v = nv;
-        }
-        read_lactate(st, &v[(*n)++]);
-    }
-    if (r != SQLITE_DONE)
-        rc = cpd_st_fail(s, "listing lactate tests");
+    void *v = NULL;
+    rc = cpd_st_collect(s, st, sizeof **out, read_lactate_row, &v, n, "lactate tests");
     sqlite3_finalize(st);
-    st = NULL;
+    cpd_lactate_test *t = v;
     for (size_t i = 0; !rc && i < *n; i++)
-        rc = load_stages(s, &v[i]);
-done:
-    sqlite3_finalize(st);
+        rc = load_stages(s, &t[i]);
     if (rc) {
-        free(v);
+        free(t);
         *n = 0;
         return rc;
     }
-    *out = v;
+    *out = t;
     return CPD_OK;
 }

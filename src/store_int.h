@@ -32,6 +32,15 @@ int cpd_st_bind_text(sqlite3_stmt *st, int idx, const char *v, int empty_is_null
  * nests inside the command's transaction. */
 int cpd_st_savepoint(cpd_store *s);
 int cpd_st_release(cpd_store *s, int rc);
+/* Binds a double, or NULL when valid is 0. */
+void cpd_st_bind_opt(sqlite3_stmt *st, int idx, int valid, double v);
+/* Reads column col as a double; *has (may be NULL) receives 0 for NULL (the value is then 0). */
+double cpd_st_opt(sqlite3_stmt *st, int col, int *has);
+/* Steps st to its end, appending one element of elem bytes per row, filled by read(st, element).
+ * On success *out (free()) holds *n elements; on failure nothing is kept and the status says
+ * why ("listing WHAT"). st stays owned by the caller. */
+int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sqlite3_stmt *, void *), void **out,
+                   size_t *n, const char *what);
 /* The id of the athlete with this code, or CPD_ENOENT. */
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
 
