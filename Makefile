@@ -26,9 +26,11 @@ LIB_SRCS += src/svgplot.c
 LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
+LIB_SRCS += src/store_dump.c src/export.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c
+CLI_SRCS += src/cmd_export.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -36,6 +38,7 @@ TESTS += test_pd
 TESTS += test_svgplot
 TESTS += test_ramp
 TESTS += test_lactate
+TESTS += test_export test_store_dump
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

@@ -12,5 +12,7 @@ int cmd_predict(cli_ctx *c, int argc, char **argv);
 int cmd_solve(cli_ctx *c, int argc, char **argv);
 int cmd_ramp(cli_ctx *c, int argc, char **argv);
 int cmd_lactate(cli_ctx *c, int argc, char **argv);
+int cmd_export(cli_ctx *c, int argc, char **argv);
+int cmd_import(cli_ctx *c, int argc, char **argv);
 
 #endif
