@@ -16,6 +16,7 @@
 /* Integers up to 2^53 in magnitude are exact in the binary64 that JSON readers (cJSON, Python's
  * float for a number with a fraction, JavaScript) use; larger ones travel as decimal strings. */
 #define EXACT_INT 9007199254740992.0
+#define EXACT_INT_I INT64_C(9007199254740992)
 
 static int fail(char *msg, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
 static int fail(char *msg, const char *fmt, ...)
@@ -181,9 +182,23 @@ static cJSON *b64_item(const char *key, const unsigned char *p, size_t n)
     return o;
 }
 
-static int numeric(cpd_affinity a)
+/* What a column takes in the document: numbers (INTEGER, REAL or NUMERIC affinity), strings (TEXT),
+ * blobs (a declared BLOB type), or anything (no declared type). SQLite itself would let a BLOB
+ * column hold text, but the declared type says what cpdomain keeps there. */
+typedef enum { TAKES_NUMBER, TAKES_TEXT, TAKES_BLOB, TAKES_ANY } takes;
+
+static takes column_takes(const cpd_dump_column *c)
 {
-    return a == CPD_AFF_INTEGER || a == CPD_AFF_REAL || a == CPD_AFF_NUMERIC;
+    switch (c->affinity) {
+    case CPD_AFF_INTEGER:
+    case CPD_AFF_REAL:
+    case CPD_AFF_NUMERIC:
+        return TAKES_NUMBER;
+    case CPD_AFF_TEXT:
+        return TAKES_TEXT;
+    default:
+        return c->decl_type[0] ? TAKES_BLOB : TAKES_ANY;
+    }
 }
 
 static const char *class_name(cpd_value_type t)
@@ -198,13 +213,16 @@ static int render_value(const cpd_value *v, const cpd_dump_column *c, cJSON **it
 {
     char num[40];
     *item = NULL;
-    if ((numeric(c->affinity) && (v->type == CPD_VAL_TEXT || v->type == CPD_VAL_BLOB)) ||
-        (c->affinity == CPD_AFF_TEXT && v->type != CPD_VAL_TEXT && v->type != CPD_VAL_NULL))
+    takes k = column_takes(c);
+    if ((k == TAKES_NUMBER && (v->type == CPD_VAL_TEXT || v->type == CPD_VAL_BLOB)) ||
+        (k == TAKES_TEXT && v->type != CPD_VAL_TEXT && v->type != CPD_VAL_NULL) ||
+        (k == TAKES_BLOB && v->type != CPD_VAL_BLOB && v->type != CPD_VAL_NULL))
         return CPD_EDATA;
     switch (v->type) {
     case CPD_VAL_INTEGER:
         snprintf(num, sizeof num, "%lld", (long long)v->i);
-        *item = fabs((double)v->i) <= EXACT_INT ? cJSON_CreateRaw(num) : typed("integer", num);
+        /* compared as integers: (double)v->i would round 2^53 + 1 down to 2^53 */
+        *item = v->i >= -EXACT_INT_I && v->i <= EXACT_INT_I ? cJSON_CreateRaw(num) : typed("integer", num);
         break;
     case CPD_VAL_REAL:
         if (!isfinite(v->r))
@@ -213,7 +231,7 @@ static int render_value(const cpd_value *v, const cpd_dump_column *c, cJSON **it
             format_real(v->r, num, sizeof num);
             /* In a column without affinity an integral plain number would come back as an integer. */
             int integral = v->r == floor(v->r) && fabs(v->r) <= EXACT_INT;
-            *item = c->affinity == CPD_AFF_BLOB && integral ? typed("real", num) : cJSON_CreateRaw(num);
+            *item = k == TAKES_ANY && integral ? typed("real", num) : cJSON_CreateRaw(num);
         }
         break;
     case CPD_VAL_TEXT:
@@ -341,13 +359,11 @@ static const char *kind(const cJSON *it)
     return "an object";
 }
 
-static const char *expected(cpd_affinity a)
+static const char *expected(takes k)
 {
-    if (numeric(a))
-        return "a number";
-    if (a == CPD_AFF_TEXT)
-        return "a string";
-    return "a value (null, a number, a string or {\"base64\": ...})";
+    static const char *const what[] = {"a number", "a string", "{\"base64\": \"...\"}",
+                                       "a value (null, a number, a string or {\"base64\": ...})"};
+    return what[k];
 }
 
 /* 1-based line and column (in characters) of byte offset off. */
@@ -397,12 +413,13 @@ static int parse_typed(const cJSON *it, const cpd_dump_column *c, const char *pa
 {
     const char *key, *text;
     typed_parts(it, &key, &text);
-    cpd_affinity a = c->affinity;
-    if (key && strcmp(key, "base64") == 0 && a == CPD_AFF_BLOB)
+    takes k = column_takes(c);
+    int number = k == TAKES_NUMBER || k == TAKES_ANY;
+    if (key && strcmp(key, "base64") == 0 && (k == TAKES_BLOB || k == TAKES_ANY))
         return parse_b64(path, key, text, v, 0, msg);
-    if (key && strcmp(key, "text_base64") == 0 && (a == CPD_AFF_TEXT || a == CPD_AFF_BLOB))
+    if (key && strcmp(key, "text_base64") == 0 && (k == TAKES_TEXT || k == TAKES_ANY))
         return parse_b64(path, key, text, v, 1, msg);
-    if (key && strcmp(key, "integer") == 0 && (numeric(a) || a == CPD_AFF_BLOB)) {
+    if (key && strcmp(key, "integer") == 0 && number) {
         char *end = NULL;
         errno = 0;
         long long x = strtoll(text, &end, 10);
@@ -412,7 +429,7 @@ static int parse_typed(const cJSON *it, const cpd_dump_column *c, const char *pa
         v->i = x;
         return CPD_OK;
     }
-    if (key && strcmp(key, "real") == 0 && (numeric(a) || a == CPD_AFF_BLOB)) {
+    if (key && strcmp(key, "real") == 0 && number) {
         char *end = NULL;
         double x = strtod(text, &end);
         int inf = strcmp(text, "inf") == 0 || strcmp(text, "-inf") == 0;
@@ -422,28 +439,28 @@ static int parse_typed(const cJSON *it, const cpd_dump_column *c, const char *pa
         v->r = x;
         return CPD_OK;
     }
-    return fail(msg, "%s: expected %s (column '%s', %s), got %s%s%s%s", path, expected(a), c->name,
+    return fail(msg, "%s: expected %s (column '%s', %s), got %s%s%s%s", path, expected(k), c->name,
                 c->decl_type[0] ? c->decl_type : "no type", key ? "{\"" : "an object", key ? key : "",
                 key ? "\": ...}" : "", key ? ", which this column does not take" : "");
 }
 
 static int parse_value(const cJSON *it, const cpd_dump_column *c, const char *path, cpd_value *v, char *msg)
 {
-    cpd_affinity a = c->affinity;
+    takes k = column_takes(c);
     const char *col_type = c->decl_type[0] ? c->decl_type : "no type";
     if (cJSON_IsNull(it)) {
         if (c->notnull)
-            return fail(msg, "%s: expected %s, got null (column '%s' is NOT NULL)", path, expected(a), c->name);
+            return fail(msg, "%s: expected %s, got null (column '%s' is NOT NULL)", path, expected(k), c->name);
         v->type = CPD_VAL_NULL;
         return CPD_OK;
     }
-    if (cJSON_IsNumber(it) && a != CPD_AFF_TEXT) {
+    if (cJSON_IsNumber(it) && (k == TAKES_NUMBER || k == TAKES_ANY)) {
         double x = it->valuedouble;
         if (!isfinite(x))
             return fail(msg, "%s: the number is out of the range of a double", path);
         /* A plain integral number is an integer (the writer sends larger ones and integral reals in
          * untyped columns as typed values); a REAL column makes every number a real, as SQLite would. */
-        if (a != CPD_AFF_REAL && x == floor(x) && fabs(x) <= EXACT_INT && !(x == 0 && signbit(x))) {
+        if (c->affinity != CPD_AFF_REAL && x == floor(x) && fabs(x) <= EXACT_INT && !(x == 0 && signbit(x))) {
             v->type = CPD_VAL_INTEGER;
             v->i = (int64_t)x;
         } else {
@@ -452,7 +469,7 @@ static int parse_value(const cJSON *it, const cpd_dump_column *c, const char *pa
         }
         return CPD_OK;
     }
-    if (cJSON_IsString(it) && !numeric(a)) {
+    if (cJSON_IsString(it) && (k == TAKES_TEXT || k == TAKES_ANY)) {
         size_t n = strlen(it->valuestring);
         if (!utf8_valid((const unsigned char *)it->valuestring, n))
             return fail(msg, "%s: the string is not valid UTF-8", path);
@@ -460,7 +477,7 @@ static int parse_value(const cJSON *it, const cpd_dump_column *c, const char *pa
     }
     if (cJSON_IsObject(it))
         return parse_typed(it, c, path, v, msg);
-    return fail(msg, "%s: expected %s (column '%s', %s), got %s", path, expected(a), c->name, col_type, kind(it));
+    return fail(msg, "%s: expected %s (column '%s', %s), got %s", path, expected(k), c->name, col_type, kind(it));
 }
 
 /* Fills table t of out from the document's table object. */
@@ -651,12 +668,15 @@ int cpd_export_parse(const char *text, size_t len, const cpd_dump *schema, cpd_d
     if (!root) {
         size_t off = end && end >= text && end <= text + len ? (size_t)(end - text) : 0;
         locate(text, off, &line, &col);
-        return fail(msg, "not JSON: syntax error at line %ld, column %ld", line, col);
+        /* cJSON reports where it gave up, which can be a character past the fault: "near". */
+        return fail(msg, "not JSON: syntax error near line %ld, column %ld", line, col);
     }
     size_t used = end && end >= text && end <= text + len ? (size_t)(end - text) : len;
     cpd_dump *d = NULL;
     int rc = CPD_OK;
-    if (!only_space(end ? end : text + len, len - used)) {
+    if (!only_space(text + used, len - used)) {
+        while (strchr(" \t\r\n", text[used]))
+            used++;
         locate(text, used, &line, &col);
         rc = fail(msg, "not JSON: more text after the document, at line %ld, column %ld", line, col);
         goto done;
@@ -720,8 +740,10 @@ done:
 
 void cpd_export_row_path(const cpd_dump *d, size_t table, size_t row, char *buf, size_t n)
 {
-    if (table < d->ntables)
+    if (table < d->ntables && row != SIZE_MAX)
         snprintf(buf, n, "tables.%s.rows[%zu]", d->table[table].name, row);
+    else if (table < d->ntables)
+        snprintf(buf, n, "tables.%s", d->table[table].name);
     else
         snprintf(buf, n, "tables");
 }

@@ -271,8 +271,10 @@ static int read_parents(cpd_store *s, const cpd_dump *d, size_t k, deps *dp)
 }
 
 /* Kahn's topological sort: repeatedly take the first table (in creation order) whose parents are
- * all placed, so the order is deterministic and parents come first. */
-static int order_tables(cpd_store *s, cpd_dump *d, deps *dp)
+ * all placed, so the order is deterministic and parents come first. Tables in a cycle of foreign
+ * keys have no such order: the first of them in creation order breaks it (restore defers the
+ * foreign-key checks to its end, so any order loads). */
+static int order_tables(cpd_dump *d, deps *dp)
 {
     size_t n = d->ntables;
     int rc = CPD_OK;
@@ -294,10 +296,9 @@ static int order_tables(cpd_store *s, cpd_dump *d, deps *dp)
             if (ready)
                 pick = k;
         }
-        if (pick == n) {
-            rc = cpd_st_err(s, CPD_EINTERNAL, "the foreign keys of the store form a cycle: no order puts parents first");
-            goto done;
-        }
+        for (size_t k = 0; k < n && pick == n; k++)
+            if (!placed[k])
+                pick = k;
         placed[pick] = 1;
         order[got] = pick;
     }
@@ -354,7 +355,7 @@ int cpd_store_dump_schema(cpd_store *s, cpd_dump **out)
             rc = read_parents(s, d, k, &dp[k]);
     }
     if (rc == CPD_OK)
-        rc = order_tables(s, d, dp);
+        rc = order_tables(d, dp);
 done:
     for (size_t k = 0; dp && k < d->ntables; k++)
         free(dp[k].parent);
@@ -585,7 +586,9 @@ static int check_columns(cpd_store *s, const cpd_dump_table *have, const cpd_dum
     return CPD_OK;
 }
 
-static int insert_rows(cpd_store *s, const cpd_dump_table *src, size_t *bad_row)
+/* Inserts the rows of src; rowid[i] receives the rowid of row i (for locating a foreign-key
+ * violation later). */
+static int insert_rows(cpd_store *s, const cpd_dump_table *src, int64_t *rowid, size_t *bad_row)
 {
     char *sql = insert_sql(src);
     if (!sql)
@@ -607,7 +610,33 @@ static int insert_rows(cpd_store *s, const cpd_dump_table *src, size_t *bad_row)
             rc = (r & 0xff) == SQLITE_CONSTRAINT ? cpd_st_err(s, CPD_EDATA, "%s", sqlite3_errmsg(s->db))
                                                  : cpd_st_fail(s, "inserting a row");
         }
+        rowid[i] = sqlite3_last_insert_rowid(s->db);
     }
+    sqlite3_finalize(st);
+    return rc;
+}
+
+/* The first row of table h that breaks a foreign key (SQLite's foreign_key_check), located by its
+ * rowid among the rows just inserted; *bad_row stays SIZE_MAX for a WITHOUT ROWID table. */
+static int check_foreign_keys(cpd_store *s, const char *table, const int64_t *rowid, size_t nrows, size_t *bad_row)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT rowid, parent FROM pragma_foreign_key_check(?1)", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_text(st, 1, table, -1, SQLITE_TRANSIENT);
+    int r = sqlite3_step(st);
+    if (r == SQLITE_ROW) {
+        int has_rowid = sqlite3_column_type(st, 0) != SQLITE_NULL;
+        int64_t id = sqlite3_column_int64(st, 0);
+        for (size_t i = 0; has_rowid && i < nrows && *bad_row == SIZE_MAX; i++)
+            if (rowid[i] == id)
+                *bad_row = i;
+        const unsigned char *parent = sqlite3_column_text(st, 1);
+        rc = cpd_st_err(s, CPD_EDATA, "FOREIGN KEY constraint failed: no row of '%s' that it refers to",
+                        parent ? (const char *)parent : "?");
+    } else if (r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "checking foreign keys");
     sqlite3_finalize(st);
     return rc;
 }
@@ -617,6 +646,8 @@ int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t
     *bad_table = SIZE_MAX;
     *bad_row = SIZE_MAX;
     cpd_dump *have = NULL;
+    int64_t **rowids = NULL; /* per table of d, the rowid of each inserted row */
+    int deferred = 0;
     int rc = cpd_st_savepoint(s);
     if (rc)
         return rc;
@@ -633,29 +664,51 @@ int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t
             rc = cpd_st_err(s, CPD_EUSAGE, "the store has no table '%s'", d->table[k].name);
             goto done;
         }
-        if ((rc = check_columns(s, &have->table[h], &d->table[k])))
-            goto done;
         for (size_t q = 0; q < k; q++)
             if (strcmp(d->table[q].name, d->table[k].name) == 0) {
                 rc = cpd_st_err(s, CPD_EUSAGE, "table '%s' is given twice", d->table[k].name);
                 goto done;
             }
+        if ((rc = check_columns(s, &have->table[h], &d->table[k])))
+            goto done;
     }
     if ((rc = cpd_store_check_empty(s)))
         goto done;
-    /* The store's own order, parents first: the foreign keys are checked row by row, so a failure
-     * names the row. */
-    for (size_t h = 0; h < have->ntables; h++) {
+    rowids = calloc(d->ntables ? d->ntables : 1, sizeof *rowids);
+    if (!rowids) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    /* Parents first, yet a self-reference or a cycle can still point forward: foreign keys are
+     * checked once everything is in (defer_foreign_keys, reset when the transaction ends), table by
+     * table, so that a failure still names its row. */
+    if (sqlite3_exec(s->db, "PRAGMA defer_foreign_keys = ON", NULL, NULL, NULL) != SQLITE_OK) {
+        rc = cpd_st_fail(s, "deferring foreign keys");
+        goto done;
+    }
+    deferred = 1;
+    for (size_t h = 0; h < have->ntables && rc == CPD_OK; h++) {
         long k = cpd_dump_find_table(d, have->table[h].name);
         if (k < 0)
             continue;
-        if ((rc = insert_rows(s, &d->table[k], bad_row))) {
-            if (*bad_row != SIZE_MAX)
-                *bad_table = (size_t)k;
-            goto done;
-        }
+        if (!(rowids[k] = malloc((d->table[k].nrows ? d->table[k].nrows : 1) * sizeof **rowids)))
+            rc = CPD_ENOMEM;
+        else if ((rc = insert_rows(s, &d->table[k], rowids[k], bad_row)) && *bad_row != SIZE_MAX)
+            *bad_table = (size_t)k;
+    }
+    for (size_t h = 0; h < have->ntables && rc == CPD_OK; h++) {
+        long k = cpd_dump_find_table(d, have->table[h].name);
+        if (k >= 0 && (rc = check_foreign_keys(s, d->table[k].name, rowids[k], d->table[k].nrows, bad_row)) &&
+            rc == CPD_EDATA)
+            *bad_table = (size_t)k;
     }
 done:
+    for (size_t k = 0; rowids && k < d->ntables; k++)
+        free(rowids[k]);
+    free(rowids);
     cpd_dump_free(have);
-    return cpd_st_release(s, rc);
+    rc = cpd_st_release(s, rc);
+    if (deferred)
+        sqlite3_exec(s->db, "PRAGMA defer_foreign_keys = OFF", NULL, NULL, NULL);
+    return rc;
 }

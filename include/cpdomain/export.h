@@ -17,8 +17,8 @@
  * {"real": "inf"}); text as strings (not UTF-8 or with NUL bytes: {"text_base64": ...}); blobs as
  * {"base64": ...} (RFC 4648). *out receives the text (NUL-terminated, *len bytes, ending in a
  * newline); the caller frees it with free(). CPD_EDATA when a value could not be imported again
- * (text or a blob in a numeric column, a blob in a text column), msg naming its JSON path;
- * CPD_ENOMEM. */
+ * (text or a blob in a numeric column, anything but text in a TEXT column, anything but a blob in
+ * a BLOB column), msg naming its JSON path; CPD_ENOMEM. */
 int cpd_export_render(const cpd_dump *d, const char *tool_version, char **out, size_t *len, char *msg);
 
 /* Parses a document (text of len bytes) for a store with the given schema (cpd_store_dump_schema):
@@ -34,8 +34,8 @@ int cpd_export_parse(const char *text, size_t len, const cpd_dump *schema, cpd_d
  * "path: ". CPD_EIO when the file cannot be opened or read; otherwise as cpd_export_parse. */
 int cpd_export_read(const char *path, const cpd_dump *schema, cpd_dump **out, char *msg);
 
-/* The JSON path of row `row` of table `table` of d ("tables.trial.rows[3]"), for messages about a
- * row the store refused (cpd_store_restore). */
+/* The JSON path of row `row` of table `table` of d ("tables.trial.rows[3]"; "tables.trial" for row
+ * SIZE_MAX), for messages about a row the store refused (cpd_store_restore). */
 void cpd_export_row_path(const cpd_dump *d, size_t table, size_t row, char *buf, size_t n);
 
 /* ---- base64 (RFC 4648 section 4: the standard alphabet, '=' padding, no line breaks) ---- */

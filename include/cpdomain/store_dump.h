@@ -49,8 +49,8 @@ typedef struct {
 
 /* The store's tables and columns without rows: every table of sqlite_master except SQLite's own
  * (sqlite_*), ordered so that a table comes after every table its foreign keys refer to (ties in
- * creation order). CPD_EINTERNAL when the foreign keys form a cycle. The caller frees *out with
- * cpd_dump_free. */
+ * creation order; a cycle of foreign keys, which has no such order, is broken at its first table
+ * in creation order). The caller frees *out with cpd_dump_free. */
 int cpd_store_dump_schema(cpd_store *s, cpd_dump **out);
 /* The same with every row, read in one transaction (a consistent snapshot). Rows in rowid order
  * (primary-key order for a WITHOUT ROWID table), which is the order they were stored in; the hidden
@@ -63,11 +63,13 @@ int cpd_store_dump(cpd_store *s, cpd_dump **out);
 int cpd_store_check_empty(cpd_store *s);
 /* Inserts every row of d into an empty store, parents first, all or nothing (a savepoint: it nests
  * in the caller's transaction). Tables and columns are matched by name; a column absent from d gets
- * its default. Values are bound as typed, every statement with bound parameters. Returns CPD_OK;
- * CPD_EEXIST for a store that is not empty; CPD_EUSAGE when d's schema_version differs from the
- * store's or d names a table or column the store lacks; CPD_EDATA when a row breaks a constraint
- * (NOT NULL, CHECK, UNIQUE, foreign key), with *bad_table and *bad_row its position in d;
- * CPD_ESTORE, CPD_ENOMEM. The detail is in cpd_store_errmsg. */
+ * its default. Values are bound as typed, every statement with bound parameters. Foreign keys are
+ * checked after the last row (so self-references and cycles load too). Returns CPD_OK; CPD_EEXIST
+ * for a store that is not empty; CPD_EUSAGE when d's schema_version differs from the store's or d
+ * names a table or column the store lacks; CPD_EDATA when a row breaks a constraint (NOT NULL,
+ * CHECK, UNIQUE, foreign key), with *bad_table and *bad_row its position in d (*bad_row SIZE_MAX
+ * when the row of a WITHOUT ROWID table cannot be told); CPD_ESTORE, CPD_ENOMEM. The detail is
+ * in cpd_store_errmsg. */
 int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t *bad_row);
 
 /* ---- building and freeing a dump (no SQL: for the store and for parsers of dump formats) ---- */
