@@ -9,6 +9,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <sysexits.h>
 
 static const char HELP_EXPORT[] =
@@ -85,12 +86,15 @@ static int summary_json(const char *file, const cpd_dump *d)
     return cj_print(doc);
 }
 
-/* Writes the document to path; a failed write removes the partial file. */
+/* Writes the document to path. A failed write removes the partial file, if it is a regular file:
+ * -o may name a device or a pipe (/dev/stdout), which must never be unlinked. */
 static int write_file(cli_ctx *c, const char *path, const char *text, size_t len)
 {
     FILE *f = fopen(path, "wb");
     if (!f)
         return cli_fail(c, CPD_ECREATE, "cannot create '%s': %s", path, strerror(errno));
+    struct stat sb;
+    int regular = fstat(fileno(f), &sb) == 0 && S_ISREG(sb.st_mode);
     int ok = fwrite(text, 1, len, f) == len;
     int err = errno;
     if (fclose(f) != 0 && ok) {
@@ -98,7 +102,8 @@ static int write_file(cli_ctx *c, const char *path, const char *text, size_t len
         err = errno;
     }
     if (!ok) {
-        remove(path);
+        if (regular)
+            remove(path);
         return cli_fail(c, CPD_ECREATE, "writing '%s' failed: %s", path, strerror(err));
     }
     return 0;
