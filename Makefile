@@ -34,6 +34,8 @@ LIB_SRCS += src/session.c src/mmp.c src/allout.c
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
            src/cmd_history.c
+LIB_SRCS += src/store_dump.c src/export.c
+CLI_SRCS += src/cmd_export.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -45,6 +47,7 @@ TESTS += test_ramp
 TESTS += test_lactate
 TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
+TESTS += test_export test_store_dump
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

@@ -14,5 +14,7 @@ int cmd_ramp(cli_ctx *c, int argc, char **argv);
 int cmd_lactate(cli_ctx *c, int argc, char **argv);
 int cmd_domains(cli_ctx *c, int argc, char **argv);
 int cmd_history(cli_ctx *c, int argc, char **argv);
+int cmd_export(cli_ctx *c, int argc, char **argv);
+int cmd_import(cli_ctx *c, int argc, char **argv);
 
 #endif

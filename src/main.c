@@ -21,6 +21,8 @@ static const cli_command commands[] = {
     {"history", cmd_history, "the season: every estimate over time and which changes are meaningful", NULL},
     {"predict", cmd_predict, "time to task failure, power for a duration, W' balance of a session", NULL},
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},
+    {"export", cmd_export, "the whole store as one JSON document", NULL},
+    {"import", cmd_import, "a document written by export, into a new store", NULL},
 };
 
 static void usage(FILE *out)

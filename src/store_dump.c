@@ -1,0 +1,714 @@
+/* store_dump.c: the whole store as typed values and back, driven by the schema the store itself
+ * reports. Table and column names come from sqlite_master and are quoted as identifiers; every
+ * value travels through a bound parameter. */
+#include "store_int.h"
+#include "cpdomain/store_dump.h"
+
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+
+/* ---- the dump structure ---- */
+
+cpd_dump *cpd_dump_alloc(void)
+{
+    return calloc(1, sizeof(cpd_dump));
+}
+
+static void value_clear(cpd_value *v)
+{
+    free(v->p);
+    memset(v, 0, sizeof *v);
+}
+
+void cpd_dump_free(cpd_dump *d)
+{
+    if (!d)
+        return;
+    for (size_t k = 0; k < d->ntables; k++) {
+        cpd_dump_table *t = &d->table[k];
+        for (size_t i = 0; i < t->nrows * t->ncols; i++)
+            free(t->val[i].p);
+        for (size_t j = 0; j < t->ncols; j++) {
+            free(t->col[j].name);
+            free(t->col[j].decl_type);
+        }
+        free(t->val);
+        free(t->col);
+        free(t->name);
+    }
+    free(d->table);
+    free(d);
+}
+
+int cpd_dump_add_table(cpd_dump *d, const char *name, cpd_dump_table **t)
+{
+    cpd_dump_table *nt = realloc(d->table, (d->ntables + 1) * sizeof *nt);
+    if (!nt)
+        return CPD_ENOMEM;
+    d->table = nt;
+    cpd_dump_table *x = &nt[d->ntables];
+    memset(x, 0, sizeof *x);
+    if (!(x->name = strdup(name)))
+        return CPD_ENOMEM;
+    d->ntables++;
+    *t = x;
+    return CPD_OK;
+}
+
+cpd_affinity cpd_dump_affinity(const char *decl)
+{
+    /* The rules apply in this order, so "CHARINT" is INTEGER and "FLOATING POINT" is INTEGER too. */
+    if (!decl || !*decl)
+        return CPD_AFF_BLOB;
+    char up[128];
+    size_t n = strlen(decl) < sizeof up - 1 ? strlen(decl) : sizeof up - 1;
+    for (size_t i = 0; i < n; i++)
+        up[i] = (char)((decl[i] >= 'a' && decl[i] <= 'z') ? decl[i] - 'a' + 'A' : decl[i]);
+    up[n] = '\0';
+    if (strstr(up, "INT"))
+        return CPD_AFF_INTEGER;
+    if (strstr(up, "CHAR") || strstr(up, "CLOB") || strstr(up, "TEXT"))
+        return CPD_AFF_TEXT;
+    if (strstr(up, "BLOB"))
+        return CPD_AFF_BLOB;
+    if (strstr(up, "REAL") || strstr(up, "FLOA") || strstr(up, "DOUB"))
+        return CPD_AFF_REAL;
+    return CPD_AFF_NUMERIC;
+}
+
+int cpd_dump_add_column(cpd_dump_table *t, const char *name, const char *decl_type, int notnull, int pk)
+{
+    if (t->nrows || t->cap_rows)
+        return CPD_EUSAGE;
+    cpd_dump_column *nc = realloc(t->col, (t->ncols + 1) * sizeof *nc);
+    if (!nc)
+        return CPD_ENOMEM;
+    t->col = nc;
+    cpd_dump_column *c = &nc[t->ncols];
+    memset(c, 0, sizeof *c);
+    c->name = strdup(name);
+    c->decl_type = strdup(decl_type ? decl_type : "");
+    if (!c->name || !c->decl_type) {
+        free(c->name);
+        free(c->decl_type);
+        return CPD_ENOMEM;
+    }
+    c->affinity = cpd_dump_affinity(decl_type);
+    c->notnull = notnull != 0;
+    c->pk = pk;
+    t->ncols++;
+    return CPD_OK;
+}
+
+int cpd_dump_add_row(cpd_dump_table *t, cpd_value **row)
+{
+    if (t->nrows == t->cap_rows) {
+        size_t cap = t->cap_rows ? 2 * t->cap_rows : 16;
+        size_t width = t->ncols ? t->ncols : 1;
+        if (cap > SIZE_MAX / width / sizeof(cpd_value))
+            return CPD_ENOMEM;
+        cpd_value *nv = realloc(t->val, cap * width * sizeof *nv);
+        if (!nv)
+            return CPD_ENOMEM;
+        t->val = nv;
+        t->cap_rows = cap;
+    }
+    cpd_value *r = &t->val[t->nrows * t->ncols];
+    memset(r, 0, t->ncols * sizeof *r);
+    t->nrows++;
+    *row = r;
+    return CPD_OK;
+}
+
+static int set_bytes(cpd_value *v, cpd_value_type type, const void *p, size_t n)
+{
+    value_clear(v);
+    if (type == CPD_VAL_TEXT || n > 0) {
+        v->p = malloc(n + 1);
+        if (!v->p)
+            return CPD_ENOMEM;
+        if (n)
+            memcpy(v->p, p, n);
+        v->p[n] = '\0';
+    }
+    v->type = type;
+    v->n = n;
+    return CPD_OK;
+}
+
+int cpd_value_set_text(cpd_value *v, const void *p, size_t n)
+{
+    return set_bytes(v, CPD_VAL_TEXT, p, n);
+}
+
+int cpd_value_set_blob(cpd_value *v, const void *p, size_t n)
+{
+    return set_bytes(v, CPD_VAL_BLOB, p, n);
+}
+
+long cpd_dump_find_table(const cpd_dump *d, const char *name)
+{
+    for (size_t k = 0; k < d->ntables; k++)
+        if (strcmp(d->table[k].name, name) == 0)
+            return (long)k;
+    return -1;
+}
+
+long cpd_dump_find_column(const cpd_dump_table *t, const char *name)
+{
+    for (size_t j = 0; j < t->ncols; j++)
+        if (strcmp(t->col[j].name, name) == 0)
+            return (long)j;
+    return -1;
+}
+
+/* ---- SQL text built from schema names ---- */
+
+typedef struct {
+    char *p;
+    size_t n, cap;
+    int oom;
+} sbuf;
+
+static void sb_put(sbuf *b, const char *s, size_t n)
+{
+    if (b->oom)
+        return;
+    if (b->n + n + 1 > b->cap) {
+        size_t cap = b->cap ? b->cap : 256;
+        while (cap < b->n + n + 1)
+            cap *= 2;
+        char *np = realloc(b->p, cap);
+        if (!np) {
+            b->oom = 1;
+            return;
+        }
+        b->p = np;
+        b->cap = cap;
+    }
+    memcpy(b->p + b->n, s, n);
+    b->n += n;
+    b->p[b->n] = '\0';
+}
+
+static void sb_str(sbuf *b, const char *s)
+{
+    sb_put(b, s, strlen(s));
+}
+
+/* An identifier in double quotes with embedded quotes doubled (sqlite.org/lang_keywords.html). */
+static void sb_ident(sbuf *b, const char *name)
+{
+    sb_put(b, "\"", 1);
+    for (const char *q = name; *q; q++) {
+        sb_put(b, q, 1);
+        if (*q == '"')
+            sb_put(b, q, 1);
+    }
+    sb_put(b, "\"", 1);
+}
+
+/* ---- reading the schema ---- */
+
+typedef struct {
+    size_t nparents;
+    long *parent; /* indices of the tables its foreign keys refer to */
+} deps;
+
+static int read_columns(cpd_store *s, cpd_dump_table *t)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT name, type, \"notnull\", pk FROM pragma_table_info(?1) ORDER BY cid", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_text(st, 1, t->name, -1, SQLITE_TRANSIENT);
+    int r;
+    while (rc == CPD_OK && (r = sqlite3_step(st)) == SQLITE_ROW) {
+        const char *name = (const char *)sqlite3_column_text(st, 0);
+        const char *type = (const char *)sqlite3_column_text(st, 1);
+        rc = cpd_dump_add_column(t, name ? name : "", type ? type : "", sqlite3_column_int(st, 2),
+                                 sqlite3_column_int(st, 3));
+    }
+    if (rc == CPD_OK && r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "reading the columns of a table");
+    sqlite3_finalize(st);
+    if (rc == CPD_OK && t->ncols == 0)
+        rc = cpd_st_err(s, CPD_EINTERNAL, "table '%s' has no columns", t->name);
+    return rc;
+}
+
+static int read_parents(cpd_store *s, const cpd_dump *d, size_t k, deps *dp)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT DISTINCT \"table\" FROM pragma_foreign_key_list(?1)", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_text(st, 1, d->table[k].name, -1, SQLITE_TRANSIENT);
+    int r;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+        const char *parent = (const char *)sqlite3_column_text(st, 0);
+        long p = -1;
+        /* The parent's name in a foreign key is case-insensitive, as SQLite resolves it. */
+        for (size_t j = 0; parent && j < d->ntables; j++)
+            if (strcasecmp(d->table[j].name, parent) == 0)
+                p = (long)j;
+        if (p < 0 || (size_t)p == k) /* a missing parent fails on insert; a self-reference orders nothing */
+            continue;
+        long *np = realloc(dp->parent, (dp->nparents + 1) * sizeof *np);
+        if (!np) {
+            rc = CPD_ENOMEM;
+            break;
+        }
+        dp->parent = np;
+        dp->parent[dp->nparents++] = p;
+    }
+    if (rc == CPD_OK && r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "reading the foreign keys of a table");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+/* Kahn's topological sort: repeatedly take the first table (in creation order) whose parents are
+ * all placed, so the order is deterministic and parents come first. Tables in a cycle of foreign
+ * keys have no such order: the first of them in creation order breaks it (restore defers the
+ * foreign-key checks to its end, so any order loads). */
+static int order_tables(cpd_dump *d, deps *dp)
+{
+    size_t n = d->ntables;
+    int rc = CPD_OK;
+    size_t *order = malloc((n ? n : 1) * sizeof *order);
+    char *placed = calloc(n ? n : 1, 1);
+    cpd_dump_table *sorted = malloc((n ? n : 1) * sizeof *sorted);
+    if (!order || !placed || !sorted) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t got = 0; got < n; got++) {
+        size_t pick = n;
+        for (size_t k = 0; k < n && pick == n; k++) {
+            if (placed[k])
+                continue;
+            int ready = 1;
+            for (size_t q = 0; q < dp[k].nparents; q++)
+                ready &= placed[dp[k].parent[q]];
+            if (ready)
+                pick = k;
+        }
+        for (size_t k = 0; k < n && pick == n; k++)
+            if (!placed[k])
+                pick = k;
+        placed[pick] = 1;
+        order[got] = pick;
+    }
+    for (size_t i = 0; i < n; i++)
+        sorted[i] = d->table[order[i]];
+    memcpy(d->table, sorted, n * sizeof *sorted);
+done:
+    free(order);
+    free(placed);
+    free(sorted);
+    return rc;
+}
+
+int cpd_store_dump_schema(cpd_store *s, cpd_dump **out)
+{
+    *out = NULL;
+    deps *dp = NULL;
+    sqlite3_stmt *st = NULL;
+    cpd_dump *d = cpd_dump_alloc();
+    int rc = d ? CPD_OK : CPD_ENOMEM;
+    if (rc)
+        goto done;
+    d->schema_version = cpd_store_version(s);
+    if (d->schema_version < 0) {
+        rc = cpd_st_fail(s, "reading the store version");
+        goto done;
+    }
+    rc = cpd_st_prepare(s,
+                        "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite\\_%' ESCAPE '\\' "
+                        "ORDER BY rowid",
+                        &st);
+    if (rc)
+        goto done;
+    int r;
+    while (rc == CPD_OK && (r = sqlite3_step(st)) == SQLITE_ROW) {
+        cpd_dump_table *t = NULL;
+        const char *name = (const char *)sqlite3_column_text(st, 0);
+        rc = cpd_dump_add_table(d, name ? name : "", &t);
+    }
+    if (rc == CPD_OK && r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing the tables of the store");
+    sqlite3_finalize(st);
+    st = NULL;
+    if (rc)
+        goto done;
+    dp = calloc(d->ntables ? d->ntables : 1, sizeof *dp);
+    if (!dp) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t k = 0; k < d->ntables && rc == CPD_OK; k++) {
+        rc = read_columns(s, &d->table[k]);
+        if (rc == CPD_OK)
+            rc = read_parents(s, d, k, &dp[k]);
+    }
+    if (rc == CPD_OK)
+        rc = order_tables(d, dp);
+done:
+    for (size_t k = 0; dp && k < d->ntables; k++)
+        free(dp[k].parent);
+    free(dp);
+    if (rc)
+        cpd_dump_free(d);
+    else
+        *out = d;
+    return rc;
+}
+
+/* ---- rows out ---- */
+
+/* "SELECT "a", "b" FROM "t" ORDER BY <order>"; order is rowid, or the primary key for a table
+ * without one (a WITHOUT ROWID table). */
+static char *select_sql(const cpd_dump_table *t, int by_rowid)
+{
+    sbuf b = {0};
+    sb_str(&b, "SELECT ");
+    for (size_t j = 0; j < t->ncols; j++) {
+        if (j)
+            sb_str(&b, ", ");
+        sb_ident(&b, t->col[j].name);
+    }
+    sb_str(&b, " FROM ");
+    sb_ident(&b, t->name);
+    sb_str(&b, " ORDER BY ");
+    if (by_rowid)
+        sb_str(&b, "rowid");
+    else {
+        int first = 1;
+        for (int k = 1; k <= (int)t->ncols; k++)
+            for (size_t j = 0; j < t->ncols; j++)
+                if (t->col[j].pk == k) {
+                    if (!first)
+                        sb_str(&b, ", ");
+                    sb_ident(&b, t->col[j].name);
+                    first = 0;
+                }
+        if (first)
+            sb_str(&b, "1");
+    }
+    if (b.oom) {
+        free(b.p);
+        return NULL;
+    }
+    return b.p;
+}
+
+static int read_value(sqlite3_stmt *st, int j, cpd_value *v)
+{
+    switch (sqlite3_column_type(st, j)) {
+    case SQLITE_INTEGER:
+        v->type = CPD_VAL_INTEGER;
+        v->i = sqlite3_column_int64(st, j);
+        return CPD_OK;
+    case SQLITE_FLOAT:
+        v->type = CPD_VAL_REAL;
+        v->r = sqlite3_column_double(st, j);
+        return CPD_OK;
+    case SQLITE_TEXT: {
+        const unsigned char *p = sqlite3_column_text(st, j);
+        size_t n = (size_t)sqlite3_column_bytes(st, j);
+        return p ? cpd_value_set_text(v, p, n) : CPD_ENOMEM;
+    }
+    case SQLITE_BLOB: {
+        const void *p = sqlite3_column_blob(st, j);
+        size_t n = (size_t)sqlite3_column_bytes(st, j);
+        if (!p && n)
+            return CPD_ENOMEM;
+        return cpd_value_set_blob(v, p, n);
+    }
+    default:
+        v->type = CPD_VAL_NULL;
+        return CPD_OK;
+    }
+}
+
+static int read_rows(cpd_store *s, cpd_dump_table *t)
+{
+    sqlite3_stmt *st = NULL;
+    char *sql = select_sql(t, 1);
+    if (!sql)
+        return CPD_ENOMEM;
+    if (sqlite3_prepare_v2(s->db, sql, -1, &st, NULL) != SQLITE_OK) {
+        /* Only a WITHOUT ROWID table has no rowid to order by. */
+        sqlite3_finalize(st);
+        st = NULL;
+        free(sql);
+        if (!(sql = select_sql(t, 0)))
+            return CPD_ENOMEM;
+        int rc = cpd_st_prepare(s, sql, &st);
+        if (rc) {
+            free(sql);
+            return rc;
+        }
+    }
+    free(sql);
+    int rc = CPD_OK, r;
+    while (rc == CPD_OK && (r = sqlite3_step(st)) == SQLITE_ROW) {
+        cpd_value *row = NULL;
+        rc = cpd_dump_add_row(t, &row);
+        for (size_t j = 0; rc == CPD_OK && j < t->ncols; j++)
+            rc = read_value(st, (int)j, &row[j]);
+    }
+    if (rc == CPD_OK && r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "reading the rows of a table");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+int cpd_store_dump(cpd_store *s, cpd_dump **out)
+{
+    *out = NULL;
+    cpd_dump *d = NULL;
+    int rc = cpd_st_savepoint(s); /* one read transaction: every table from the same snapshot */
+    if (rc)
+        return rc;
+    rc = cpd_store_dump_schema(s, &d);
+    for (size_t k = 0; rc == CPD_OK && k < d->ntables; k++)
+        rc = read_rows(s, &d->table[k]);
+    rc = cpd_st_release(s, rc);
+    if (rc)
+        cpd_dump_free(d);
+    else
+        *out = d;
+    return rc;
+}
+
+/* ---- rows in ---- */
+
+static int count_rows(cpd_store *s, const char *table, int64_t *n)
+{
+    sbuf b = {0};
+    sb_str(&b, "SELECT count(*) FROM ");
+    sb_ident(&b, table);
+    if (b.oom) {
+        free(b.p);
+        return CPD_ENOMEM;
+    }
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, b.p, &st);
+    free(b.p);
+    if (rc)
+        return rc;
+    if (sqlite3_step(st) == SQLITE_ROW)
+        *n = sqlite3_column_int64(st, 0);
+    else
+        rc = cpd_st_fail(s, "counting the rows of a table");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+int cpd_store_check_empty(cpd_store *s)
+{
+    cpd_dump *d = NULL;
+    int rc = cpd_store_dump_schema(s, &d);
+    for (size_t k = 0; rc == CPD_OK && k < d->ntables; k++) {
+        int64_t n = 0;
+        rc = count_rows(s, d->table[k].name, &n);
+        if (rc == CPD_OK && n > 0)
+            rc = cpd_st_err(s, CPD_EEXIST,
+                            "the store is not empty (table '%s' has %lld row%s): import into a new store, made with "
+                            "init",
+                            d->table[k].name, (long long)n, n == 1 ? "" : "s");
+    }
+    cpd_dump_free(d);
+    return rc;
+}
+
+static int bind_value(sqlite3_stmt *st, int idx, const cpd_value *v)
+{
+    switch (v->type) {
+    case CPD_VAL_INTEGER:
+        return sqlite3_bind_int64(st, idx, v->i);
+    case CPD_VAL_REAL:
+        return sqlite3_bind_double(st, idx, v->r);
+    case CPD_VAL_TEXT:
+        return sqlite3_bind_text64(st, idx, v->p ? (const char *)v->p : "", v->n, SQLITE_STATIC, SQLITE_UTF8);
+    case CPD_VAL_BLOB:
+        /* sqlite3_bind_blob with a NULL pointer would bind NULL, not an empty blob. */
+        if (v->n == 0)
+            return sqlite3_bind_zeroblob(st, idx, 0);
+        return sqlite3_bind_blob64(st, idx, v->p, v->n, SQLITE_STATIC);
+    default:
+        return sqlite3_bind_null(st, idx);
+    }
+}
+
+/* "INSERT INTO "t" ("a", "b") VALUES (?1, ?2)" with the columns of src. */
+static char *insert_sql(const cpd_dump_table *src)
+{
+    sbuf b = {0};
+    sb_str(&b, "INSERT INTO ");
+    sb_ident(&b, src->name);
+    sb_str(&b, " (");
+    for (size_t j = 0; j < src->ncols; j++) {
+        if (j)
+            sb_str(&b, ", ");
+        sb_ident(&b, src->col[j].name);
+    }
+    sb_str(&b, ") VALUES (");
+    for (size_t j = 0; j < src->ncols; j++) {
+        char q[24];
+        snprintf(q, sizeof q, "%s?%zu", j ? ", " : "", j + 1);
+        sb_str(&b, q);
+    }
+    sb_str(&b, ")");
+    if (b.oom) {
+        free(b.p);
+        return NULL;
+    }
+    return b.p;
+}
+
+/* The store's column names must include every column of src. */
+static int check_columns(cpd_store *s, const cpd_dump_table *have, const cpd_dump_table *src)
+{
+    for (size_t j = 0; j < src->ncols; j++) {
+        if (cpd_dump_find_column(have, src->col[j].name) < 0)
+            return cpd_st_err(s, CPD_EUSAGE, "table '%s' of the store has no column '%s'", src->name,
+                              src->col[j].name);
+        for (size_t q = 0; q < j; q++)
+            if (strcmp(src->col[q].name, src->col[j].name) == 0)
+                return cpd_st_err(s, CPD_EUSAGE, "column '%s' of table '%s' is given twice", src->col[j].name,
+                                  src->name);
+    }
+    return CPD_OK;
+}
+
+/* Inserts the rows of src; rowid[i] receives the rowid of row i (for locating a foreign-key
+ * violation later). */
+static int insert_rows(cpd_store *s, const cpd_dump_table *src, int64_t *rowid, size_t *bad_row)
+{
+    char *sql = insert_sql(src);
+    if (!sql)
+        return CPD_ENOMEM;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, sql, &st);
+    free(sql);
+    for (size_t i = 0; rc == CPD_OK && i < src->nrows; i++) {
+        const cpd_value *row = &src->val[i * src->ncols];
+        sqlite3_reset(st);
+        for (size_t j = 0; rc == CPD_OK && j < src->ncols; j++)
+            if (bind_value(st, (int)j + 1, &row[j]) != SQLITE_OK)
+                rc = cpd_st_fail(s, "binding a value");
+        if (rc)
+            break;
+        int r = sqlite3_step(st);
+        if (r != SQLITE_DONE) {
+            *bad_row = i;
+            rc = (r & 0xff) == SQLITE_CONSTRAINT ? cpd_st_err(s, CPD_EDATA, "%s", sqlite3_errmsg(s->db))
+                                                 : cpd_st_fail(s, "inserting a row");
+        }
+        rowid[i] = sqlite3_last_insert_rowid(s->db);
+    }
+    sqlite3_finalize(st);
+    return rc;
+}
+
+/* The first row of table h that breaks a foreign key (SQLite's foreign_key_check), located by its
+ * rowid among the rows just inserted; *bad_row stays SIZE_MAX for a WITHOUT ROWID table. */
+static int check_foreign_keys(cpd_store *s, const char *table, const int64_t *rowid, size_t nrows, size_t *bad_row)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT rowid, parent FROM pragma_foreign_key_check(?1)", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_text(st, 1, table, -1, SQLITE_TRANSIENT);
+    int r = sqlite3_step(st);
+    if (r == SQLITE_ROW) {
+        int has_rowid = sqlite3_column_type(st, 0) != SQLITE_NULL;
+        int64_t id = sqlite3_column_int64(st, 0);
+        for (size_t i = 0; has_rowid && i < nrows && *bad_row == SIZE_MAX; i++)
+            if (rowid[i] == id)
+                *bad_row = i;
+        const unsigned char *parent = sqlite3_column_text(st, 1);
+        rc = cpd_st_err(s, CPD_EDATA, "FOREIGN KEY constraint failed: no row of '%s' that it refers to",
+                        parent ? (const char *)parent : "?");
+    } else if (r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "checking foreign keys");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t *bad_row)
+{
+    *bad_table = SIZE_MAX;
+    *bad_row = SIZE_MAX;
+    cpd_dump *have = NULL;
+    int64_t **rowids = NULL; /* per table of d, the rowid of each inserted row */
+    int deferred = 0;
+    int rc = cpd_st_savepoint(s);
+    if (rc)
+        return rc;
+    if ((rc = cpd_store_dump_schema(s, &have)))
+        goto done;
+    if (d->schema_version != have->schema_version) {
+        rc = cpd_st_err(s, CPD_EUSAGE, "the rows are of schema version %d but the store is version %d",
+                        d->schema_version, have->schema_version);
+        goto done;
+    }
+    for (size_t k = 0; k < d->ntables; k++) {
+        long h = cpd_dump_find_table(have, d->table[k].name);
+        if (h < 0) {
+            rc = cpd_st_err(s, CPD_EUSAGE, "the store has no table '%s'", d->table[k].name);
+            goto done;
+        }
+        for (size_t q = 0; q < k; q++)
+            if (strcmp(d->table[q].name, d->table[k].name) == 0) {
+                rc = cpd_st_err(s, CPD_EUSAGE, "table '%s' is given twice", d->table[k].name);
+                goto done;
+            }
+        if ((rc = check_columns(s, &have->table[h], &d->table[k])))
+            goto done;
+    }
+    if ((rc = cpd_store_check_empty(s)))
+        goto done;
+    rowids = calloc(d->ntables ? d->ntables : 1, sizeof *rowids);
+    if (!rowids) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    /* Parents first, yet a self-reference or a cycle can still point forward: foreign keys are
+     * checked once everything is in (defer_foreign_keys, reset when the transaction ends), table by
+     * table, so that a failure still names its row. */
+    if (sqlite3_exec(s->db, "PRAGMA defer_foreign_keys = ON", NULL, NULL, NULL) != SQLITE_OK) {
+        rc = cpd_st_fail(s, "deferring foreign keys");
+        goto done;
+    }
+    deferred = 1;
+    for (size_t h = 0; h < have->ntables && rc == CPD_OK; h++) {
+        long k = cpd_dump_find_table(d, have->table[h].name);
+        if (k < 0)
+            continue;
+        if (!(rowids[k] = malloc((d->table[k].nrows ? d->table[k].nrows : 1) * sizeof **rowids)))
+            rc = CPD_ENOMEM;
+        else if ((rc = insert_rows(s, &d->table[k], rowids[k], bad_row)) && *bad_row != SIZE_MAX)
+            *bad_table = (size_t)k;
+    }
+    for (size_t h = 0; h < have->ntables && rc == CPD_OK; h++) {
+        long k = cpd_dump_find_table(d, have->table[h].name);
+        if (k >= 0 && (rc = check_foreign_keys(s, d->table[k].name, rowids[k], d->table[k].nrows, bad_row)) &&
+            rc == CPD_EDATA)
+            *bad_table = (size_t)k;
+    }
+done:
+    for (size_t k = 0; rowids && k < d->ntables; k++)
+        free(rowids[k]);
+    free(rowids);
+    cpd_dump_free(have);
+    rc = cpd_st_release(s, rc);
+    if (deferred)
+        sqlite3_exec(s->db, "PRAGMA defer_foreign_keys = OFF", NULL, NULL, NULL);
+    return rc;
+}
