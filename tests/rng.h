@@ -10,7 +10,7 @@ typedef struct {
     uint64_t s;
 } rng;
 
-static uint64_t rng_next(rng *r)
+static inline uint64_t rng_next(rng *r)
 {
     uint64_t z = (r->s += 0x9E3779B97F4A7C15ull);
     z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
@@ -19,13 +19,13 @@ static uint64_t rng_next(rng *r)
 }
 
 /* Uniform on (0, 1): 53 random bits, never exactly 0. */
-static double rng_uniform(rng *r)
+static inline double rng_uniform(rng *r)
 {
     return ((double)(rng_next(r) >> 11) + 0.5) / 9007199254740992.0;
 }
 
 /* Standard normal. */
-static double rng_normal(rng *r)
+static inline double rng_normal(rng *r)
 {
     double u1 = rng_uniform(r), u2 = rng_uniform(r);
     return sqrt(-2 * log(u1)) * cos(6.283185307179586 * u2);
