@@ -36,6 +36,7 @@ CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd
            src/cmd_history.c
 LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
+CLI_SRCS += src/cmd_bout.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance

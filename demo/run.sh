@@ -59,6 +59,20 @@ for code in $codes; do
                 echo
             done
         fi
+        if has bout; then
+            for id in $(cpd bout list "$code" | awk 'NR > 1 { print $1 }'); do
+                cpd bout show "$id" || true
+                cpd bout plot "$id" -o "$out/${code}_bout${id}.svg" || true
+                echo
+            done
+            # repeats of one transition (the same intensity) ensemble-averaged: bout show ID,ID,...
+            for ids in $(cpd bout list "$code" | awk 'NR > 1 { k = $3 $4; ids[k] = ids[k] (k in n ? "," : "") $1; n[k]++ }
+                                                   END { for (k in n) if (n[k] > 1) print ids[k] }'); do
+                cpd bout show "$ids" || true
+                cpd bout plot "$ids" -o "$out/${code}_bouts$(echo "$ids" | tr , _).svg" || true
+                echo
+            done
+        fi
     } >"$f" 2>&1
     cpd --json fit "$code" >"$out/$code.fit.json" 2>/dev/null || true
 done
@@ -71,4 +85,4 @@ for code in $codes; do
 done
 echo
 echo "store:   $db"
-echo "outputs: $out/  (one CODE.txt per athlete with the fits, ramps and lactate tests; SVG plots)"
+echo "outputs: $out/  (one CODE.txt per athlete with the fits, ramps, lactate tests and bouts; SVG plots)"

@@ -16,5 +16,6 @@ int cmd_domains(cli_ctx *c, int argc, char **argv);
 int cmd_history(cli_ctx *c, int argc, char **argv);
 int cmd_export(cli_ctx *c, int argc, char **argv);
 int cmd_import(cli_ctx *c, int argc, char **argv);
+int cmd_bout(cli_ctx *c, int argc, char **argv);
 
 #endif

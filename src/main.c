@@ -16,6 +16,7 @@ static const cli_command commands[] = {
     {"trial", cmd_trial, "time-to-exhaustion trials and time trials", NULL},
     {"ramp", cmd_ramp, "ramp incremental tests: VO2peak, GET, RCP, gain, MRT", NULL},
     {"lactate", cmd_lactate, "blood-lactate step tests: LT1, Dmax, modified Dmax, 4 mmol/L", NULL},
+    {"bout", cmd_bout, "constant-power bouts: VO2 kinetics, slow component, domain from the response", NULL},
     {"fit", cmd_fit, "fit CP and W' (CS and D') with uncertainty; saved for the history", NULL},
     {"domains", cmd_domains, "the four intensity domains, their boundaries and training targets", NULL},
     {"history", cmd_history, "the season: every estimate over time and which changes are meaningful", NULL},

@@ -4,6 +4,7 @@
 #include "cpdomain/svgplot.h"
 
 #include <math.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -174,4 +175,131 @@ int cpd_plot_lactate(const double *intensity, const double *lactate, size_t n, i
             cpd_svgplot_vline(p, thr[k].v->intensity, &st, thr[k].name);
         }
     return finish(p, svg);
+}
+
+/* The kinetics chart is two svgplot panels, the data with the model above and the residuals below,
+ * placed one above the other in one outer <svg> over the same time range, so that a systematic misfit
+ * (a slow component left unmodelled, a wrong delay) shows as a run of residuals under the data. */
+int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, const char *title, char **svg)
+{
+    if (!svg)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    if (!d || !r)
+        return CPD_EUSAGE;
+    const cpd_kinetics_fitres *f = r->sc_supported && r->bi.valid ? &r->bi : &r->mono;
+    if (!f->valid || d->n == 0 || d->n_raw == 0 || !(f->to_s > f->from_s))
+        return CPD_ENODATA;
+    enum { W = 720, H_MAIN = 440, H_RES = 230 };
+    int rc = CPD_OK;
+    char *top = NULL, *bottom = NULL;
+    size_t nm = (size_t)ceil(f->to_s - f->from_s) + 1;
+    cpd_svgplot *p = cpd_svgplot_alloc(W, H_MAIN), *q = cpd_svgplot_alloc(W, H_RES);
+    double *mt = malloc(nm * sizeof *mt), *my = malloc(nm * sizeof *my), *py = malloc(nm * sizeof *py);
+    double *rt = malloc(d->n * sizeof *rt), *ry = malloc(d->n * sizeof *ry);
+    if (!p || !q || !mt || !my || !py || !rt || !ry) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    double prim[CPD_KIN_NPAR];
+    memcpy(prim, f->b, sizeof prim);
+    prim[CPD_KIN_A2] = 0.0;
+    for (size_t i = 0; i < nm; i++) {
+        mt[i] = fmin(f->from_s + (double)i, f->to_s);
+        my[i] = cpd_kinetics_eval(f->model, f->b, mt[i]);
+        py[i] = cpd_kinetics_eval(CPD_KIN_BI, prim, mt[i]);
+    }
+    size_t nr = 0;
+    for (size_t i = 0; i < d->n; i++)
+        if (d->t_s[i] >= f->from_s && d->t_s[i] <= f->to_s) {
+            rt[nr] = d->t_s[i];
+            ry[nr] = d->vo2_ml_min[i] - cpd_kinetics_eval(f->model, f->b, d->t_s[i]);
+            nr++;
+        }
+    double lo = 0.0;
+    for (size_t i = 0; i < d->n_raw; i++)
+        lo = fmin(lo, d->raw_t_s[i]);
+    for (size_t i = 0; i < d->n; i++)
+        lo = fmin(lo, d->t_s[i]);
+    double hi = fmax(d->end_s, f->to_s);
+    if (!(hi > lo))
+        hi = lo + 1.0;
+
+    cpd_svgplot_set_title(p, title && *title ? title : "VO2 kinetics");
+    cpd_svgplot_set_title(q, "Residuals of the model (observed - model)");
+    cpd_svgplot *both[2] = {p, q};
+    for (int k = 0; k < 2; k++) {
+        cpd_svgplot_set_label(both[k], CPD_SVGPLOT_X, "time from onset (min:s)");
+        cpd_svgplot_set_format(both[k], CPD_SVGPLOT_X, CPD_SVGPLOT_TIME_S);
+        /* one time range for both panels, so a residual sits under its breath */
+        cpd_svgplot_set_range(both[k], CPD_SVGPLOT_X, lo, hi);
+    }
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "VO2 (mL/min)");
+    cpd_svgplot_set_label(q, CPD_SVGPLOT_Y, "residual (mL/min)");
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_CIRCLE, 0, CPD_SVGPLOT_SOLID);
+    st.marker_px = d->fit_on_breaths ? 2.2 : 1.6;
+    st.fill_opacity = d->fit_on_breaths ? 0.4 : 0.15;
+    cpd_svgplot_points(p, d->raw_t_s, d->raw_vo2_ml_min, d->n_raw, NULL, &st,
+                       d->n_repeats > 1 ? "breaths (all repeats)" : "breaths");
+    if (!d->fit_on_breaths) {
+        style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_CIRCLE, 0, CPD_SVGPLOT_SOLID);
+        st.marker_px = d->t_s == d->grid_t_s ? 1.8 : 3.0;
+        st.fill_opacity = 0.85;
+        cpd_svgplot_points(p, d->t_s, d->vo2_ml_min, d->n, NULL, &st,
+                           d->t_s == d->grid_t_s ? (d->n_repeats > 1 ? "1-s ensemble mean" : "1-s means") : "bin means");
+    }
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_MARKER_NONE, 1.2, CPD_SVGPLOT_DOTTED);
+    cpd_svgplot_hline(p, f->b[CPD_KIN_BASE], &st, "baseline");
+    cpd_svgplot_vline(p, 0.0, &st, "onset");
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_MARKER_NONE, 1.2, CPD_SVGPLOT_DASHDOT);
+    cpd_svgplot_vline(p, f->from_s, &st, "end of phase I");
+    if (f->model == CPD_KIN_BI) {
+        style(&st, CPD_SVGPLOT_GREEN, CPD_SVGPLOT_MARKER_NONE, 2, CPD_SVGPLOT_DASHED);
+        cpd_svgplot_line(p, mt, py, nm, &st, "primary component");
+    }
+    style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 2.5, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, mt, my, nm, &st,
+                     f->model == CPD_KIN_BI ? "model: primary + slow component" : "model: mono-exponential");
+
+    style(&st, d->fit_on_breaths ? CPD_SVGPLOT_GREY : CPD_SVGPLOT_BLUE, CPD_SVGPLOT_CIRCLE, 0, CPD_SVGPLOT_SOLID);
+    st.marker_px = 2.0;
+    st.fill_opacity = 0.6;
+    cpd_svgplot_points(q, rt, ry, nr, NULL, &st, NULL);
+    style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_hline(q, 0.0, &st, NULL);
+
+    size_t la = 0, lb = 0;
+    if ((rc = cpd_svgplot_render(p, &top, &la)) || (rc = cpd_svgplot_render(q, &bottom, &lb)))
+        goto done;
+    static const char head[] = "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
+                               "role=\"img\">\n<title>VO2 kinetics and residuals</title>\n";
+    static const char mid[] = "<g transform=\"translate(0,%d)\">\n";
+    static const char tail[] = "</g>\n</svg>\n";
+    size_t cap = la + lb + sizeof head + sizeof mid + sizeof tail + 64;
+    char *out = malloc(cap);
+    if (!out) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    int n1 = snprintf(out, cap, head, W, H_MAIN + H_RES, W, H_MAIN + H_RES);
+    memcpy(out + n1, top, la);
+    size_t pos = (size_t)n1 + la;
+    pos += (size_t)snprintf(out + pos, cap - pos, mid, H_MAIN);
+    memcpy(out + pos, bottom, lb);
+    pos += lb;
+    snprintf(out + pos, cap - pos, "%s", tail);
+    *svg = out;
+
+done:
+    cpd_svgplot_free(p);
+    cpd_svgplot_free(q);
+    free(top);
+    free(bottom);
+    free(mt);
+    free(my);
+    free(py);
+    free(rt);
+    free(ry);
+    return rc;
 }

@@ -3,6 +3,7 @@
 #ifndef CPDOMAIN_PLOTS_H
 #define CPDOMAIN_PLOTS_H
 
+#include "cpdomain/kinetics.h"
 #include "cpdomain/lactate.h"
 #include "cpdomain/ramp.h"
 
@@ -21,5 +22,14 @@ int cpd_plot_veq(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg);
  * Same ownership and return codes (CPD_ENODATA for no stages). */
 int cpd_plot_lactate(const double *intensity, const double *lactate, size_t n, int speed,
                      const cpd_lactate_result *r, char **svg);
+
+/* VO2 kinetics of a bout or of an ensemble of repeats (d from cpd_kinetics_prepare with the options
+ * of the analysis r): the breaths (and the averaged points the fit used), the fitted model (the
+ * bi-exponential when the slow component is supported, else the mono-exponential) with its primary
+ * component, the baseline and the end of phase I; stacked below in the same SVG, the residuals
+ * (observed - model) of the fitted points. title is copied (NULL: a default). Same ownership; returns
+ * CPD_OK, CPD_EUSAGE for NULL arguments, CPD_ENODATA when the model fit is not valid or there are no
+ * points, CPD_ENOMEM. */
+int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, const char *title, char **svg);
 
 #endif
