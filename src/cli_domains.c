@@ -118,6 +118,38 @@ static int add_lactate(cli_ctx *c, cli_domains *d)
     return 0;
 }
 
+/* The primary time constant of the newest bout whose response was severe (the VO2 kinetics that
+ * set the time to reach VO2max: Ozkaya et al. 2025 use severe-domain kinetics). Quiet when none. */
+static void add_tau(cli_ctx *c, cli_domains *d)
+{
+    cpd_gx_test *v = NULL;
+    size_t n = 0;
+    if (cpd_store_gx_list(c->store, d->fit.athlete.code, CPD_GXT_BOUT, &v, &n))
+        return;
+    int want_speed = d->fit.modality == CPD_PD_SPEED;
+    cpd_kinetics_result *r = calloc(1, sizeof *r);
+    int quiet = c->quiet;
+    c->quiet = 1;
+    for (size_t i = n; r && i-- > 0;) {
+        if (v[i].speed != want_speed || !(v[i].intensity > d->in.fit->cp))
+            continue;
+        char id[32];
+        snprintf(id, sizeof id, "%lld", (long long)v[i].id);
+        /* a bout that cannot be analysed is skipped; its own command says why */
+        if (cli_bout_analyse(c, id, r) == 0 && r->domain == CPD_KIN_SEVERE && r->primary.tau_s > 0) {
+            d->in.has_tau = 1;
+            d->in.tau_s = r->primary.tau_s;
+            snprintf(d->in.tau_source, sizeof d->in.tau_source, "bout %s (%.0f %s)", id, v[i].intensity,
+                     want_speed ? "m/s" : "W");
+            snprintf(d->in.tau_date, sizeof d->in.tau_date, "%s", v[i].date);
+            break;
+        }
+    }
+    c->quiet = quiet;
+    free(r);
+    free(v);
+}
+
 /* The newest block of trials: those within RECENT_DAYS of the newest. When it is a strict subset of
  * at least 3 trials, its CP feeds the staleness check. */
 static void add_recent(cli_ctx *c, cli_domains *d, const char *to)
@@ -189,6 +221,7 @@ int cli_domains_build(cli_ctx *c, const char *code, const char *from, const char
         return rc;
     }
     add_recent(c, d, to);
+    add_tau(c, d);
     if ((rc = cpd_domains_compute(in, &d->res))) {
         cli_domains_free(d);
         return cli_fail(c, rc, "%s: the domains cannot be computed: %s", code, cpd_strerror(rc));

@@ -65,3 +65,14 @@ json_is 'd["power_w_range"][0] < d["power_w"] < d["power_w_range"][1]' True "sol
 p=$(json 'round(d["power_w"])')
 expect 0 "predict with uncertainty" --json predict D1 --model linear-total --protocol "10min@150W; 3x(3min@${p}W, 3min@120W); 3min@${p}W"
 json_is 'd["uncertainty"]["cp_low"]["end_balance_j"] < d["end_balance_j"] < d["uncertainty"]["cp_high"]["end_balance_j"]' True "predict: lower CP, lower end balance"
+
+# a severe-domain bout gives the time to reach VO2max: 4 tau of its primary component
+# (Ozkaya et al. 2025 J Sports Sci), replacing the assumed 100 s
+expect 0 "a severe bout" --json bout add D1 "$DEMO/bout_C01_3.csv" --date 2026-11-12 --power 275 --baseline 20 --onset 180
+bid=$(json 'd["id"]')
+expect 0 "its kinetics" --json bout show "$bid"
+tau=$(json 'd["primary"]["tau_s"]')
+json_is 'd["domain"]' severe "the bout's response is severe"
+expect 0 "domains with kinetics" --json domains D1 --model linear-total
+json_is "abs(d['time_to_vo2max_s'] - 4 * $tau) < 1e-9, 'time_to_vo2max_assumed' in d['flags']" "(True, False)" "time to VO2max = 4 tau of the severe bout"
+json_is "abs(d['boundaries'][2]['power_w'] - ($cp + $w / (4 * $tau))) < 1e-6" True "severe-extreme = CP + W'/(4 tau)"
