@@ -13,5 +13,6 @@ int cmd_solve(cli_ctx *c, int argc, char **argv);
 int cmd_ramp(cli_ctx *c, int argc, char **argv);
 int cmd_lactate(cli_ctx *c, int argc, char **argv);
 int cmd_domains(cli_ctx *c, int argc, char **argv);
+int cmd_sheet(cli_ctx *c, int argc, char **argv);
 
 #endif

@@ -20,6 +20,7 @@ static const cli_command commands[] = {
     {"domains", cmd_domains, "the four intensity domains, their boundaries and training targets", NULL},
     {"predict", cmd_predict, "time to task failure, power for a duration, W' balance of a session", NULL},
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},
+    {"sheet", cmd_sheet, "the per-athlete domain sheet (HTML, CSV, JSON, text) and the team's index", NULL},
 };
 
 static void usage(FILE *out)
