@@ -1,12 +1,16 @@
 #!/bin/sh
 # run.sh: build the demo store from demo/data (see demo/TRUTH.md for the invented centre and the
-# true parameters behind every file) and run the main job on it. Usage: sh demo/run.sh BINARY
+# true parameters behind every file) and run the main job on it. Usage: sh demo/run.sh BINARY [DIR]
+# DIR (default: demo/) receives demo.db and out/; the tests pass a temporary one.
 set -eu
 bin=${1:-build/cpdomain}
 here=$(cd "$(dirname "$0")" && pwd)
+dir=${2:-$here}
+mkdir -p "$dir"
+dir=$(cd "$dir" && pwd)
 data="$here/data"
-out="$here/out"
-db="$here/demo.db"
+out="$dir/out"
+db="$dir/demo.db"
 export CPDOMAIN_TODAY=2026-11-30   # the demo's "today", so the demo never ages
 rm -f "$db" "$db-wal" "$db-shm"
 rm -rf "$out"
@@ -39,36 +43,22 @@ tail -n +2 "$data/manifest.csv" | while IFS=, read -r kind code file date unit r
     esac
 done
 
-# the main job: every athlete's power-duration fit (saved in the store), predictions, ramps
+# the main job: every athlete's power-duration fit (saved in the store, for the history), then the
+# domain sheets of the whole team: demo/out/index.html and one CODE.html per athlete
+fits=$(mktemp -d)
+trap 'rm -rf "$fits"' EXIT
 for code in $codes; do
-    f="$out/$code.txt"
-    {
-        cpd fit "$code" || true
-        echo
-        if has ramp; then
-            for id in $(cpd ramp list "$code" | awk 'NR > 1 { print $1 }'); do
-                cpd ramp show "$id" || true
-                cpd ramp plot "$id" --kind vslope -o "$out/${code}_ramp${id}_vslope.svg" || true
-                echo
-            done
-        fi
-        if has lactate; then
-            for id in $(cpd lactate list "$code" | awk 'NR > 1 { print $1 }'); do
-                cpd lactate show "$id" || true
-                cpd lactate plot "$id" -o "$out/${code}_lactate${id}.svg" || true
-                echo
-            done
-        fi
-    } >"$f" 2>&1
-    cpd --json fit "$code" >"$out/$code.fit.json" 2>/dev/null || true
+    cpd fit "$code" >"$fits/$code.txt" 2>&1 || true
 done
+cpd sheet --all -o "$out"
 
 echo "Tarnbridge Endurance Centre (invented demo data, see demo/TRUTH.md): the best fit of each athlete"
 for code in $codes; do
     name=$(cpd athlete show "$code" | sed -n 's/^name *//p')
-    line=$(sed -n 's/^\* best: //p' "$out/$code.txt" | head -1)
-    printf '  %-4s %-52s %s\n' "$code" "${line:-no model qualifies: see $out/$code.txt}" "$name"
+    line=$(sed -n 's/^\* best: //p' "$fits/$code.txt" | head -1)
+    printf '  %-4s %-52s %s\n' "$code" "${line:-no model qualifies: see cpdomain fit $code}" "$name"
 done
 echo
 echo "store:   $db"
-echo "outputs: $out/  (one CODE.txt per athlete with the fits, ramps and lactate tests; SVG plots)"
+echo "sheets:  $out/  (index.html for the team, one CODE.html per athlete)"
+echo "$out/index.html"

@@ -530,7 +530,8 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
     char today[11];
     cpd_format_date(c->today, today);
     char *index = NULL;
-    if ((rc = cpd_sheet_index_html("Intensity-domain sheets", today, rows, n, "cpdomain " CPDOMAIN_VERSION, &index))) {
+    if ((rc = cpd_sheet_index_html("Intensity-domain sheets", today, rows, n, CLI_CAUTION, "cpdomain " CPDOMAIN_VERSION,
+                                   &index))) {
         rc = cli_fail(c, rc, "the index page cannot be rendered: %s", cpd_strerror(rc));
         goto done;
     }

@@ -1488,7 +1488,7 @@ int cpd_sheet_render(const cpd_sheet *s, cpd_sheet_format f, char **out)
 /* ---------------------------------------------------------------- index */
 
 int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_index_row *rows, size_t n,
-                         const char *generator, char **out)
+                         const char *caution, const char *generator, char **out)
 {
     if (!out)
         return CPD_EUSAGE;
@@ -1509,9 +1509,8 @@ int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_in
     sb_puts(&b, "<p class=\"lead\">Critical power (speed) with its 95 % interval, W\xe2\x80\xb2 (D\xe2\x80\xb2), the GET "
                 "equivalent and VO2peak of each athlete; the name opens the athlete's sheet.</p>\n");
     table_open(&b, NULL);
-    const char *h[] = {"Athlete", "Code", "Sport", "CP / CS", "95 % interval", "W\xe2\x80\xb2 / D\xe2\x80\xb2", "GET equivalent",
-                       "VO2peak", "Trials", "Ramp", "Status"};
-    th_row(&b, h, "lllnnnnnlll", 11);
+    const char *h[] = {"Athlete", "CP / CS", "W\xe2\x80\xb2 / D\xe2\x80\xb2", "GET equivalent", "VO2peak", "Tests", "Status"};
+    th_row(&b, h, "lnnnnll", 7);
     for (size_t i = 0; i < n; i++) {
         const cpd_sheet_index_row *r = &rows[i];
         int spd = r->modality == CPD_PD_SPEED;
@@ -1525,20 +1524,30 @@ int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_in
             sb_puts(&b, "</a>");
         } else
             esc(&b, r->name);
-        sb_puts(&b, "</td>");
-        td(&b, NULL, r->code);
-        td(&b, NULL, r->sport ? r->sport : "");
+        sb_puts(&b, "<br><small>");
+        esc(&b, r->code);
+        if (r->sport && *r->sport) {
+            sb_puts(&b, " &middot; ");
+            esc(&b, r->sport);
+        }
+        sb_puts(&b, "</small></td>");
         if (r->has_fit) {
-            inten(spd, r->cp, a, sizeof a);
+            sb_puts(&b, "<td class=\"n\">");
+            esc(&b, inten(spd, r->cp, a, sizeof a));
             if (spd) {
-                size_t L = strlen(a);
-                snprintf(a + L, sizeof a - L, " (%s)", pace(r->pace_m, r->pace_label, r->cp, p, sizeof p));
+                sb_puts(&b, " <small>");
+                esc(&b, pace(r->pace_m, r->pace_label, r->cp, p, sizeof p));
+                sb_puts(&b, "</small>");
             }
-            td(&b, "n", a);
-            td(&b, "n", ci_words(spd, r->has_cp_ci, r->cp_ci95, c, sizeof c));
+            if (r->has_cp_ci && isfinite(r->cp_ci95[0]) && isfinite(r->cp_ci95[1])) {
+                sb_puts(&b, "<br><small>95 %: ");
+                esc(&b, ci_words(spd, 1, r->cp_ci95, c, sizeof c));
+                sb_puts(&b, "</small>");
+            } else
+                sb_puts(&b, "<br><small>no interval</small>");
+            sb_puts(&b, "</td>");
             td(&b, "n", capac(spd, r->w_prime, a, sizeof a));
         } else {
-            td(&b, "n", "-");
             td(&b, "n", "-");
             td(&b, "n", "-");
         }
@@ -1548,8 +1557,18 @@ int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_in
             td(&b, "n", a);
         } else
             td(&b, "n", "-");
-        td(&b, NULL, r->fit_dates ? r->fit_dates : "-");
-        td(&b, NULL, r->ramp_date ? r->ramp_date : "-");
+        sb_puts(&b, "<td><small>");
+        if (r->fit_dates) {
+            sb_puts(&b, "trials ");
+            esc(&b, r->fit_dates);
+        }
+        if (r->ramp_date) {
+            sb_puts(&b, r->fit_dates ? "<br>ramp " : "ramp ");
+            esc(&b, r->ramp_date);
+        }
+        if (!r->fit_dates && !r->ramp_date)
+            sb_puts(&b, "-");
+        sb_puts(&b, "</small></td>");
         if (!r->href) {
             sb_puts(&b, "<td class=\"w\">no sheet: ");
             esc(&b, r->why ? r->why : "not enough data");
@@ -1561,9 +1580,11 @@ int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_in
         sb_puts(&b, "</tr>\n");
     }
     if (!n)
-        sb_puts(&b, "<tr><td colspan=\"11\">no athletes</td></tr>\n");
+        sb_puts(&b, "<tr><td colspan=\"7\">no athletes</td></tr>\n");
     table_close(&b);
     sb_puts(&b, "<div class=\"caution\">\n");
+    if (caution)
+        para(&b, NULL, caution);
     para(&b, NULL, UNCERTAINTY);
     sb_puts(&b, "</div>\n");
     html_foot(&b, generator, date);

@@ -157,10 +157,11 @@ typedef struct {
 } cpd_sheet_index_row;
 
 /* The team's index page (HTML like the sheets): a table of the n athletes with CP/CS, W'/D', the
- * GET equivalent, VO2peak, the tests' dates and links. title and date (YYYY-MM-DD) are required.
- * Same ownership and return codes as cpd_sheet_render. */
+ * GET equivalent, VO2peak, the tests' dates and links, then the caution (NULL: none) and the note
+ * on uncertainty. title and date (YYYY-MM-DD) are required. Same ownership and return codes as
+ * cpd_sheet_render. */
 int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_index_row *rows, size_t n,
-                         const char *generator, char **out);
+                         const char *caution, const char *generator, char **out);
 
 /* The note on uncertainty that every sheet carries (static text). */
 const char *cpd_sheet_uncertainty(void);
