@@ -260,8 +260,11 @@ static int is_speed(const cpd_sheet *s)
 static const char *inten(int spd, double v, char *buf, size_t n)
 {
     char t[48];
-    snprintf(buf, n, "%s %s", fmt(t, sizeof t, v, spd ? 2 : 0), spd ? "m/s" : "W");
-    return isfinite(v) ? buf : strcpy(buf, "-");
+    if (isfinite(v))
+        snprintf(buf, n, "%s %s", fmt(t, sizeof t, v, spd ? 2 : 0), spd ? "m/s" : "W");
+    else
+        snprintf(buf, n, "-");
+    return buf;
 }
 
 /* "3:41/km" */
@@ -508,15 +511,9 @@ static void th_row(sb *b, const char *const *h, const char *cls, size_t n)
     sb_puts(b, "</tr></thead>\n<tbody>\n");
 }
 
-static void table_open(sb *b, const char *caption)
+static void table_open(sb *b)
 {
-    sb_puts(b, "<div class=\"scroll\"><table>");
-    if (caption) {
-        sb_puts(b, "<caption class=\"note\" style=\"text-align:left;caption-side:top\">");
-        esc(b, caption);
-        sb_puts(b, "</caption>");
-    }
-    sb_puts(b, "\n");
+    sb_puts(b, "<div class=\"scroll\"><table>\n");
 }
 
 static void table_close(sb *b)
@@ -688,7 +685,7 @@ static void html_domains(sb *b, const cpd_sheet *s)
     const cpd_domains_result *d = s->dom;
     char t[160];
     h2(b, "Intensity domains and training targets");
-    table_open(b, NULL);
+    table_open(b);
     int wkg = !spd && s->has_mass, hr = 0;
     for (int k = 0; k < CPD_DOM_N; k++)
         hr |= d->range[k].has_hr_lo || d->range[k].has_hr_hi;
@@ -752,7 +749,7 @@ static void html_boundaries(sb *b, const cpd_sheet *s)
     int spd = is_speed(s);
     char v[96], a[96], pc[48];
     h2(b, "Boundaries and what they rest on");
-    table_open(b, NULL);
+    table_open(b);
     const char *h[] = {"Boundary", spd ? "Speed" : "Power", "95 % interval", "Rests on", "Status"};
     th_row(b, h, "lnnll", 5);
     for (int k = 0; k < CPD_BND_N; k++) {
@@ -807,7 +804,7 @@ static void html_predictions(sb *b, const cpd_sheet *s)
     sb_puts(b, "<h3>");
     esc(b, spd ? "Speed for a time to task failure" : "Power for a time to task failure");
     sb_puts(b, "</h3>\n");
-    table_open(b, NULL);
+    table_open(b);
     int third = spd || s->has_mass;
     const char *h[] = {"Time to failure", spd ? "Speed" : "Power", "95 % interval", spd ? "Pace" : "W/kg", "% of CP"};
     const char *hcs[] = {"Time to failure", "Speed", "95 % interval", "Pace", "% of CS"};
@@ -835,7 +832,7 @@ static void html_predictions(sb *b, const cpd_sheet *s)
     sb_puts(b, "<h3>");
     esc(b, spd ? "Time to task failure at a speed" : "Time to task failure at a power");
     sb_puts(b, "</h3>\n");
-    table_open(b, NULL);
+    table_open(b);
     const char *h2p[] = {spd ? "Speed" : "Power", spd ? "Pace" : "% of CP", "Time to failure", "95 % interval"};
     th_row(b, h2p, "nnnn", 4);
     for (size_t k = 0; k < tb->n_at; k++) {
@@ -924,7 +921,7 @@ static void html_models(sb *b, const cpd_sheet *s)
     const cpd_pd_result *r = s->fit;
     char a[48], c[48], e[48], f[48], st[300];
     h2(b, "Model comparison");
-    table_open(b, NULL);
+    table_open(b);
     const char *h[] = {"Model", spd ? "CS" : "CP", spd ? "D\xe2\x80\xb2" : "W\xe2\x80\xb2", spd ? "%SEE CS" : "%SEE CP",
                        spd ? "%SEE D\xe2\x80\xb2" : "%SEE W\xe2\x80\xb2", "Status"};
     th_row(b, h, "lnnnnl", 6);
@@ -1508,7 +1505,7 @@ int cpd_sheet_index_html(const char *title, const char *date, const cpd_sheet_in
     sb_puts(&b, "</b></div>\n</div>\n");
     sb_puts(&b, "<p class=\"lead\">Critical power (speed) with its 95 % interval, W\xe2\x80\xb2 (D\xe2\x80\xb2), the GET "
                 "equivalent and VO2peak of each athlete; the name opens the athlete's sheet.</p>\n");
-    table_open(&b, NULL);
+    table_open(&b);
     const char *h[] = {"Athlete", "CP / CS", "W\xe2\x80\xb2 / D\xe2\x80\xb2", "GET equivalent", "VO2peak", "Tests", "Status"};
     th_row(&b, h, "lnnnnll", 7);
     for (size_t i = 0; i < n; i++) {
