@@ -30,6 +30,7 @@ LIB_SRCS += src/domains.c
 LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
+LIB_SRCS += src/sheet.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
@@ -37,6 +38,7 @@ CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd
 LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
 CLI_SRCS += src/cmd_bout.c
+CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -49,6 +51,7 @@ TESTS += test_lactate
 TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
+TESTS += test_sheet
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

@@ -1,16 +1,20 @@
 #!/bin/sh
 # run.sh: build the demo store from demo/data (see demo/TRUTH.md for the invented centre and the
-# true parameters behind every file) and run the main job on it. Usage: sh demo/run.sh BINARY
+# true parameters behind every file) and run the main job on it. Usage: sh demo/run.sh BINARY [DIR]
+# DIR (default: demo/) receives demo.db and out/; the tests pass a temporary one.
 set -eu
 bin=${1:-build/cpdomain}
 here=$(cd "$(dirname "$0")" && pwd)
+dir=${2:-$here}
+mkdir -p "$dir"
+dir=$(cd "$dir" && pwd)
 data="$here/data"
-out="$here/out"
-db="$here/demo.db"
+out="$dir/out"
+db="$dir/demo.db"
 export CPDOMAIN_TODAY=2026-11-30   # the demo's "today", so the demo never ages
 rm -f "$db" "$db-wal" "$db-shm"
 rm -rf "$out"
-mkdir -p "$out"
+mkdir -p "$out/details"
 cpd() { "$bin" --db "$db" --quiet "$@"; }
 has() { "$bin" "$1" --help >/dev/null 2>&1; }   # the commands this build has
 
@@ -39,50 +43,57 @@ tail -n +2 "$data/manifest.csv" | while IFS=, read -r kind code file date unit r
     esac
 done
 
-# the main job: every athlete's power-duration fit (saved in the store), predictions, ramps
+# the main job: every athlete's power-duration fit (saved in the store, for the history), then the
+# domain sheets of the whole team: demo/out/index.html and one CODE.html per athlete
+fits=$(mktemp -d)
+trap 'rm -rf "$fits"' EXIT
 for code in $codes; do
-    f="$out/$code.txt"
+    cpd fit "$code" >"$fits/$code.txt" 2>&1 || true
+    f="$out/details/$code.txt"
     {
-        cpd fit "$code" || true
+        cat "$fits/$code.txt"
         echo
         if has ramp; then
             for id in $(cpd ramp list "$code" | awk 'NR > 1 { print $1 }'); do
                 cpd ramp show "$id" || true
-                cpd ramp plot "$id" --kind vslope -o "$out/${code}_ramp${id}_vslope.svg" || true
+                cpd ramp plot "$id" --kind vslope -o "$out/details/${code}_ramp${id}_vslope.svg" || true
                 echo
             done
         fi
         if has lactate; then
             for id in $(cpd lactate list "$code" | awk 'NR > 1 { print $1 }'); do
                 cpd lactate show "$id" || true
-                cpd lactate plot "$id" -o "$out/${code}_lactate${id}.svg" || true
+                cpd lactate plot "$id" -o "$out/details/${code}_lactate${id}.svg" || true
                 echo
             done
         fi
         if has bout; then
             for id in $(cpd bout list "$code" | awk 'NR > 1 { print $1 }'); do
                 cpd bout show "$id" || true
-                cpd bout plot "$id" -o "$out/${code}_bout${id}.svg" || true
+                cpd bout plot "$id" -o "$out/details/${code}_bout${id}.svg" || true
                 echo
             done
             # repeats of one transition (the same intensity) ensemble-averaged: bout show ID,ID,...
             for ids in $(cpd bout list "$code" | awk 'NR > 1 { k = $3 $4; ids[k] = ids[k] (k in n ? "," : "") $1; n[k]++ }
                                                    END { for (k in n) if (n[k] > 1) print ids[k] }'); do
                 cpd bout show "$ids" || true
-                cpd bout plot "$ids" -o "$out/${code}_bouts$(echo "$ids" | tr , _).svg" || true
+                cpd bout plot "$ids" -o "$out/details/${code}_bouts$(echo "$ids" | tr , _).svg" || true
                 echo
             done
         fi
     } >"$f" 2>&1
-    cpd --json fit "$code" >"$out/$code.fit.json" 2>/dev/null || true
+    cpd --json fit "$code" >"$out/details/$code.fit.json" 2>/dev/null || true
 done
+cpd sheet --all -o "$out"
 
 echo "Tarnbridge Endurance Centre (invented demo data, see demo/TRUTH.md): the best fit of each athlete"
 for code in $codes; do
     name=$(cpd athlete show "$code" | sed -n 's/^name *//p')
-    line=$(sed -n 's/^\* best: //p' "$out/$code.txt" | head -1)
-    printf '  %-4s %-52s %s\n' "$code" "${line:-no model qualifies: see $out/$code.txt}" "$name"
+    line=$(sed -n 's/^\* best: //p' "$fits/$code.txt" | head -1)
+    printf '  %-4s %-52s %s\n' "$code" "${line:-no model qualifies: see cpdomain fit $code}" "$name"
 done
 echo
 echo "store:   $db"
-echo "outputs: $out/  (one CODE.txt per athlete with the fits, ramps, lactate tests and bouts; SVG plots)"
+echo "sheets:  $out/  (index.html for the team, one CODE.html per athlete)"
+echo "details: $out/details/  (each athlete's fits, ramps, lactate tests and bouts as text, with SVG plots)"
+echo "$out/index.html"

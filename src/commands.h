@@ -17,5 +17,6 @@ int cmd_history(cli_ctx *c, int argc, char **argv);
 int cmd_export(cli_ctx *c, int argc, char **argv);
 int cmd_import(cli_ctx *c, int argc, char **argv);
 int cmd_bout(cli_ctx *c, int argc, char **argv);
+int cmd_sheet(cli_ctx *c, int argc, char **argv);
 
 #endif

@@ -24,6 +24,7 @@ static const cli_command commands[] = {
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},
     {"export", cmd_export, "the whole store as one JSON document", NULL},
     {"import", cmd_import, "a document written by export, into a new store", NULL},
+    {"sheet", cmd_sheet, "the per-athlete domain sheet (HTML, CSV, JSON, text) and the team's index", NULL},
 };
 
 static void usage(FILE *out)

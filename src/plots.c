@@ -303,3 +303,167 @@ done:
     free(ry);
     return rc;
 }
+
+/* ---- the domain sheet's plots (power-duration relationship, W' balance) ---- */
+int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double *duration_s, size_t n,
+                const cpd_domains_result *d, char **svg)
+{
+    if (!svg)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    if (!m || (n && (!intensity || !duration_s)))
+        return CPD_EUSAGE;
+    if (!m->ok || !(m->cp > 0) || !(m->w_prime > 0) || !isfinite(m->cp) || !isfinite(m->w_prime))
+        return CPD_ENODATA;
+    int spd = m->modality == CPD_PD_SPEED;
+    double tmin = 60, tmax = 1200;
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(duration_s[i])) {
+            tmax = fmax(tmax, 1.1 * duration_s[i]);
+            tmin = fmin(tmin, 0.9 * duration_s[i]);
+        }
+    tmin = fmax(tmin, 10);
+    enum { M = 160 };
+    double x[M], y[M], lo[M], hi[M];
+    for (int i = 0; i < M; i++) {
+        /* log-spaced: the curve bends hardest at short durations */
+        x[i] = tmin * pow(tmax / tmin, (double)i / (M - 1));
+        cpd_pd_pred p;
+        if (cpd_pd_predict_intensity(m, x[i], &p) == CPD_OK && p.valid) {
+            y[i] = p.value;
+            lo[i] = p.ci_valid ? p.ci95[0] : NAN;
+            hi[i] = p.ci_valid ? p.ci95[1] : NAN;
+        } else
+            y[i] = lo[i] = hi[i] = NAN;
+    }
+    cpd_svgplot *p = cpd_svgplot_alloc(720, 450);
+    if (!p)
+        return CPD_ENOMEM;
+    cpd_svgplot_set_title(p, spd ? "Speed-duration relationship" : "Power-duration relationship");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "time to task failure (min:s)");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_TIME_S);
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_X, 0, tmax);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, spd ? "speed (m/s)" : "power (W)");
+    /* room below the lowest boundary, so that the moderate band shows and is not a sliver */
+    double ytop = -INFINITY, ylow = m->cp;
+    for (int i = 0; i < M; i++)
+        ytop = fmax(ytop, isfinite(hi[i]) ? fmax(hi[i], y[i]) : y[i]);
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(intensity[i])) {
+            ytop = fmax(ytop, intensity[i]);
+            ylow = fmin(ylow, intensity[i]);
+        }
+    if (d && d->b[CPD_BND_MOD_HEAVY].valid)
+        ylow = fmin(ylow, d->b[CPD_BND_MOD_HEAVY].value);
+    if (isfinite(ytop) && ytop > ylow)
+        cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, fmax(0, ylow - 0.12 * (ytop - ylow)), NAN);
+    cpd_svgplot_style st;
+    if (d) {
+        const cpd_boundary *b = d->b;
+        double e[4] = {-INFINITY, b[CPD_BND_MOD_HEAVY].valid ? b[CPD_BND_MOD_HEAVY].value : NAN,
+                       b[CPD_BND_HEAVY_SEVERE].valid ? b[CPD_BND_HEAVY_SEVERE].value : NAN,
+                       b[CPD_BND_SEVERE_EXTREME].valid ? b[CPD_BND_SEVERE_EXTREME].value : NAN};
+        static const int color[CPD_DOM_N] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
+        for (int k = 0; k < CPD_DOM_N; k++) {
+            double y0 = k == 0 ? -INFINITY : e[k], y1 = k == CPD_DOM_N - 1 ? INFINITY : e[k + 1];
+            const char *label = cpd_domain_name((cpd_domain)k);
+            /* without a GET the band below CP holds both lower domains */
+            if (k == CPD_DOM_MODERATE && isnan(y1))
+                continue;
+            if (k == CPD_DOM_HEAVY && isnan(y0)) {
+                y0 = -INFINITY;
+                label = "moderate or heavy (no GET)";
+            }
+            if (isnan(y0) || isnan(y1) || !(y1 > y0))
+                continue;
+            cpd_svgplot_style_init(&st, color[k]);
+            st.stroke_px = 0;
+            st.fill_opacity = k < 2 ? 0.28 : 0.18;
+            cpd_svgplot_hregion(p, y0, y1, &st, label);
+        }
+    }
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 0, CPD_SVGPLOT_SOLID);
+    st.fill_opacity = 0.22;
+    cpd_svgplot_band(p, x, lo, hi, M, &st, "95 % band");
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2.4, CPD_SVGPLOT_SOLID);
+    char label[64];
+    snprintf(label, sizeof label, "%s model", cpd_pd_model_name(m->model));
+    cpd_svgplot_line(p, x, y, M, &st, label);
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_MARKER_NONE, 1.2, CPD_SVGPLOT_DASHED);
+    snprintf(label, sizeof label, spd ? "CS %.2f m/s" : "CP %.0f W", m->cp);
+    cpd_svgplot_hline(p, m->cp, &st, label);
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_CIRCLE, 1.4, CPD_SVGPLOT_SOLID);
+    st.marker_px = 4.5;
+    st.fill_opacity = 0.85;
+    cpd_svgplot_points(p, duration_s, intensity, n, NULL, &st, "trials");
+    return finish(p, svg);
+}
+
+int cpd_plot_balance(const double *intensity, const double *balance, size_t n, int speed, double cp, double w_prime,
+                     char **svg)
+{
+    if (!svg)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    if (!intensity || !balance || n == 0 || !isfinite(cp) || !isfinite(w_prime) || !(cp > 0) || !(w_prime > 0))
+        return CPD_EUSAGE;
+    double scale = speed ? 1 : 1e-3; /* kJ for power, m for speed */
+    double *t = malloc((n + 1) * sizeof *t), *b = malloc((n + 1) * sizeof *b), *zero = calloc(n + 1, sizeof *zero);
+    double *sx = malloc((n + 1) * sizeof *sx), *sy = malloc((n + 1) * sizeof *sy);
+    cpd_svgplot *p = cpd_svgplot_alloc(720, 380);
+    if (!t || !b || !zero || !sx || !sy || !p) {
+        free(t);
+        free(b);
+        free(zero);
+        free(sx);
+        free(sy);
+        cpd_svgplot_free(p);
+        return CPD_ENOMEM;
+    }
+    t[0] = 0;
+    b[0] = w_prime * scale;
+    double bmin = 0, imax = cp;
+    for (size_t i = 0; i < n; i++) {
+        t[i + 1] = (double)(i + 1);
+        b[i + 1] = balance[i] * scale;
+        if (isfinite(b[i + 1]))
+            bmin = fmin(bmin, b[i + 1]);
+        if (isfinite(intensity[i]))
+            imax = fmax(imax, intensity[i]);
+    }
+    /* the step line needs only the seconds where the intensity changes, and the end */
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        if (i == 0 || intensity[i] != intensity[i - 1]) {
+            sx[k] = (double)i;
+            sy[k++] = intensity[i];
+        }
+    sx[k] = (double)n;
+    sy[k++] = intensity[n - 1];
+    cpd_svgplot_set_title(p, speed ? "D\xe2\x80\xb2 balance of the session" : "W\xe2\x80\xb2 balance of the session");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "time (min:s)");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_TIME_S);
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_X, 0, (double)n);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, speed ? "D\xe2\x80\xb2 balance (m)" : "W\xe2\x80\xb2 balance (kJ)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, bmin, w_prime * scale * 1.05);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y2, speed ? "speed (m/s)" : "power (W)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y2, 0, imax * 1.12);
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 0, CPD_SVGPLOT_SOLID);
+    st.fill_opacity = 0.14;
+    cpd_svgplot_band(p, t, zero, b, n + 1, &st, NULL);
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2.4, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, t, b, n + 1, &st, speed ? "D\xe2\x80\xb2 balance" : "W\xe2\x80\xb2 balance");
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_MARKER_NONE, 1.3, CPD_SVGPLOT_SOLID);
+    st.y_axis = CPD_SVGPLOT_Y2;
+    cpd_svgplot_step(p, sx, sy, k, &st, speed ? "speed (right axis)" : "power (right axis)");
+    style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 1.3, CPD_SVGPLOT_DASHED);
+    st.y_axis = CPD_SVGPLOT_Y2;
+    cpd_svgplot_hline(p, cp, &st, speed ? "CS" : "CP");
+    free(t);
+    free(b);
+    free(zero);
+    free(sx);
+    free(sy);
+    return finish(p, svg);
+}

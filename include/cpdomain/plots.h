@@ -3,8 +3,10 @@
 #ifndef CPDOMAIN_PLOTS_H
 #define CPDOMAIN_PLOTS_H
 
+#include "cpdomain/domains.h"
 #include "cpdomain/kinetics.h"
 #include "cpdomain/lactate.h"
+#include "cpdomain/pd.h"
 #include "cpdomain/ramp.h"
 
 #include <stddef.h>
@@ -31,5 +33,23 @@ int cpd_plot_lactate(const double *intensity, const double *lactate, size_t n, i
  * CPD_OK, CPD_EUSAGE for NULL arguments, CPD_ENODATA when the model fit is not valid or there are no
  * points, CPD_ENOMEM. */
 int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, const char *title, char **svg);
+
+
+/* The power-duration (speed-duration) relationship of fitted model m: the n trials (intensity W or
+ * m/s, duration s) as points, the model's curve P = f(t) from 1 min to 20 min (or past the longest
+ * trial) with its 95 % band from cpd_pd_predict_intensity (the fit's covariance, delta method), CP
+ * as a dashed line, and, when d is not NULL, the four intensity domains as horizontal bands between
+ * its valid boundaries (moderate SKY, heavy YELLOW, severe ORANGE, extreme RED). Same ownership as
+ * above; CPD_EUSAGE for NULL pointers (arrays may be NULL when n is 0), CPD_ENODATA when m has no
+ * valid result, CPD_ENOMEM. */
+int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double *duration_s, size_t n,
+                const cpd_domains_result *d, char **svg);
+
+/* W' (D') balance through a protocol: balance[i] (J, or m when speed) at the end of second i + 1 of
+ * n, drawn in kJ (m) from the rested w_prime at time 0, over the intensity[i] (W or m/s) of each
+ * second as a step line on the right axis with cp marked there. Same ownership; CPD_EUSAGE for NULL
+ * pointers, n == 0, or cp or w_prime not finite and > 0; CPD_ENOMEM. */
+int cpd_plot_balance(const double *intensity, const double *balance, size_t n, int speed, double cp, double w_prime,
+                     char **svg);
 
 #endif

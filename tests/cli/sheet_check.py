@@ -1,0 +1,242 @@
+"""sheet_check.py: checks of the domain sheets for tests/cli/cli_sheet.sh (run with /usr/bin/python3).
+
+  html FILE...            strict structure check with html.parser: every tag closed in order, void
+                          elements only where HTML allows them, no scripts, event handlers, external
+                          resources or links outside the folder; prints one line per problem
+  split FILE OUTDIR       writes each inline <svg> as OUTDIR/N.svg and the page without them as
+                          OUTDIR/page.html; prints the number of SVGs
+  links INDEX             prints the relative href of every link in an index page, one a line
+  compare CSV JSON        the same CP, W' and boundaries in the sheet's CSV and JSON; prints problems
+  nonfinite FILE...       prints every 'nan' or 'inf' word found (printf's spellings of NaN and infinity)
+  png FILE                prints "WIDTH HEIGHT COLOURS" of a PNG (decoded with zlib)
+"""
+import csv
+import html.parser
+import json
+import math
+import os
+import re
+import struct
+import sys
+import zlib
+
+VOID = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta", "source", "track", "wbr"}
+# SVG elements svgplot writes; inside <svg> an element may close itself (XML syntax)
+SVG = {"svg", "title", "desc", "g", "path", "rect", "circle", "line", "polyline", "polygon", "text", "tspan",
+       "defs", "clippath", "use"}
+
+
+class Strict(html.parser.HTMLParser):
+    def __init__(self, name):
+        super().__init__(convert_charrefs=True)
+        self.name = name
+        self.stack = []
+        self.problems = []
+        self.counts = {}
+
+    def bad(self, what):
+        line, col = self.getpos()
+        self.problems.append("%s:%d:%d: %s" % (self.name, line, col + 1, what))
+
+    def check_attrs(self, tag, attrs):
+        for k, v in attrs:
+            if k.startswith("on"):
+                self.bad("event handler attribute %s on <%s>" % (k, tag))
+            if k in ("src", "srcset", "data", "action", "formaction"):
+                self.bad("resource attribute %s on <%s>" % (k, tag))
+            if k in ("href", "xlink:href"):
+                if v is None or re.match(r"^\s*([a-z][a-z0-9+.-]*:|//)", v, re.I) or v.startswith("/") or ".." in v:
+                    self.bad("link leaves the folder: %r" % v)
+            if k == "style" and v and ("url(" in v or "expression(" in v):
+                self.bad("style with a resource on <%s>" % tag)
+
+    def handle_starttag(self, tag, attrs):
+        self.counts[tag] = self.counts.get(tag, 0) + 1
+        if tag in ("script", "iframe", "object", "embed", "link", "img", "base", "form", "frame"):
+            self.bad("forbidden element <%s>" % tag)
+        self.check_attrs(tag, attrs)
+        if tag not in VOID:
+            self.stack.append(tag)
+
+    def handle_startendtag(self, tag, attrs):
+        self.counts[tag] = self.counts.get(tag, 0) + 1
+        self.check_attrs(tag, attrs)
+        if tag not in VOID and not ("svg" in self.stack and tag in SVG):
+            self.bad("<%s/> closes itself outside SVG" % tag)
+
+    def handle_endtag(self, tag):
+        if tag in VOID:
+            self.bad("end tag of void element </%s>" % tag)
+            return
+        if not self.stack:
+            self.bad("</%s> with nothing open" % tag)
+            return
+        if self.stack[-1] != tag:
+            self.bad("</%s> closes <%s>" % (tag, self.stack[-1]))
+            if tag in self.stack:
+                while self.stack and self.stack[-1] != tag:
+                    self.stack.pop()
+                self.stack.pop()
+            return
+        self.stack.pop()
+
+    def finish(self):
+        self.close()
+        if self.stack:
+            self.bad("unclosed at the end: %s" % " ".join(self.stack))
+        for tag in ("html", "head", "body"):
+            if self.counts.get(tag, 0) != 1:
+                self.bad("%d <%s> elements" % (self.counts.get(tag, 0), tag))
+        return self.problems
+
+
+def cmd_html(files):
+    problems = []
+    for f in files:
+        with open(f, encoding="utf-8") as fh:
+            text = fh.read()
+        if not text.startswith("<!DOCTYPE html>"):
+            problems.append("%s: no <!DOCTYPE html> first" % f)
+        if '<meta charset="utf-8">' not in text:
+            problems.append("%s: no utf-8 charset" % f)
+        p = Strict(f)
+        p.feed(text)
+        problems += p.finish()
+    for q in problems:
+        print(q)
+
+
+def cmd_split(path, outdir):
+    with open(path, encoding="utf-8") as fh:
+        text = fh.read()
+    svgs = re.findall(r"<svg\b.*?</svg>", text, re.S)
+    for i, s in enumerate(svgs):
+        with open(os.path.join(outdir, "%d.svg" % i), "w", encoding="utf-8") as fh:
+            fh.write(s)
+    with open(os.path.join(outdir, "page.html"), "w", encoding="utf-8") as fh:
+        fh.write(re.sub(r"<svg\b.*?</svg>", "", text, flags=re.S))
+    print(len(svgs))
+
+
+class Links(html.parser.HTMLParser):
+    def __init__(self):
+        super().__init__(convert_charrefs=True)
+        self.hrefs = []
+
+    def handle_starttag(self, tag, attrs):
+        if tag == "a":
+            self.hrefs += [v for k, v in attrs if k == "href"]
+
+
+def cmd_links(index):
+    p = Links()
+    with open(index, encoding="utf-8") as fh:
+        p.feed(fh.read())
+    for h in p.hrefs:
+        print(h)
+
+
+def cmd_compare(csv_path, json_path):
+    rows = {}
+    with open(csv_path, newline="", encoding="utf-8") as fh:
+        r = csv.reader(fh)
+        head = next(r)
+        if head != ["section", "item", "key", "value", "unit"]:
+            print("bad CSV header %r" % head)
+        for rec in r:
+            if len(rec) != 5:
+                print("CSV record with %d fields: %r" % (len(rec), rec))
+                continue
+            rows[(rec[0], rec[1], rec[2])] = rec[3]
+    with open(json_path, encoding="utf-8") as fh:
+        d = json.load(fh)
+    spd = d["modality"] == "speed"
+    cp, wp = ("cs", "d_prime") if spd else ("cp", "w_prime")
+    ikey = "speed_m_s" if spd else "power_w"
+    pairs = [(("fit", "", cp), d["fit"][cp]), (("fit", "", wp), d["fit"][wp])]
+    for b in d["domains"]["boundaries"]:
+        pairs.append((("boundary", b["name"], "value"), b[ikey]))
+    for key, jv in pairs:
+        cv = rows.get(key)
+        if cv is None:
+            print("no CSV row %s" % (key,))
+        elif jv is None or cv == "":
+            if not (jv is None and cv == ""):
+                print("%s: CSV %r, JSON %r" % (key, cv, jv))
+        elif not math.isclose(float(cv), jv, rel_tol=1e-9):  # CSV holds 10 significant digits
+            print("%s: CSV %s, JSON %r" % (key, cv, jv))
+    print("compared %d" % len(pairs))
+
+
+def cmd_nonfinite(files):
+    for f in files:
+        with open(f, encoding="utf-8") as fh:
+            for n, line in enumerate(fh, 1):
+                for m in re.finditer(r"(?<![A-Za-z])(nan|inf)(?![A-Za-z])", line, re.I):
+                    print("%s:%d: %s" % (f, n, m.group(0)))
+
+
+def paeth(a, b, c):
+    p = a + b - c
+    pa, pb, pc = abs(p - a), abs(p - b), abs(p - c)
+    if pa <= pb and pa <= pc:
+        return a
+    return b if pb <= pc else c
+
+
+def cmd_png(path):
+    with open(path, "rb") as fh:
+        data = fh.read()
+    if data[:8] != b"\x89PNG\r\n\x1a\n":
+        sys.exit("not a PNG")
+    pos, idat, w, h, depth, ctype = 8, b"", 0, 0, 0, 0
+    while pos < len(data):
+        (length,) = struct.unpack(">I", data[pos:pos + 4])
+        kind = data[pos + 4:pos + 8]
+        body = data[pos + 8:pos + 8 + length]
+        if kind == b"IHDR":
+            w, h, depth, ctype, _, _, interlace = struct.unpack(">IIBBBBB", body)
+            if depth != 8 or ctype not in (2, 6) or interlace:
+                sys.exit("unsupported PNG: depth %d colour type %d interlace %d" % (depth, ctype, interlace))
+        elif kind == b"IDAT":
+            idat += body
+        pos += 12 + length
+    bpp = 3 if ctype == 2 else 4
+    raw = zlib.decompress(idat)
+    stride = w * bpp
+    prev = bytearray(stride)
+    colours = set()
+    for y in range(h):
+        f = raw[y * (stride + 1)]
+        line = bytearray(raw[y * (stride + 1) + 1:(y + 1) * (stride + 1)])
+        if f == 1:
+            for i in range(bpp, stride):
+                line[i] = (line[i] + line[i - bpp]) & 255
+        elif f == 2:
+            line = bytearray((a + b) & 255 for a, b in zip(line, prev))
+        elif f == 3:
+            for i in range(stride):
+                left = line[i - bpp] if i >= bpp else 0
+                line[i] = (line[i] + ((left + prev[i]) >> 1)) & 255
+        elif f == 4:
+            for i in range(stride):
+                left = line[i - bpp] if i >= bpp else 0
+                up_left = prev[i - bpp] if i >= bpp else 0
+                line[i] = (line[i] + paeth(left, prev[i], up_left)) & 255
+        elif f != 0:
+            sys.exit("bad PNG filter %d" % f)
+        if y % 4 == 0:  # every fourth row is plenty to count colours
+            colours.update(bytes(line[i:i + 3]) for i in range(0, stride, bpp))
+        prev = line
+    print(w, h, len(colours))
+
+
+def main():
+    cmd, args = sys.argv[1], sys.argv[2:]
+    {"html": lambda: cmd_html(args), "split": lambda: cmd_split(*args), "links": lambda: cmd_links(*args),
+     "compare": lambda: cmd_compare(*args), "nonfinite": lambda: cmd_nonfinite(args),
+     "png": lambda: cmd_png(*args)}[cmd]()
+
+
+if __name__ == "__main__":
+    main()
