@@ -18,5 +18,10 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
  * the bouts' modality. Opens the store when it is not open. Returns 0, or an exit code after printing
  * why (bad ids 64, unknown bout 65, too short, no baseline or no convergence 69). */
 int cli_bout_analyse(cli_ctx *c, const char *ids, cpd_kinetics_result *r);
+ 
+/* Analyses bouts ids as 'bout plot' does and renders the kinetics chart into *svg (the caller frees
+ * it with free()); summary (n bytes, may be NULL) receives one sentence with tau, gain and the slow
+ * component. Returns 0 or an exit code after printing why. */
+int cli_bout_plot(cli_ctx *c, const char *ids, char **svg, char *summary, size_t n);
 
 #endif

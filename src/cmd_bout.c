@@ -1037,18 +1037,12 @@ static int write_text(cli_ctx *c, const char *path, const char *text)
     return 0;
 }
 
-static int bout_plot(cli_ctx *c, int argc, char **argv)
+static int plot_core(cli_ctx *c, const char *ids, const bout_opts *o, char **svg, char *summary, size_t n)
 {
-    bout_opts o;
-    int first = 0;
-    int rc = parse(argc, argv, HELP_PLOT, "ho:", show_longopts, &o, 1, "ID[,ID...]", &first);
-    if (rc)
-        return rc < 0 ? 0 : rc;
-    if (!o.out)
-        return cli_usage("bout plot", "-o FILE.svg is required");
+    *svg = NULL;
     bout_run *r = NULL;
-    char *svg = NULL;
-    if ((rc = run_load(c, "bout plot", argv[first], &o, &r)))
+    int rc;
+    if ((rc = run_load(c, "bout plot", ids, o, &r)))
         goto done;
     /* the analysis keeps no pointers into its workspace: prepare again for the points it fitted */
     cpd_kinetics_input in[BOUT_MAX_REPEATS];
@@ -1058,26 +1052,48 @@ static int bout_plot(cli_ctx *c, int argc, char **argv)
     }
     cpd_kinetics_data d;
     if ((rc = cpd_kinetics_prepare(r->ws, in, r->n, &r->ko, &d))) {
-        rc = cli_fail(c, rc, "bout %s: %s", argv[first], d.msg);
+        rc = cli_fail(c, rc, "bout %s: %s", ids, d.msg);
         goto done;
     }
     char title[300], iv[48];
+    const char *dom = r->res.domain == CPD_KIN_UNDETERMINED ? "domain undetermined" : cpd_kinetics_domain_name(r->res.domain);
     fmt_int(iv, sizeof iv, r->intensity, r->speed);
     if (r->n == 1)
-        snprintf(title, sizeof title, "Bout %lld: %s, %s, %s (%s)", (long long)r->t[0].id, r->a.code, r->t[0].date, iv,
-                 r->res.domain == CPD_KIN_UNDETERMINED ? "domain undetermined" : cpd_kinetics_domain_name(r->res.domain));
+        snprintf(title, sizeof title, "Bout %lld: %s, %s, %s (%s)", (long long)r->t[0].id, r->a.code, r->t[0].date, iv, dom);
     else
-        snprintf(title, sizeof title, "Bouts %s (ensemble of %zu): %s, %s (%s)", argv[first], r->n, r->a.code, iv,
-                 r->res.domain == CPD_KIN_UNDETERMINED ? "domain undetermined" : cpd_kinetics_domain_name(r->res.domain));
-    if ((rc = cpd_plot_kinetics(&d, &r->res, title, &svg))) {
-        rc = cli_fail(c, rc, "bout %s: no plot: %s", argv[first], cpd_strerror(rc));
-        goto done;
-    }
-    if (!(rc = write_text(c, o.out, svg)))
-        cli_note(c, "wrote %s", o.out);
+        snprintf(title, sizeof title, "Bouts %s (ensemble of %zu): %s, %s (%s)", ids, r->n, r->a.code, iv, dom);
+    if (summary)
+        snprintf(summary, n, "%s: primary tau %.1f s (95 %% CI %.1f to %.1f s), gain %.1f mL/min per %s, %s.", title,
+                 r->res.primary.tau_s, r->res.primary.tau_ci95_s[0], r->res.primary.tau_ci95_s[1],
+                 r->res.primary.gain_valid ? r->res.primary.gain_ml_min_w : 0.0, r->speed ? "m/s" : "W",
+                 r->res.slow.present ? "a slow component is supported" : "no slow component");
+    if ((rc = cpd_plot_kinetics(&d, &r->res, title, svg)))
+        rc = cli_fail(c, rc, "bout %s: no plot: %s", ids, cpd_strerror(rc));
 done:
-    free(svg);
     run_free(r);
+    return rc;
+}
+
+int cli_bout_plot(cli_ctx *c, const char *ids, char **svg, char *summary, size_t n)
+{
+    bout_opts o;
+    memset(&o, 0, sizeof o);
+    return plot_core(c, ids, &o, svg, summary, n);
+}
+
+static int bout_plot(cli_ctx *c, int argc, char **argv)
+{
+    bout_opts o;
+    int first = 0;
+    int rc = parse(argc, argv, HELP_PLOT, "ho:", show_longopts, &o, 1, "ID[,ID...]", &first);
+    if (rc)
+        return rc < 0 ? 0 : rc;
+    if (!o.out)
+        return cli_usage("bout plot", "-o FILE.svg is required");
+    char *svg = NULL;
+    if (!(rc = plot_core(c, argv[first], &o, &svg, NULL, 0)) && !(rc = write_text(c, o.out, svg)))
+        cli_note(c, "wrote %s", o.out);
+    free(svg);
     return rc;
 }
 

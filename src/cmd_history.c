@@ -1,6 +1,7 @@
 /* cmd_history.c: 'history (CODE | --all)': every estimate over the season and which changes are
  * larger than the noise. */
 #include "cli_gx.h"
+#include "cli_history.h"
 #include "cli_pd.h"
 #include "commands.h"
 #include "cpdomain/history.h"
@@ -39,21 +40,13 @@ static int hist_opt(int opt, const char *arg, void *ud)
     return 0;
 }
 
-typedef struct {
-    cli_pd_fit f;        /* the athlete's trials (all models fitted over all of them) */
-    cpd_history *h;
-    int win;
-} athlete_history;
-
-static void free_history(athlete_history *a)
+void cli_history_free(cli_history *a)
 {
     cli_pd_fit_free(&a->f);
     free(a->h);
 }
 
-/* Builds one athlete's history; returns 0, an exit code, or -1 when the athlete has too few
- * trials (quietly, for --all). */
-static int build(cli_ctx *c, const char *code, int win, const char *model, int quiet_few, athlete_history *a)
+int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, int quiet_few, cli_history *a)
 {
     memset(a, 0, sizeof *a);
     a->win = win;
@@ -70,7 +63,7 @@ static int build(cli_ctx *c, const char *code, int win, const char *model, int q
     if (!a->h || !day || !w) {
         free(day);
         cpd_pd_free(w);
-        free_history(a);
+        cli_history_free(a);
         return cli_fail(c, CPD_ENOMEM, "out of memory");
     }
     for (size_t i = 0; i < a->f.n; i++)
@@ -82,14 +75,14 @@ static int build(cli_ctx *c, const char *code, int win, const char *model, int q
     free(day);
     cpd_pd_free(w);
     if (rc) {
-        free_history(a);
+        cli_history_free(a);
         return cli_fail(c, rc, "%s: history: %s", code, cpd_strerror(rc));
     }
     /* ramps of the same modality: GET equivalent and VO2peak */
     cpd_gx_test *v = NULL;
     size_t n = 0;
     if ((rc = cpd_store_gx_list(c->store, code, CPD_GXT_RAMP, &v, &n))) {
-        free_history(a);
+        cli_history_free(a);
         return cli_store_fail(c, rc);
     }
     for (size_t i = 0; i < n; i++) {
@@ -128,7 +121,7 @@ static void change_json(cli_json *o, const char *key, const cpd_history_change *
     cj_bool(x, "meaningful", ch->meaningful);
 }
 
-static void block_json(cli_json *o, const athlete_history *a, const cpd_history_block *b)
+static void block_json(cli_json *o, const cli_history *a, const cpd_history_block *b)
 {
     char from[11], to[11], k[40];
     cpd_pd_modality md = a->f.modality;
@@ -159,7 +152,7 @@ static const char *verdict(const cpd_history_change *c)
     return !c->valid ? "" : c->meaningful ? "meaningful" : "within noise";
 }
 
-static void print_history(const athlete_history *a)
+static void print_history(const cli_history *a)
 {
     int spd = a->f.modality == CPD_PD_SPEED;
     printf("%s %s: %zu block(s) of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks, a->win);
@@ -237,8 +230,8 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     if ((rc = cli_open(c, 0)))
         return rc;
     if (!o.all) {
-        athlete_history a;
-        if ((rc = build(c, argv[first], win, o.model, 0, &a)))
+        cli_history a;
+        if ((rc = cli_history_build(c, argv[first], win, o.model, 0, &a)))
             return rc;
         if (c->json) {
             cli_json *d = cj_obj();
@@ -257,7 +250,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             rc = cj_print(d);
         } else
             print_history(&a);
-        free_history(&a);
+        cli_history_free(&a);
         return rc;
     }
     cpd_athlete *v = NULL;
@@ -272,8 +265,8 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
         t = cli_table_new(6, head, "lrlrrl");
     }
     for (size_t i = 0; i < n; i++) {
-        athlete_history a;
-        int r2 = build(c, v[i].code, win, o.model, 1, &a);
+        cli_history a;
+        int r2 = cli_history_build(c, v[i].code, win, o.model, 1, &a);
         if (r2) /* too few trials: listed without blocks */
             continue;
         const cpd_history_block *b = a.h->nblocks ? &a.h->block[a.h->nblocks - 1] : NULL;
@@ -301,7 +294,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             const char *row[] = {a.f.athlete.code, nb, span, cp, d, verdict(&b->d_cp)};
             cli_table_row(t, row);
         }
-        free_history(&a);
+        cli_history_free(&a);
     }
     free(v);
     if (doc)

@@ -2,6 +2,7 @@
  * JSON or text) and the team's index page. The store is only read. */
 #include "cli_domains_json.h"
 #include "cli_gx.h"
+#include "cli_history.h"
 #include "commands.h"
 #include "cpdomain/plots.h"
 #include "cpdomain/sheet.h"
@@ -82,7 +83,8 @@ typedef struct {
     int has_d;
     cpd_sheet_tables tables;
     cpd_sheet_session *session; /* NULL when none could be built */
-    char *svg_pd, *svg_balance, *svg_vslope;
+    char *svg_pd, *svg_balance, *svg_vslope, *svg_kinetics, *svg_trend;
+    char kinetics_text[600], trend_text[600];
     char test_what[CPD_SHEET_MAX_TESTS][CPD_DOMAINS_TEXT + 32];
     char test_date[CPD_SHEET_MAX_TESTS][32];
     char ramp_label[200];
@@ -102,6 +104,8 @@ static void build_free(sheet_build *b)
     free(b->svg_pd);
     free(b->svg_balance);
     free(b->svg_vslope);
+    free(b->svg_kinetics);
+    free(b->svg_trend);
     free(b);
 }
 
@@ -143,6 +147,79 @@ static void add_ramp(cli_ctx *c, sheet_build *b)
         s->svg_vslope = b->svg_vslope;
     cpd_ramp_free(w);
     free(r);
+}
+
+/* The newest bout of the fit's modality: its VO2 kinetics chart and a sentence, as an optional
+ * section. Quiet when there is none or it cannot be analysed. */
+static void add_kinetics(cli_ctx *c, sheet_build *b)
+{
+    cpd_sheet *s = &b->s;
+    cpd_gx_test *v = NULL;
+    size_t n = 0;
+    if (s->nextra >= CPD_SHEET_MAX_EXTRA || cpd_store_gx_list(c->store, s->code, CPD_GXT_BOUT, &v, &n))
+        return;
+    int want_speed = s->modality == CPD_PD_SPEED;
+    for (size_t i = n; i-- > 0;) {
+        if (v[i].speed != want_speed)
+            continue;
+        char id[32];
+        snprintf(id, sizeof id, "%lld", (long long)v[i].id);
+        int quiet = c->quiet;
+        c->quiet = 1;
+        int rc = cli_bout_plot(c, id, &b->svg_kinetics, b->kinetics_text, sizeof b->kinetics_text);
+        c->quiet = quiet;
+        if (rc == 0) {
+            add_test(b, "constant-power bout (gas exchange)", v[i].date);
+            s->extra[s->nextra++] = (cpd_sheet_section){"kinetics", "VO2 kinetics of the newest bout", b->kinetics_text,
+                                                        b->svg_kinetics};
+        }
+        break;
+    }
+    free(v);
+}
+
+/* The season: CP (CS) of every block of trials with its interval, and the verdict on the newest
+ * change, as an optional section when there are two blocks or more. */
+static void add_trend(cli_ctx *c, sheet_build *b)
+{
+    cpd_sheet *s = &b->s;
+    if (s->nextra >= CPD_SHEET_MAX_EXTRA)
+        return;
+    cli_history a;
+    int quiet = c->quiet;
+    c->quiet = 1;
+    int rc = cli_history_build(c, s->code, CPD_HISTORY_WINDOW_DAYS, NULL, 1, &a);
+    c->quiet = quiet;
+    if (rc)
+        return;
+    size_t nb = a.h->nblocks;
+    if (nb >= 2) {
+        int day[CPD_HISTORY_MAX_BLOCKS];
+        double v[CPD_HISTORY_MAX_BLOCKS], lo[CPD_HISTORY_MAX_BLOCKS], hi[CPD_HISTORY_MAX_BLOCKS];
+        for (size_t k = 0; k < nb; k++) {
+            const cpd_history_block *x = &a.h->block[k];
+            day[k] = x->to_day;
+            v[k] = x->fitted ? x->cp : NAN;
+            lo[k] = x->fitted && x->has_se ? x->cp_ci95[0] : NAN;
+            hi[k] = x->fitted && x->has_se ? x->cp_ci95[1] : NAN;
+        }
+        int spd = s->modality == CPD_PD_SPEED;
+        if (cpd_plot_trend(day, v, lo, hi, nb, spd ? "Critical speed over the season" : "Critical power over the season",
+                           spd ? "CS (m/s)" : "CP (W)", &b->svg_trend) == CPD_OK) {
+            const cpd_history_change *ch = &a.h->block[nb - 1].d_cp;
+            if (ch->valid)
+                snprintf(b->trend_text, sizeof b->trend_text,
+                         "%zu blocks of trials within %d days. Newest change of %s: %+.*f %s (95 %% interval %+.*f to "
+                         "%+.*f): %s (the interval from the combined standard errors of the two fits%s).",
+                         nb, a.win, spd ? "CS" : "CP", spd ? 2 : 1, ch->delta, spd ? "m/s" : "W", spd ? 2 : 1, ch->ci95[0],
+                         spd ? 2 : 1, ch->ci95[1], ch->meaningful ? "meaningful" : "within the noise",
+                         ch->meaningful ? " excludes zero" : " includes zero");
+            else
+                snprintf(b->trend_text, sizeof b->trend_text, "%zu blocks of trials within %d days.", nb, a.win);
+            s->extra[s->nextra++] = (cpd_sheet_section){"season", "The season", b->trend_text, b->svg_trend};
+        }
+    }
+    cli_history_free(&a);
 }
 
 /* Builds the sheet of athlete code. Returns 0 or an exit code after printing why. */
@@ -228,6 +305,8 @@ static int build_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int st
     if (b->session && cpd_plot_balance(b->session->intensity, b->session->balance, b->session->n, f->modality == CPD_PD_SPEED,
                                        m->cp, m->w_prime, &b->svg_balance) == CPD_OK)
         s->svg_balance = b->svg_balance;
+    add_kinetics(c, b);
+    add_trend(c, b);
     *out = b;
     return 0;
 }

@@ -467,3 +467,49 @@ int cpd_plot_balance(const double *intensity, const double *balance, size_t n, i
     free(sy);
     return finish(p, svg);
 }
+
+int cpd_plot_trend(const int *day, const double *v, const double *lo, const double *hi, size_t n, const char *title,
+                   const char *ylabel, char **svg)
+{
+    if (!svg || !day || !v)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    size_t good = 0;
+    for (size_t i = 0; i < n; i++)
+        good += isfinite(v[i]) != 0;
+    if (!good)
+        return CPD_ENODATA;
+    cpd_svgplot *p = cpd_svgplot_alloc(640, 320);
+    double *x = malloc(n * sizeof *x), *em = malloc(n * sizeof *em), *ep = malloc(n * sizeof *ep);
+    if (!p || !x || !em || !ep) {
+        cpd_svgplot_free(p);
+        free(x);
+        free(em);
+        free(ep);
+        return CPD_ENOMEM;
+    }
+    for (size_t i = 0; i < n; i++) {
+        x[i] = day[i];
+        int ci = lo && hi && isfinite(lo[i]) && isfinite(hi[i]) && isfinite(v[i]);
+        em[i] = ci ? fmax(v[i] - lo[i], 0) : 0;
+        ep[i] = ci ? fmax(hi[i] - v[i], 0) : 0;
+    }
+    cpd_svgplot_set_title(p, title ? title : "Season");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "date");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_DATE);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, ylabel ? ylabel : "");
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_DASHED);
+    cpd_svgplot_line(p, x, v, n, &st, NULL);
+    cpd_svgplot_errors err;
+    memset(&err, 0, sizeof err);
+    err.y_minus = em;
+    err.y_plus = ep;
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_CIRCLE, 1.5, CPD_SVGPLOT_SOLID);
+    st.marker_px = 4;
+    cpd_svgplot_points(p, x, v, n, &err, &st, "estimate with 95 % interval");
+    free(x);
+    free(em);
+    free(ep);
+    return finish(p, svg);
+}

@@ -52,4 +52,10 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
 int cpd_plot_balance(const double *intensity, const double *balance, size_t n, int speed, double cp, double w_prime,
                      char **svg);
 
+/* A season trend: one value per block at its date (days since 1970-01-01) with its 95 % interval
+ * as error bars (lo/hi may be NULL, or a non-finite entry for none), the values joined by a line.
+ * title and ylabel are copied. Same ownership; CPD_ENODATA when no value is finite. */
+int cpd_plot_trend(const int *day, const double *v, const double *lo, const double *hi, size_t n, const char *title,
+                   const char *ylabel, char **svg);
+
 #endif

@@ -86,7 +86,11 @@ for code in $codes; do
     html_checks "$TMP/s/$code.html" "$code.html"
 done
 c01svg=$($PY "$CHECK" split "$TMP/s/C01.html" "$(mktemp -d "$TMP/c.XXXXXX")")
-[ "$c01svg" -eq 3 ] && pass "C01's sheet has its three plots (power-duration, W' balance, V-slope)" || fail "C01 has $c01svg plots"
+[ "$c01svg" -eq 4 ] && pass "C01's sheet has its four plots (power-duration, W' balance, V-slope, VO2 kinetics)" || fail "C01 has $c01svg plots"
+grep -q "VO2 kinetics of the newest bout" "$TMP/s/C01.html" && pass "C01's sheet shows the kinetics of its newest bout" || fail "no kinetics section"
+c02svg=$($PY "$CHECK" split "$TMP/s/C02.html" "$(mktemp -d "$TMP/c.XXXXXX")")
+[ "$c02svg" -eq 4 ] && pass "C02's sheet has its four plots (with the season trend)" || fail "C02 has $c02svg plots"
+grep -q "The season" "$TMP/s/C02.html" && grep -q "meaningful" "$TMP/s/C02.html" && pass "C02's sheet shows the season and calls the CP change meaningful" || fail "no season section on C02"
 s01svg=$($PY "$CHECK" split "$TMP/s/S01.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 [ "$s01svg" -eq 2 ] && pass "S01 (no ramp) has two plots" || fail "S01 has $s01svg plots"
 

@@ -106,15 +106,32 @@ def cmd_html(files):
         print(q)
 
 
+
+def top_level_svgs(text):
+    """The outermost <svg>...</svg> elements, nesting counted (a two-panel chart nests two <svg>)."""
+    out, depth, start = [], 0, 0
+    for m in re.finditer(r"<svg\b|</svg>", text):
+        if m.group(0).startswith("<svg"):
+            if depth == 0:
+                start = m.start()
+            depth += 1
+        elif depth:
+            depth -= 1
+            if depth == 0:
+                out.append(text[start:m.end()])
+    return out
+
 def cmd_split(path, outdir):
     with open(path, encoding="utf-8") as fh:
         text = fh.read()
-    svgs = re.findall(r"<svg\b.*?</svg>", text, re.S)
+    svgs = top_level_svgs(text)
     for i, s in enumerate(svgs):
         with open(os.path.join(outdir, "%d.svg" % i), "w", encoding="utf-8") as fh:
             fh.write(s)
     with open(os.path.join(outdir, "page.html"), "w", encoding="utf-8") as fh:
-        fh.write(re.sub(r"<svg\b.*?</svg>", "", text, flags=re.S))
+        for piece in svgs:
+            text = text.replace(piece, "", 1)
+        fh.write(text)
     print(len(svgs))
 
 

@@ -1,0 +1,20 @@
+/* cli_history.h: one athlete's season for 'history' and the sheet's trend. */
+#ifndef CPDOMAIN_CLI_HISTORY_H
+#define CPDOMAIN_CLI_HISTORY_H
+
+#include "cli_pd.h"
+#include "cpdomain/history.h"
+
+typedef struct {
+    cli_pd_fit f;  /* the athlete's trials */
+    cpd_history *h; /* blocks, fits, attached ramps, changes */
+    int win;       /* block window, days */
+} cli_history;
+
+/* Builds the season of athlete code: blocks of trials within win days, each fitted (model NULL:
+ * the block's best), the ramps' GET equivalent and VO2peak attached. quiet_few silences the
+ * notes of the fit. Returns 0 or an exit code after printing why. Free with cli_history_free. */
+int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, int quiet_few, cli_history *a);
+void cli_history_free(cli_history *a);
+
+#endif
