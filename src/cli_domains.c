@@ -10,8 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Trials within this many days of the newest one form the "newest block" (the history's window). */
-#define RECENT_DAYS 28
+#define RECENT_DAYS CLI_PD_BLOCK_DAYS
 
 void cli_domains_free(cli_domains *d)
 {
@@ -185,9 +184,11 @@ int cli_domains_build(cli_ctx *c, const char *code, const char *from, const char
                       int stale_days, cli_domains *d)
 {
     memset(d, 0, sizeof *d);
-    int rc = cli_pd_load_fit(c, code, from, to, CPD_PD_ALL_MODELS, &d->fit);
+    int rc = cli_pd_load_current(c, code, from, to, CPD_PD_ALL_MODELS, &d->fit, &d->older_trials);
     if (rc)
         return rc;
+    if (d->older_trials)
+        snprintf(d->block_from, sizeof d->block_from, "%s", d->fit.trials[0].date);
     const cpd_pd_result *r = d->fit.res;
     if (model) {
         if (cpd_pd_model_parse(model, &d->model)) {

@@ -39,6 +39,9 @@ void cli_domains_json(cli_json *doc, const cli_domains *d)
     cj_str(doc, "athlete", d->fit.athlete.code);
     cj_str(doc, "modality", spd ? "speed" : "power");
     cj_str(doc, "model", cpd_pd_model_name(d->model));
+    cj_str(doc, "trials_from", d->fit.trials[0].date);
+    cj_str(doc, "trials_to", d->fit.trials[d->fit.n - 1].date);
+    cj_int(doc, "older_trials_left_out", (long long)d->older_trials);
     cli_json *bs = cj_add_arr(doc, "boundaries");
     cli_json *st = cj_arr();
     for (int b = 0; b < CPD_BND_N; b++) {

@@ -101,6 +101,36 @@ int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *
     return 0;
 }
 
+int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
+                        size_t *older)
+{
+    *older = 0;
+    int rc = cli_pd_load_fit(c, code, from, to, mask, f);
+    if (rc || from || to)
+        return rc;
+    int newest = 0;
+    if (cpd_parse_date(f->trials[f->n - 1].date, &newest) != CPD_OK)
+        return 0;
+    char start[11];
+    cpd_format_date(newest - CLI_PD_BLOCK_DAYS, start);
+    size_t k = 0;
+    for (size_t i = 0; i < f->n; i++)
+        k += strcmp(f->trials[i].date, start) >= 0;
+    if (k < 3 || k == f->n)
+        return 0;
+    cli_pd_fit g;
+    int quiet = c->quiet;
+    c->quiet = 1; /* the notes were given by the first load */
+    rc = cli_pd_load_fit(c, code, start, NULL, mask, &g);
+    c->quiet = quiet;
+    if (rc)
+        return 0; /* keep the fit of all trials */
+    *older = f->n - k;
+    cli_pd_fit_free(f);
+    *f = g;
+    return 0;
+}
+
 const char *cli_pd_key(cpd_pd_modality m, const char *power_key, char *buf, size_t n)
 {
     /* SPEC: for speed every cp becomes cs, w_prime d_prime and p_max v_max, wherever the word

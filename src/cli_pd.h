@@ -23,6 +23,16 @@ typedef struct {
 int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f);
 void cli_pd_fit_free(cli_pd_fit *f);
 
+/* Trials within this many days of the newest one form the newest block (the history's window). */
+#define CLI_PD_BLOCK_DAYS 28
+
+/* The athlete's current fit: with no dates, like cli_pd_load_fit over the newest block of trials
+ * when it holds 3 or more and older trials exist (*older receives how many are left out, 0 when
+ * all are used); with dates, exactly cli_pd_load_fit. Used by domains, predict, solve and sheet:
+ * today's boundaries and predictions describe the athlete now, the history keeps the rest. */
+int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
+                        size_t *older);
+
 /* The JSON key for a power-modality name ("cp", "w_prime_se", "p_max_ci95"...) in f's modality
  * ("cs", "d_prime_se", "v_max_ci95"...), written into buf. */
 const char *cli_pd_key(cpd_pd_modality m, const char *power_key, char *buf, size_t n);

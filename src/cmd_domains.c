@@ -118,8 +118,12 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
         rc = cj_print(doc);
     } else {
         char a[64], b[64], v[64];
-        printf("%s %s: intensity domains (%s model)\n\nboundaries:\n", d.fit.athlete.code, d.fit.athlete.name,
-               cpd_pd_model_name(d.model));
+        printf("%s %s: intensity domains (%s model, %zu trials %s to %s)\n", d.fit.athlete.code, d.fit.athlete.name,
+               cpd_pd_model_name(d.model), d.fit.n, d.fit.trials[0].date, d.fit.trials[d.fit.n - 1].date);
+        if (d.older_trials)
+            printf("the newest block of trials only: %zu older trial(s) are left out (see 'cpdomain history %s'; "
+                   "--from includes them)\n", d.older_trials, d.fit.athlete.code);
+        printf("\nboundaries:\n");
         for (int k = 0; k < CPD_BND_N; k++) {
             const cpd_boundary *x = &r->b[k];
             if (!x->valid) {

@@ -380,8 +380,12 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
     if ((rc = cli_open(c, 0)))
         return rc;
     cli_pd_fit f;
-    if ((rc = cli_pd_load_fit(c, argv[first], o.from, o.to, o.model ? mask : CPD_PD_ALL_MODELS, &f)))
+    size_t older = 0;
+    if ((rc = cli_pd_load_current(c, argv[first], o.from, o.to, o.model ? mask : CPD_PD_ALL_MODELS, &f, &older)))
         return rc;
+    if (older)
+        cli_note(c, "note: the newest block of trials (from %s) is used; %zu older trial(s) are left out (--from "
+                    "includes them)", f.trials[0].date, older);
     const cpd_pd_result *r = f.res;
     int spd = f.modality == CPD_PD_SPEED;
     if ((o.power && spd) || (o.speed && !spd) || (o.distance && !spd)) {

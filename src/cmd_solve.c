@@ -318,8 +318,12 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
     if ((rc = cli_open(c, 0)))
         return rc;
     cli_pd_fit f;
-    if ((rc = cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
+    size_t older = 0;
+    if ((rc = cli_pd_load_current(c, argv[first], o.from, o.to, mask, &f, &older)))
         return rc;
+    if (older)
+        cli_note(c, "note: the newest block of trials (from %s) is used; %zu older trial(s) are left out (--from "
+                    "includes them)", f.trials[0].date, older);
     if (!o.model) {
         if (!f.res->has_best) {
             rc = cli_fail(c, CPD_ENODATA, "%s: no model qualifies as best; name one with --model", f.athlete.code);
