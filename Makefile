@@ -29,9 +29,11 @@ LIB_SRCS += src/lactate.c
 LIB_SRCS += src/domains.c
 LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
+LIB_SRCS += src/store_session.c src/import_session.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c
+CLI_SRCS += src/cmd_session.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -46,6 +48,7 @@ TESTS += test_session test_mmp test_allout
 BENCHES  =
 BENCHES += bench_pd
 BENCHES += bench_mmp
+BENCHES += bench_sessions
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 

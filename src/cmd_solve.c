@@ -43,6 +43,106 @@ static int write_trace(cli_ctx *c, const char *path, const double *x, const doub
     return 0;
 }
 
+int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,
+                       const cli_balance_input *in)
+{
+    int spd = f->modality == CPD_PD_SPEED;
+    const double *x = in->x;
+    double *trace = malloc(in->n * sizeof *trace);
+    cpd_balance_result br;
+    cpd_balance_params bp = {bm, m->cp, m->w_prime};
+    int rc = trace ? cpd_balance_run(&bp, x, in->n, trace, &br) : CPD_ENOMEM;
+    if (rc) {
+        free(trace);
+        return cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
+    }
+    if (in->trace_path && (rc = write_trace(c, in->trace_path, x, trace, in->n, spd))) {
+        free(trace);
+        return rc;
+    }
+    const char *u = spd ? "m" : "j";
+    char k[40];
+    if (c->json) {
+        cli_json *d = cj_obj();
+        cj_str(d, "athlete", f->athlete.code);
+        cj_str(d, "model", cpd_pd_model_name(m->model));
+        cj_str(d, "balance_model", cpd_balance_model_name(bm));
+        cj_num(d, cli_pd_key(f->modality, "cp", k, sizeof k), m->cp);
+        cj_num(d, cli_pd_key(f->modality, "w_prime", k, sizeof k), m->w_prime);
+        cj_int(d, "duration_s", (long long)in->n);
+        if (in->json_extra)
+            in->json_extra(d, in->ud);
+        snprintf(k, sizeof k, "min_balance_%s", u);
+        cj_num(d, k, br.min_balance);
+        cj_int(d, "min_balance_at_s", (long long)br.min_at_s);
+        snprintf(k, sizeof k, "end_balance_%s", u);
+        cj_num(d, k, br.end_balance);
+        if (br.failed)
+            cj_int(d, "failure_at_s", (long long)br.failure_at_s);
+        else
+            cj_null(d, "failure_at_s");
+        if (bm == CPD_BALANCE_INTEGRAL && br.has_dcp)
+            cj_num(d, "tau_s", br.tau_s);
+        cj_str(d, "discretisation", in->discretisation);
+        if (in->trace_path)
+            cj_str(d, "trace_file", in->trace_path);
+        cj_str(d, "caution", CLI_CAUTION);
+        rc = cj_print(d);
+    } else {
+        char a[32], b[32];
+        double sc = spd ? 1.0 : 1e-3;
+        const char *un = spd ? "m" : "kJ";
+        printf("%s %s: %s balance (%s model, %s = %.*f %s, %s = %.*f %s)\n", f->athlete.code, f->athlete.name,
+               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", spd ? 2 : 1, m->cp, cli_pd_unit(f->modality),
+               spd ? "D'" : "W'", spd ? 0 : 2, m->w_prime * sc, un);
+        printf("%s\n\n", in->heading);
+        char lowest[48];
+        snprintf(lowest, sizeof lowest, "lowest in %s", in->part_word);
+        const char *head[] = {in->part_word, "ends at", "intensity", "balance at end", lowest};
+        cli_table *t = cli_table_new(5, head, "rrrrr");
+        for (size_t i = 0; i < in->nparts && i < 200; i++) {
+            const cli_balance_part *g = &in->parts[i];
+            size_t s0 = g->start_s, s1 = g->start_s + g->length_s;
+            double lo = trace[s0];
+            for (size_t q = s0; q < s1; q++)
+                lo = trace[q] < lo ? trace[q] : lo;
+            char idx[32], end[32], iv[48], be[32], lw[32], num[32];
+            snprintf(idx, sizeof idx, "%s", g->label ? g->label : "");
+            if (!g->label)
+                snprintf(idx, sizeof idx, "%zu", i + 1);
+            cpd_format_duration((double)s1, end, sizeof end);
+            snprintf(iv, sizeof iv, "%s %s", cli_num(num, sizeof num, g->intensity, spd ? 2 : 0), cli_pd_unit(f->modality));
+            snprintf(be, sizeof be, "%s %s", cli_num(num, sizeof num, trace[s1 - 1] * sc, spd ? 0 : 2), un);
+            snprintf(lw, sizeof lw, "%s %s", cli_num(num, sizeof num, lo * sc, spd ? 0 : 2), un);
+            const char *row[] = {idx, end, iv, be, lw};
+            cli_table_row(t, row);
+        }
+        cli_table_print(t);
+        if (in->nparts > 200)
+            printf("(the first 200 of %zu rows)\n", in->nparts);
+        cpd_format_duration((double)br.min_at_s, a, sizeof a);
+        if (in->show_min_pct)
+            printf("\nlowest balance %.*f %s (%.0f %% of %s) at %s (second %zu); end balance %.*f %s (%.0f %% of %s)\n",
+                   spd ? 0 : 2, br.min_balance * sc, un, 100 * br.min_balance / m->w_prime, spd ? "D'" : "W'", a,
+                   br.min_at_s, spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime,
+                   spd ? "D'" : "W'");
+        else
+            printf("\nlowest balance %.*f %s at %s; end balance %.*f %s (%.0f %% of %s)\n", spd ? 0 : 2,
+                   br.min_balance * sc, un, a, spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime,
+                   spd ? "D'" : "W'");
+        if (br.failed) {
+            cpd_format_duration((double)br.failure_at_s, b, sizeof b);
+            printf("predicted task failure at %s (second %zu)\n", b, br.failure_at_s);
+        } else
+            printf("no task failure predicted\n");
+        if (in->trace_path)
+            printf("trace written to %s\n", in->trace_path);
+        printf("\n%s\n", CLI_CAUTION);
+    }
+    free(trace);
+    return rc;
+}
+
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
                          const char *balance_model, const char *trace_path)
 {
@@ -57,95 +157,33 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
         cpd_protocol_free(p);
         return cli_usage("predict", "--protocol has a '?': 'cpdomain solve' finds the unknown intensity");
     }
-    int spd = f->modality == CPD_PD_SPEED;
-    double *x = malloc(p->total_s * sizeof *x), *trace = malloc(p->total_s * sizeof *trace);
-    cpd_balance_result br;
-    cpd_balance_params bp = {bm, m->cp, m->w_prime};
-    if (!x || !trace)
+    double *x = malloc(p->total_s * sizeof *x);
+    cli_balance_part *parts = malloc((p->n ? p->n : 1) * sizeof *parts);
+    if (!x || !parts)
         rc = CPD_ENOMEM;
-    else if (!(rc = cpd_protocol_expand(p, m->cp, 0, x, p->total_s)))
-        rc = cpd_balance_run(&bp, x, p->total_s, trace, &br);
+    else
+        rc = cpd_protocol_expand(p, m->cp, 0, x, p->total_s);
     if (rc) {
         int ex = cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
         free(x);
-        free(trace);
+        free(parts);
         cpd_protocol_free(p);
         return ex;
     }
-    if (trace_path && (rc = write_trace(c, trace_path, x, trace, p->total_s, spd))) {
-        free(x);
-        free(trace);
-        cpd_protocol_free(p);
-        return rc;
+    size_t s0 = 0;
+    for (size_t i = 0; i < p->n; i++) {
+        parts[i] = (cli_balance_part){s0, p->seg[i].duration_s, x[s0], NULL};
+        s0 += p->seg[i].duration_s;
     }
-    const char *u = spd ? "m" : "j";
-    char k[40];
-    if (c->json) {
-        cli_json *d = cj_obj();
-        cj_str(d, "athlete", f->athlete.code);
-        cj_str(d, "model", cpd_pd_model_name(m->model));
-        cj_str(d, "balance_model", cpd_balance_model_name(bm));
-        cj_num(d, cli_pd_key(f->modality, "cp", k, sizeof k), m->cp);
-        cj_num(d, cli_pd_key(f->modality, "w_prime", k, sizeof k), m->w_prime);
-        cj_int(d, "duration_s", (long long)p->total_s);
-        snprintf(k, sizeof k, "min_balance_%s", u);
-        cj_num(d, k, br.min_balance);
-        cj_int(d, "min_balance_at_s", (long long)br.min_at_s);
-        snprintf(k, sizeof k, "end_balance_%s", u);
-        cj_num(d, k, br.end_balance);
-        if (br.failed)
-            cj_int(d, "failure_at_s", (long long)br.failure_at_s);
-        else
-            cj_null(d, "failure_at_s");
-        if (bm == CPD_BALANCE_INTEGRAL && br.has_dcp)
-            cj_num(d, "tau_s", br.tau_s);
-        cj_str(d, "discretisation", "1-s steps, each second at the protocol's intensity; balance at the end of each second");
-        if (trace_path)
-            cj_str(d, "trace_file", trace_path);
-        cj_str(d, "caution", CLI_CAUTION);
-        rc = cj_print(d);
-    } else {
-        char a[32], b[32];
-        double sc = spd ? 1.0 : 1e-3;
-        const char *un = spd ? "m" : "kJ";
-        printf("%s %s: %s balance (%s model, %s = %.*f %s, %s = %.*f %s)\n", f->athlete.code, f->athlete.name,
-               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", spd ? 2 : 1, m->cp, cli_pd_unit(f->modality),
-               spd ? "D'" : "W'", spd ? 0 : 2, m->w_prime * sc, un);
-        cpd_format_duration((double)p->total_s, a, sizeof a);
-        printf("protocol of %s in %zu segments\n\n", a, p->n);
-        static const char *const head[] = {"segment", "ends at", "intensity", "balance at end", "lowest in segment"};
-        cli_table *t = cli_table_new(5, head, "rrrrr");
-        size_t s0 = 0;
-        for (size_t i = 0; i < p->n && i < 200; i++) {
-            size_t s1 = s0 + p->seg[i].duration_s;
-            double lo = trace[s0];
-            for (size_t q = s0; q < s1; q++)
-                lo = trace[q] < lo ? trace[q] : lo;
-            char idx[16], end[32], in[48], be[32], lw[32], num[32];
-            snprintf(idx, sizeof idx, "%zu", i + 1);
-            cpd_format_duration((double)s1, end, sizeof end);
-            snprintf(in, sizeof in, "%s %s", cli_num(num, sizeof num, x[s0], spd ? 2 : 0), cli_pd_unit(f->modality));
-            snprintf(be, sizeof be, "%s %s", cli_num(num, sizeof num, trace[s1 - 1] * sc, spd ? 0 : 2), un);
-            snprintf(lw, sizeof lw, "%s %s", cli_num(num, sizeof num, lo * sc, spd ? 0 : 2), un);
-            const char *row[] = {idx, end, in, be, lw};
-            cli_table_row(t, row);
-            s0 = s1;
-        }
-        cli_table_print(t);
-        cpd_format_duration((double)br.min_at_s, a, sizeof a);
-        printf("\nlowest balance %.*f %s at %s; end balance %.*f %s (%.0f %% of %s)\n", spd ? 0 : 2, br.min_balance * sc, un, a,
-               spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime, spd ? "D'" : "W'");
-        if (br.failed) {
-            cpd_format_duration((double)br.failure_at_s, b, sizeof b);
-            printf("predicted task failure at %s (second %zu)\n", b, br.failure_at_s);
-        } else
-            printf("no task failure predicted\n");
-        if (trace_path)
-            printf("trace written to %s\n", trace_path);
-        printf("\n%s\n", CLI_CAUTION);
-    }
+    char heading[96], a[32];
+    cpd_format_duration((double)p->total_s, a, sizeof a);
+    snprintf(heading, sizeof heading, "protocol of %s in %zu segments", a, p->n);
+    cli_balance_input in = {x, p->total_s, parts, p->n, heading, "segment",
+                            "1-s steps, each second at the protocol's intensity; balance at the end of each second",
+                            0, NULL, NULL, trace_path};
+    rc = cli_balance_report(c, f, m, bm, &in);
     free(x);
-    free(trace);
+    free(parts);
     cpd_protocol_free(p);
     return rc;
 }

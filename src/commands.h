@@ -13,5 +13,8 @@ int cmd_solve(cli_ctx *c, int argc, char **argv);
 int cmd_ramp(cli_ctx *c, int argc, char **argv);
 int cmd_lactate(cli_ctx *c, int argc, char **argv);
 int cmd_domains(cli_ctx *c, int argc, char **argv);
+int cmd_session(cli_ctx *c, int argc, char **argv);
+int cmd_allout(cli_ctx *c, int argc, char **argv);
+int cmd_curve(cli_ctx *c, int argc, char **argv);
 
 #endif
