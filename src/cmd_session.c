@@ -324,14 +324,14 @@ static int session_add(cli_ctx *c, int argc, char **argv)
     if ((ex = import_opts("session add", &o, &a, 0, &io)))
         goto done;
     w = cpd_import_session_alloc();
-    doc = cj_obj();
-    if (!w || !doc) {
+    doc = c->json ? cj_obj() : NULL; /* the per-file record is kept only when it will be printed */
+    if (!w || (c->json && !doc)) {
         ex = cli_fail(c, CPD_ENOMEM, "out of memory");
         goto done;
     }
-    cli_json *ids = cj_add_arr(doc, "ids");
-    cli_json *added_arr = cj_add_arr(doc, "sessions");
-    cli_json *skipped_arr = cj_add_arr(doc, "skipped");
+    cli_json *ids = doc ? cj_add_arr(doc, "ids") : NULL;
+    cli_json *added_arr = doc ? cj_add_arr(doc, "sessions") : NULL;
+    cli_json *skipped_arr = doc ? cj_add_arr(doc, "skipped") : NULL;
     if ((rc = cpd_store_begin(c->store))) {
         ex = cli_store_fail(c, rc);
         goto done;
@@ -358,10 +358,12 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         }
         if (dup) {
             skipped++;
-            cli_json *sk = cj_obj();
-            cj_str(sk, "file", path);
-            cj_int(sk, "duplicate_of", dup);
-            cj_push(skipped_arr, sk);
+            if (doc) {
+                cli_json *sk = cj_obj();
+                cj_str(sk, "file", path);
+                cj_int(sk, "duplicate_of", dup);
+                cj_push(skipped_arr, sk);
+            }
             if (!progress)
                 cli_note(c, "skipped %s: the same file is stored as session %lld", path, (long long)dup);
             continue;
@@ -393,22 +395,24 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         added++;
         with_spikes += r.n_spikes > 0;
         with_splits += r.n_splits > 0;
-        cj_push_num(ids, (double)id);
-        cli_json *so = cj_obj();
-        cj_int(so, "id", id);
-        cj_str(so, "file", path);
-        cj_str(so, "date", r.date);
-        cj_str(so, "modality", r.speed ? "speed" : "power");
-        cj_int(so, "samples", (long long)r.n_samples);
-        cj_num(so, "duration_s", grid_duration_s(&r));
-        cj_int(so, "recorded_s", (long long)r.recorded_s);
-        cj_int(so, "segments", (long long)r.n_segments);
-        cj_int(so, "dropouts", (long long)r.n_dropouts);
-        cj_int(so, "filled_s", (long long)r.filled_s);
-        cj_int(so, "splits", (long long)r.n_splits);
-        cj_int(so, "spikes", (long long)r.n_spikes);
-        cj_int(so, "curve_points", (long long)im.curve.n);
-        cj_push(added_arr, so);
+        if (doc) {
+            cj_push_num(ids, (double)id);
+            cli_json *so = cj_obj();
+            cj_int(so, "id", id);
+            cj_str(so, "file", path);
+            cj_str(so, "date", r.date);
+            cj_str(so, "modality", r.speed ? "speed" : "power");
+            cj_int(so, "samples", (long long)r.n_samples);
+            cj_num(so, "duration_s", grid_duration_s(&r));
+            cj_int(so, "recorded_s", (long long)r.recorded_s);
+            cj_int(so, "segments", (long long)r.n_segments);
+            cj_int(so, "dropouts", (long long)r.n_dropouts);
+            cj_int(so, "filled_s", (long long)r.filled_s);
+            cj_int(so, "splits", (long long)r.n_splits);
+            cj_int(so, "spikes", (long long)r.n_spikes);
+            cj_int(so, "curve_points", (long long)im.curve.n);
+            cj_push(added_arr, so);
+        }
         if (elsewhere)
             fprintf(stderr, "%scpdomain: warning: %s is also stored for athlete %s (session %lld): is the athlete right?\n",
                     progress ? "\n" : "", path, other, (long long)elsewhere);

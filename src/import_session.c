@@ -111,7 +111,7 @@ int cpd_import_date_from_name(const char *path, char *date)
 }
 
 /* The message for a cleaning failure, at the line of the sample session.h names. */
-static void clean_error(const cpd_csv *c, const cpd_session *s, int speed, char *msg)
+static void clean_error(const cpd_csv *c, const cpd_session *s, int speed, double span_s, char *msg)
 {
     const char *path = cpd_csv_path(c);
     size_t n = cpd_csv_nrows(c);
@@ -130,7 +130,7 @@ static void clean_error(const cpd_csv *c, const cpd_session *s, int speed, char 
         break;
     case CPD_SESSION_ERR_TOO_LONG:
         snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: column 'time_s': the file spans %.0f s, more than the 7 days (604800 s) "
-                 "a session may last", path, line, s->elapsed_s);
+                 "a session may last", path, line, span_s);
         break;
     case CPD_SESSION_ERR_NO_DATA:
         snprintf(msg, CPD_MSG_MAX, "%s: every value is above the spike limit of %g %s: no clean second is left", path,
@@ -245,7 +245,7 @@ int cpd_import_session(cpd_session_import_ws *w, const char *path, const cpd_ses
         goto done;
     }
     if (rc) {
-        clean_error(c, &out->clean, speed, msg);
+        clean_error(c, &out->clean, speed, n ? out->samples.time_s[n - 1] - out->samples.time_s[0] : 0, msg);
         rc = CPD_EDATA;
         goto done;
     }
