@@ -393,6 +393,13 @@ done
 expect 0 "twelve files" session add G1 "$TMP/many"
 err_has "G1: 12 sessions added" "a summary of the batch"
 if grep -q "$(printf '\r')" "$TMP/err"; then fail "a progress line although stderr is a file"; else pass "no progress line when stderr is not a terminal"; fi
+# on a terminal (a pseudo-terminal from util-linux script(1)) one progress line counts the files
+if command -v script >/dev/null 2>&1; then
+    script -qc "'$BIN' --db '$DB' session add G1 '$TMP/many' >/dev/null" /dev/null >"$TMP/tty" 2>&1
+    if grep -q "$(printf '\r')session add: file 12 of 12" "$TMP/tty" && grep -q "12 duplicates skipped" "$TMP/tty"; then
+        pass "a progress line on a terminal, then the summary"
+    else fail "no progress line on a terminal" "$(head -c 300 "$TMP/tty")"; fi
+fi
 
 # ---- remove ----
 expect 0 "session remove" session remove "$ID_0902"
