@@ -39,6 +39,8 @@ LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
 CLI_SRCS += src/cmd_bout.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
+LIB_SRCS += src/store_session.c src/import_session.c
+CLI_SRCS += src/cmd_session.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -56,6 +58,7 @@ TESTS += test_sheet
 BENCHES  =
 BENCHES += bench_pd
 BENCHES += bench_mmp
+BENCHES += bench_sessions
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 

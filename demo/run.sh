@@ -40,6 +40,12 @@ tail -n +2 "$data/manifest.csv" | while IFS=, read -r kind code file date unit r
     lactate)
         has lactate || continue
         cpd lactate add "$code" "$data/$file" --date "$date" ;;
+    session)
+        has session || continue
+        cpd session add "$code" "$data/$file" --date "$date" --note "$note" ;;
+    allout)
+        has allout || continue
+        cpd allout add "$code" "$data/$file" --date "$date" ;;
     esac
 done
 
@@ -81,6 +87,25 @@ for code in $codes; do
                 echo
             done
         fi
+        if has allout; then
+            for id in $(cpd allout list "$code" | awk 'NR > 1 { print $1 }'); do
+                cpd allout show "$id" || true
+                echo
+            done
+        fi
+        # the season's sessions: the mean-maximal curve, the field estimate fitted to it, and the
+        # W' balance through the race (the session noted RACE in the manifest)
+        if has curve && [ "$(cpd session list "$code" | wc -l)" -gt 1 ]; then
+            cpd curve "$code" || true
+            echo
+            cpd fit "$code" --source curve || true
+            echo
+            race=$(cpd session list "$code" | awk '$NF == "RACE" { print $1; exit }')
+            if [ -n "$race" ]; then
+                cpd predict "$code" --session "$race" || true
+                echo
+            fi
+        fi
     } >"$f" 2>&1
     cpd --json fit "$code" >"$out/details/$code.fit.json" 2>/dev/null || true
 done
@@ -95,5 +120,5 @@ done
 echo
 echo "store:   $db"
 echo "sheets:  $out/  (index.html for the team, one CODE.html per athlete)"
-echo "details: $out/details/  (each athlete's fits, ramps, lactate tests and bouts as text, with SVG plots)"
+echo "details: $out/details/  (each athlete's fits, ramps, lactate, bouts, all-out tests and session curves as text, with SVG plots)"
 echo "$out/index.html"

@@ -12,6 +12,11 @@ const char CLI_CAUTION[] =
     "severe-domain efforts need pre-participation screening, appropriate supervision and agreed stop "
     "criteria; follow local rules and defer to licensed practitioners.";
 
+const char CLI_FIELD_ESTIMATE[] =
+    "Field estimate: the points are the best efforts found in training and racing, not tests to "
+    "exhaustion. Efforts may have been submaximal, which biases CP (CS) low or W' (D') either way; "
+    "confirm with time-to-exhaustion trials before relying on it.";
+
 void cli_pd_fit_free(cli_pd_fit *f)
 {
     if (!f)
@@ -106,7 +111,7 @@ int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const ch
 {
     *older = 0;
     int rc = cli_pd_load_fit(c, code, from, to, mask, f);
-    if (rc || from || to)
+    if (rc || from)
         return rc;
     int newest = 0;
     if (cpd_parse_date(f->trials[f->n - 1].date, &newest) != CPD_OK)
@@ -121,7 +126,7 @@ int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const ch
     cli_pd_fit g;
     int quiet = c->quiet;
     c->quiet = 1; /* the notes were given by the first load */
-    rc = cli_pd_load_fit(c, code, start, NULL, mask, &g);
+    rc = cli_pd_load_fit(c, code, start, to, mask, &g);
     c->quiet = quiet;
     if (rc)
         return 0; /* keep the fit of all trials */
@@ -259,7 +264,11 @@ void cli_pd_model_json(cli_json *o, const cli_pd_fit *f, const cpd_pd_model_fit 
         cli_json *tr = cj_add_arr(o, "trials");
         for (size_t i = 0; i < f->n && i < m->n; i++) {
             cli_json *t = cj_obj();
-            cj_int(t, "id", f->trials[i].id);
+            if (f->from_curve) { /* a curve point: its session, not a trial */
+                cj_null(t, "id");
+                cj_int(t, "session", f->trials[i].id);
+            } else
+                cj_int(t, "id", f->trials[i].id);
             cj_str(t, "date", f->trials[i].date);
             cj_num(t, md == CPD_PD_SPEED ? "speed_m_s" : "power_w", f->x[i]);
             cj_num(t, "duration_s", f->t[i]);

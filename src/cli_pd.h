@@ -14,6 +14,7 @@ typedef struct {
     double *x, *t;        /* their intensity (W, or m/s: a distance trial's mean speed) and duration (s) */
     size_t skipped_other; /* trials of the other modality left out */
     cpd_pd_result *res;   /* the fit */
+    int from_curve;       /* 1: the points come from the mean-maximal curve (trials[i].id is a session id) */
 } cli_pd_fit;
 
 /* Loads the athlete's trials that are not excluded, dated within [from, to] (either may be NULL),
@@ -26,9 +27,9 @@ void cli_pd_fit_free(cli_pd_fit *f);
 /* Trials within this many days of the newest one form the newest block (the history's window). */
 #define CLI_PD_BLOCK_DAYS 28
 
-/* The athlete's current fit: with no dates, like cli_pd_load_fit over the newest block of trials
- * when it holds 3 or more and older trials exist (*older receives how many are left out, 0 when
- * all are used); with dates, exactly cli_pd_load_fit. Used by domains, predict, solve and sheet:
+/* The athlete's current fit: without from, like cli_pd_load_fit over the newest block of trials up
+ * to `to` (NULL: all) when it holds 3 or more and older trials exist (*older receives how many are
+ * left out, 0 when all are used); with from, exactly cli_pd_load_fit. Used by domains, predict, solve and sheet:
  * today's boundaries and predictions describe the athlete now, the history keeps the rest. */
 int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
                         size_t *older);
@@ -58,5 +59,50 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
 
 /* The usual caution printed beside every prescription or prediction. */
 extern const char CLI_CAUTION[];
+
+/* ---- the W' balance report shared by predict --protocol and predict --session ---- */
+#include "cpdomain/balance.h"
+
+/* One row of the report's table: seconds [start_s, start_s + length_s) of the input. */
+typedef struct {
+    size_t start_s, length_s; /* s */
+    double intensity;         /* W or m/s shown for the row */
+    const char *label;        /* the row's name; NULL: its 1-based number */
+} cli_balance_part;
+
+typedef struct {
+    const double *x;                 /* 1-Hz intensities, W or m/s, n of them */
+    size_t n;
+    const cli_balance_part *parts;   /* the human table's rows (at most 200 are shown) */
+    size_t nparts;
+    const char *heading;             /* human: the line under the title */
+    const char *part_word;           /* the table's first column heading */
+    const char *discretisation;      /* JSON: how the input became 1-s steps */
+    int show_min_pct;                /* human: the lowest balance as a percentage too */
+    void (*json_extra)(cli_json *d, const void *ud); /* adds keys to the JSON document, or NULL */
+    const void *ud;
+    const char *trace_path;          /* --trace file, or NULL */
+} cli_balance_input;
+
+/* Runs balance model bm over in->x with fitted model m and prints the SPEC keys (JSON) or the
+ * report with one table row per part; writes the trace when asked. Returns an exit code. */
+int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,
+                       const cli_balance_input *in);
+
+/* predict --session: the balance of recorded session id for fitted model m (cmd_session.c). */
+int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, long long id,
+                        const char *balance_model, const char *trace_path);
+
+/* fit --source curve: the models fitted to points of the athlete's mean-maximal curve over the
+ * sessions dated within [from, to] at the durations in the list ("3min,5min,12min"; NULL: the
+ * default CLI_CURVE_DURATIONS). The points become f->trials (id = the session that gave the
+ * point, date its date; oldest first) and f->from_curve is 1. Returns 0 or an exit code after
+ * printing why (cmd_session.c). */
+#define CLI_CURVE_DURATIONS "3min,5min,12min,20min"
+int cli_pd_load_curve_fit(cli_ctx *c, const char *code, const char *from, const char *to, const char *durations,
+                          unsigned mask, cli_pd_fit *f);
+
+/* The sentence that marks a fit to curve points as a field estimate. */
+extern const char CLI_FIELD_ESTIMATE[];
 
 #endif

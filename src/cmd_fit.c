@@ -13,7 +13,8 @@
 #include <sysexits.h>
 
 static const char HELP_FIT[] =
-    "usage: cpdomain fit CODE [--model NAME|all] [--from D] [--to D]\n\n"
+    "usage: cpdomain fit CODE [--model NAME|all] [--from D] [--to D] [--source trials|curve]\n"
+    "                         [--durations LIST]\n\n"
     "Fits the power-duration (speed-duration) models to the athlete's trials that are not excluded:\n"
     "  hyperbolic       t = W'/(P - CP), least squares on the measured duration\n"
     "  linear-total     W = CP*t + W' (distance D = CS*t + D')\n"
@@ -22,12 +23,17 @@ static const char HELP_FIT[] =
     "Each model is shown with standard errors, 95 % confidence intervals (t distribution), %SEE,\n"
     "residuals and leave-one-out influence; the best model is named by a stated rule and the fit\n"
     "is saved in the store with the trials it used. Distance trials count as their mean speed.\n"
-    "--model picks one model (default all); --from/--to restrict the trial dates (YYYY-MM-DD).\n\n"
-    "examples:\n  cpdomain fit C03\n  cpdomain --json fit R07 --model all --from 2026-09-01\n";
+    "--model picks one model (default all); --from/--to restrict the trial dates (YYYY-MM-DD).\n"
+    "--source curve fits the same models to points of the mean-maximal curve of the recorded\n"
+    "sessions dated --from/--to instead (a field estimate: efforts may be submaximal), at the\n"
+    "durations of --durations (default 3min,5min,12min,20min: inside the 2-20 min window where the\n"
+    "power-duration relation holds); the fit is saved with source 'curve'.\n\n"
+    "examples:\n  cpdomain fit C03\n  cpdomain --json fit R07 --model all --from 2026-09-01\n"
+    "  cpdomain fit C02 --source curve --from 2026-11-01 --durations 3min,5min,12min\n";
 
 static const char HELP_PREDICT[] =
     "usage: cpdomain predict CODE (--power W | --speed M_S | --duration T | --distance M |\n"
-    "                              --protocol SPEC [--balance-model NAME] [--trace FILE.csv])\n"
+    "                              --protocol SPEC | --session ID) [--balance-model NAME] [--trace FILE.csv]\n"
     "                              [--model NAME] [--from D] [--to D]\n\n"
     "From the athlete's current fit (the best model unless --model):\n"
     "  --power W / --speed M_S   time to task failure t = W'/(P - CP) with its 95 % interval;\n"
@@ -39,13 +45,18 @@ static const char HELP_PREDICT[] =
     "                            --balance-model differential (default), integral or elite;\n"
     "                            --trace writes time_s,intensity,balance per second to a CSV file\n"
     "                            SPEC: DURATION@INTENSITY segments separated by ';' or ',', Nx(...)\n"
-    "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n\n"
+    "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n"
+    "  --session ID              the same balance through a stored session ('session list'), replayed\n"
+    "                            second by second; a gap of more than 5 s (a pause, or a dropout that\n"
+    "                            split the session) counts as rest at 0 W (0 m/s) for its whole length\n\n"
     "examples:\n  cpdomain predict C03 --power 350\n  cpdomain --json predict R07 --distance 5000\n"
     "  cpdomain predict C03 --protocol \"10min@150W; 5x(3min@340W, 3min@140W)\" --trace c03.csv\n"
-    "  cpdomain predict C03 --duration 8min --model linear-total\n";
+    "  cpdomain predict C03 --duration 8min --model linear-total\n"
+    "  cpdomain --json predict C02 --session 16 --balance-model integral\n";
 
 typedef struct {
     const char *model, *from, *to, *power, *speed, *duration, *distance, *protocol, *bmodel, *trace;
+    const char *source, *durations, *session; /* fit --source curve --durations; predict --session */
 } fit_opts;
 
 static int fit_opt(int opt, const char *arg, void *ud)
@@ -62,6 +73,9 @@ static int fit_opt(int opt, const char *arg, void *ud)
     case 'P': o->protocol = arg; break;
     case 'b': o->bmodel = arg; break;
     case 'T': o->trace = arg; break;
+    case 'S': o->source = arg; break;
+    case 'U': o->durations = arg; break;
+    case 'I': o->session = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -74,6 +88,8 @@ static const struct option fit_longopts[] = {
     {"distance", required_argument, NULL, 'D'}, {"help", no_argument, NULL, 'h'},
     {"protocol", required_argument, NULL, 'P'}, {"balance-model", required_argument, NULL, 'b'},
     {"trace", required_argument, NULL, 'T'},
+    {"source", required_argument, NULL, 'S'},   {"durations", required_argument, NULL, 'U'},
+    {"session", required_argument, NULL, 'I'},
     {NULL, 0, NULL, 0},
 };
 
@@ -129,8 +145,9 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
 {
     const cpd_pd_result *r = f->res;
     int spd = f->modality == CPD_PD_SPEED;
-    printf("%s %s: %s-duration fit of %zu trials, %s to %s\n\n", f->athlete.code, f->athlete.name,
-           spd ? "speed" : "power", f->n, f->trials[0].date, f->trials[f->n - 1].date);
+    printf("%s %s: %s-duration fit of %zu %s, %s to %s\n\n", f->athlete.code, f->athlete.name,
+           spd ? "speed" : "power", f->n, f->from_curve ? "mean-maximal curve points (a field estimate)" : "trials",
+           f->trials[0].date, f->trials[f->n - 1].date);
     const char *head[] = {"model", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)", "95% CI",
                           spd ? "vmax (m/s)" : "Pmax (W)", "%SEE CP", "%SEE W'", "R2", "status"};
     if (spd) {
@@ -192,8 +209,8 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
         printf("  (lowest combined %%SEE among valid fits; the rule in full: cpdomain --json fit %s, key best_rule)\n",
                f->athlete.code);
 
-        printf("\ntrials, %s model:\n", cpd_pd_model_name(r->best));
-        const char *th[] = {"id", "date", spd ? "speed" : "power", "duration", "residual", "resid %",
+        printf("\n%s, %s model:\n", f->from_curve ? "curve points" : "trials", cpd_pd_model_name(r->best));
+        const char *th[] = {f->from_curve ? "session" : "id", "date", spd ? "speed" : "power", "duration", "residual", "resid %",
                             spd ? "dCS if dropped" : "dCP if dropped", spd ? "dD' if dropped" : "dW' if dropped"};
         cli_table *tt = cli_table_new(8, th, "rlrrrrrr");
         for (size_t i = 0; i < f->n; i++) {
@@ -246,12 +263,18 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     int rc = parse(argc, argv, HELP_FIT, &o, &first, &mask);
     if (rc)
         return rc < 0 ? 0 : rc;
-    if (o.power || o.speed || o.duration || o.distance || o.protocol || o.bmodel || o.trace)
-        return cli_usage("fit", "--power, --speed, --duration, --distance and --protocol belong to 'predict'");
+    if (o.power || o.speed || o.duration || o.distance || o.protocol || o.bmodel || o.trace || o.session)
+        return cli_usage("fit", "--power, --speed, --duration, --distance, --protocol and --session belong to 'predict'");
+    int curve = o.source && strcmp(o.source, "curve") == 0;
+    if (o.source && !curve && strcmp(o.source, "trials") != 0)
+        return cli_usage("fit", "--source must be trials or curve");
+    if (o.durations && !curve)
+        return cli_usage("fit", "--durations goes with --source curve");
     if ((rc = cli_open(c, 0)))
         return rc;
     cli_pd_fit f;
-    if ((rc = cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
+    if ((rc = curve ? cli_pd_load_curve_fit(c, argv[first], o.from, o.to, o.durations, mask, &f)
+                    : cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
         return rc;
     const cpd_pd_result *r = f.res;
 
@@ -263,6 +286,9 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     cj_str(doc, "best_rule", cpd_pd_best_rule());
     cj_str(doc, "from", f.trials[0].date);
     cj_str(doc, "to", f.trials[f.n - 1].date);
+    cj_str(doc, "source", curve ? "curve" : "trials");
+    if (curve)
+        cj_bool(doc, "field_estimate", 1);
     cli_json *models = cj_add_arr(doc, "models");
     cpd_fit_model_rec rec[CPD_PD_NMODELS];
     char *detail[CPD_PD_NMODELS] = {0};
@@ -279,16 +305,21 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
         nrec++;
         cj_push(models, mo);
     }
-    cli_pd_flags_json(cj_add_arr(doc, "flags"), r->flags, f.modality);
+    cli_json *fl = cj_add_arr(doc, "flags");
+    cli_pd_flags_json(fl, r->flags, f.modality);
     cli_json *notes = cj_add_arr(doc, "flag_notes");
     for (unsigned b = 0; b < CPD_PD_NFLAGS; b++)
         if (r->flags & (1u << b))
             cj_push_str(notes, cpd_pd_flag_text(1u << b, f.modality));
+    if (curve) { /* not a pd.h flag: it says where the data came from, not how they fit */
+        cj_push_str(fl, "field_estimate");
+        cj_push_str(notes, CLI_FIELD_ESTIMATE);
+    }
 
     cpd_fit_run run;
     memset(&run, 0, sizeof run);
     snprintf(run.athlete, sizeof run.athlete, "%s", f.athlete.code);
-    snprintf(run.source, sizeof run.source, "trials");
+    snprintf(run.source, sizeof run.source, "%s", curve ? "curve" : "trials");
     snprintf(run.modality, sizeof run.modality, "%s", f.modality == CPD_PD_SPEED ? "speed" : "power");
     snprintf(run.date_from, sizeof run.date_from, "%s", f.trials[0].date);
     snprintf(run.date_to, sizeof run.date_to, "%s", f.trials[f.n - 1].date);
@@ -299,7 +330,12 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
             size_t L = strlen(run.flags);
             snprintf(run.flags + L, sizeof run.flags - L, "%s%s", L ? "," : "", cpd_pd_flag_name(1u << b, f.modality));
         }
+    if (curve) {
+        size_t L = strlen(run.flags);
+        snprintf(run.flags + L, sizeof run.flags - L, "%sfield_estimate", L ? "," : "");
+    }
     snprintf(run.tool_version, sizeof run.tool_version, "%s", CPDOMAIN_VERSION);
+    /* a curve fit keeps no trial ids: each model's detail JSON names the session of every point */
     int64_t *ids = calloc(f.n, sizeof *ids);
     for (size_t i = 0; ids && i < f.n; i++)
         ids[i] = f.trials[i].id;
@@ -307,7 +343,7 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     if (!rc)
         rc = cpd_store_begin(c->store);
     if (!rc)
-        rc = cpd_store_fit_save(c->store, &run, rec, nrec, ids, f.n);
+        rc = cpd_store_fit_save(c->store, &run, rec, nrec, ids, curve ? 0 : f.n);
     if (!rc)
         rc = cpd_store_commit(c->store);
     free(ids);
@@ -324,6 +360,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     } else {
         cj_free(doc);
         print_fit(&f, mask);
+        if (curve)
+            printf("\n%s\n", CLI_FIELD_ESTIMATE);
         printf("\nsaved as fit %lld\n", (long long)run.id);
     }
     cli_pd_fit_free(&f);
@@ -355,13 +393,19 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
     int rc = parse(argc, argv, HELP_PREDICT, &o, &first, &mask);
     if (rc)
         return rc < 0 ? 0 : rc;
-    int nq = (o.power != NULL) + (o.speed != NULL) + (o.duration != NULL) + (o.distance != NULL) + (o.protocol != NULL);
+    int nq = (o.power != NULL) + (o.speed != NULL) + (o.duration != NULL) + (o.distance != NULL) + (o.protocol != NULL) +
+             (o.session != NULL);
     if (nq != 1)
-        return cli_usage("predict", "give exactly one of --power, --speed, --duration, --distance and --protocol");
-    if ((o.bmodel || o.trace) && !o.protocol)
-        return cli_usage("predict", "--balance-model and --trace go with --protocol");
+        return cli_usage("predict", "give exactly one of --power, --speed, --duration, --distance, --protocol and --session");
+    if ((o.bmodel || o.trace) && !o.protocol && !o.session)
+        return cli_usage("predict", "--balance-model and --trace go with --protocol or --session");
+    if (o.source || o.durations)
+        return cli_usage("predict", "--source and --durations belong to 'fit'");
+    long long session_id = 0;
+    if (o.session && (rc = cli_id("--session", o.session, &session_id)))
+        return rc;
     double q = 0;
-    if (o.protocol)
+    if (o.protocol || o.session)
         rc = 0;
     else if (o.duration)
         rc = cli_duration("--duration", o.duration, &q);
@@ -372,20 +416,30 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
         return rc;
     const cpd_range *rg = o.power ? &CPD_RANGE_POWER : o.speed ? &CPD_RANGE_SPEED : o.distance ? &CPD_RANGE_DISTANCE
                                                                                           : &CPD_RANGE_DURATION;
-    if (!o.protocol && !cpd_in_range(rg, q)) {
+    if (!o.protocol && !o.session && !cpd_in_range(rg, q)) {
         char m[CPD_MSG_MAX];
         cpd_range_msg(rg, q, m, sizeof m);
         return cli_usage("predict", "%s", m);
     }
     if ((rc = cli_open(c, 0)))
         return rc;
+    /* a recorded session is replayed against the fit current on its day: trials up to its date */
+    const char *to = o.to;
+    cpd_session_rec srec;
+    if (o.session && !o.from && !o.to) {
+        if ((rc = cpd_store_session_get(c->store, session_id, 0, &srec, NULL)))
+            return cli_store_fail(c, rc);
+        if (strcmp(srec.athlete, argv[first]) != 0)
+            return cli_fail(c, CPD_EDATA, "session %lld belongs to %s, not to %s", session_id, srec.athlete, argv[first]);
+        to = srec.date;
+    }
     cli_pd_fit f;
     size_t older = 0;
-    if ((rc = cli_pd_load_current(c, argv[first], o.from, o.to, o.model ? mask : CPD_PD_ALL_MODELS, &f, &older)))
+    if ((rc = cli_pd_load_current(c, argv[first], o.from, to, o.model ? mask : CPD_PD_ALL_MODELS, &f, &older)))
         return rc;
     if (older)
-        cli_note(c, "note: the newest block of trials (from %s) is used; %zu older trial(s) are left out (--from "
-                    "includes them)", f.trials[0].date, older);
+        cli_note(c, "note: the newest block of trials (%s to %s) is used; %zu older trial(s) are left out (--from "
+                    "includes them)", f.trials[0].date, f.trials[f.n - 1].date, older);
     const cpd_pd_result *r = f.res;
     int spd = f.modality == CPD_PD_SPEED;
     if ((o.power && spd) || (o.speed && !spd) || (o.distance && !spd)) {
@@ -406,11 +460,13 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
         return ex;
     }
     const cpd_pd_model_fit *m = &r->models[which];
-    if (o.protocol) {
+    if (o.protocol || o.session) {
         if (!m->ok) {
             rc = cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", f.athlete.code, cpd_pd_model_name(which),
                           cpd_pd_fail_text(m->fail));
-        } else
+        } else if (o.session)
+            rc = cli_predict_session(c, &f, m, session_id, o.bmodel, o.trace);
+        else
             rc = cli_predict_protocol(c, &f, m, o.protocol, o.bmodel, o.trace);
         cli_pd_fit_free(&f);
         return rc;

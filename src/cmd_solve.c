@@ -55,52 +55,29 @@ static int write_trace(cli_ctx *c, const char *path, const double *x, const doub
     return 0;
 }
 
-int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
-                         const char *balance_model, const char *trace_path)
+int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,
+                       const cli_balance_input *in)
 {
-    cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
-    if (balance_model && cpd_balance_model_parse(balance_model, &bm))
-        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or elite", balance_model);
-    cpd_protocol *p = NULL;
-    int rc = load_protocol(c, f, text, &p);
-    if (rc)
-        return rc;
-    if (p->has_unknown) {
-        cpd_protocol_free(p);
-        return cli_usage("predict", "--protocol has a '?': 'cpdomain solve' finds the unknown intensity");
-    }
     int spd = f->modality == CPD_PD_SPEED;
-    double *x = malloc(p->total_s * sizeof *x), *trace = malloc(p->total_s * sizeof *trace);
+    const double *x = in->x;
+    double *trace = malloc(in->n * sizeof *trace);
     cpd_balance_result br;
     cpd_balance_params bp = {bm, m->cp, m->w_prime};
-    if (!x || !trace)
-        rc = CPD_ENOMEM;
-    else if (!(rc = cpd_protocol_expand(p, m->cp, 0, x, p->total_s)))
-        rc = cpd_balance_run(&bp, x, p->total_s, trace, &br);
+    int rc = trace ? cpd_balance_run(&bp, x, in->n, trace, &br) : CPD_ENOMEM;
     if (rc) {
-        int ex = cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
-        free(x);
         free(trace);
-        cpd_protocol_free(p);
-        return ex;
+        return cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
     }
-    /* the same protocol with CP at the ends of its interval (W' moving with it) */
+    /* the same intensities with CP at the ends of its interval (W' moving with it) */
     int has_unc[2] = {0, 0};
     cpd_balance_result bu[2];
     for (int side = 0; side < 2; side++) {
         cpd_balance_params bq = bp;
-        if (!param_pair(m, side ? 1 : -1, &bq.cp, &bq.w_prime) || !x || !trace)
-            continue;
-        double *xq = malloc(p->total_s * sizeof *xq);
-        if (xq && cpd_protocol_expand(p, bq.cp, 0, xq, p->total_s) == CPD_OK &&
-            cpd_balance_run(&bq, xq, p->total_s, NULL, &bu[side]) == CPD_OK)
+        if (param_pair(m, side ? 1 : -1, &bq.cp, &bq.w_prime) && cpd_balance_run(&bq, x, in->n, NULL, &bu[side]) == CPD_OK)
             has_unc[side] = 1;
-        free(xq);
     }
-    if (trace_path && (rc = write_trace(c, trace_path, x, trace, p->total_s, spd))) {
-        free(x);
+    if (in->trace_path && (rc = write_trace(c, in->trace_path, x, trace, in->n, spd))) {
         free(trace);
-        cpd_protocol_free(p);
         return rc;
     }
     const char *u = spd ? "m" : "j";
@@ -112,7 +89,9 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
         cj_str(d, "balance_model", cpd_balance_model_name(bm));
         cj_num(d, cli_pd_key(f->modality, "cp", k, sizeof k), m->cp);
         cj_num(d, cli_pd_key(f->modality, "w_prime", k, sizeof k), m->w_prime);
-        cj_int(d, "duration_s", (long long)p->total_s);
+        cj_int(d, "duration_s", (long long)in->n);
+        if (in->json_extra)
+            in->json_extra(d, in->ud);
         snprintf(k, sizeof k, "min_balance_%s", u);
         cj_num(d, k, br.min_balance);
         cj_int(d, "min_balance_at_s", (long long)br.min_at_s);
@@ -124,10 +103,10 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
             cj_null(d, "failure_at_s");
         if (bm == CPD_BALANCE_INTEGRAL && br.has_dcp)
             cj_num(d, "tau_s", br.tau_s);
-        cj_str(d, "discretisation", "1-s steps, each second at the protocol's intensity; balance at the end of each second");
+        cj_str(d, "discretisation", in->discretisation);
         cli_json *un = cj_add_obj(d, "uncertainty");
-        cj_str(un, "method", "the protocol again with CP at each end of its 95 % interval and W' moved with it along "
-                             "their covariance");
+        cj_str(un, "method", "the same intensities with CP at each end of its 95 % interval and W' moved with it "
+                             "along their covariance");
         for (int side = 0; side < 2; side++) {
             if (!has_unc[side]) {
                 cj_null(un, side ? "cp_high" : "cp_low");
@@ -143,8 +122,8 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
             else
                 cj_null(u1, "failure_at_s");
         }
-        if (trace_path)
-            cj_str(d, "trace_file", trace_path);
+        if (in->trace_path)
+            cj_str(d, "trace_file", in->trace_path);
         cj_str(d, "caution", CLI_CAUTION);
         rc = cj_print(d);
     } else {
@@ -154,30 +133,41 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
         printf("%s %s: %s balance (%s model, %s = %.*f %s, %s = %.*f %s)\n", f->athlete.code, f->athlete.name,
                spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", spd ? 2 : 1, m->cp, cli_pd_unit(f->modality),
                spd ? "D'" : "W'", spd ? 0 : 2, m->w_prime * sc, un);
-        cpd_format_duration((double)p->total_s, a, sizeof a);
-        printf("protocol of %s in %zu segments\n\n", a, p->n);
-        static const char *const head[] = {"segment", "ends at", "intensity", "balance at end", "lowest in segment"};
+        printf("%s\n\n", in->heading);
+        char lowest[48];
+        snprintf(lowest, sizeof lowest, "lowest in %s", in->part_word);
+        const char *head[] = {in->part_word, "ends at", "intensity", "balance at end", lowest};
         cli_table *t = cli_table_new(5, head, "rrrrr");
-        size_t s0 = 0;
-        for (size_t i = 0; i < p->n && i < 200; i++) {
-            size_t s1 = s0 + p->seg[i].duration_s;
+        for (size_t i = 0; i < in->nparts && i < 200; i++) {
+            const cli_balance_part *g = &in->parts[i];
+            size_t s0 = g->start_s, s1 = g->start_s + g->length_s;
             double lo = trace[s0];
             for (size_t q = s0; q < s1; q++)
                 lo = trace[q] < lo ? trace[q] : lo;
-            char idx[16], end[32], in[48], be[32], lw[32], num[32];
-            snprintf(idx, sizeof idx, "%zu", i + 1);
+            char idx[32], end[32], iv[48], be[32], lw[32], num[32];
+            snprintf(idx, sizeof idx, "%s", g->label ? g->label : "");
+            if (!g->label)
+                snprintf(idx, sizeof idx, "%zu", i + 1);
             cpd_format_duration((double)s1, end, sizeof end);
-            snprintf(in, sizeof in, "%s %s", cli_num(num, sizeof num, x[s0], spd ? 2 : 0), cli_pd_unit(f->modality));
+            snprintf(iv, sizeof iv, "%s %s", cli_num(num, sizeof num, g->intensity, spd ? 2 : 0), cli_pd_unit(f->modality));
             snprintf(be, sizeof be, "%s %s", cli_num(num, sizeof num, trace[s1 - 1] * sc, spd ? 0 : 2), un);
             snprintf(lw, sizeof lw, "%s %s", cli_num(num, sizeof num, lo * sc, spd ? 0 : 2), un);
-            const char *row[] = {idx, end, in, be, lw};
+            const char *row[] = {idx, end, iv, be, lw};
             cli_table_row(t, row);
-            s0 = s1;
         }
         cli_table_print(t);
+        if (in->nparts > 200)
+            printf("(the first 200 of %zu rows)\n", in->nparts);
         cpd_format_duration((double)br.min_at_s, a, sizeof a);
-        printf("\nlowest balance %.*f %s at %s; end balance %.*f %s (%.0f %% of %s)\n", spd ? 0 : 2, br.min_balance * sc, un, a,
-               spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime, spd ? "D'" : "W'");
+        if (in->show_min_pct)
+            printf("\nlowest balance %.*f %s (%.0f %% of %s) at %s (second %zu); end balance %.*f %s (%.0f %% of %s)\n",
+                   spd ? 0 : 2, br.min_balance * sc, un, 100 * br.min_balance / m->w_prime, spd ? "D'" : "W'", a,
+                   br.min_at_s, spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime,
+                   spd ? "D'" : "W'");
+        else
+            printf("\nlowest balance %.*f %s at %s; end balance %.*f %s (%.0f %% of %s)\n", spd ? 0 : 2,
+                   br.min_balance * sc, un, a, spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime,
+                   spd ? "D'" : "W'");
         if (br.failed) {
             cpd_format_duration((double)br.failure_at_s, b, sizeof b);
             printf("predicted task failure at %s (second %zu)\n", b, br.failure_at_s);
@@ -197,12 +187,55 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
             printf("\n");
         } else
             printf("no interval: the fit has no standard errors (fewer than 3 trials)\n");
-        if (trace_path)
-            printf("trace written to %s\n", trace_path);
+        if (in->trace_path)
+            printf("trace written to %s\n", in->trace_path);
         printf("\n%s\n", CLI_CAUTION);
     }
-    free(x);
     free(trace);
+    return rc;
+}
+
+int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
+                         const char *balance_model, const char *trace_path)
+{
+    cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
+    if (balance_model && cpd_balance_model_parse(balance_model, &bm))
+        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or elite", balance_model);
+    cpd_protocol *p = NULL;
+    int rc = load_protocol(c, f, text, &p);
+    if (rc)
+        return rc;
+    if (p->has_unknown) {
+        cpd_protocol_free(p);
+        return cli_usage("predict", "--protocol has a '?': 'cpdomain solve' finds the unknown intensity");
+    }
+    double *x = malloc(p->total_s * sizeof *x);
+    cli_balance_part *parts = malloc((p->n ? p->n : 1) * sizeof *parts);
+    if (!x || !parts)
+        rc = CPD_ENOMEM;
+    else
+        rc = cpd_protocol_expand(p, m->cp, 0, x, p->total_s);
+    if (rc) {
+        int ex = cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
+        free(x);
+        free(parts);
+        cpd_protocol_free(p);
+        return ex;
+    }
+    size_t s0 = 0;
+    for (size_t i = 0; i < p->n; i++) {
+        parts[i] = (cli_balance_part){s0, p->seg[i].duration_s, x[s0], NULL};
+        s0 += p->seg[i].duration_s;
+    }
+    char heading[96], a[32];
+    cpd_format_duration((double)p->total_s, a, sizeof a);
+    snprintf(heading, sizeof heading, "protocol of %s in %zu segments", a, p->n);
+    cli_balance_input in = {x, p->total_s, parts, p->n, heading, "segment",
+                            "1-s steps, each second at the protocol's intensity; balance at the end of each second",
+                            0, NULL, NULL, trace_path};
+    rc = cli_balance_report(c, f, m, bm, &in);
+    free(x);
+    free(parts);
     cpd_protocol_free(p);
     return rc;
 }
@@ -431,11 +464,10 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
                sol.end_balance * (spd ? 1 : 1e-3), spd ? "m" : "kJ", spd ? "D'" : "W'", pct, cpd_pd_model_name(which),
                cpd_balance_model_name(bm));
         if (has_range[0] && has_range[1]) {
-            char r0[48], r1[48], n0[32], n1[32];
-            snprintf(r0, sizeof r0, "%s", cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1));
-            snprintf(r1, sizeof r1, "%s", cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1));
-            printf("with CP at the ends of its 95 %% interval (W' moving with it) the answer is %s to %s %s\n", r0, r1,
-                   cli_pd_unit(f.modality));
+            char n0[32], n1[32];
+            printf("with CP at the ends of its 95 %% interval (W' moving with it) the answer is %s to %s %s\n",
+                   cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1),
+                   cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1), cli_pd_unit(f.modality));
         }
         char check[1024];
         subst_unknown(o.protocol, p->unknown_unit, sol.intensity, m->cp, check, sizeof check);

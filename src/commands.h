@@ -18,5 +18,8 @@ int cmd_export(cli_ctx *c, int argc, char **argv);
 int cmd_import(cli_ctx *c, int argc, char **argv);
 int cmd_bout(cli_ctx *c, int argc, char **argv);
 int cmd_sheet(cli_ctx *c, int argc, char **argv);
+int cmd_session(cli_ctx *c, int argc, char **argv);
+int cmd_allout(cli_ctx *c, int argc, char **argv);
+int cmd_curve(cli_ctx *c, int argc, char **argv);
 
 #endif

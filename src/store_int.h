@@ -44,4 +44,9 @@ int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sql
 /* The id of the athlete with this code, or CPD_ENOENT. */
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
 
+/* Samples as IEEE-754 binary64 in little-endian order whatever the host's order: n values to or
+ * from 8n bytes (store_session.c; store_gx.c keeps its own static copy). */
+void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out);
+void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v);
+
 #endif

@@ -370,9 +370,9 @@ static void restore_checks_its_input(void **state)
     assert_true(bt == SIZE_MAX && br == SIZE_MAX);
     d->schema_version++;
     free(d->table[1].name);
-    d->table[1].name = strdup("session");
+    d->table[1].name = strdup("team_roster");
     assert_int_equal(cpd_store_restore(f->s[1], d, &bt, &br), CPD_EUSAGE);
-    assert_non_null(strstr(cpd_store_errmsg(f->s[1]), "the store has no table 'session'"));
+    assert_non_null(strstr(cpd_store_errmsg(f->s[1]), "the store has no table 'team_roster'"));
     free(d->table[1].name);
     d->table[1].name = strdup("athlete");
     assert_int_equal(cpd_store_restore(f->s[1], d, &bt, &br), CPD_EUSAGE);

@@ -48,4 +48,57 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
  * cpd_import_trials. */
 int cpd_import_lactate(const char *path, const char *map, cpd_lactate_test *t, char *msg);
 
+/* ---- recorded sessions and 3-minute all-out tests ---- */
+#include "cpdomain/session.h"
+
+typedef struct {
+    const char *map;    /* --map text ("NAME=HEADER,..."), or NULL */
+    int want_speed;     /* 0: read power_w, 1: read speed_m_s, -1: whichever the file has */
+    int prefer_speed;   /* want_speed -1 and the file has both: 1 reads speed_m_s, 0 power_w */
+    double spike_limit; /* W or m/s: values above it are spikes; 0: session.h's default for the modality */
+    int curve;          /* 1: compute the mean-maximal curve */
+} cpd_session_import_opts;
+
+/* A session file read, checked and cleaned. The arrays point into the workspace that produced
+ * it and are valid until its next use or cpd_import_session_free. */
+typedef struct {
+    cpd_session_samples samples; /* the file's values as read (time_s, value, optional channels) */
+    int speed;                   /* 1: value is speed_m_s, 0: power_w */
+    uint64_t hash;               /* FNV-1a of the file's bytes */
+    cpd_session clean;           /* cleaning report and 1-Hz segments (session.h) */
+    cpd_mmp_curve curve;         /* the mean-maximal curve; n = 0 unless opts->curve */
+    double mean_value;           /* W or m/s: mean of the clean seconds (zeros count, spikes do not) */
+    double max_value;            /* W or m/s: highest clean second */
+} cpd_session_import;
+
+typedef struct cpd_session_import_ws cpd_session_import_ws;
+
+/* A workspace for reading session files one after another; it grows to the longest file met and
+ * is then reused without allocating. NULL when out of memory; free with cpd_import_session_free
+ * (NULL accepted). */
+cpd_session_import_ws *cpd_import_session_alloc(void);
+void cpd_import_session_free(cpd_session_import_ws *w);
+
+/* Reads a session or all-out CSV (SPEC.md: time_s and power_w or speed_m_s; optional hr_bpm,
+ * cadence_rpm, distance_m), checks every value (times in s or h:mm:ss that never run backwards;
+ * values numbers >= 0; hr_bpm 0-250, cadence_rpm 0-300, distance_m 0-1e7: 0 means no signal),
+ * cleans it by the rules of session.h (spikes are dropped and counted, not errors) and, with
+ * opts->curve, computes its mean-maximal curve (mmp.h). Returns CPD_OK; CPD_EIO (unreadable,
+ * exit 66); CPD_EDATA with msg "file:line:column: what is wrong" for any bad row, an empty or
+ * one-sample file, a file longer than 7 days or one with nothing left but spikes; CPD_EUSAGE for
+ * a bad map; CPD_ENOMEM. */
+int cpd_import_session(cpd_session_import_ws *w, const char *path, const cpd_session_import_opts *opts,
+                       cpd_session_import *out, char *msg);
+
+/* Fills the cleaning report, modality, hash, sample count and mean/max of r from a read file
+ * (the caller sets athlete, date, allout, note and source_file). */
+void cpd_import_session_rec(const cpd_session_import *in, cpd_session_rec *r);
+
+/* The FNV-1a hash (cpd_session_hash) of the bytes of the file at path. CPD_OK or CPD_EIO with msg. */
+int cpd_import_file_hash(const char *path, uint64_t *hash, char *msg);
+
+/* The first valid YYYY-MM-DD (not touching other digits) in the file-name part of path, into
+ * date (11 bytes). CPD_OK, or CPD_ENODATA when the name holds none. */
+int cpd_import_date_from_name(const char *path, char *date);
+
 #endif

@@ -184,4 +184,66 @@ int cpd_store_lactate_get(cpd_store *s, int64_t id, cpd_lactate_test *t);
 /* The athlete's lactate tests, oldest first, with their stages. The caller frees *out. */
 int cpd_store_lactate_list(cpd_store *s, const char *code, cpd_lactate_test **out, size_t *n);
 
+/* ---- recorded sessions and 3-minute all-out tests (db/004_sessions.sql) ---- */
+#include "cpdomain/mmp.h"
+
+typedef struct {
+    int64_t id;                          /* store id */
+    char athlete[CPD_CODE_MAX + 1];      /* athlete code */
+    int allout;                          /* 1: a 3-minute all-out test, 0: a session */
+    char date[11];                       /* YYYY-MM-DD */
+    int speed;                           /* 1: values in m/s, 0: W */
+    uint64_t hash;                       /* FNV-1a of the file's bytes (cpd_session_hash) */
+    size_t n_samples;                    /* rows of the file */
+    double spike_limit;                  /* W or m/s: samples above it are spikes */
+    double test_start_s;                 /* allout: s after the first sample where the test began */
+    double elapsed_s;                    /* s: last sample time minus first */
+    size_t recorded_s, missing_s, longest_s; /* s: the cleaning report of session.h */
+    size_t n_segments, n_dropouts, dropout_s, filled_s, n_splits, n_spikes; /* counts and s */
+    double spike_max;                    /* W or m/s; 0 without spikes */
+    double mean_value, max_value;        /* W or m/s over the recorded seconds */
+    int has_allout;                      /* 1 when end_value and work_above_end are set */
+    double end_value;                    /* allout: end power, W */
+    double work_above_end;               /* allout: work above end power, J */
+    char note[CPD_NOTE_MAX + 1];
+    char source_file[CPD_PATH_MAX + 1];
+    char imported_at[21];                /* "" lets the store set it */
+} cpd_session_rec;
+
+/* A session's samples as read from its file. */
+typedef struct {
+    size_t n;                                 /* samples */
+    double *time_s;                           /* s, n values */
+    double *value;                            /* W or m/s, n values */
+    double *hr_bpm, *cadence_rpm, *distance_m; /* n values each, or NULL when the file had none */
+} cpd_session_samples;
+
+/* Stores a session or all-out test r with its samples (one BLOB per channel) and, when curve is
+ * not NULL and has points, its mean-maximal curve, atomically; *id receives the id. CPD_ENOENT
+ * for an unknown athlete; CPD_EEXIST when the same file (r->hash) is stored for the athlete. */
+int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_session_samples *x,
+                          const cpd_mmp_curve *curve, int64_t *id);
+/* The id of the athlete's session (allout = 0) or all-out test (1) whose file hashed to hash, or
+ * 0 in *id when there is none. code NULL: any athlete's, the code in found_code (may be NULL). */
+int cpd_store_session_find(cpd_store *s, const char *code, int allout, uint64_t hash, int64_t *id,
+                           char *found_code);
+/* Reads session (allout = 0) or all-out test (1) id; with x != NULL also its samples (the caller
+ * frees *x with cpd_store_samples_free). CPD_ENOENT when there is no such record. */
+int cpd_store_session_get(cpd_store *s, int64_t id, int allout, cpd_session_rec *r, cpd_session_samples **x);
+void cpd_store_samples_free(cpd_session_samples *x);
+/* The athlete's sessions or all-out tests, oldest first (code NULL: everyone's). The caller frees *out. */
+int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_session_rec **out, size_t *n);
+/* The stored curve of session id into *c, whose arrays live in *buf (the caller frees it);
+ * c->n is 0 when the session has no curve. CPD_ESTORE for a damaged curve. */
+int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curve *c);
+/* The season curve of the athlete's sessions of one modality (speed 0 or 1) dated within
+ * [from, to] (either NULL: open): season is reset, then every stored curve is added with
+ * cpd_mmp_season_add in date order (then id), so among equal values the earliest session keeps
+ * the point. Reads one curve at a time. *n_sessions receives the number combined. CPD_ENOENT for
+ * an unknown athlete; CPD_ESTORE for a damaged curve. */
+int cpd_store_session_season(cpd_store *s, const char *code, int speed, const char *from, const char *to,
+                             cpd_mmp_season *season, size_t *n_sessions);
+/* Removes a session or all-out test with its samples and curve. CPD_ENOENT when absent. */
+int cpd_store_session_remove(cpd_store *s, int64_t id, int allout);
+
 #endif

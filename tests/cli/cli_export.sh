@@ -120,8 +120,8 @@ edit "$TMP/nocol.json" 't = d["tables"]["trial"]; j = t["columns"].index("note")
 bad "$TMP/nocol.json" 65 "tables.trial.columns: missing column 'note'" "a missing column"
 edit "$TMP/str.json" 'd["tables"]["trial"]["rows"][3][5] = "7:05"'
 bad "$TMP/str.json" 65 "tables.trial.rows[3][5]: expected a number (column 'duration_s', REAL), got a string" "a string where a number belongs"
-edit "$TMP/table.json" 'd["tables"]["session"] = {"columns": [], "rows": []}'
-bad "$TMP/table.json" 65 "tables.session: unknown table" "an unknown table"
+edit "$TMP/table.json" 'd["tables"]["team_roster"] = {"columns": [], "rows": []}'
+bad "$TMP/table.json" 65 "tables.team_roster: unknown table" "an unknown table"
 edit "$TMP/b64.json" 'd["tables"]["gx_channel"]["rows"][1][2]["base64"] = "AA*A"'
 bad "$TMP/b64.json" 65 "tables.gx_channel.rows[1][2].base64: not base64 (character 3, '*')" "bad base64"
 edit "$TMP/check.json" 'd["tables"]["athlete"]["rows"][1][3] = "hockey"'

@@ -1,0 +1,512 @@
+/* store_session.c: recorded sessions and 3-minute all-out tests: the file's samples as one BLOB
+ * per channel, the cleaning report as columns, and each session's mean-maximal curve as BLOBs. */
+#include "cpdomain/units.h"
+#include "store_int.h"
+
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+static int host_is_le(void)
+{
+    const unsigned one = 1;
+    return *(const unsigned char *)&one == 1;
+}
+
+void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out)
+{
+    if (host_is_le()) {
+        memcpy(out, v, 8 * n);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        unsigned char b[8];
+        memcpy(b, &v[i], 8);
+        for (int k = 0; k < 8; k++)
+            out[8 * i + (size_t)k] = b[7 - k];
+    }
+}
+
+void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v)
+{
+    if (host_is_le()) {
+        memcpy(v, in, 8 * n);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        unsigned char b[8];
+        for (int k = 0; k < 8; k++)
+            b[k] = in[8 * i + 7 - (size_t)k];
+        memcpy(&v[i], b, 8);
+    }
+}
+
+static const char *kind_sql(int allout)
+{
+    return allout ? "allout" : "session";
+}
+
+static void hash_text(uint64_t h, char buf[17])
+{
+    snprintf(buf, 17, "%016llx", (unsigned long long)h);
+}
+
+/* The channels of a session's samples, in storage order; the value channel is named by modality. */
+#define NCHAN 5
+
+static const char *channel_name(size_t k, int speed)
+{
+    static const char *const names[NCHAN] = {"time_s", "power_w", "hr_bpm", "cadence_rpm", "distance_m"};
+    return k == 1 && speed ? "speed_m_s" : names[k];
+}
+
+static const double *channel_data(const cpd_session_samples *x, size_t k)
+{
+    const double *const v[NCHAN] = {x->time_s, x->value, x->hr_bpm, x->cadence_rpm, x->distance_m};
+    return v[k];
+}
+
+static double **channel_slot(cpd_session_samples *x, size_t k)
+{
+    double **const v[NCHAN] = {&x->time_s, &x->value, &x->hr_bpm, &x->cadence_rpm, &x->distance_m};
+    return v[k];
+}
+
+static int put_blob(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
+                    unsigned char *buf)
+{
+    cpd_st_encode_f64(v, n, buf);
+    sqlite3_reset(st);
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, name, -1, SQLITE_STATIC);
+    sqlite3_bind_blob(st, 3, buf, (int)(8 * n), SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        return cpd_st_fail(s, "storing session samples");
+    return CPD_OK;
+}
+
+static void bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
+{
+    if (valid)
+        sqlite3_bind_double(st, idx, v);
+    else
+        sqlite3_bind_null(st, idx);
+}
+
+int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_session_samples *x,
+                          const cpd_mmp_curve *curve, int64_t *id)
+{
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, r->athlete, &aid);
+    if (rc)
+        return rc;
+    /* 50 million samples is 400 MB per channel: far beyond the 7-day limit of session.h at 1 Hz */
+    if (x->n < 2 || x->n > 50000000 || !x->time_s || !x->value)
+        return cpd_st_err(s, CPD_EUSAGE, "a session needs between 2 and 50 million samples");
+    if (curve && curve->n > CPD_MMP_NMAX)
+        return cpd_st_err(s, CPD_EUSAGE, "a curve has at most %zu points", (size_t)CPD_MMP_NMAX);
+    int64_t dup = 0;
+    if ((rc = cpd_store_session_find(s, r->athlete, r->allout, r->hash, &dup, NULL)))
+        return rc;
+    if (dup)
+        return cpd_st_err(s, CPD_EEXIST, "the same file is stored as %s %lld", r->allout ? "all-out test" : "session",
+                          (long long)dup);
+    unsigned char *buf = malloc(8 * x->n);
+    if (!buf)
+        return CPD_ENOMEM;
+    sqlite3_stmt *st = NULL;
+    if ((rc = cpd_st_savepoint(s))) {
+        free(buf);
+        return rc;
+    }
+    rc = cpd_st_prepare(s,
+                        "INSERT INTO session (athlete_id, kind, date, modality, content_hash, n_samples, spike_limit, "
+                        "test_start_s, elapsed_s, recorded_s, missing_s, longest_s, n_segments, n_dropouts, dropout_s, "
+                        "filled_s, n_splits, n_spikes, spike_max, mean_value, max_value, end_value, work_above_end, "
+                        "note, source_file, imported_at) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, "
+                        "?13, ?14, ?15, ?16, ?17, ?18, ?19, ?20, ?21, ?22, ?23, ?24, ?25, "
+                        "COALESCE(?26, strftime('%Y-%m-%dT%H:%M:%SZ', 'now')))",
+                        &st);
+    if (rc)
+        goto done;
+    char h[17];
+    hash_text(r->hash, h);
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, kind_sql(r->allout), -1, SQLITE_STATIC);
+    sqlite3_bind_text(st, 3, r->date, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(st, 4, r->speed ? "speed" : "power", -1, SQLITE_STATIC);
+    sqlite3_bind_text(st, 5, h, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_int64(st, 6, (sqlite3_int64)x->n);
+    sqlite3_bind_double(st, 7, r->spike_limit);
+    sqlite3_bind_double(st, 8, r->test_start_s);
+    sqlite3_bind_double(st, 9, r->elapsed_s);
+    const size_t counts[] = {r->recorded_s, r->missing_s, r->longest_s, r->n_segments, r->n_dropouts,
+                             r->dropout_s,  r->filled_s,  r->n_splits,  r->n_spikes};
+    for (int k = 0; k < 9; k++)
+        sqlite3_bind_int64(st, 10 + k, (sqlite3_int64)counts[k]);
+    sqlite3_bind_double(st, 19, r->spike_max);
+    sqlite3_bind_double(st, 20, r->mean_value);
+    sqlite3_bind_double(st, 21, r->max_value);
+    bind_opt(st, 22, r->has_allout, r->end_value);
+    bind_opt(st, 23, r->has_allout, r->work_above_end);
+    sqlite3_bind_text(st, 24, r->note, -1, SQLITE_TRANSIENT);
+    cpd_st_bind_text(st, 25, r->source_file, 1);
+    cpd_st_bind_text(st, 26, r->imported_at, 1);
+    if (sqlite3_step(st) != SQLITE_DONE) {
+        rc = cpd_st_fail(s, "storing a session");
+        goto done;
+    }
+    *id = sqlite3_last_insert_rowid(s->db);
+    sqlite3_finalize(st);
+    st = NULL;
+    if ((rc = cpd_st_prepare(s, "INSERT INTO session_channel (session_id, channel, data) VALUES (?1, ?2, ?3)", &st)))
+        goto done;
+    for (size_t k = 0; k < NCHAN; k++)
+        if (channel_data(x, k) && (rc = put_blob(s, st, *id, channel_name(k, r->speed), channel_data(x, k), x->n, buf)))
+            goto done;
+    sqlite3_finalize(st);
+    st = NULL;
+    if (!curve || curve->n == 0)
+        goto done;
+    if ((rc = cpd_st_prepare(s,
+                             "INSERT INTO session_curve (session_id, n_points, fine_s, step_s, value, start_s) "
+                             "VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+                             &st)))
+        goto done;
+    unsigned char *vb = malloc(16 * curve->n);
+    if (!vb) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    cpd_st_encode_f64(curve->value, curve->n, vb);
+    cpd_st_encode_f64(curve->start_s, curve->n, vb + 8 * curve->n);
+    sqlite3_bind_int64(st, 1, *id);
+    sqlite3_bind_int64(st, 2, (sqlite3_int64)curve->n);
+    sqlite3_bind_int(st, 3, CPD_MMP_FINE_S);
+    sqlite3_bind_int(st, 4, CPD_MMP_COARSE_STEP_S);
+    sqlite3_bind_blob(st, 5, vb, (int)(8 * curve->n), SQLITE_STATIC);
+    sqlite3_bind_blob(st, 6, vb + 8 * curve->n, (int)(8 * curve->n), SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "storing a session's curve");
+    free(vb);
+done:
+    sqlite3_finalize(st);
+    free(buf);
+    return cpd_st_release(s, rc);
+}
+
+int cpd_store_session_find(cpd_store *s, const char *code, int allout, uint64_t hash, int64_t *id, char *found_code)
+{
+    *id = 0;
+    if (found_code)
+        found_code[0] = '\0';
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT s.id, a.code FROM session s JOIN athlete a ON a.id = s.athlete_id "
+                            "WHERE s.content_hash = ?1 AND s.kind = ?2 AND (?3 IS NULL OR a.code = ?3) "
+                            "ORDER BY s.id LIMIT 1",
+                            &st);
+    if (rc)
+        return rc;
+    char h[17];
+    hash_text(hash, h);
+    sqlite3_bind_text(st, 1, h, -1, SQLITE_TRANSIENT);
+    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    cpd_st_bind_text(st, 3, code, 0);
+    int r = sqlite3_step(st);
+    if (r == SQLITE_ROW) {
+        *id = sqlite3_column_int64(st, 0);
+        if (found_code)
+            cpd_st_text(st, 1, found_code, CPD_CODE_MAX + 1);
+    } else if (r != SQLITE_DONE)
+        rc = cpd_st_fail(s, "looking for a stored file");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+#define SESSION_COLS                                                                                             \
+    "s.id, a.code, s.kind, s.date, s.modality, s.content_hash, s.n_samples, s.spike_limit, s.test_start_s, "    \
+    "s.elapsed_s, s.recorded_s, s.missing_s, s.longest_s, s.n_segments, s.n_dropouts, s.dropout_s, s.filled_s, " \
+    "s.n_splits, s.n_spikes, s.spike_max, s.mean_value, s.max_value, s.end_value, s.work_above_end, s.note, "    \
+    "s.source_file, s.imported_at"
+
+static void read_rec(sqlite3_stmt *st, cpd_session_rec *r)
+{
+    memset(r, 0, sizeof *r);
+    r->id = sqlite3_column_int64(st, 0);
+    cpd_st_text(st, 1, r->athlete, sizeof r->athlete);
+    const unsigned char *k = sqlite3_column_text(st, 2);
+    r->allout = k && strcmp((const char *)k, "allout") == 0;
+    cpd_st_text(st, 3, r->date, sizeof r->date);
+    const unsigned char *m = sqlite3_column_text(st, 4);
+    r->speed = m && strcmp((const char *)m, "speed") == 0;
+    const unsigned char *h = sqlite3_column_text(st, 5);
+    r->hash = h ? strtoull((const char *)h, NULL, 16) : 0;
+    r->n_samples = (size_t)sqlite3_column_int64(st, 6);
+    r->spike_limit = sqlite3_column_double(st, 7);
+    r->test_start_s = sqlite3_column_double(st, 8);
+    r->elapsed_s = sqlite3_column_double(st, 9);
+    size_t *counts[] = {&r->recorded_s, &r->missing_s, &r->longest_s, &r->n_segments, &r->n_dropouts,
+                        &r->dropout_s,  &r->filled_s,  &r->n_splits,  &r->n_spikes};
+    for (int c = 0; c < 9; c++)
+        *counts[c] = (size_t)sqlite3_column_int64(st, 10 + c);
+    r->spike_max = sqlite3_column_double(st, 19);
+    r->mean_value = sqlite3_column_double(st, 20);
+    r->max_value = sqlite3_column_double(st, 21);
+    r->has_allout = sqlite3_column_type(st, 22) != SQLITE_NULL;
+    r->end_value = r->has_allout ? sqlite3_column_double(st, 22) : 0;
+    r->work_above_end = r->has_allout ? sqlite3_column_double(st, 23) : 0;
+    cpd_st_text(st, 24, r->note, sizeof r->note);
+    cpd_st_text(st, 25, r->source_file, sizeof r->source_file);
+    cpd_st_text(st, 26, r->imported_at, sizeof r->imported_at);
+}
+
+void cpd_store_samples_free(cpd_session_samples *x)
+{
+    if (!x)
+        return;
+    free(x->time_s);
+    free(x->value);
+    free(x->hr_bpm);
+    free(x->cadence_rpm);
+    free(x->distance_m);
+    free(x);
+}
+
+static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samples **out)
+{
+    *out = NULL;
+    cpd_session_samples *x = calloc(1, sizeof *x);
+    if (!x)
+        return CPD_ENOMEM;
+    x->n = r->n_samples;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT channel, data FROM session_channel WHERE session_id = ?1", &st);
+    if (rc)
+        goto done;
+    sqlite3_bind_int64(st, 1, r->id);
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
+        const char *name = (const char *)sqlite3_column_text(st, 0);
+        const void *blob = sqlite3_column_blob(st, 1);
+        size_t bytes = (size_t)sqlite3_column_bytes(st, 1);
+        for (size_t k = 0; name && k < NCHAN; k++) {
+            if (strcmp(name, channel_name(k, r->speed)) != 0)
+                continue;
+            if (bytes != 8 * x->n || *channel_slot(x, k)) {
+                rc = cpd_st_err(s, CPD_ESTORE, "session %lld: channel %s has %zu bytes, expected %zu",
+                                (long long)r->id, name, bytes, 8 * x->n);
+                goto done;
+            }
+            double *d = malloc(bytes);
+            if (!d) {
+                rc = CPD_ENOMEM;
+                goto done;
+            }
+            cpd_st_decode_f64(blob, x->n, d);
+            *channel_slot(x, k) = d;
+        }
+    }
+    if (q != SQLITE_DONE) {
+        rc = cpd_st_fail(s, "reading session samples");
+        goto done;
+    }
+    if (!x->time_s || !x->value)
+        rc = cpd_st_err(s, CPD_ESTORE, "session %lld has no %s channel", (long long)r->id,
+                        x->time_s ? channel_name(1, r->speed) : "time_s");
+done:
+    sqlite3_finalize(st);
+    if (rc) {
+        cpd_store_samples_free(x);
+        return rc;
+    }
+    *out = x;
+    return CPD_OK;
+}
+
+int cpd_store_session_get(cpd_store *s, int64_t id, int allout, cpd_session_rec *r, cpd_session_samples **x)
+{
+    if (x)
+        *x = NULL;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT " SESSION_COLS " FROM session s JOIN athlete a ON a.id = s.athlete_id "
+                            "WHERE s.id = ?1 AND s.kind = ?2",
+                            &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    int q = sqlite3_step(st);
+    if (q == SQLITE_ROW)
+        read_rec(st, r);
+    else if (q == SQLITE_DONE)
+        rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
+    else
+        rc = cpd_st_fail(s, "reading a session");
+    sqlite3_finalize(st);
+    if (!rc && x)
+        rc = load_samples(s, r, x);
+    return rc;
+}
+
+int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_session_rec **out, size_t *n)
+{
+    *out = NULL;
+    *n = 0;
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT " SESSION_COLS " FROM session s JOIN athlete a ON a.id = s.athlete_id "
+                            "WHERE (?1 IS NULL OR a.code = ?1) AND s.kind = ?2 ORDER BY a.code, s.date, s.id",
+                            &st);
+    if (rc)
+        return rc;
+    cpd_st_bind_text(st, 1, code, 0);
+    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    size_t cap = 0;
+    cpd_session_rec *v = NULL;
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
+        if (*n == cap) {
+            cap = cap ? 2 * cap : 16;
+            cpd_session_rec *nv = realloc(v, cap * sizeof *v);
+            if (!nv) {
+                rc = CPD_ENOMEM;
+                goto done;
+            }
+            v = nv;
+        }
+        read_rec(st, &v[(*n)++]);
+    }
+    if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing sessions");
+done:
+    sqlite3_finalize(st);
+    if (rc) {
+        free(v);
+        *n = 0;
+        return rc;
+    }
+    *out = v;
+    return CPD_OK;
+}
+
+/* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s) and
+ * decodes it into buf (3 × n_points doubles: durations, values, starts). */
+static int decode_curve(cpd_store *s, sqlite3_stmt *st, int col, int64_t id, double *buf, cpd_mmp_curve *c)
+{
+    sqlite3_int64 n = sqlite3_column_int64(st, col);
+    int fine = sqlite3_column_int(st, col + 1), step = sqlite3_column_int(st, col + 2);
+    size_t vb = (size_t)sqlite3_column_bytes(st, col + 3), sb = (size_t)sqlite3_column_bytes(st, col + 4);
+    if (n < 0 || n > (sqlite3_int64)CPD_MMP_NMAX || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
+        vb != 8 * (size_t)n || sb != 8 * (size_t)n)
+        return cpd_st_err(s, CPD_ESTORE, "session %lld: its stored curve is damaged or on another grid "
+                                         "(%lld points, grid %d s/%d s)",
+                          (long long)id, (long long)n, fine, step);
+    size_t m = (size_t)n;
+    for (size_t i = 0; i < m; i++)
+        buf[i] = (double)cpd_mmp_duration_s(i);
+    if (m) {
+        cpd_st_decode_f64(sqlite3_column_blob(st, col + 3), m, buf + m);
+        cpd_st_decode_f64(sqlite3_column_blob(st, col + 4), m, buf + 2 * m);
+    }
+    c->n = m;
+    c->duration_s = buf;
+    c->value = buf + m;
+    c->start_s = buf + 2 * m;
+    return CPD_OK;
+}
+
+int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curve *c)
+{
+    *buf = NULL;
+    memset(c, 0, sizeof *c);
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "SELECT n_points, fine_s, step_s, value, start_s FROM session_curve WHERE session_id = ?1",
+                            &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    int q = sqlite3_step(st);
+    if (q == SQLITE_ROW) {
+        sqlite3_int64 n = sqlite3_column_int64(st, 0);
+        *buf = malloc(3 * sizeof(double) * (n > 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 1));
+        rc = *buf ? decode_curve(s, st, 0, id, *buf, c) : CPD_ENOMEM;
+        if (rc) {
+            free(*buf);
+            *buf = NULL;
+            memset(c, 0, sizeof *c);
+        }
+    } else if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "reading a session's curve");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+int cpd_store_session_season(cpd_store *s, const char *code, int speed, const char *from, const char *to,
+                             cpd_mmp_season *season, size_t *n_sessions)
+{
+    *n_sessions = 0;
+    cpd_mmp_season_reset(season);
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, code, &aid);
+    if (rc)
+        return rc;
+    double *buf = malloc(3 * CPD_MMP_NMAX * sizeof *buf);
+    if (!buf)
+        return CPD_ENOMEM;
+    sqlite3_stmt *st = NULL;
+    rc = cpd_st_prepare(s,
+                        "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s FROM session s "
+                        "JOIN session_curve c ON c.session_id = s.id WHERE s.athlete_id = ?1 AND s.kind = 'session' "
+                        "AND s.modality = ?2 AND (?3 IS NULL OR s.date >= ?3) AND (?4 IS NULL OR s.date <= ?4) "
+                        "ORDER BY s.date, s.id",
+                        &st);
+    if (rc)
+        goto done;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+    cpd_st_bind_text(st, 3, from, 0);
+    cpd_st_bind_text(st, 4, to, 0);
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
+        int64_t id = sqlite3_column_int64(st, 0);
+        const char *date = (const char *)sqlite3_column_text(st, 1);
+        int days = 0;
+        if (!date || cpd_parse_date(date, &days)) {
+            rc = cpd_st_err(s, CPD_ESTORE, "session %lld has no valid date", (long long)id);
+            goto done;
+        }
+        cpd_mmp_curve c;
+        if ((rc = decode_curve(s, st, 2, id, buf, &c)))
+            goto done;
+        if (cpd_mmp_season_add(season, &c, id, days) != CPD_OK) {
+            rc = cpd_st_err(s, CPD_ESTORE, "session %lld: its stored curve holds values that are not finite and >= 0",
+                            (long long)id);
+            goto done;
+        }
+        (*n_sessions)++;
+    }
+    if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "reading session curves");
+done:
+    sqlite3_finalize(st);
+    free(buf);
+    return rc;
+}
+
+int cpd_store_session_remove(cpd_store *s, int64_t id, int allout)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, "DELETE FROM session WHERE id = ?1 AND kind = ?2", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "removing a session");
+    else if (sqlite3_changes(s->db) == 0)
+        rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
+    sqlite3_finalize(st);
+    return rc;
+}
