@@ -84,7 +84,7 @@ typedef struct {
     cpd_sheet_tables tables;
     cpd_sheet_session *session; /* NULL when none could be built */
     char *svg_pd, *svg_balance, *svg_vslope, *svg_kinetics, *svg_trend;
-    char kinetics_text[600], trend_text[600];
+    char kinetics_text[600], trend_text[600], field_text[900];
     char test_what[CPD_SHEET_MAX_TESTS][CPD_DOMAINS_TEXT + 32];
     char test_date[CPD_SHEET_MAX_TESTS][32];
     char ramp_label[200];
@@ -176,6 +176,48 @@ static void add_kinetics(cli_ctx *c, sheet_build *b)
         break;
     }
     free(v);
+}
+
+/* The field estimate beside the lab estimate: the models fitted to the season's mean-maximal
+ * curve of recorded sessions (fit --source curve), when the athlete has sessions. */
+static void add_field(cli_ctx *c, sheet_build *b)
+{
+    cpd_sheet *s = &b->s;
+    if (s->nextra >= CPD_SHEET_MAX_EXTRA)
+        return;
+    cpd_session_rec *v = NULL;
+    size_t n = 0;
+    if (cpd_store_session_list(c->store, s->code, 0, &v, &n) || n == 0) {
+        free(v);
+        return;
+    }
+    free(v);
+    cli_pd_fit g;
+    int quiet = c->quiet;
+    c->quiet = 1;
+    int rc = cli_pd_load_curve_fit(c, s->code, NULL, NULL, NULL, CPD_PD_ALL_MODELS, &g);
+    c->quiet = quiet;
+    if (rc)
+        return;
+    const cpd_pd_result *r = g.res;
+    if (r->has_best) {
+        const cpd_pd_model_fit *m = &r->models[r->best], *lab = &b->d.fit.res->models[b->d.model];
+        int spd = s->modality == CPD_PD_SPEED;
+        char ci[96] = "";
+        if (m->has_se)
+            snprintf(ci, sizeof ci, " (95 %% CI %.*f to %.*f)", spd ? 2 : 0, m->cp_ci95[0], spd ? 2 : 0, m->cp_ci95[1]);
+        snprintf(b->field_text, sizeof b->field_text,
+                 "Field estimate from the best efforts of %zu recorded session points (%s, %s model, sessions %s to %s): "
+                 "%s %.*f %s%s, %s %.*f %s. The lab estimate from the trials: %s %.*f %s, %s %.*f %s. %s",
+                 g.n, CLI_CURVE_DURATIONS, cpd_pd_model_name(r->best), g.trials[0].date, g.trials[g.n - 1].date,
+                 spd ? "CS" : "CP", spd ? 2 : 0, m->cp, spd ? "m/s" : "W", ci, spd ? "D'" : "W'", spd ? 0 : 1,
+                 spd ? m->w_prime : m->w_prime / 1000, spd ? "m" : "kJ", spd ? "CS" : "CP", spd ? 2 : 0, lab->cp,
+                 spd ? "m/s" : "W", spd ? "D'" : "W'", spd ? 0 : 1, spd ? lab->w_prime : lab->w_prime / 1000,
+                 spd ? "m" : "kJ", CLI_FIELD_ESTIMATE);
+        s->extra[s->nextra++] = (cpd_sheet_section){"field_estimate", "Field estimate from recorded sessions", b->field_text,
+                                                    NULL};
+    }
+    cli_pd_fit_free(&g);
 }
 
 /* The season: CP (CS) of every block of trials with its interval, and the verdict on the newest
@@ -307,6 +349,7 @@ static int build_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int st
         s->svg_balance = b->svg_balance;
     add_kinetics(c, b);
     add_trend(c, b);
+    add_field(c, b);
     *out = b;
     return 0;
 }

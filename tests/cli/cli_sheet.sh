@@ -91,6 +91,10 @@ grep -q "VO2 kinetics of the newest bout" "$TMP/s/C01.html" && pass "C01's sheet
 c02svg=$($PY "$CHECK" split "$TMP/s/C02.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 [ "$c02svg" -eq 4 ] && pass "C02's sheet has its four plots (with the season trend)" || fail "C02 has $c02svg plots"
 grep -q "The season" "$TMP/s/C02.html" && grep -q "meaningful" "$TMP/s/C02.html" && pass "C02's sheet shows the season and calls the CP change meaningful" || fail "no season section on C02"
+grep -q "Field estimate from the best efforts" "$TMP/s/C02.html" && grep -q "The lab estimate from the trials" "$TMP/s/C02.html" \
+    && pass "C02's sheet shows the field estimate from sessions beside the lab estimate" || fail "no field estimate on C02"
+grep -q "Field estimate from the best efforts" "$TMP/s/C01.html" && fail "C01 has no sessions but shows a field estimate" \
+    || pass "no field estimate without sessions"
 s01svg=$($PY "$CHECK" split "$TMP/s/S01.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 [ "$s01svg" -eq 2 ] && pass "S01 (no ramp) has two plots" || fail "S01 has $s01svg plots"
 
