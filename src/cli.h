@@ -51,6 +51,11 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
 int cli_number(const char *opt, const char *arg, double *out);
 int cli_duration(const char *opt, const char *arg, double *out);
 int cli_id(const char *opt, const char *arg, long long *out);
+/* A number (or a duration when duration is set) that must lie in [lo, hi] unit. */
+int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out);
+/* Writes len bytes of text to path; a failed write removes a partial regular file (never a device
+ * such as /dev/stdout). Returns 0, or 73 after printing why. */
+int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len);
 
 /* Number formatting for tables: "-" for a non-finite value. */
 const char *cli_num(char *buf, size_t n, double v, int decimals);

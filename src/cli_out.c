@@ -10,6 +10,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <sysexits.h>
 
 int cli_exit_code(int rc)
@@ -149,6 +150,41 @@ int cli_duration(const char *opt, const char *arg, double *out)
         fprintf(stderr, "cpdomain: option %s: '%s' is not a duration (use 390, 390s, 6:30, 6min or 1:02:00)\n", opt,
                 arg);
         return EX_USAGE;
+    }
+    return 0;
+}
+
+int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out)
+{
+    int rc = duration ? cli_duration(opt, arg, out) : cli_number(opt, arg, out);
+    if (rc)
+        return rc;
+    if (!(*out >= lo && *out <= hi)) {
+        fprintf(stderr, "cpdomain: option %s must be between %g and %g %s (got %g)\n", opt, lo, hi, unit, *out);
+        return EX_USAGE;
+    }
+    return 0;
+}
+
+/* Writes text to path. A failed write removes the partial file, if it is a regular file:
+ * -o may name a device or a pipe (/dev/stdout), which must never be unlinked. */
+int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len)
+{
+    FILE *f = fopen(path, "wb");
+    if (!f)
+        return cli_fail(c, CPD_ECREATE, "cannot create '%s': %s", path, strerror(errno));
+    struct stat sb;
+    int regular = fstat(fileno(f), &sb) == 0 && S_ISREG(sb.st_mode);
+    int ok = fwrite(text, 1, len, f) == len;
+    int err = errno;
+    if (fclose(f) != 0 && ok) {
+        ok = 0;
+        err = errno;
+    }
+    if (!ok) {
+        if (regular)
+            remove(path);
+        return cli_fail(c, CPD_ECREATE, "writing '%s' failed: %s", path, strerror(err));
     }
     return 0;
 }

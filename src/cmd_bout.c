@@ -133,19 +133,6 @@ static int parse(int argc, char **argv, const char *help, const char *shortopts,
     return 0;
 }
 
-/* Reads an option value within [lo, hi]; returns 0 or 64 after printing. */
-static int ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out)
-{
-    int rc = duration ? cli_duration(opt, arg, out) : cli_number(opt, arg, out);
-    if (rc)
-        return rc;
-    if (!(*out >= lo && *out <= hi)) {
-        fprintf(stderr, "cpdomain: option %s must be between %g and %g %s (got %g)\n", opt, lo, hi, unit, *out);
-        return EX_USAGE;
-    }
-    return 0;
-}
-
 static const char *unit_of(int speed) { return speed ? "m/s" : "W"; }
 
 /* "150 W" or "3.40 m/s". */
@@ -176,17 +163,17 @@ static int bout_add(cli_ctx *c, int argc, char **argv)
     t.speed = o.speed != NULL;
     const cpd_range *rg = t.speed ? &CPD_RANGE_SPEED : &CPD_RANGE_POWER;
     const char *u = unit_of(t.speed);
-    if ((rc = ranged(t.speed ? "--speed" : "--power", t.speed ? o.speed : o.power, rg->lo, rg->hi, u, 0, &t.intensity)))
+    if ((rc = cli_ranged(t.speed ? "--speed" : "--power", t.speed ? o.speed : o.power, rg->lo, rg->hi, u, 0, &t.intensity)))
         return rc;
     if (o.baseline) {
-        if ((rc = ranged("--baseline", o.baseline, 0, rg->hi, u, 0, &t.baseline)))
+        if ((rc = cli_ranged("--baseline", o.baseline, 0, rg->hi, u, 0, &t.baseline)))
             return rc;
         if (t.baseline >= t.intensity)
             return cli_usage("bout add", "--baseline (%g %s) must be below the bout's %s (%g %s): the bout is the step up from it",
                              t.baseline, u, t.speed ? "speed" : "power", t.intensity, u);
         t.has_baseline = 1;
     }
-    if (o.onset && (rc = ranged("--onset", o.onset, 0, 7200, "s", 1, &t.onset_s)))
+    if (o.onset && (rc = cli_ranged("--onset", o.onset, 0, 7200, "s", 1, &t.onset_s)))
         return rc;
     if (o.note)
         snprintf(t.note, sizeof t.note, "%s", o.note);
@@ -369,21 +356,21 @@ static int analysis_opts(bout_run *r, const bout_opts *o)
     cpd_kinetics_opts_init(k);
     int rc;
     /* phase I must end before the first window end (60 s) and the 3-min primary window */
-    if (o->phase1 && (rc = ranged("--phase1", o->phase1, 0, 50, "s", 1, &k->phase1_s)))
+    if (o->phase1 && (rc = cli_ranged("--phase1", o->phase1, 0, 50, "s", 1, &k->phase1_s)))
         return rc;
-    if (o->fit_end && (rc = ranged("--fit-end", o->fit_end, CPD_KIN_MIN_BOUT_S, 7200, "s", 1, &k->end_s)))
+    if (o->fit_end && (rc = cli_ranged("--fit-end", o->fit_end, CPD_KIN_MIN_BOUT_S, 7200, "s", 1, &k->end_s)))
         return rc;
-    if (o->bin && (rc = ranged("--bin", o->bin, 1, 60, "s", 1, &k->bin_s)))
+    if (o->bin && (rc = cli_ranged("--bin", o->bin, 1, 60, "s", 1, &k->bin_s)))
         return rc;
-    if (o->outlier && (rc = ranged("--outlier-sd", o->outlier, 2, 10, "SD", 0, &k->outlier_sd)))
+    if (o->outlier && (rc = cli_ranged("--outlier-sd", o->outlier, 2, 10, "SD", 0, &k->outlier_sd)))
         return rc;
-    if (o->base_window && (rc = ranged("--baseline-window", o->base_window, 20, 600, "s", 1, &k->baseline_s)))
+    if (o->base_window && (rc = cli_ranged("--baseline-window", o->base_window, 20, 600, "s", 1, &k->baseline_s)))
         return rc;
     if (o->base_vo2 &&
-        (rc = ranged("--baseline-vo2", o->base_vo2, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &k->baseline_ml_min)))
+        (rc = cli_ranged("--baseline-vo2", o->base_vo2, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &k->baseline_ml_min)))
         return rc;
     if (o->vo2peak &&
-        (rc = ranged("--vo2peak", o->vo2peak, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &k->vo2peak_ml_min)))
+        (rc = cli_ranged("--vo2peak", o->vo2peak, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &k->vo2peak_ml_min)))
         return rc;
     if (o->primary) {
         if (strcmp(o->primary, "auto") == 0)
@@ -1026,17 +1013,6 @@ int cli_bout_analyse(cli_ctx *c, const char *ids, cpd_kinetics_result *res)
     return rc;
 }
 
-static int write_text(cli_ctx *c, const char *path, const char *text)
-{
-    FILE *f = fopen(path, "w");
-    if (!f)
-        return cli_fail(c, CPD_ECREATE, "cannot create '%s'", path);
-    int ok = fputs(text, f) >= 0;
-    if (fclose(f) != 0 || !ok)
-        return cli_fail(c, CPD_ECREATE, "writing '%s' failed", path);
-    return 0;
-}
-
 static int plot_core(cli_ctx *c, const char *ids, const bout_opts *o, char **svg, char *summary, size_t n)
 {
     *svg = NULL;
@@ -1091,7 +1067,7 @@ static int bout_plot(cli_ctx *c, int argc, char **argv)
     if (!o.out)
         return cli_usage("bout plot", "-o FILE.svg is required");
     char *svg = NULL;
-    if (!(rc = plot_core(c, argv[first], &o, &svg, NULL, 0)) && !(rc = write_text(c, o.out, svg)))
+    if (!(rc = plot_core(c, argv[first], &o, &svg, NULL, 0)) && !(rc = cli_write_file(c, o.out, svg, strlen(svg))))
         cli_note(c, "wrote %s", o.out);
     free(svg);
     return rc;

@@ -86,29 +86,6 @@ static int summary_json(const char *file, const cpd_dump *d)
     return cj_print(doc);
 }
 
-/* Writes the document to path. A failed write removes the partial file, if it is a regular file:
- * -o may name a device or a pipe (/dev/stdout), which must never be unlinked. */
-static int write_file(cli_ctx *c, const char *path, const char *text, size_t len)
-{
-    FILE *f = fopen(path, "wb");
-    if (!f)
-        return cli_fail(c, CPD_ECREATE, "cannot create '%s': %s", path, strerror(errno));
-    struct stat sb;
-    int regular = fstat(fileno(f), &sb) == 0 && S_ISREG(sb.st_mode);
-    int ok = fwrite(text, 1, len, f) == len;
-    int err = errno;
-    if (fclose(f) != 0 && ok) {
-        ok = 0;
-        err = errno;
-    }
-    if (!ok) {
-        if (regular)
-            remove(path);
-        return cli_fail(c, CPD_ECREATE, "writing '%s' failed: %s", path, strerror(err));
-    }
-    return 0;
-}
-
 int cmd_export(cli_ctx *c, int argc, char **argv)
 {
     export_opts o = {0};
@@ -138,7 +115,7 @@ int cmd_export(cli_ctx *c, int argc, char **argv)
         }
         goto done;
     }
-    if ((ex = write_file(c, o.output, text, len)))
+    if ((ex = cli_write_file(c, o.output, text, len)))
         goto done;
     if (c->json)
         ex = summary_json(o.output, d);

@@ -266,10 +266,7 @@ static int lactate_plot(cli_ctx *c, int argc, char **argv)
         if ((rc = cpd_plot_lactate(t->intensity, t->lactate, t->n, t->speed, r, &svg)))
             rc = cli_fail(c, rc, "lactate plot: %s", cpd_strerror(rc));
         else {
-            FILE *f = fopen(o.out, "w");
-            if (!f || fputs(svg, f) < 0 || fclose(f) != 0) {
-                rc = cli_fail(c, CPD_ECREATE, "cannot write '%s'", o.out);
-            }
+            rc = cli_write_file(c, o.out, svg, strlen(svg));
         }
     }
     free(svg);

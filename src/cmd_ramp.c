@@ -110,19 +110,6 @@ static int parse(int argc, char **argv, const char *help, ramp_opts *o, int want
     return 0;
 }
 
-/* Reads an option value within [lo, hi]; returns 0 or 64 after printing. */
-static int ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out)
-{
-    int rc = duration ? cli_duration(opt, arg, out) : cli_number(opt, arg, out);
-    if (rc)
-        return rc;
-    if (!(*out >= lo && *out <= hi)) {
-        fprintf(stderr, "cpdomain: option %s must be between %g and %g %s (got %g)\n", opt, lo, hi, unit, *out);
-        return EX_USAGE;
-    }
-    return 0;
-}
-
 static int ramp_add(cli_ctx *c, int argc, char **argv)
 {
     ramp_opts o;
@@ -151,19 +138,19 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
                          : strcmp(a.sport, "running") == 0 || strcmp(a.sport, "swimming") == 0;
     const char *u = t.speed ? "m/s" : "W";
     double maxi = t.speed ? 15 : 3000;
-    if ((rc = ranged("--rate", o.rate, t.speed ? 0.005 : 1, t.speed ? 2 : 200, t.speed ? "(m/s)/min" : "W/min", 0, &t.rate_per_min)))
+    if ((rc = cli_ranged("--rate", o.rate, t.speed ? 0.005 : 1, t.speed ? 2 : 200, t.speed ? "(m/s)/min" : "W/min", 0, &t.rate_per_min)))
         return rc;
-    if (o.start && (rc = ranged("--start", o.start, 0, maxi, u, 0, &t.start)))
+    if (o.start && (rc = cli_ranged("--start", o.start, 0, maxi, u, 0, &t.start)))
         return rc;
-    if (o.onset && (rc = ranged("--onset", o.onset, 0, 7200, "s", 1, &t.onset_s)))
+    if (o.onset && (rc = cli_ranged("--onset", o.onset, 0, 7200, "s", 1, &t.onset_s)))
         return rc;
     if (o.baseline) {
-        if ((rc = ranged("--baseline", o.baseline, 0, maxi, u, 0, &t.baseline)))
+        if ((rc = cli_ranged("--baseline", o.baseline, 0, maxi, u, 0, &t.baseline)))
             return rc;
         t.has_baseline = 1;
     }
     if (o.mrt) {
-        if ((rc = ranged("--mrt", o.mrt, 0, 300, "s", 1, &t.mrt_s)))
+        if ((rc = cli_ranged("--mrt", o.mrt, 0, 300, "s", 1, &t.mrt_s)))
             return rc;
         t.has_mrt = 1;
     }
@@ -269,12 +256,12 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
     int rc;
     double v = 0;
     if (window) {
-        if ((rc = ranged("--window", window, 5, 120, "s", 1, &v)))
+        if ((rc = cli_ranged("--window", window, 5, 120, "s", 1, &v)))
             return rc;
         ro.peak_window_s = v;
     }
     if (outlier) {
-        if ((rc = ranged("--outlier-sd", outlier, 2, 10, "SD", 0, &v)))
+        if ((rc = cli_ranged("--outlier-sd", outlier, 2, 10, "SD", 0, &v)))
             return rc;
         ro.outlier_k = v;
     }
@@ -294,7 +281,7 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
         ro.baseline_intensity = t->baseline;
     }
     if (mrt) {
-        if ((rc = ranged("--mrt", mrt, 0, 300, "s", 1, &v))) {
+        if ((rc = cli_ranged("--mrt", mrt, 0, 300, "s", 1, &v))) {
             cpd_gx_free(g);
             return rc;
         }
@@ -481,9 +468,9 @@ static int ramp_set(cli_ctx *c, int argc, char **argv)
     if ((o.get && o.clear_get) || (o.rcp && o.clear_rcp))
         return cli_usage("ramp set", "a value and its --clear together make no sense");
     double g = 0, r = 0;
-    if (o.get && (rc = ranged("--get-vo2", o.get, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &g)))
+    if (o.get && (rc = cli_ranged("--get-vo2", o.get, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &g)))
         return rc;
-    if (o.rcp && (rc = ranged("--rcp-vo2", o.rcp, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &r)))
+    if (o.rcp && (rc = cli_ranged("--rcp-vo2", o.rcp, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &r)))
         return rc;
     if ((rc = cli_open(c, 0)))
         return rc;
@@ -505,17 +492,6 @@ static int ramp_set(cli_ctx *c, int argc, char **argv)
         return cj_print(d);
     }
     cli_note(c, "ramp %lld: reviewer's choice recorded (the automatic values are kept)", id);
-    return 0;
-}
-
-static int write_text(cli_ctx *c, const char *path, const char *text)
-{
-    FILE *f = fopen(path, "w");
-    if (!f)
-        return cli_fail(c, CPD_ECREATE, "cannot create '%s'", path);
-    int ok = fputs(text, f) >= 0;
-    if (fclose(f) != 0 || !ok)
-        return cli_fail(c, CPD_ECREATE, "writing '%s' failed", path);
     return 0;
 }
 
@@ -552,7 +528,7 @@ static int ramp_plot(cli_ctx *c, int argc, char **argv)
         rc = cli_fail(c, rc, "ramp %lld: no %s plot: %s", id, veq ? "ventilatory-equivalent" : "V-slope",
                       rc == CPD_ENODATA ? "the data for it are missing (VCO2 and VE are needed)" : cpd_strerror(rc));
     else
-        rc = write_text(c, o.out, svg);
+        rc = cli_write_file(c, o.out, svg, strlen(svg));
     free(svg);
     cpd_ramp_free(w);
     free(r);

@@ -509,17 +509,6 @@ static int render(cli_ctx *c, const sheet_build *b, out_format fm, char **text)
     return 0;
 }
 
-static int write_file(cli_ctx *c, const char *path, const char *text)
-{
-    FILE *f = fopen(path, "w");
-    if (!f)
-        return cli_fail(c, CPD_ECREATE, "cannot create '%s': %s", path, strerror(errno));
-    int ok = fputs(text, f) >= 0;
-    if (fclose(f) != 0 || !ok)
-        return cli_fail(c, CPD_ECREATE, "writing '%s' failed", path);
-    return 0;
-}
-
 static int one_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int stale, out_format fm)
 {
     sheet_build *b = NULL;
@@ -529,7 +518,7 @@ static int one_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int stal
     char *text = NULL;
     if (!(rc = render(c, b, fm, &text))) {
         if (o->out) {
-            if (!(rc = write_file(c, o->out, text))) {
+            if (!(rc = cli_write_file(c, o->out, text, strlen(text)))) {
                 if (c->json) {
                     cli_json *doc = cj_obj();
                     cj_str(doc, "athlete", code);
@@ -612,7 +601,7 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
         }
         snprintf(href[i], sizeof href[i], "%s.%s", a->code, FMT_EXT[fm]);
         snprintf(path, plen, "%s/%s", o->out, href[i]);
-        rc = write_file(c, path, text);
+        rc = cli_write_file(c, path, text, strlen(text));
         free(text);
         if (rc) {
             build_free(b);
@@ -658,7 +647,7 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
         goto done;
     }
     snprintf(path, plen, "%s/index.html", o->out);
-    rc = write_file(c, path, index);
+    rc = cli_write_file(c, path, index, strlen(index));
     free(index);
     if (rc)
         goto done;

@@ -44,6 +44,41 @@ int cpd_st_bind_text(sqlite3_stmt *st, int idx, const char *v, int empty_is_null
     return sqlite3_bind_text(st, idx, v, -1, SQLITE_TRANSIENT);
 }
 
+/* Samples are IEEE-754 binary64 in little-endian order whatever the host's order. */
+static int host_is_le(void)
+{
+    const unsigned one = 1;
+    return *(const unsigned char *)&one == 1;
+}
+
+void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out)
+{
+    if (host_is_le()) {
+        memcpy(out, v, 8 * n);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        unsigned char b[8];
+        memcpy(b, &v[i], 8);
+        for (int k = 0; k < 8; k++)
+            out[8 * i + (size_t)k] = b[7 - k];
+    }
+}
+
+void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v)
+{
+    if (host_is_le()) {
+        memcpy(v, in, 8 * n);
+        return;
+    }
+    for (size_t i = 0; i < n; i++) {
+        unsigned char b[8];
+        for (int k = 0; k < 8; k++)
+            b[k] = in[8 * i + 7 - (size_t)k];
+        memcpy(&v[i], b, 8);
+    }
+}
+
 void cpd_st_bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
 {
     if (valid)

@@ -5,35 +5,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Samples are stored as IEEE-754 binary64 in little-endian order whatever the host's order. */
-static int host_is_le(void)
-{
-    const unsigned one = 1;
-    return *(const unsigned char *)&one == 1;
-}
-
-static void encode(const double *v, size_t n, unsigned char *out)
-{
-    int le = host_is_le();
-    for (size_t i = 0; i < n; i++) {
-        unsigned char b[8];
-        memcpy(b, &v[i], 8);
-        for (int k = 0; k < 8; k++)
-            out[8 * i + (size_t)k] = le ? b[k] : b[7 - k];
-    }
-}
-
-static void decode(const unsigned char *in, size_t n, double *v)
-{
-    int le = host_is_le();
-    for (size_t i = 0; i < n; i++) {
-        unsigned char b[8];
-        for (int k = 0; k < 8; k++)
-            b[k] = le ? in[8 * i + (size_t)k] : in[8 * i + 7 - (size_t)k];
-        memcpy(&v[i], b, 8);
-    }
-}
-
 static const char *kind_sql(cpd_gxt_kind k)
 {
     return k == CPD_GXT_BOUT ? "bout" : "ramp";
@@ -42,7 +13,7 @@ static const char *kind_sql(cpd_gxt_kind k)
 static int add_channel(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
                        unsigned char *buf)
 {
-    encode(v, n, buf);
+    cpd_st_encode_f64(v, n, buf);
     sqlite3_reset(st);
     sqlite3_bind_int64(st, 1, id);
     sqlite3_bind_text(st, 2, name, -1, SQLITE_STATIC);
@@ -187,7 +158,7 @@ static int load_series(cpd_store *s, const cpd_gx_test *t, cpd_gx_series **out)
             if (strcmp(name, cpd_gx_channel_name(c)) == 0)
                 dst = g->ch[c];
         if (dst && bytes)
-            decode(blob, t->n_samples, dst);
+            cpd_st_decode_f64(blob, t->n_samples, dst);
     }
     if (r != SQLITE_DONE) {
         rc = cpd_st_fail(s, "reading samples");

@@ -7,40 +7,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-static int host_is_le(void)
-{
-    const unsigned one = 1;
-    return *(const unsigned char *)&one == 1;
-}
-
-void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out)
-{
-    if (host_is_le()) {
-        memcpy(out, v, 8 * n);
-        return;
-    }
-    for (size_t i = 0; i < n; i++) {
-        unsigned char b[8];
-        memcpy(b, &v[i], 8);
-        for (int k = 0; k < 8; k++)
-            out[8 * i + (size_t)k] = b[7 - k];
-    }
-}
-
-void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v)
-{
-    if (host_is_le()) {
-        memcpy(v, in, 8 * n);
-        return;
-    }
-    for (size_t i = 0; i < n; i++) {
-        unsigned char b[8];
-        for (int k = 0; k < 8; k++)
-            b[k] = in[8 * i + 7 - (size_t)k];
-        memcpy(&v[i], b, 8);
-    }
-}
-
 static const char *kind_sql(int allout)
 {
     return allout ? "allout" : "session";
@@ -350,6 +316,11 @@ int cpd_store_session_get(cpd_store *s, int64_t id, int allout, cpd_session_rec 
     return rc;
 }
 
+static void read_rec_row(sqlite3_stmt *st, void *dst)
+{
+    read_rec(st, dst);
+}
+
 int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_session_rec **out, size_t *n)
 {
     *out = NULL;
@@ -363,32 +334,11 @@ int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_sessi
         return rc;
     cpd_st_bind_text(st, 1, code, 0);
     sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
-    size_t cap = 0;
-    cpd_session_rec *v = NULL;
-    int q;
-    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
-        if (*n == cap) {
-            cap = cap ? 2 * cap : 16;
-            cpd_session_rec *nv = realloc(v, cap * sizeof *v);
-            if (!nv) {
-                rc = CPD_ENOMEM;
-                goto done;
-            }
-            v = nv;
-        }
-        read_rec(st, &v[(*n)++]);
-    }
-    if (q != SQLITE_DONE)
-        rc = cpd_st_fail(s, "listing sessions");
-done:
+    void *v = NULL;
+    rc = cpd_st_collect(s, st, sizeof **out, read_rec_row, &v, n, "sessions");
     sqlite3_finalize(st);
-    if (rc) {
-        free(v);
-        *n = 0;
-        return rc;
-    }
     *out = v;
-    return CPD_OK;
+    return rc;
 }
 
 /* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s) and
