@@ -174,15 +174,16 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         } else
             printf("no task failure predicted\n");
         if (has_unc[0] && has_unc[1]) {
-            printf("with CP at the ends of its 95 %% interval (W' moving with it): end balance %.*f to %.*f %s",
-                   spd ? 0 : 2, bu[0].end_balance * sc, spd ? 0 : 2, bu[1].end_balance * sc, un);
+            printf("with %s at the ends of its 95 %% interval (%s moving with it): end balance %.*f to %.*f %s",
+                   spd ? "CS" : "CP", spd ? "D'" : "W'", spd ? 0 : 2, bu[0].end_balance * sc, spd ? 0 : 2,
+                   bu[1].end_balance * sc, un);
             if (bu[0].failed || bu[1].failed) {
                 char f0[24] = "none", f1[24] = "none";
                 if (bu[0].failed)
                     cpd_format_duration((double)bu[0].failure_at_s, f0, sizeof f0);
                 if (bu[1].failed)
                     cpd_format_duration((double)bu[1].failure_at_s, f1, sizeof f1);
-                printf("; failure %s (low CP) / %s (high CP)", f0, f1);
+                printf("; failure %s (low %s) / %s (high %s)", f0, spd ? "CS" : "CP", f1, spd ? "CS" : "CP");
             }
             printf("\n");
         } else
@@ -465,8 +466,8 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
                cpd_balance_model_name(bm));
         if (has_range[0] && has_range[1]) {
             char n0[32], n1[32];
-            printf("with CP at the ends of its 95 %% interval (W' moving with it) the answer is %s to %s %s\n",
-                   cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1),
+            printf("with %s at the ends of its 95 %% interval (%s moving with it) the answer is %s to %s %s\n",
+                   spd ? "CS" : "CP", spd ? "D'" : "W'", cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1),
                    cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1), cli_pd_unit(f.modality));
         }
         char check[1024];
