@@ -13,6 +13,7 @@ typedef struct {
     const char *db_path; /* --db, $CPDOMAIN_DB or cpdomain.db */
     int json;            /* --json */
     int quiet;           /* --quiet */
+    int mute;            /* internal: a fallback lookup is running; its failures are not errors (nests) */
     int today;           /* days since 1970-01-01 (local date, or $CPDOMAIN_TODAY) */
     cpd_store *store;    /* open store, or NULL */
 } cli_ctx;

@@ -129,6 +129,7 @@ static void add_tau(cli_ctx *c, cli_domains *d)
     cpd_kinetics_result *r = calloc(1, sizeof *r);
     int quiet = c->quiet;
     c->quiet = 1;
+    c->mute++;
     for (size_t i = n; r && i-- > 0;) {
         if (v[i].speed != want_speed || !(v[i].intensity > d->in.fit->cp))
             continue;
@@ -144,6 +145,7 @@ static void add_tau(cli_ctx *c, cli_domains *d)
             break;
         }
     }
+    c->mute--;
     c->quiet = quiet;
     free(r);
     free(v);
@@ -166,6 +168,7 @@ static void add_recent(cli_ctx *c, cli_domains *d, const char *to)
         return;
     int quiet = c->quiet;
     c->quiet = 1;
+    c->mute++;
     cli_pd_fit r;
     if (cli_pd_load_fit(c, f->athlete.code, from, to, CPD_PD_MODEL_BIT(d->model), &r) == 0) {
         const cpd_pd_model_fit *m = &r.res->models[d->model];
@@ -177,6 +180,7 @@ static void add_recent(cli_ctx *c, cli_domains *d, const char *to)
         }
         cli_pd_fit_free(&r);
     }
+    c->mute--;
     c->quiet = quiet;
 }
 

@@ -40,7 +40,8 @@ int cli_exit_code(int rc)
 
 int cli_fail(cli_ctx *c, int rc, const char *fmt, ...)
 {
-    (void)c;
+    if (c && c->mute > 0)
+        return cli_exit_code(rc);
     va_list ap;
     va_start(ap, fmt);
     fputs("cpdomain: ", stderr);

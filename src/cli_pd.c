@@ -126,10 +126,22 @@ int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const ch
     cli_pd_fit g;
     int quiet = c->quiet;
     c->quiet = 1; /* the notes were given by the first load */
+    c->mute++;
     rc = cli_pd_load_fit(c, code, start, to, mask, &g);
+    c->mute--;
     c->quiet = quiet;
     if (rc)
         return 0; /* keep the fit of all trials */
+    /* the block must give an answer: its best model, or the one model asked for */
+    int single = mask && !(mask & (mask - 1)), usable = single ? 0 : g.res->has_best;
+    for (int m = 0; single && m < CPD_PD_NMODELS; m++)
+        if (mask == CPD_PD_MODEL_BIT(m))
+            usable = g.res->models[m].ok;
+    if (!usable) {
+        cli_note(c, "note: the newest block of trials (from %s) gives no usable fit; all %zu trials are used", start, f->n);
+        cli_pd_fit_free(&g);
+        return 0;
+    }
     *older = f->n - k;
     cli_pd_fit_free(f);
     *f = g;

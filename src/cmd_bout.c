@@ -558,7 +558,9 @@ static void run_check(cli_ctx *c, bout_run *r)
         cli_domains d;
         int quiet = c->quiet;
         c->quiet = 1; /* the fit's own notes belong to 'fit' and 'domains' */
+        c->mute++;
         int rc = cli_domains_build(c, r->a.code, NULL, NULL, NULL, 0, &d);
+        c->mute--;
         c->quiet = quiet;
         if (rc == 0) {
             if ((d.fit.modality == CPD_PD_SPEED) == (r->speed != 0)) {

@@ -168,9 +168,11 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
             cli_num(cp, sizeof cp, m->cp, cpd_dec);
             cli_num(w, sizeof w, m->w_prime * wsc, wd);
             if (m->has_se) {
-                snprintf(cpci, sizeof cpci, "%s-%s", cli_num(a, sizeof a, m->cp_ci95[0], cpd_dec), cli_num(b, sizeof b, m->cp_ci95[1], cpd_dec));
-                snprintf(wci, sizeof wci, "%s-%s", cli_num(a, sizeof a, m->w_prime_ci95[0] * wsc, wd),
-                         cli_num(b, sizeof b, m->w_prime_ci95[1] * wsc, wd));
+                /* "a-b" reads badly when a is negative: then "a to b" */
+                snprintf(cpci, sizeof cpci, "%s%s%s", cli_num(a, sizeof a, m->cp_ci95[0], cpd_dec),
+                         m->cp_ci95[0] < 0 ? " to " : "-", cli_num(b, sizeof b, m->cp_ci95[1], cpd_dec));
+                snprintf(wci, sizeof wci, "%s%s%s", cli_num(a, sizeof a, m->w_prime_ci95[0] * wsc, wd),
+                         m->w_prime_ci95[0] < 0 ? " to " : "-", cli_num(b, sizeof b, m->w_prime_ci95[1] * wsc, wd));
             } else {
                 snprintf(cpci, sizeof cpci, "-");
                 snprintf(wci, sizeof wci, "-");
@@ -376,7 +378,9 @@ static const char *domain_of(cli_ctx *c, const cli_pd_fit *f, cpd_pd_model which
     cli_domains d;
     int quiet = c->quiet;
     c->quiet = 1;
+    c->mute++;
     int rc = cli_domains_build(c, f->athlete.code, from, to, cpd_pd_model_name(which), 0, &d);
+    c->mute--;
     c->quiet = quiet;
     if (rc)
         return x > m->cp ? "severe" : "moderate-or-heavy";
@@ -483,6 +487,24 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
         cli_pd_fit_free(&f);
         return ex;
     }
+    /* a prediction whose duration lies outside the trials is an extrapolation: say so */
+    char extrap[200] = "";
+    double tq = o.duration ? q : p.valid ? p.value : NAN;
+    if (isfinite(tq) && !o.distance) {
+        double tlo = f.t[0], thi = f.t[0];
+        for (size_t i = 1; i < f.n; i++) {
+            tlo = fmin(tlo, f.t[i]);
+            thi = fmax(thi, f.t[i]);
+        }
+        if (tq < tlo || tq > thi) {
+            char a[24], b[24], t0[24];
+            cpd_format_duration(tq, t0, sizeof t0);
+            cpd_format_duration(tlo, a, sizeof a);
+            cpd_format_duration(thi, b, sizeof b);
+            snprintf(extrap, sizeof extrap,
+                     "extrapolated: %s lies outside the trials (%s to %s); the model holds for about 2 to 15 min", t0, a, b);
+        }
+    }
     const char *ikey = spd ? "speed_m_s" : "power_w";
     if (c->json) {
         cli_json *d = cj_obj();
@@ -507,7 +529,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             cj_num(d, "time_s", p.valid ? p.value : NAN);
             cj_pair(d, "time_ci95", p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
         }
-        cj_str(d, "note", p.valid ? NULL : cpd_pd_pred_text(p.status));
+        cj_str(d, "note", p.valid ? (extrap[0] ? extrap : NULL) : cpd_pd_pred_text(p.status));
         cli_pd_flags_json(cj_add_arr(d, "flags"), r->flags | m->flags, f.modality);
         cj_str(d, "caution", CLI_CAUTION);
         rc = cj_print(d);
@@ -552,6 +574,8 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             } else
                 printf("%.0f m: %s\n", q, cpd_pd_pred_text(p.status));
         }
+        if (extrap[0])
+            printf("note: %s\n", extrap);
         if (r->flags | m->flags) {
             printf("flags:\n");
             cli_pd_flags_print(r->flags | m->flags, f.modality);

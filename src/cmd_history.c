@@ -51,9 +51,13 @@ int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, 
     memset(a, 0, sizeof *a);
     a->win = win;
     int q = c->quiet;
-    if (quiet_few)
+    if (quiet_few) { /* the team view lists athletes with too few trials without complaint */
         c->quiet = 1;
+        c->mute++;
+    }
     int rc = cli_pd_load_fit(c, code, NULL, NULL, CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL), &a->f);
+    if (quiet_few)
+        c->mute--;
     c->quiet = q;
     if (rc)
         return rc;
@@ -94,12 +98,14 @@ int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, 
         cpd_ramp_result *rr = calloc(1, sizeof *rr);
         int qq = c->quiet;
         c->quiet = 1;
+        c->mute++;
         if (rr && cli_ramp_analyse(c, v[i].id, NULL, NULL, NULL, &t, &ath, &rw, rr) == 0) {
             int d = 0;
             cpd_parse_date(t.date, &d);
             int has_get = rr->get.status != CPD_THR_NOT_FOUND && rr->get.has_equiv;
             cpd_history_attach_ramp(a->h, d, has_get, has_get ? rr->get.equiv_intensity : 0, 1, rr->vo2peak_ml_min, win);
         }
+        c->mute--;
         c->quiet = qq;
         cpd_ramp_free(rw);
         free(rr);

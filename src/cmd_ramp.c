@@ -474,6 +474,38 @@ static int ramp_set(cli_ctx *c, int argc, char **argv)
         return rc;
     if ((rc = cli_open(c, 0)))
         return rc;
+    /* a choice the ramp never reaches would be stored and then silently unused: check it against
+     * the test itself (above the pre-onset baseline, below VO2peak, RCP above GET) */
+    if (o.get || o.rcp) {
+        cpd_gx_test t;
+        cpd_athlete a;
+        cpd_ramp_ws *w = NULL;
+        cpd_ramp_result *rr = calloc(1, sizeof *rr);
+        if (!rr)
+            return cli_fail(c, CPD_ENOMEM, "out of memory");
+        if ((rc = cli_ramp_analyse(c, id, NULL, NULL, NULL, &t, &a, &w, rr))) {
+            free(rr);
+            return rc;
+        }
+        double lo = rr->has_baseline ? rr->baseline_vo2_ml_min : 0, hi = rr->vo2peak_ml_min;
+        double gv = o.get ? g : rr->get.status != CPD_THR_NOT_FOUND ? rr->get.vo2_ml_min : lo;
+        cpd_ramp_free(w);
+        free(rr);
+        const char *bad = NULL;
+        double val = 0;
+        if (o.get && !(g > lo && g < hi)) {
+            bad = "--get-vo2";
+            val = g;
+        } else if (o.rcp && !(r > lo && r < hi)) {
+            bad = "--rcp-vo2";
+            val = r;
+        }
+        if (bad)
+            return cli_fail(c, CPD_EDATA, "%s %g mL/min: ramp %lld runs from %.0f (baseline) to %.0f mL/min (VO2peak); "
+                            "a threshold must lie between", bad, val, id, lo, hi);
+        if (o.rcp && !(r > gv))
+            return cli_fail(c, CPD_EDATA, "--rcp-vo2 %g mL/min is not above the GET (%.0f mL/min)", r, gv);
+    }
     if ((rc = cpd_store_begin(c->store)))
         return cli_store_fail(c, rc);
     if ((o.get || o.clear_get) && (rc = cpd_store_gx_set_manual(c->store, id, 0, o.get != NULL, g)))

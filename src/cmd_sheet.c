@@ -166,7 +166,9 @@ static void add_kinetics(cli_ctx *c, sheet_build *b)
         snprintf(id, sizeof id, "%lld", (long long)v[i].id);
         int quiet = c->quiet;
         c->quiet = 1;
+        c->mute++;
         int rc = cli_bout_plot(c, id, &b->svg_kinetics, b->kinetics_text, sizeof b->kinetics_text);
+        c->mute--;
         c->quiet = quiet;
         if (rc == 0) {
             add_test(b, "constant-power bout (gas exchange)", v[i].date);
@@ -195,7 +197,9 @@ static void add_field(cli_ctx *c, sheet_build *b)
     cli_pd_fit g;
     int quiet = c->quiet;
     c->quiet = 1;
+    c->mute++;
     int rc = cli_pd_load_curve_fit(c, s->code, NULL, NULL, NULL, CPD_PD_ALL_MODELS, &g);
+    c->mute--;
     c->quiet = quiet;
     if (rc)
         return;
@@ -230,7 +234,9 @@ static void add_trend(cli_ctx *c, sheet_build *b)
     cli_history a;
     int quiet = c->quiet;
     c->quiet = 1;
+    c->mute++;
     int rc = cli_history_build(c, s->code, CPD_HISTORY_WINDOW_DAYS, NULL, 1, &a);
+    c->mute--;
     c->quiet = quiet;
     if (rc)
         return;

@@ -418,6 +418,15 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
     char k[40];
     int has_reason = rc == CPD_OK || rc == CPD_ENODATA; /* ENODATA: refused, sol.reason says why */
     int ok = rc == CPD_OK && sol.reason == CPD_SOLVE_OK;
+    /* an answer beyond any human intensity is not a prescription (the bracket reaches CP + 2 W') */
+    const cpd_range *hr = spd ? &CPD_RANGE_SPEED : &CPD_RANGE_POWER;
+    char beyond[160] = "";
+    if (ok && !(sol.intensity <= hr->hi)) {
+        ok = 0;
+        has_reason = 0;
+        snprintf(beyond, sizeof beyond, "the answer (%.4g %s) lies beyond the physiological range (up to %g %s): no "
+                 "realistic intensity gives that end balance", sol.intensity, hr->unit, hr->hi, hr->unit);
+    }
     int ex = ok ? 0 : rc == CPD_OK || rc == CPD_ENODATA ? EX_UNAVAILABLE : cli_exit_code(rc);
     if (c->json) {
         cli_json *d = cj_obj();
@@ -436,7 +445,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         cj_pair(d, k, has_range[0] && has_range[1] ? fmin(range[0], range[1]) : NAN, fmax(range[0], range[1]));
         cj_str(d, "range_method", "solved again with CP at each end of its 95 % interval, W' moved with it along "
                                   "their covariance");
-        cj_str(d, "result", has_reason ? why[sol.reason] : cpd_strerror(rc));
+        cj_str(d, "result", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
         if (ok && spd) {
             const char *lab;
             char pace[32];
@@ -449,7 +458,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         if (!ex)
             ex = prc;
         if (!ok)
-            fprintf(stderr, "cpdomain: solve: %s\n", has_reason ? why[sol.reason] : cpd_strerror(rc));
+            fprintf(stderr, "cpdomain: solve: %s\n", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
     } else if (ok) {
         char v[48], num[32];
         snprintf(v, sizeof v, "%s %s", cli_num(num, sizeof num, sol.intensity, spd ? 3 : 1), cli_pd_unit(f.modality));
@@ -475,7 +484,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         printf("check it: cpdomain predict %s --protocol \"%s\"\n", f.athlete.code, check);
         printf("\n%s\n", CLI_CAUTION);
     } else {
-        fprintf(stderr, "cpdomain: solve: %s", has_reason ? why[sol.reason] : cpd_strerror(rc));
+        fprintf(stderr, "cpdomain: solve: %s", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
         if (has_reason && sol.has_end_balance)
             fprintf(stderr, " (the closest end balance without failure is %.0f %% of %s)",
                     100 * sol.end_balance / m->w_prime, spd ? "D'" : "W'");

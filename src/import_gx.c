@@ -69,12 +69,6 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
             goto done;
         }
     size_t n = cpd_csv_nrows(c);
-    if (n < min_rows) {
-        snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: too few samples: %zu row(s), at least %zu are needed", path,
-                 n ? cpd_csv_line(c, n - 1) : 1L, n, min_rows);
-        rc = CPD_EDATA;
-        goto done;
-    }
     g = cpd_gx_alloc(n, mask);
     if (!g) {
         rc = CPD_ENOMEM;
@@ -122,6 +116,13 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
             rc = CPD_EDATA;
             goto done;
         }
+    }
+    /* after the rows: a bad value is reported where it stands even in a short file */
+    if (n < min_rows) {
+        snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: too few samples: %zu row(s), at least %zu are needed", path,
+                 n ? cpd_csv_line(c, n - 1) : 1L, n, min_rows);
+        rc = CPD_EDATA;
+        goto done;
     }
     if (!(g->t_s[n - 1] > g->t_s[0])) {
         snprintf(msg, CPD_MSG_MAX, "%s: every sample has the same time: a test needs time to pass", path);

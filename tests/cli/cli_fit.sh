@@ -114,3 +114,20 @@ expect 0 "trial 2" trial add X3 --date 2026-10-20 --power 275 --duration 800
 expect 0 "fit" --json fit X3
 json_is 'd["best"], d["models"][0]["ok"], round(d["models"][0]["cp"], 6), round(d["models"][0]["w_prime"], 4)' \
   "('hyperbolic', True, 249.61039, 20311.6883)" "two exact trials: the hyperbolic fit succeeds (CP = 153760/616 W)"
+
+# Regression: a newest block of trials that gives no usable fit (three trials at one power) must
+# not replace the fit of all trials in predict and domains.
+expect 0 "athlete" athlete add ZB --name "Flat Block"
+for x in "2026-06-01 400 3:00" "2026-06-04 330 6:00" "2026-06-08 300 10:00" "2026-11-01 300 5:00" "2026-11-04 300 6:00" "2026-11-08 300 7:00"; do
+    set -- $x; "$BIN" --db "$DB" --quiet trial add ZB --date "$1" --power "$2" --duration "$3"
+done
+expect 0 "predict falls back to all trials" --json predict ZB --power 350
+json_is 'd["time_to_failure_s"] is not None' True "a prediction from all six trials"
+err_has "gives no usable fit; all 6 trials are used" "the fallback is said"
+
+# an answer beyond any human power is refused, not prescribed; far extrapolation is said
+expect 69 "solve beyond the physiological range" --json solve X1 --protocol "1s@?" --finish 50 --model linear-total
+json_is 'd["power_w"]' None "no power for an impossible prescription"
+err_has "beyond the physiological range" "the reason is given"
+expect 0 "predict for one second" --json predict X1 --duration 1s --model linear-total
+json_is 'd["note"].startswith("extrapolated")' True "a duration outside the trials is marked as extrapolated"

@@ -106,3 +106,16 @@ printf 'power_w,lactate_mmol_l\n100,1.1\n150,1.3\n200,60\n' >"$TMP/lac_abs.csv"
 expect 65 "absurd lactate" lactate add C01 "$TMP/lac_abs.csv" --date 2026-10-02
 err_has "lactate must be between 0.1 and 35 mmol/L (got 60)" "lactate range named"
 unchanged "rejected lactate files"
+
+# a reviewer's choice must lie within the ramp: stored choices the ramp never reaches would be unused
+snapshot
+expect 65 "GET above VO2peak" ramp set 1 --get-vo2 5000
+err_has "a threshold must lie between" "the ramp's range named"
+expect 65 "GET below the baseline" ramp set 1 --get-vo2 300
+expect 65 "RCP below the GET" ramp set 1 --rcp-vo2 2000
+err_has "is not above the GET" "RCP order explained"
+unchanged "rejected reviewer's choices"
+# a bad value in a short file is reported where it stands, before the count of rows
+printf 'time_s,vo2_ml_min\n0,abc\n' >"$TMP/short_bad.csv"
+expect 65 "a non-number in a two-line file" ramp add C01 "$TMP/short_bad.csv" --date 2026-09-30 --rate 25
+err_has "short_bad.csv:2:2: column 'vo2_ml_min': 'abc' is not a number" "located at its field, not as too few rows"
