@@ -10,7 +10,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-#define RECENT_DAYS CLI_PD_BLOCK_DAYS
 
 void cli_domains_free(cli_domains *d)
 {
@@ -151,20 +150,13 @@ static void add_tau(cli_ctx *c, cli_domains *d)
     free(v);
 }
 
-/* The newest block of trials: those within RECENT_DAYS of the newest. When it is a strict subset of
+/* The newest block of trials: those within CLI_PD_BLOCK_DAYS of the newest. When it is a strict subset of
  * at least 3 trials, its CP feeds the staleness check. */
 static void add_recent(cli_ctx *c, cli_domains *d, const char *to)
 {
     const cli_pd_fit *f = &d->fit;
-    int newest = 0;
-    if (cpd_parse_date(f->trials[f->n - 1].date, &newest))
-        return;
     char from[11];
-    cpd_format_date(newest - RECENT_DAYS, from);
-    size_t k = 0;
-    for (size_t i = 0; i < f->n; i++)
-        k += strcmp(f->trials[i].date, from) >= 0;
-    if (k < 3 || k == f->n)
+    if (!cli_pd_newest_block(f, from))
         return;
     int quiet = c->quiet;
     c->quiet = 1;
@@ -191,8 +183,6 @@ int cli_domains_build(cli_ctx *c, const char *code, const char *from, const char
     int rc = cli_pd_load_current(c, code, from, to, CPD_PD_ALL_MODELS, &d->fit, &d->older_trials);
     if (rc)
         return rc;
-    if (d->older_trials)
-        snprintf(d->block_from, sizeof d->block_from, "%s", d->fit.trials[0].date);
     const cpd_pd_result *r = d->fit.res;
     if (model) {
         if (cpd_pd_model_parse(model, &d->model)) {

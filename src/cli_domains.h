@@ -16,11 +16,10 @@ typedef struct {
     char ramp_date[11];
     int ramp_mrt_missing;         /* 1 when the ramp had no MRT: no constant-power equivalent */
     size_t older_trials;          /* trials before the newest block, left out of the boundaries */
-    char block_from[11];          /* first date of the newest block used ("" when all trials were used) */
 } cli_domains;
 
 /* Builds the domains of athlete code: fit (dates from/to, model NULL for the best; without dates
- * the newest block of trials when it holds 3 or more, see block_from), the newest
+ * the newest block of trials when it holds 3 or more, see older_trials), the newest
  * ramp and lactate test of the fit's modality, and staleness against stale_days (0: default).
  * Returns 0 or an exit code after printing why. The caller frees d with cli_domains_free. */
 int cli_domains_build(cli_ctx *c, const char *code, const char *from, const char *to, const char *model,

@@ -106,6 +106,18 @@ int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *
     return 0;
 }
 
+size_t cli_pd_newest_block(const cli_pd_fit *f, char start[11])
+{
+    int newest = 0;
+    if (f->n == 0 || cpd_parse_date(f->trials[f->n - 1].date, &newest) != CPD_OK)
+        return 0;
+    cpd_format_date(newest - CLI_PD_BLOCK_DAYS, start);
+    size_t k = 0;
+    for (size_t i = 0; i < f->n; i++)
+        k += strcmp(f->trials[i].date, start) >= 0;
+    return k >= 3 && k < f->n ? k : 0;
+}
+
 int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
                         size_t *older)
 {
@@ -113,15 +125,9 @@ int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const ch
     int rc = cli_pd_load_fit(c, code, from, to, mask, f);
     if (rc || from)
         return rc;
-    int newest = 0;
-    if (cpd_parse_date(f->trials[f->n - 1].date, &newest) != CPD_OK)
-        return 0;
     char start[11];
-    cpd_format_date(newest - CLI_PD_BLOCK_DAYS, start);
-    size_t k = 0;
-    for (size_t i = 0; i < f->n; i++)
-        k += strcmp(f->trials[i].date, start) >= 0;
-    if (k < 3 || k == f->n)
+    size_t k = cli_pd_newest_block(f, start);
+    if (!k)
         return 0;
     cli_pd_fit g;
     int quiet = c->quiet;

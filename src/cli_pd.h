@@ -27,6 +27,10 @@ void cli_pd_fit_free(cli_pd_fit *f);
 /* Trials within this many days of the newest one form the newest block (the history's window). */
 #define CLI_PD_BLOCK_DAYS 28
 
+/* The newest block of f's trials: those dated on or after start = newest date - CLI_PD_BLOCK_DAYS.
+ * Returns how many trials it holds when that is 3 or more and fewer than all, else 0. */
+size_t cli_pd_newest_block(const cli_pd_fit *f, char start[11]);
+
 /* The athlete's current fit: without from, like cli_pd_load_fit over the newest block of trials up
  * to `to` (NULL: all) when it holds 3 or more and older trials exist (*older receives how many are
  * left out, 0 when all are used); with from, exactly cli_pd_load_fit. Used by domains, predict, solve and sheet:

@@ -90,7 +90,6 @@ typedef struct {
     char ramp_label[200];
     char skipped_note[200];
     char date[11];
-    long long ramp_id;
     cpd_sheet s;
 } sheet_build;
 
