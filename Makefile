@@ -26,6 +26,7 @@ LIB_SRCS += src/svgplot.c
 LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/lactate.c
+LIB_SRCS += src/steps.c
 LIB_SRCS += src/domains.c
 LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c

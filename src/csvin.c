@@ -59,13 +59,8 @@ static void on_field(void *s, size_t len, void *data)
     if (grow((void **)&c->pool, &c->pool_cap, c->pool_len + len + 1, 1) ||
         grow((void **)&c->field, &c->field_cap, c->nfield + 1, sizeof *c->field))
         goto oom;
-    /* libcsv trims unquoted blanks; trim again for tabs and stray spaces on the edges */
-    while (len > 0 && (t[len - 1] == ' ' || t[len - 1] == '\t'))
-        len--;
-    while (len > 0 && (*t == ' ' || *t == '\t')) {
-        t++;
-        len--;
-    }
+    /* libcsv drops blanks (spaces, tabs) around unquoted fields; what a quoted field holds is kept
+     * exactly (RFC 4180) */
     memcpy(c->pool + c->pool_len, t, len);
     c->field[c->nfield++] = c->pool_len;
     c->pool_len += len;
@@ -100,6 +95,26 @@ static void on_record(int ch, void *data)
     c->rec[c->nrec].line = c->open_line;
     c->nrec++;
     c->cur_n = 0;
+}
+
+/* The separator of a file whose header line holds no comma but semicolons or tabs (exports of
+ * spreadsheets in locales with a decimal comma, and tab-separated text): ';' or '\t', else ','. */
+static unsigned char sniff_delim(const char *b, size_t n)
+{
+    const char *nl = memchr(b, '\n', n);
+    size_t L = nl ? (size_t)(nl - b) : n;
+    if (memchr(b, ',', L))
+        return ',';
+    if (memchr(b, ';', L))
+        return ';';
+    if (memchr(b, '\t', L))
+        return '\t';
+    return ',';
+}
+
+static int space_only(unsigned char ch)
+{
+    return ch == ' ';
 }
 
 void cpd_csv_free(cpd_csv *c)
@@ -166,6 +181,10 @@ int cpd_csv_read(const char *path, cpd_csv **out, char *msg)
         goto done;
     }
     parser_ready = 1;
+    unsigned char delim = sniff_delim(buf + pos, len - pos);
+    csv_set_delim(&p, delim);
+    if (delim == '\t') /* a tab separates: only spaces are blanks */
+        csv_set_space_func(&p, space_only);
     c->line = 1;
     while (pos < len) {
         const char *nl = memchr(buf + pos, '\n', len - pos);

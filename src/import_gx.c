@@ -4,9 +4,11 @@
 #include "cpdomain/status.h"
 #include "cpdomain/units.h"
 
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 /* Sample values may be zero where a trial value may not: unloaded pedalling, a standing start. */
 static const cpd_range RANGE_POWER_SAMPLE = {"power", 0.0, 3000.0, "W"};
@@ -32,9 +34,69 @@ static const column columns[] = {
 };
 #define NCOL (sizeof columns / sizeof columns[0])
 
+/* A time in seconds or h:mm:ss, negative before the onset (a baseline recorded before t = 0). */
+static int parse_time(const char *v, double *x)
+{
+    while (*v == ' ' || *v == '\t')
+        v++;
+    int neg = *v == '-';
+    if (cpd_parse_duration(neg ? v + 1 : v, x))
+        return CPD_EDATA;
+    if (neg)
+        *x = -*x;
+    return CPD_OK;
+}
+
+/* An optional cell carries no value: blank, or a placeholder carts write for a missing value. */
+static int is_blank(const char *v)
+{
+    static const char *const ph[] = {"", "-", "--", "na", "n/a", "nan", "null"};
+    while (*v == ' ')
+        v++;
+    for (size_t k = 0; k < sizeof ph / sizeof ph[0]; k++)
+        if (strcasecmp(v, ph[k]) == 0)
+            return 1;
+    return 0;
+}
+
+/* Fills the NaN gaps of an optional channel linearly in time from its valid neighbours (the ends
+ * from the nearest valid value). Returns 0 when the channel holds no valid value at all. */
+static int bridge_gaps(const double *t, double *v, size_t n)
+{
+    size_t prev = n;
+    for (size_t i = 0; i < n; i++) {
+        if (isnan(v[i]))
+            continue;
+        if (prev == n) {
+            for (size_t k = 0; k < i; k++)
+                v[k] = v[i];
+        } else if (i > prev + 1) {
+            double span = t[i] - t[prev];
+            for (size_t k = prev + 1; k < i; k++)
+                v[k] = span > 0 ? v[prev] + (v[i] - v[prev]) * (t[k] - t[prev]) / span : v[prev];
+        }
+        prev = i;
+    }
+    if (prev == n)
+        return 0;
+    for (size_t k = prev + 1; k < n; k++)
+        v[k] = v[prev];
+    return 1;
+}
+
 int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_series **out, char *msg)
 {
+    return cpd_import_gx_report(path, map, min_rows, out, NULL, msg);
+}
+
+int cpd_import_gx_report(const char *path, const char *map, size_t min_rows, cpd_gx_series **out,
+                         cpd_gx_import_report *rep, char *msg)
+{
     *out = NULL;
+    cpd_gx_import_report own;
+    if (!rep)
+        rep = &own;
+    memset(rep, 0, sizeof *rep);
     cpd_csv *c = NULL;
     cpd_gx_series *g = NULL;
     int rc = cpd_csv_read(path, &c, msg);
@@ -63,8 +125,13 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
     }
     for (size_t k = 0; k < 2; k++)
         if (col[k] < 0) {
-            snprintf(msg, CPD_MSG_MAX, "%s:1:1: missing column '%s'%s (use --map %s=HEADER for another header)", path,
-                     columns[k].name, k == 1 ? " (or vo2_l_min)" : "", columns[k].name);
+            const char *h = cpd_csv_header(c, 0);
+            int one = cpd_csv_ncols(c) == 1 && (strchr(h, ';') || strchr(h, '\t') || strchr(h, '|'));
+            snprintf(msg, CPD_MSG_MAX, "%s:1:1: missing column '%s'%s (use --map %s=HEADER for another header)%s", path,
+                     columns[k].name, k == 1 ? " (or vo2_l_min)" : "", columns[k].name,
+                     one ? "; the header reads as one column: separate the columns with commas (or semicolons or "
+                           "tabs throughout)"
+                         : "");
             rc = CPD_EDATA;
             goto done;
         }
@@ -81,13 +148,20 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
                 continue;
             const char *v = cpd_csv_get(c, r, (size_t)col[k]);
             double x = 0;
+            int chan = columns[k].chan;
+            if (chan > CPD_GX_VO2 && is_blank(v)) { /* an optional cell without a value: bridged below */
+                g->ch[chan][r] = NAN;
+                rep->blank[chan]++;
+                rep->blank_total++;
+                continue;
+            }
             if (!*v) {
                 snprintf(why, sizeof why, "missing value");
                 goto bad;
             }
-            if (columns[k].chan < 0) {
-                if (cpd_parse_duration(v, &x)) {
-                    snprintf(why, sizeof why, "'%s' is not a time: use seconds or h:mm:ss", v);
+            if (chan < 0) {
+                if (parse_time(v, &x)) {
+                    snprintf(why, sizeof why, "'%s' is not a time: use seconds (negative before the onset) or h:mm:ss", v);
                     goto bad;
                 }
                 if (r > 0 && x < g->t_s[r - 1]) {
@@ -98,17 +172,27 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
                 continue;
             }
             if (cpd_parse_number(v, &x)) {
-                snprintf(why, sizeof why, "'%s' is not a number", v);
+                snprintf(why, sizeof why, "'%s' is not a number%s", v,
+                         strchr(v, ',') ? " (a decimal comma? use a point, or separate the columns with semicolons)" : "");
                 goto bad;
             }
             x *= scale[k];
+            if (chan == CPD_GX_HR && (x < CPD_GX_HR_MIN || x > CPD_GX_HR_MAX)) { /* an artefact, not a heart rate */
+                g->ch[chan][r] = NAN;
+                rep->hr_dropped++;
+                continue;
+            }
             if (!cpd_in_range(columns[k].range, x)) {
                 cpd_range_msg(columns[k].range, x, why, sizeof why);
                 if (scale[k] != 1.0)
                     snprintf(why + strlen(why), sizeof why - strlen(why), " after converting L/min to mL/min");
+                else if (columns[k].alt && x > 0 && x < 10)
+                    snprintf(why + strlen(why), sizeof why - strlen(why),
+                             ": the values look like L/min; name the column %s (or --map %s=%s)", columns[k].alt,
+                             columns[k].alt, cpd_csv_header(c, (size_t)col[k]));
                 goto bad;
             }
-            g->ch[columns[k].chan][r] = x;
+            g->ch[chan][r] = x;
             continue;
         bad:
             cpd_csv_where(c, r, col[k], where, sizeof where);
@@ -129,6 +213,11 @@ int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_ser
         rc = CPD_EDATA;
         goto done;
     }
+    for (int ch = CPD_GX_VO2 + 1; ch < CPD_GX_NCHAN; ch++)
+        if (g->ch[ch] && !bridge_gaps(g->t_s, g->ch[ch], n)) { /* a column with no value at all: absent */
+            free(g->ch[ch]);
+            g->ch[ch] = NULL;
+        }
 done:
     cpd_csv_free(c);
     if (rc) {

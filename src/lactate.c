@@ -57,12 +57,21 @@ static void found(cpd_lactate_value *v, double x, double la, const double *xs, c
     v->lactate_mmol_l = la;
     if (!hr)
         return;
+    v->has_hr = 1;
+    v->hr_bpm = cpd_lactate_stage_interp(xs, hr, n, x);
+}
+
+double cpd_lactate_stage_interp(const double *xs, const double *ys, size_t n, double x)
+{
+    if (n == 0)
+        return 0;
+    if (n == 1)
+        return ys[0];
     size_t i = 0;
     while (i + 2 < n && xs[i + 1] < x)
         i++;
     double f = (x - xs[i]) / (xs[i + 1] - xs[i]);
-    v->has_hr = 1;
-    v->hr_bpm = hr[i] + f * (hr[i + 1] - hr[i]);
+    return ys[i] + f * (ys[i + 1] - ys[i]);
 }
 
 static double cubic_at(const double *c, double x)

@@ -2,6 +2,8 @@
  * cleaned samples; the 1-s grid serves rolling means and the placing of a VO2 level in time. */
 #include "cpdomain/ramp.h"
 #include "cpdomain/linfit.h"
+#include "cpdomain/nlfit.h"
+#include "cpdomain/steps.h"
 #include "cpdomain/status.h"
 
 #include <math.h>
@@ -35,6 +37,15 @@
 #define PLATEAU_FRAC 0.5
 #define MIN_RAMP_SLOPE 0.1 /* mL/min per s: below this VO2 does not follow a ramp */
 #define COLUMN_MISMATCH_FRAC 0.05
+#define STEPS_RATE_MISMATCH 0.10 /* steps: nominal and recorded rate differ by more than 10 % */
+#define DROP_ABS_W 10.0      /* end of exercise: a fall of max(10 W | 0.3 m/s, 10 %) ... */
+#define DROP_ABS_M_S 0.3
+#define DROP_FRAC 0.10
+#define DROP_S 5.0           /* ... that lasts 5 s */
+#define GAIN_PEAK_FRAC 0.8   /* no GET: the gain line runs up to 80 % of the peak intensity */
+#define STEPS_PLATEAU_ML_MIN 150.0 /* plateau of a step test: last two stages within 150 mL/min (common practice) */
+#define MRT_NI_FRAC 0.5      /* MRT without a baseline: not identifiable when SE > half of it ... */
+#define MRT_NI_MIN_S 10.0    /* ... and more than 10 s */
 
 struct pt {
     double x, y;             /* regressor, response */
@@ -64,6 +75,10 @@ struct ctx {
     cpd_ramp_result *res;
     size_t i0, i1;  /* grid indices of onset and end */
     double t_end;   /* s from onset */
+    int col;        /* the modality's intensity channel */
+    int rec;        /* 1: intensities from the record */
+    int steps;      /* 1: a step test */
+    double rate, start; /* the ramp line used (record's or nominal) */
 };
 
 static void say(char *buf, size_t len, const char *fmt, ...)
@@ -92,6 +107,8 @@ const char *cpd_ramp_reason_text(int reason)
         [CPD_RAMP_R_NO_BASELINE] = "no baseline before onset",
         [CPD_RAMP_R_IMPLAUSIBLE] = "implausible estimate",
         [CPD_RAMP_R_FIT_FAILED] = "regression failed",
+        [CPD_RAMP_R_STEPS] = "not defined for a step test",
+        [CPD_RAMP_R_NOT_IDENTIFIABLE] = "not identifiable from the data",
     };
     if (reason < 0 || reason >= CPD_RAMP_NREASONS)
         return "unknown reason";
@@ -303,8 +320,8 @@ static int check_opts(const cpd_ramp_opts *o, char *msg)
         say(msg, CPD_MSG_MAX, "unknown modality %d", (int)o->modality);
         return CPD_EUSAGE;
     }
-    if (!(o->rate_per_min > 0) || !isfinite(o->rate_per_min)) {
-        say(msg, CPD_MSG_MAX, "the ramp rate must be positive");
+    if (!(o->rate_per_min >= 0) || !isfinite(o->rate_per_min)) {
+        say(msg, CPD_MSG_MAX, "the ramp rate must be positive (or 0: read from the recorded intensity)");
         return CPD_EUSAGE;
     }
     if (!(o->start >= 0) || !isfinite(o->start) || !isfinite(o->onset_s) || (o->end_given && !isfinite(o->end_s))) {
@@ -333,9 +350,11 @@ static int check_opts(const cpd_ramp_opts *o, char *msg)
     }
     if (!(o->mass_kg >= 0 && o->mass_kg <= 400) || !(o->manual_get_vo2_ml_min >= 0) ||
         !(o->manual_rcp_vo2_ml_min >= 0) || o->manual_get_vo2_ml_min > CPD_RAMP_VO2_MAX_ML_MIN ||
-        o->manual_rcp_vo2_ml_min > CPD_RAMP_VO2_MAX_ML_MIN) {
-        say(msg, CPD_MSG_MAX, "mass (0..400 kg) and manual VO2 values (0..%.0f mL/min) out of range",
-            CPD_RAMP_VO2_MAX_ML_MIN);
+        o->manual_rcp_vo2_ml_min > CPD_RAMP_VO2_MAX_ML_MIN || !(o->manual_get_intensity >= 0) ||
+        !(o->manual_rcp_intensity >= 0) || !isfinite(o->manual_get_intensity) || !isfinite(o->manual_rcp_intensity) ||
+        o->protocol < CPD_RAMP_PROTO_AUTO || o->protocol > CPD_RAMP_PROTO_STEPS) {
+        say(msg, CPD_MSG_MAX, "mass (0..400 kg), manual VO2 values (0..%.0f mL/min), manual intensities (>= 0) "
+            "or protocol out of range", CPD_RAMP_VO2_MAX_ML_MIN);
         return CPD_EUSAGE;
     }
     return CPD_OK;
@@ -426,6 +445,14 @@ static int first_reach(const struct ctx *c, const double *v, double level, doubl
     return 0;
 }
 
+/* The intensity at time t from onset: the record (1-s grid) when it is used, else the nominal line. */
+static double intensity_at(const struct ctx *c, double t)
+{
+    if (c->rec)
+        return grid_at(c->w->grid, c->w->grid->ch[c->col], t);
+    return c->start + c->rate * t / 60.0;
+}
+
 static void not_found(cpd_ramp_threshold *th, int reason, const char *fmt, ...)
 {
     memset(th, 0, sizeof *th);
@@ -448,7 +475,7 @@ static void place_at(const struct ctx *c, cpd_ramp_threshold *th, double t, doub
     th->vo2_ml_min = vo2;
     th->pct_vo2peak = 100.0 * vo2 / c->res->vo2peak_ml_min;
     th->time_s = t;
-    th->ramp_intensity = c->o->start + c->o->rate_per_min * t / 60.0;
+    th->ramp_intensity = intensity_at(c, t);
     if (c->w->grid->ch[CPD_GX_HR]) {
         th->has_hr = 1;
         th->hr_bpm = grid_at(c->w->grid, c->w->sm_hr, t);
@@ -463,6 +490,34 @@ static void place_vo2(const struct ctx *c, cpd_ramp_threshold *th, double vo2, i
         return;
     }
     place_at(c, th, t, vo2, status, method);
+}
+
+/* A reviewer's threshold given as an intensity: its VO2 from the record (a ramp: the smoothed VO2
+ * when the intensity first reaches it; steps: the stage steady states, linear between stages). */
+static void place_intensity(const struct ctx *c, cpd_ramp_threshold *th, double x)
+{
+    const char *method = "manual (intensity)";
+    if (c->steps) {
+        double vo2;
+        if (cpd_steps_at(&c->res->steps, x, 1, &vo2) != CPD_OK) {
+            not_found(th, CPD_RAMP_R_NOT_REACHED, "%g lies outside the stages (%g to %g)", x, c->res->steps.stage[0].intensity,
+                      c->res->steps.stage[c->res->steps.n - 1].intensity);
+            return;
+        }
+        place_vo2(c, th, vo2, CPD_THR_MANUAL, method);
+    } else {
+        const cpd_gx_series *g = c->w->grid;
+        size_t i = c->i0;
+        while (i <= c->i1 && intensity_at(c, g->t_s[i]) < x)
+            i++;
+        if (i > c->i1) {
+            not_found(th, CPD_RAMP_R_NOT_REACHED, "the intensity never reaches %g during the test", x);
+            return;
+        }
+        place_at(c, th, g->t_s[i], c->w->sm_vo2[i], CPD_THR_MANUAL, method);
+    }
+    if (th->status != CPD_THR_NOT_FOUND)
+        th->ramp_intensity = x;
 }
 
 static int cmp_pt(const void *a, const void *b)
@@ -737,25 +792,112 @@ static void baseline(struct ctx *c)
     else if (s->ch[col] && m > 0)
         r->baseline_intensity = sumc / (double)m;
     else
-        r->baseline_intensity = c->o->start;
+        r->baseline_intensity = c->start;
     if (m >= BASE_MIN_N && s->t_s[0] <= -BASE_MIN_S) {
         r->has_baseline = 1;
         r->baseline_vo2_ml_min = sum / (double)m;
     }
 }
 
-/* Lagged-linear MRT from the line a + s t (cov: its covariance, row-major 2 x 2) and the baseline.
- * Fills the estimate fields or the reason. */
-static void mrt_from_line(struct ctx *c, double a, double s, const double *cov)
+/* ---- MRT without a baseline: VO2 = a + G P_f(t) over the 1-s grid from onset, P_f the intensity
+ * through a first-order filter of time constant tau (the MRT) that starts at the baseline intensity;
+ * the curvature of the early response identifies tau (Whipp et al. 1981's first-order model). */
+struct mrtfit {
+    const double *t, *p, *v; /* grid from onset: time, intensity, VO2 */
+    size_t n;
+    double p0;               /* intensity before onset */
+    double *pf;              /* scratch, n */
+};
+
+static void mrt_filter(const struct mrtfit *m, double tau, double *pf)
+{
+    double y = m->p0;
+    for (size_t i = 0; i < m->n; i++) {
+        if (i > 0) {
+            double dt = m->t[i] - m->t[i - 1], u = 0.5 * (m->p[i] + m->p[i - 1]);
+            y += (1 - exp(-dt / tau)) * (u - y);
+        }
+        pf[i] = y;
+    }
+}
+
+static int mrt_resid(const double *b, void *ctx, double *f)
+{
+    const struct mrtfit *m = ctx;
+    if (!(b[2] > 0.1 && b[2] < 1000))
+        return 1;
+    mrt_filter(m, b[2], m->pf);
+    for (size_t i = 0; i < m->n; i++)
+        f[i] = b[0] + b[1] * m->pf[i] - m->v[i];
+    return 0;
+}
+
+static void mrt_filtered(struct ctx *c, double t_hi)
 {
     cpd_ramp_result *r = c->res;
-    const cpd_ramp_opts *o = c->o;
+    const cpd_gx_series *g = c->w->grid;
+    size_t n = 0;
+    while (c->i0 + n < g->n && g->t_s[c->i0 + n] <= t_hi)
+        n++;
+    double *buf = n >= GAIN_MIN_N ? malloc(2 * n * sizeof *buf) : NULL;
+    if (!buf) {
+        r->mrt_reason = CPD_RAMP_R_FEW_POINTS;
+        say(r->mrt_why, sizeof r->mrt_why, "no baseline and %zu s from onset to %.0f s", n, t_hi);
+        return;
+    }
+    double *pv = buf + n;
+    for (size_t i = 0; i < n; i++)
+        pv[i] = intensity_at(c, g->t_s[c->i0 + i]);
+    struct mrtfit m = {g->t_s + c->i0, pv, g->ch[CPD_GX_VO2] + c->i0, n,
+                       c->o->baseline_given ? c->o->baseline_intensity : pv[0], buf};
+    /* start: the best tau of a coarse grid, a and G by OLS for each */
+    double b0[3] = {0, 0, 0}, best = -1;
+    for (double tau = 5; tau <= MRT_MAX_S; tau += 5) {
+        cpd_linfit_result f;
+        mrt_filter(&m, tau, buf);
+        if (cpd_linfit_line(buf, m.v, n, &f) == CPD_OK && (best < 0 || f.rss < best)) {
+            best = f.rss;
+            b0[0] = f.b[0];
+            b0[1] = f.b[1];
+            b0[2] = tau;
+        }
+    }
+    cpd_nlfit_ws *ws = best >= 0 ? cpd_nlfit_alloc() : NULL;
+    cpd_nlfit_result fr;
+    cpd_nlfit_problem pr = {n, 3, mrt_resid, NULL, &m};
+    int rc = ws ? cpd_nlfit_solve(ws, &pr, b0, NULL, &fr) : CPD_ENODATA;
+    cpd_nlfit_free(ws);
+    free(buf);
+    if (rc) {
+        r->mrt_reason = CPD_RAMP_R_FIT_FAILED;
+        say(r->mrt_why, sizeof r->mrt_why, "no baseline, and the first-order fit of VO2 on the intensity from onset "
+            "to %.0f s failed", t_hi);
+        return;
+    }
+    double tau = fr.b[2], se = fr.se[2];
+    if (!fr.has_se || !(tau > 1 && tau < MRT_MAX_S) || (se > MRT_NI_FRAC * tau && se > MRT_NI_MIN_S)) {
+        r->mrt_reason = CPD_RAMP_R_NOT_IDENTIFIABLE;
+        say(r->mrt_why, sizeof r->mrt_why, "no baseline, and the early curvature does not identify it (fit %.0f +- %.0f s)",
+            tau, fr.has_se ? se : 0.0);
+        return;
+    }
+    r->mrt_reason = CPD_RAMP_R_NONE;
+    r->mrt_why[0] = '\0';
+    r->has_mrt_est = 1;
+    r->mrt_without_baseline = 1;
+    r->mrt_est_s = tau;
+    r->mrt_est_se_s = se;
+}
+
+/* Lagged-linear MRT from the line a + s t (cov: its covariance, row-major 2 x 2) and the baseline.
+ * Fills the estimate fields or the reason. */
+static void mrt_from_line(struct ctx *c, double a, double s, const double *cov, double t_hi)
+{
+    cpd_ramp_result *r = c->res;
     r->has_mrt_est = 0;
     r->mrt_est_s = r->mrt_est_se_s = 0;
     if (!r->has_baseline) {
-        r->mrt_reason = CPD_RAMP_R_NO_BASELINE;
-        say(r->mrt_why, sizeof r->mrt_why, "no baseline: need %.0f s and %d samples before onset", BASE_MIN_S,
-            BASE_MIN_N);
+        mrt_filtered(c, t_hi);
         return;
     }
     const cpd_gx_series *cs = c->w->clean;
@@ -769,7 +911,7 @@ static void mrt_from_line(struct ctx *c, double a, double s, const double *cov)
         }
     double vb = ss / (double)(m - 1) / (double)m; /* variance of the baseline mean */
     double d = b - a;
-    double mrt = d / s + 60.0 * (o->start - r->baseline_intensity) / o->rate_per_min;
+    double mrt = d / s + 60.0 * (c->start - r->baseline_intensity) / c->rate;
     /* delta method: dMRT/db = 1/s, dMRT/da = -1/s, dMRT/ds = -(b - a)/s^2 */
     double var = (vb + cov[0]) / (s * s) + d * d / (s * s * s * s) * cov[3] + 2 * d / (s * s * s) * cov[1];
     if (!(mrt >= 0 && mrt <= MRT_MAX_S)) {
@@ -794,7 +936,7 @@ static int sub_get_line(struct ctx *c, double t_lo, double t_hi)
     size_t m = 0;
     if (t_hi - t_lo < GAIN_MIN_SPAN_S) {
         r->gain_reason = CPD_RAMP_R_FEW_POINTS;
-        say(r->gain_why, sizeof r->gain_why, "the GET at %.0f s leaves less than %.0f s of linear range", t_hi,
+        say(r->gain_why, sizeof r->gain_why, "the range ending at %.0f s leaves less than %.0f s of linear range", t_hi,
             GAIN_MIN_SPAN_S);
         return 0;
     }
@@ -810,14 +952,38 @@ static int sub_get_line(struct ctx *c, double t_lo, double t_hi)
     }
     r->gain_status = CPD_THR_FOUND;
     r->gain_reason = CPD_RAMP_R_NONE;
-    r->gain = 60.0 * f.b[1] / o->rate_per_min;
-    r->gain_se = 60.0 * f.se[1] / o->rate_per_min;
+    r->gain = 60.0 * f.b[1] / c->rate;
+    r->gain_se = 60.0 * f.se[1] / c->rate;
     r->gain_t_lo_s = t_lo;
     r->gain_t_hi_s = t_hi;
     r->slope_ml_min_s = f.b[1];
     r->gain_in_range = o->modality == CPD_RAMP_POWER ? r->gain >= GAIN_LO && r->gain <= GAIN_HI : -1;
-    mrt_from_line(c, f.b[0], f.b[1], f.cov);
+    mrt_from_line(c, f.b[0], f.b[1], f.cov, t_hi);
     return 1;
+}
+
+/* A step test's gain from the stage steady states (steps.h). */
+static void steps_gain(struct ctx *c)
+{
+    cpd_ramp_result *r = c->res;
+    double get = r->get.status != CPD_THR_NOT_FOUND ? r->get.vo2_ml_min : 0;
+    if (cpd_steps_gain(&r->steps, get, r->peak_intensity) != CPD_OK) {
+        r->gain_reason = CPD_RAMP_R_FEW_POINTS;
+        say(r->gain_why, sizeof r->gain_why, "fewer than 3 stages below the %s", get > 0 ? "GET or 80 %% of peak" : "80 %% of peak");
+        return;
+    }
+    r->gain_status = CPD_THR_FOUND;
+    r->gain_reason = CPD_RAMP_R_NONE;
+    r->gain_basis = r->steps.gain_basis == CPD_STEPS_GAIN_BELOW_GET ? CPD_RAMP_GAIN_BELOW_GET : CPD_RAMP_GAIN_BELOW_80PCT;
+    r->gain = r->steps.gain;
+    r->gain_se = r->steps.gain_se;
+    r->gain_in_range = c->o->modality == CPD_RAMP_POWER ? r->gain >= GAIN_LO && r->gain <= GAIN_HI : -1;
+    for (size_t k = 0; k < r->steps.n; k++)
+        if (r->steps.stage[k].in_gain) {
+            if (r->gain_t_hi_s == 0)
+                r->gain_t_lo_s = r->steps.stage[k].t_start_s;
+            r->gain_t_hi_s = r->steps.stage[k].t_end_s;
+        }
 }
 
 /* Gain and MRT by the lagged-linear model (Whipp et al. 1981 J Appl Physiol 50:217): above the
@@ -832,21 +998,39 @@ static void gain_mrt(struct ctx *c)
     const cpd_ramp_opts *o = c->o;
     r->gain_in_range = -1;
     const cpd_ramp_threshold *get = &r->get;
-    if (get->status == CPD_THR_NOT_FOUND) {
-        r->gain_reason = CPD_RAMP_R_NO_GET;
-        say(r->gain_why, sizeof r->gain_why, "the gain is fitted below the GET, which is not available");
+    if (c->steps) {
+        steps_gain(c);
+    } else if (get->status == CPD_THR_NOT_FOUND) {
+        /* no GET (a VO2-only file, or none visible): the line runs up to 80 % of the peak intensity */
+        double t_hi = -1, lim = GAIN_PEAK_FRAC * r->peak_intensity;
+        const cpd_gx_series *g = c->w->grid;
+        for (size_t i = c->i0; i <= c->i1 && t_hi < 0; i++)
+            if (intensity_at(c, g->t_s[i]) >= lim)
+                t_hi = g->t_s[i];
+        double t_lo = t_hi - GAIN_T_LO_S >= 90.0 ? GAIN_T_LO_S : EXCLUDE_FIRST_S;
+        if (t_hi > 0 && sub_get_line(c, t_lo, t_hi))
+            r->gain_basis = CPD_RAMP_GAIN_BELOW_80PCT;
+        else if (t_hi <= 0) {
+            r->gain_reason = CPD_RAMP_R_NO_GET;
+            say(r->gain_why, sizeof r->gain_why, "no GET, and the intensity never reaches 80 %% of its peak");
+        }
     } else {
         double t_hi = get->time_s;
         double t_lo = t_hi - GAIN_T_LO_S >= 90.0 ? GAIN_T_LO_S : EXCLUDE_FIRST_S;
-        int step = fabs(o->start - r->baseline_intensity) > o->rate_per_min / 2;
+        int step = fabs(c->start - r->baseline_intensity) > c->rate / 2;
         if (sub_get_line(c, t_lo, t_hi) && step && r->has_mrt_est && 4 * r->mrt_est_s > t_lo &&
             t_hi - 4 * r->mrt_est_s >= 90.0) {
             cpd_ramp_result first = *r;
             if (!sub_get_line(c, 4 * r->mrt_est_s, t_hi))
                 *r = first;
         }
+        if (r->gain_status == CPD_THR_FOUND)
+            r->gain_basis = CPD_RAMP_GAIN_BELOW_GET;
     }
-    if (r->gain_status != CPD_THR_FOUND) {
+    if (c->steps) {
+        r->mrt_reason = CPD_RAMP_R_STEPS;
+        say(r->mrt_why, sizeof r->mrt_why, "a step test has no ramp lag: its equivalents come from the stage steady states");
+    } else if (r->gain_status != CPD_THR_FOUND) {
         r->mrt_reason = r->gain_reason;
         say(r->mrt_why, sizeof r->mrt_why, "MRT needs the sub-GET VO2 line: %s", r->gain_why);
     }
@@ -864,10 +1048,17 @@ static void gain_mrt(struct ctx *c)
 static void equivalents(struct ctx *c)
 {
     cpd_ramp_result *r = c->res;
+    cpd_ramp_threshold *all[4] = {&r->get, &r->get_auto, &r->rcp, &r->rcp_auto};
+    if (c->steps) { /* the intensity whose stage steady state has the threshold's VO2 */
+        for (int k = 0; k < 4; k++)
+            if (all[k]->status != CPD_THR_NOT_FOUND &&
+                cpd_steps_at(&r->steps, all[k]->vo2_ml_min, 0, &all[k]->equiv_intensity) == CPD_OK)
+                all[k]->has_equiv = 1;
+        return;
+    }
     if (r->mrt_status == CPD_THR_NOT_FOUND)
         return;
-    cpd_ramp_threshold *all[4] = {&r->get, &r->get_auto, &r->rcp, &r->rcp_auto};
-    double shift = c->o->rate_per_min * r->mrt_s / 60.0;
+    double shift = c->rate * r->mrt_s / 60.0;
     for (int k = 0; k < 4; k++)
         if (all[k]->status != CPD_THR_NOT_FOUND) {
             all[k]->has_equiv = 1;
@@ -881,6 +1072,15 @@ static void plateau(struct ctx *c)
     cpd_linfit_result f;
     size_t m = 0;
     r->plateau = -1;
+    if (c->steps) {
+        size_t n = r->steps.n;
+        if (n < 2) {
+            say(r->plateau_why, sizeof r->plateau_why, "fewer than 2 stages");
+            return;
+        }
+        r->plateau = r->steps.stage[n - 1].vo2_ml_min - r->steps.stage[n - 2].vo2_ml_min < STEPS_PLATEAU_ML_MIN;
+        return;
+    }
     if (vo2_line(c->w, c->t_end - PLATEAU_WIN_S, c->t_end, 10, &f, &m) != CPD_OK) {
         say(r->plateau_why, sizeof r->plateau_why, "%zu samples in the final %.0f s", m, PLATEAU_WIN_S);
         return;
@@ -910,15 +1110,121 @@ static void column_check(struct ctx *c)
 {
     cpd_ramp_result *r = c->res;
     const cpd_gx_series *g = c->w->grid;
-    int col = c->o->modality == CPD_RAMP_POWER ? CPD_GX_POWER : CPD_GX_SPEED;
-    if (!g->ch[col])
+    const cpd_ramp_opts *o = c->o;
+    if (!g->ch[c->col])
         return;
     r->has_column = 1;
+    if (!(o->rate_per_min > 0))
+        return; /* nothing nominal to compare */
+    double start = o->start_given || !r->has_record_line ? o->start : r->record_start;
     double sum = 0;
     for (size_t i = c->i0; i <= c->i1; i++)
-        sum += fabs(g->ch[col][i] - (c->o->start + c->o->rate_per_min * g->t_s[i] / 60.0));
+        sum += fabs(g->ch[c->col][i] - (start + o->rate_per_min * g->t_s[i] / 60.0));
     r->column_mad = sum / (double)(c->i1 - c->i0 + 1);
-    r->column_mismatch = r->column_mad > COLUMN_MISMATCH_FRAC * c->o->rate_per_min * c->t_end / 60.0;
+    r->column_mismatch = r->column_mad > COLUMN_MISMATCH_FRAC * o->rate_per_min * c->t_end / 60.0;
+    if (r->intensity_recorded) {
+        r->has_nominal = 1;
+        r->nominal_rate = o->rate_per_min;
+        r->nominal_start = o->start_given ? o->start : 0;
+        r->nominal_mismatch = c->steps ? fabs(o->rate_per_min - r->record_rate) > STEPS_RATE_MISMATCH * r->record_rate
+                                       : r->column_mismatch;
+    }
+}
+
+/* The end of exercise in the record: the last sample before the intensity falls below its running
+ * highest value (of 3-sample medians, so one spike does not count) by more than max(abs, 10 %) for
+ * DROP_S seconds; the last sample when it never does. Samples from onset (t >= 0). */
+static double record_end(const cpd_gx_series *s, int col, double drop_abs)
+{
+    const double *t = s->t_s, *v = s->ch[col];
+    size_t i = 0, n = s->n;
+    while (i < n && t[i] < 0)
+        i++;
+    if (i >= n)
+        return t[n - 1];
+    size_t last = i;
+    double M = v[i];
+    for (; i < n; i++) {
+        if (i > 0 && i + 1 < n) {
+            double a = v[i - 1], b = v[i], d = v[i + 1];
+            double med = fmax(fmin(a, b), fmin(fmax(a, b), d));
+            if (med > M)
+                M = med;
+        }
+        double lim = M - fmax(drop_abs, DROP_FRAC * M);
+        if (v[i] >= lim) {
+            last = i;
+            continue;
+        }
+        int held = 1;
+        for (size_t j = i; j < n && t[j] <= t[i] + DROP_S; j++)
+            if (v[j] >= lim) {
+                held = 0;
+                break;
+            }
+        if (held)
+            return t[last];
+    }
+    return t[last];
+}
+
+/* The record's line over the exercise, the stages and the protocol; the intensities used. */
+static int read_record(struct ctx *c, int has_col, char *msg)
+{
+    cpd_ramp_result *r = c->res;
+    const cpd_ramp_opts *o = c->o;
+    const cpd_gx_series *cl = c->w->clean;
+    int proto = o->protocol;
+    if (has_col) {
+        size_t a = 0, m = 0;
+        while (a < cl->n && cl->t_s[a] < 0)
+            a++;
+        while (a + m < cl->n && cl->t_s[a + m] <= c->t_end)
+            m++;
+        cpd_linfit_result f;
+        if (m >= 3 && cpd_linfit_line(cl->t_s + a, cl->ch[c->col] + a, m, &f) == CPD_OK) {
+            r->has_record_line = 1;
+            r->record_rate = 60.0 * f.b[1];
+            r->record_start = f.b[0];
+        }
+        double tol = o->modality == CPD_RAMP_POWER ? CPD_STEPS_TOL_W : CPD_STEPS_TOL_M_S;
+        cpd_steps_find(cl->t_s, cl->ch[c->col], cl->n, c->t_end, tol, &r->steps);
+        if (!proto)
+            proto = cpd_steps_is_steps(&r->steps) ? CPD_RAMP_PROTO_STEPS : CPD_RAMP_PROTO_RAMP;
+        r->protocol_from_record = !o->protocol;
+    } else if (proto == CPD_RAMP_PROTO_STEPS) {
+        say(msg, CPD_MSG_MAX, "a step test is read from the recorded intensity (%s): the file has no usable column",
+            cpd_gx_channel_name(c->col));
+        return CPD_EUSAGE;
+    } else {
+        proto = CPD_RAMP_PROTO_RAMP;
+    }
+    r->protocol = proto;
+    c->steps = proto == CPD_RAMP_PROTO_STEPS;
+    if (c->steps && r->steps.n < 2) {
+        say(msg, CPD_MSG_MAX, "no stages in the recorded intensity (each held >= %.0f s and higher than the one before)",
+            CPD_STEPS_MIN_STAGE_S);
+        return CPD_ENODATA;
+    }
+    if (!c->steps)
+        memset(&r->steps, 0, sizeof r->steps);
+    if (has_col && (c->steps || r->record_rate > 0)) {
+        c->rec = 1;
+        c->rate = r->record_rate;
+        c->start = r->record_start;
+    } else if (o->rate_per_min > 0) {
+        c->rec = 0;
+        c->rate = o->rate_per_min;
+        c->start = o->start;
+    } else {
+        say(msg, CPD_MSG_MAX, "the recorded %s does not rise during the exercise: give the ramp rate and start",
+            cpd_gx_channel_name(c->col));
+        return CPD_EUSAGE;
+    }
+    r->intensity_recorded = c->rec;
+    r->rate_used = c->rate;
+    r->start_used = c->start;
+    return CPD_OK;
 }
 
 /* Flags outliers in VO2, VCO2 and VE (cpd_gx_outliers) and drops the samples; repeats on what
@@ -1000,7 +1306,24 @@ static int prepare(struct ctx *c, const cpd_gx_series *s, char *msg)
         say(msg, CPD_MSG_MAX, "no samples after the onset");
         return CPD_ENODATA;
     }
-    int col = o->modality == CPD_RAMP_POWER ? CPD_GX_POWER : CPD_GX_SPEED;
+    int col = c->col;
+    /* a column that does not vary over the exercise (an unused channel exported as 0) is no record */
+    int has_col = cl->ch[col] != NULL;
+    double drop_abs = o->modality == CPD_RAMP_POWER ? DROP_ABS_W : DROP_ABS_M_S;
+    if (has_col) {
+        double lo = INFINITY, hi = -INFINITY;
+        for (size_t i = 0; i < cl->n; i++)
+            if (cl->t_s[i] >= 0) {
+                lo = fmin(lo, cl->ch[col][i]);
+                hi = fmax(hi, cl->ch[col][i]);
+            }
+        has_col = hi - lo >= drop_abs;
+    }
+    if (!has_col && !(o->rate_per_min > 0)) {
+        say(msg, CPD_MSG_MAX, "no usable recorded intensity (%s)%s: give the ramp rate", cpd_gx_channel_name(col),
+            cl->ch[col] ? " (the column does not vary)" : "");
+        return CPD_EUSAGE;
+    }
     double t_end;
     if (o->end_given) {
         t_end = o->end_s - o->onset_s;
@@ -1010,13 +1333,10 @@ static int prepare(struct ctx *c, const cpd_gx_series *s, char *msg)
         }
         if (t_end > g->t_s[g->n - 1])
             t_end = g->t_s[g->n - 1];
-    } else if (g->ch[col]) {
-        /* the first maximum of the column: recovery after the ramp does not count */
-        size_t im = i0;
-        for (size_t i = i0; i < g->n; i++)
-            if (g->ch[col][i] > g->ch[col][im])
-                im = i;
-        t_end = g->t_s[im];
+    } else if (has_col) {
+        /* the record's end of exercise: the recovery after it does not count */
+        t_end = record_end(cl, col, drop_abs);
+        c->res->end_from_record = 1;
     } else {
         t_end = g->t_s[g->n - 1];
     }
@@ -1034,7 +1354,7 @@ static int prepare(struct ctx *c, const cpd_gx_series *s, char *msg)
     c->i0 = i0;
     c->i1 = i1;
     c->t_end = t_end;
-    return CPD_OK;
+    return read_record(c, has_col, msg);
 }
 
 static void peak(struct ctx *c)
@@ -1056,9 +1376,16 @@ static void peak(struct ctx *c)
             ib = i;
     r->vo2peak_ml_min = c->w->trail[ib];
     r->vo2peak_time_s = g->t_s[ib];
-    r->vo2peak_intensity = o->start + o->rate_per_min * g->t_s[ib] / 60.0;
+    r->vo2peak_intensity = intensity_at(c, g->t_s[ib]);
     r->duration_s = c->t_end;
-    r->peak_intensity = o->start + o->rate_per_min * c->t_end / 60.0;
+    r->peak_intensity = c->start + c->rate * c->t_end / 60.0;
+    if (c->rec) { /* the highest recorded intensity of the exercise */
+        const cpd_gx_series *cl = c->w->clean;
+        r->peak_intensity = 0;
+        for (size_t i = 0; i < cl->n && cl->t_s[i] <= c->t_end; i++)
+            if (cl->t_s[i] >= 0 && cl->ch[c->col][i] > r->peak_intensity)
+                r->peak_intensity = cl->ch[c->col][i];
+    }
     if (o->mass_kg > 0) {
         r->has_relative = 1;
         r->vo2peak_ml_kg_min = r->vo2peak_ml_min / o->mass_kg;
@@ -1085,7 +1412,7 @@ int cpd_ramp_analyse(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts
         goto done;
     res->modality = o->modality;
     res->n_samples = s->n;
-    struct ctx c = {.o = o, .w = w, .res = res};
+    struct ctx c = {.o = o, .w = w, .res = res, .col = o->modality == CPD_RAMP_POWER ? CPD_GX_POWER : CPD_GX_SPEED};
     rc = prepare(&c, s, msg);
     if (rc)
         goto done;
@@ -1095,14 +1422,22 @@ int cpd_ramp_analyse(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts
         goto done;
     }
     peak(&c);
+    if (c.steps && (rc = cpd_steps_means(&res->steps, w->grid)) != CPD_OK) {
+        say(msg, CPD_MSG_MAX, "a stage has no samples for its steady state");
+        goto done;
+    }
     find_rcp(&c);
     find_get(&c);
     if (o->manual_get_vo2_ml_min > 0)
         place_vo2(&c, &res->get, o->manual_get_vo2_ml_min, CPD_THR_MANUAL, "manual");
+    else if (o->manual_get_intensity > 0)
+        place_intensity(&c, &res->get, o->manual_get_intensity);
     else
         res->get = res->get_auto;
     if (o->manual_rcp_vo2_ml_min > 0)
         place_vo2(&c, &res->rcp, o->manual_rcp_vo2_ml_min, CPD_THR_MANUAL, "manual");
+    else if (o->manual_rcp_intensity > 0)
+        place_intensity(&c, &res->rcp, o->manual_rcp_intensity);
     else
         res->rcp = res->rcp_auto;
     baseline(&c);

@@ -23,6 +23,33 @@ static int add_channel(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *n
     return CPD_OK;
 }
 
+/* The columns of db/005_gx_protocol.sql for the test just inserted. */
+static int add_protocol(cpd_store *s, const cpd_gx_test *t, int64_t id)
+{
+    sqlite3_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            "UPDATE gx_test SET protocol = ?2, end_s = ?3, get_intensity_manual = ?4, "
+                            "rcp_intensity_manual = ?5, hr_dropped = ?6, blank_cells = ?7 WHERE id = ?1",
+                            &st);
+    if (rc)
+        return rc;
+    int ramp = t->kind == CPD_GXT_RAMP;
+    sqlite3_bind_int64(st, 1, id);
+    if (ramp && t->protocol)
+        sqlite3_bind_text(st, 2, t->protocol == 2 ? "steps" : "ramp", -1, SQLITE_STATIC);
+    else
+        sqlite3_bind_null(st, 2);
+    cpd_st_bind_opt(st, 3, t->has_end, t->end_s);
+    cpd_st_bind_opt(st, 4, ramp && t->has_get_intensity, t->get_intensity_manual);
+    cpd_st_bind_opt(st, 5, ramp && t->has_rcp_intensity, t->rcp_intensity_manual);
+    sqlite3_bind_int64(st, 6, (sqlite3_int64)t->hr_dropped);
+    sqlite3_bind_int64(st, 7, (sqlite3_int64)t->blank_cells);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "storing a test");
+    sqlite3_finalize(st);
+    return rc;
+}
+
 int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *series, int64_t *id)
 {
     int64_t aid = 0;
@@ -52,8 +79,8 @@ int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *se
     sqlite3_bind_text(st, 2, kind_sql(t->kind), -1, SQLITE_STATIC);
     sqlite3_bind_text(st, 3, t->date, -1, SQLITE_TRANSIENT);
     sqlite3_bind_text(st, 4, t->speed ? "speed" : "power", -1, SQLITE_STATIC);
-    cpd_st_bind_opt(st, 5, ramp, t->rate_per_min);
-    cpd_st_bind_opt(st, 6, ramp, t->start);
+    cpd_st_bind_opt(st, 5, ramp && (t->has_rate || t->rate_per_min > 0), t->rate_per_min);
+    cpd_st_bind_opt(st, 6, ramp && (t->has_start || t->start > 0), t->start);
     cpd_st_bind_opt(st, 7, !ramp, t->intensity);
     cpd_st_bind_opt(st, 8, t->has_baseline, t->baseline);
     sqlite3_bind_double(st, 9, t->onset_s);
@@ -71,6 +98,8 @@ int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *se
     *id = sqlite3_last_insert_rowid(s->db);
     sqlite3_finalize(st);
     st = NULL;
+    if ((rc = add_protocol(s, t, *id)))
+        goto done;
     if ((rc = cpd_st_prepare(s, "INSERT INTO gx_channel (test_id, channel, data) VALUES (?1, ?2, ?3)", &st)))
         goto done;
     if ((rc = add_channel(s, st, *id, "time_s", series->t_s, series->n, buf)))
@@ -86,7 +115,8 @@ done:
 
 #define GX_COLS                                                                                                \
     "t.id, a.code, t.kind, t.date, t.modality, t.rate_per_min, t.start, t.intensity, t.baseline, t.onset_s, " \
-    "t.mrt_s, t.get_vo2_manual, t.rcp_vo2_manual, t.n_samples, t.note, t.source_file, t.imported_at"
+    "t.mrt_s, t.get_vo2_manual, t.rcp_vo2_manual, t.n_samples, t.note, t.source_file, t.imported_at, "    \
+    "t.protocol, t.end_s, t.get_intensity_manual, t.rcp_intensity_manual, t.hr_dropped, t.blank_cells"
 
 static void read_test(sqlite3_stmt *st, cpd_gx_test *t)
 {
@@ -98,8 +128,8 @@ static void read_test(sqlite3_stmt *st, cpd_gx_test *t)
     cpd_st_text(st, 3, t->date, sizeof t->date);
     const unsigned char *m = sqlite3_column_text(st, 4);
     t->speed = m && strcmp((const char *)m, "speed") == 0;
-    t->rate_per_min = cpd_st_opt(st, 5, NULL);
-    t->start = cpd_st_opt(st, 6, NULL);
+    t->rate_per_min = cpd_st_opt(st, 5, &t->has_rate);
+    t->start = cpd_st_opt(st, 6, &t->has_start);
     t->intensity = cpd_st_opt(st, 7, NULL);
     t->baseline = cpd_st_opt(st, 8, &t->has_baseline);
     t->onset_s = sqlite3_column_double(st, 9);
@@ -110,6 +140,13 @@ static void read_test(sqlite3_stmt *st, cpd_gx_test *t)
     cpd_st_text(st, 14, t->note, sizeof t->note);
     cpd_st_text(st, 15, t->source_file, sizeof t->source_file);
     cpd_st_text(st, 16, t->imported_at, sizeof t->imported_at);
+    const unsigned char *p = sqlite3_column_text(st, 17);
+    t->protocol = !p ? 0 : strcmp((const char *)p, "steps") == 0 ? 2 : 1;
+    t->end_s = cpd_st_opt(st, 18, &t->has_end);
+    t->get_intensity_manual = cpd_st_opt(st, 19, &t->has_get_intensity);
+    t->rcp_intensity_manual = cpd_st_opt(st, 20, &t->has_rcp_intensity);
+    t->hr_dropped = (size_t)sqlite3_column_int64(st, 21);
+    t->blank_cells = (size_t)sqlite3_column_int64(st, 22);
 }
 
 static int load_series(cpd_store *s, const cpd_gx_test *t, cpd_gx_series **out)
@@ -220,10 +257,15 @@ int cpd_store_gx_list(cpd_store *s, const char *code, cpd_gxt_kind kind, cpd_gx_
 int cpd_store_gx_set_manual(cpd_store *s, int64_t id, int which, int has, double vo2_ml_min)
 {
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s,
-                            which ? "UPDATE gx_test SET rcp_vo2_manual = ?2 WHERE id = ?1 AND kind = 'ramp'"
-                                  : "UPDATE gx_test SET get_vo2_manual = ?2 WHERE id = ?1 AND kind = 'ramp'",
-                            &st);
+    static const char *const sql[4] = {
+        "UPDATE gx_test SET get_vo2_manual = ?2, get_intensity_manual = NULL WHERE id = ?1 AND kind = 'ramp'",
+        "UPDATE gx_test SET rcp_vo2_manual = ?2, rcp_intensity_manual = NULL WHERE id = ?1 AND kind = 'ramp'",
+        "UPDATE gx_test SET get_intensity_manual = ?2, get_vo2_manual = NULL WHERE id = ?1 AND kind = 'ramp'",
+        "UPDATE gx_test SET rcp_intensity_manual = ?2, rcp_vo2_manual = NULL WHERE id = ?1 AND kind = 'ramp'",
+    };
+    if (which < 0 || which > 3)
+        return CPD_EUSAGE;
+    int rc = cpd_st_prepare(s, sql[which], &st);
     if (rc)
         return rc;
     sqlite3_bind_int64(st, 1, id);

@@ -8,7 +8,9 @@
 typedef struct cpd_csv cpd_csv;
 
 /* Reads the whole file: header row first; a UTF-8 byte-order mark and CRLF line ends are
- * accepted; blanks around unquoted fields are dropped; blank lines are skipped. A row with more
+ * accepted; blanks around unquoted fields are dropped, a quoted field is kept exactly (RFC 4180);
+ * blank lines are skipped. A header line without a comma but with semicolons (or tabs) makes ';'
+ * (or a tab) the separator. A row with more
  * fields than the header is an error; missing trailing fields read as "". Returns CPD_OK,
  * CPD_EIO when the file cannot be read, CPD_EDATA for malformed CSV (msg says file:line:column,
  * a bad quoted field at the line where it opened), CPD_ENOMEM. msg has CPD_MSG_MAX bytes.

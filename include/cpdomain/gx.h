@@ -24,6 +24,12 @@ typedef struct {
     double *ch[CPD_GX_NCHAN]; /* channel values, n each; NULL when the channel is absent */
 } cpd_gx_series;
 
+/* Heart rates a person can have during an exercise test, beats/min (common practice: below 30 is an
+ * RR interval of 2 s or more, a lost beat; above 230 is a double-counted beat or noise). A sample
+ * outside is an artefact, dropped on import. */
+#define CPD_GX_HR_MIN 30.0
+#define CPD_GX_HR_MAX 230.0
+
 /* Bit of channel c in a channel mask. */
 #define CPD_GX_BIT(c) (1u << (c))
 

@@ -37,10 +37,26 @@ void cpd_athlete_batch_free(cpd_athlete_batch *b);
 
 /* Reads a gas-exchange CSV (SPEC.md: time_s and vo2_ml_min (or vo2_l_min) required; optional
  * vco2_ml_min (or vco2_l_min), ve_l_min, hr_bpm, power_w, speed_m_s, peto2_mmhg, petco2_mmhg) into a
- * series in SPEC units (L/min columns converted to mL/min). time_s takes seconds or h:mm:ss and may
- * not run backwards; each value must lie in its range; at least min_rows rows. Return codes as
+ * series in SPEC units (L/min columns converted to mL/min). time_s takes seconds (negative before
+ * the onset) or h:mm:ss and may not run backwards; each value must lie in its range; at least min_rows rows. Return codes as
  * cpd_import_trials. The caller frees *out with cpd_gx_free. */
 int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_series **out, char *msg);
+
+/* What cpd_import_gx_report dropped from a file instead of rejecting it. */
+typedef struct {
+    size_t hr_dropped;          /* heart rates outside CPD_GX_HR_MIN..CPD_GX_HR_MAX (artefacts) */
+    size_t blank[CPD_GX_NCHAN]; /* blank optional cells per channel ("", "-", "NA", "NaN", "null") */
+    size_t blank_total;         /* the sum of blank[] */
+} cpd_gx_import_report;
+
+/* cpd_import_gx, with the real exports' habits accepted: time_s may be negative (a baseline
+ * recorded before the onset at 0); an optional cell that is blank, and a heart rate outside the
+ * physiological range of gx.h, is dropped and counted in *rep (may be NULL), its gap bridged
+ * linearly from the neighbouring samples of that channel; an optional column without any value is
+ * absent. Required columns (time, VO2) stay strict. A VO2 column in mL/min holding L/min values,
+ * a decimal comma and a header read as one column are named in the message with what to do. */
+int cpd_import_gx_report(const char *path, const char *map, size_t min_rows, cpd_gx_series **out,
+                         cpd_gx_import_report *rep, char *msg);
 
 /* Reads a lactate step test (lactate_mmol_l and one of power_w, speed_m_s; optional hr_bpm,
  * stage_s) into t (its stages, speed flag and source_file; the caller sets athlete and date).

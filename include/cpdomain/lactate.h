@@ -74,6 +74,12 @@ typedef struct {
 int cpd_lactate_analyse(const double *intensity, const double *lactate, const double *hr, size_t n,
                         cpd_lactate_result *res, char *msg);
 
+/* A stage value at intensity x: linear between the two stages that bracket x (xs[n] strictly
+ * increasing; beyond the ends, the line through the two end stages). The rule that places HR at a
+ * lactate threshold; step tests of gas exchange use it for stage VO2 (steps.h). ys[0] when n is 1,
+ * 0 when n is 0. */
+double cpd_lactate_stage_interp(const double *xs, const double *ys, size_t n, double x);
+
 /* Short static English text of a cpd_lactate_reason; never NULL. */
 const char *cpd_lactate_reason_text(int reason);
 

@@ -6,6 +6,7 @@
 #define CPDOMAIN_RAMP_H
 
 #include "cpdomain/gx.h"
+#include "cpdomain/steps.h"
 
 #include <stddef.h>
 
@@ -13,9 +14,24 @@
  * - Cleaning: cpd_gx_outliers on VO2, VCO2 and VE (4 SD of +-10 neighbours), repeated up to three
  *   passes; 1-s interpolation; a centred 20-s mean places a VO2 level in time (first second at which it
  *   reaches the level, interpolated); a trailing 30-s mean gives VO2peak.
- * - Intensity: the nominal ramp start + rate t / 60 wins. The intensity column, when present, gives
- *   the end of the ramp (its first maximum, unless end_given), the baseline intensity (mean over the
- *   final 60 s before onset, unless baseline_given) and a consistency flag.
+ * - Intensity: the recorded column (power_w, speed_m_s) wins when present and not flat: thresholds,
+ *   VO2peak and the peak take its values; a ramp's gain and MRT use its least-squares line over the
+ *   exercise. The nominal start + rate t / 60 is used without a column (or a flat one) and is
+ *   otherwise checked against the record: mismatch when the mean |record - nominal| exceeds 5 % of
+ *   the intensity span (ramps) or the rates differ by more than 10 % (steps).
+ * - End of exercise (unless end_given): the last sample before the recorded intensity falls more than
+ *   max(10 W | 0.3 m/s, 10 % of its highest value so far) below that highest value and stays there
+ *   for 5 s; without a column, the last sample. What follows (the recovery) is kept but not analysed.
+ *   The baseline intensity is the column's mean over the final 60 s before onset (unless given).
+ * - Protocol: steps when cpd_steps_is_steps holds for the stages of the record (steps.h), else ramp.
+ *   Steps: VO2peak as for a ramp over the whole exercise (the last stage included); a steady state
+ *   per stage; gain from the stage means below the GET (else up to 80 % of peak intensity); no MRT;
+ *   the constant-intensity equivalent of a threshold is the intensity whose stage steady state has
+ *   its VO2; plateau when the last two stages differ by less than 150 mL/min (common practice).
+ * - No GET (e.g. a VO2-only file): the gain line of a ramp runs up to 80 % of the peak intensity.
+ * - No baseline before onset: the MRT is the time constant of a first-order filter of the intensity
+ *   (VO2 = a + G P_filtered(t), fitted over the gain range, the filter starting at the baseline
+ *   intensity); not identifiable when its SE exceeds half of it (and 10 s) or it lies at 0 or 180 s.
  * - Breakpoints use 10-s bin means (less noise in x for the OLS slopes); at least max(6, n/10) bins per
  *   side (n/20 for the RCP); a break needs the lines to cross inside the data and z >= 3.
  * - RCP: VE on VCO2 from 60 s to the end, upper slope >= 1.15 x lower; placed where the smoothed VCO2
@@ -63,6 +79,8 @@ typedef enum {
     CPD_RAMP_R_NO_BASELINE,  /* no pre-onset baseline (need >= 30 s and 8 samples before onset) */
     CPD_RAMP_R_IMPLAUSIBLE,  /* the estimate lies outside its plausible range */
     CPD_RAMP_R_FIT_FAILED,   /* a regression failed (degenerate data) */
+    CPD_RAMP_R_STEPS,        /* not defined for a step test */
+    CPD_RAMP_R_NOT_IDENTIFIABLE, /* the data cannot tell the value (its uncertainty is as large as itself) */
     CPD_RAMP_NREASONS
 } cpd_ramp_reason;
 
@@ -82,7 +100,23 @@ typedef struct {
     double x_lo, x_hi;    /* smallest and largest x, x unit */
 } cpd_ramp_twoseg;
 
-/* Options of an analysis. Fill with cpd_ramp_opts_init, then set at least rate_per_min and start. */
+/* The protocol of a graded test. */
+typedef enum {
+    CPD_RAMP_PROTO_AUTO = 0,  /* read from the recorded intensity (steps when cpd_steps_is_steps, else ramp) */
+    CPD_RAMP_PROTO_RAMP = 1,  /* a continuous ramp */
+    CPD_RAMP_PROTO_STEPS = 2  /* a step test: intensity held for 1-3 min, then raised */
+} cpd_ramp_protocol;
+
+/* How the gain's range was chosen. */
+typedef enum {
+    CPD_RAMP_GAIN_NONE = 0,
+    CPD_RAMP_GAIN_BELOW_GET = 1,   /* below the GET */
+    CPD_RAMP_GAIN_BELOW_80PCT = 2  /* no GET: below 80 % of the peak intensity */
+} cpd_ramp_gain_basis;
+
+/* Options of an analysis. Fill with cpd_ramp_opts_init. The series' intensity column (power_w or
+ * speed_m_s), when present, is used first; rate_per_min and start are then optional and only
+ * checked against it. Without the column rate_per_min is required. */
 typedef struct {
     cpd_ramp_modality modality;  /* CPD_RAMP_POWER (default) or CPD_RAMP_SPEED */
     double rate_per_min;         /* ramp rate, W/min or (m/s)/min, > 0 (required) */
@@ -102,6 +136,10 @@ typedef struct {
     double mass_kg;              /* body mass, kg; 0 = unknown */
     double manual_get_vo2_ml_min;/* reviewer's GET, mL/min; 0 = none */
     double manual_rcp_vo2_ml_min;/* reviewer's RCP, mL/min; 0 = none */
+    int protocol;                /* cpd_ramp_protocol (default AUTO) */
+    int start_given;             /* 1: start is the user's nominal start (else read from the record) */
+    double manual_get_intensity; /* reviewer's GET as W or m/s; 0 = none (the VO2 form wins when both) */
+    double manual_rcp_intensity; /* reviewer's RCP as W or m/s; 0 = none */
 } cpd_ramp_opts;
 
 /* A threshold (GET or RCP) placed on the ramp. */
@@ -190,6 +228,23 @@ typedef struct {
     int has_column;              /* 1 when the series carries the modality's intensity column */
     double column_mad;           /* W or m/s: mean |column - nominal ramp| over the ramp */
     int column_mismatch;         /* 1 when column_mad exceeds 5 % of the ramp's intensity span */
+
+    /* gas-exchange files as labs export them */
+    int protocol;                /* cpd_ramp_protocol analysed: RAMP or STEPS */
+    int protocol_from_record;    /* 1 when the protocol was read from the recorded intensity */
+    int intensity_recorded;      /* 1 intensities are read from the record, 0 from the nominal rate and start */
+    double rate_used;            /* W/min or (m/s)/min: the ramp line used (the record's, else nominal) */
+    double start_used;           /* W or m/s at onset on that line */
+    int has_record_line;         /* 1 when the record's least-squares line over the exercise exists */
+    double record_rate;          /* W/min or (m/s)/min: slope of the recorded intensity on time (x 60) */
+    double record_start;         /* W or m/s: its value at onset */
+    int has_nominal;             /* 1 when a nominal rate was given beside the record */
+    double nominal_rate, nominal_start; /* as given (start: 0 when not given) */
+    int nominal_mismatch;        /* 1 when nominal and record disagree beyond the tolerance of ramp.h */
+    int end_from_record;         /* 1 the end was found from the record, 0 given (end_given) or the last sample */
+    int gain_basis;              /* cpd_ramp_gain_basis */
+    int mrt_without_baseline;    /* 1 when the MRT estimate comes from the filtered-record fit (no baseline) */
+    cpd_steps_result steps;      /* the stages and their steady states (n = 0 for a ramp) */
 } cpd_ramp_result;
 
 /* Which points cpd_ramp_points returns. */

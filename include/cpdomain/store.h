@@ -146,6 +146,18 @@ typedef struct {
     char note[CPD_NOTE_MAX + 1];
     char source_file[CPD_PATH_MAX + 1];
     char imported_at[21];           /* "" lets the store set it */
+    /* db/005_gx_protocol.sql */
+    int has_rate;                   /* ramp: 1 when the nominal rate was given (also when rate_per_min > 0) */
+    int has_start;                  /* ramp: 1 when the nominal start was given (also when start > 0) */
+    int protocol;                   /* ramp: 0 read from the recorded intensity, 1 ramp, 2 steps */
+    int has_end;                    /* 1 when end_s was given */
+    double end_s;                   /* file time at which the exercise ended, s */
+    int has_get_intensity;          /* ramp: 1 when a reviewer set the GET as an intensity */
+    double get_intensity_manual;    /* W or m/s */
+    int has_rcp_intensity;          /* ramp: 1 when a reviewer set the RCP as an intensity */
+    double rcp_intensity_manual;    /* W or m/s */
+    size_t hr_dropped;              /* heart rates dropped on import as artefacts */
+    size_t blank_cells;             /* blank optional cells dropped on import */
 } cpd_gx_test;
 
 /* Stores a test and its samples (every channel of series) atomically; *id receives its id. */
@@ -155,7 +167,9 @@ int cpd_store_gx_add(cpd_store *s, const cpd_gx_test *t, const cpd_gx_series *se
 int cpd_store_gx_get(cpd_store *s, int64_t id, cpd_gxt_kind kind, cpd_gx_test *t, cpd_gx_series **series);
 /* The athlete's tests of a kind, oldest first (code NULL: everyone's). The caller frees *out. */
 int cpd_store_gx_list(cpd_store *s, const char *code, cpd_gxt_kind kind, cpd_gx_test **out, size_t *n);
-/* Sets (has = 1) or clears a ramp's manual GET (which = 0) or RCP (which = 1) VO2. */
+/* Sets (has = 1) or clears a ramp's manual GET (which = 0) or RCP (which = 1) VO2; which 2 (GET)
+ * and 3 (RCP) set the threshold as an intensity (W or m/s) instead. Setting one form of a threshold
+ * clears the other; clearing clears both. */
 int cpd_store_gx_set_manual(cpd_store *s, int64_t id, int which, int has, double vo2_ml_min);
 /* Removes a test of the given kind with its samples. CPD_ENOENT when absent. */
 int cpd_store_gx_remove(cpd_store *s, int64_t id, cpd_gxt_kind kind);
