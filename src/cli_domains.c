@@ -81,9 +81,12 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         in->has_hr_rcp = 1;
         in->hr_rcp = r->rcp.hr_bpm;
     }
-    if (r->mrt_status != CPD_THR_NOT_FOUND) {
+    if (r->protocol == CPD_RAMP_PROTO_STEPS) { /* a held stage needs no lag correction */
         in->has_peak = 1;
-        in->peak = r->peak_intensity - t.rate_per_min * r->mrt_s / 60;
+        in->peak = r->peak_intensity;
+    } else if (r->mrt_status != CPD_THR_NOT_FOUND) {
+        in->has_peak = 1;
+        in->peak = r->peak_intensity - r->rate_used * r->mrt_s / 60;
     }
     cpd_ramp_free(w);
     free(r);

@@ -15,17 +15,24 @@
 #include <sysexits.h>
 
 static const char HELP_ADD[] =
-    "usage: cpdomain ramp add CODE FILE.csv --date D --rate RATE [--start W] [--onset T]\n"
-    "                         [--baseline W] [--mrt S] [--modality power|speed] [--map ...] [--note TEXT]\n\n"
-    "Stores a ramp incremental test with breath-by-breath (or averaged) gas exchange. Columns:\n"
-    "time_s,vo2_ml_min (or vo2_l_min) required; vco2_ml_min, ve_l_min needed for thresholds;\n"
-    "optional hr_bpm, power_w, speed_m_s, peto2_mmhg, petco2_mmhg. time_s in s or h:mm:ss.\n"
-    "--rate is W/min (or (m/s)/min for a treadmill ramp, --modality speed; the default follows the\n"
-    "athlete's sport); --start the intensity at onset; --onset the file time at which the ramp\n"
-    "began (default 0; data before it are the baseline); --baseline the intensity before onset;\n"
-    "--mrt the VO2 mean response time in s if known (else it is estimated from the data).\n\n"
+    "usage: cpdomain ramp add CODE FILE.csv --date D [--rate RATE] [--start W] [--onset T] [--end T]\n"
+    "                         [--protocol ramp|steps] [--baseline W] [--mrt S] [--modality power|speed]\n"
+    "                         [--map ...] [--note TEXT]\n\n"
+    "Stores a graded test (a ramp or a step test) with breath-by-breath (or averaged) gas exchange.\n"
+    "Columns: time_s,vo2_ml_min (or vo2_l_min) required; vco2_ml_min, ve_l_min needed for thresholds;\n"
+    "optional hr_bpm, power_w, speed_m_s, peto2_mmhg, petco2_mmhg. time_s in s or h:mm:ss, negative\n"
+    "for a baseline recorded before the onset at 0. Commas, semicolons or tabs separate the columns.\n"
+    "With a power_w (speed_m_s) column the recorded intensity is used: --rate and --start are then\n"
+    "optional and only checked against it; whether the test is a ramp or steps is read from it\n"
+    "(--protocol says it instead), and so is the end of exercise (--end T, file time, overrides it;\n"
+    "the recovery after it is stored, not analysed). Without the column --rate is required: W/min\n"
+    "(or (m/s)/min for a treadmill, --modality speed; the default follows the file, then the sport).\n"
+    "--onset the file time at which exercise began in a file starting at 0 (default 0; data before it\n"
+    "are the baseline); --baseline the intensity before onset; --mrt the VO2 mean response time in s\n"
+    "if known. Heart rates outside 30-230 beats/min and blank optional cells are dropped and counted.\n\n"
     "examples:\n"
     "  cpdomain ramp add C03 c03_ramp.csv --date 2026-10-02 --rate 30 --start 50 --onset 3:00\n"
+    "  cpdomain ramp add C03 c03_steps.csv --date 2026-10-09\n"
     "  cpdomain ramp add R07 r07_ramp.csv --date 2026-10-05 --rate 0.2 --start 2.5 --modality speed\n";
 static const char HELP_LIST[] = "usage: cpdomain ramp list CODE\n\nLists the athlete's ramp tests.\n\n"
                                 "example:\n  cpdomain --json ramp list C03\n";
@@ -39,10 +46,13 @@ static const char HELP_SHOW[] =
     "cannot be found is reported as not found, with the reason.\n\n"
     "examples:\n  cpdomain ramp show 3\n  cpdomain --json ramp show 3 --window 20\n";
 static const char HELP_SET[] =
-    "usage: cpdomain ramp set ID (--get-vo2 ML_MIN | --rcp-vo2 ML_MIN | --clear-get | --clear-rcp)\n\n"
-    "Records a reviewer's choice of the GET or RCP (VO2 in mL/min). It is kept beside the automatic\n"
-    "value and marked as manual wherever it is used.\n\n"
-    "example:\n  cpdomain ramp set 3 --get-vo2 2450\n";
+    "usage: cpdomain ramp set ID (--get-vo2 ML_MIN | --rcp-vo2 ML_MIN | --get-power W | --rcp-power W\n"
+    "                         | --clear-get | --clear-rcp)\n\n"
+    "Records a reviewer's choice of the GET or RCP, as VO2 in mL/min or as an intensity (W, or m/s\n"
+    "for a treadmill test: --get-speed, --rcp-speed); the VO2 of an intensity is read from the record\n"
+    "(a ramp: when the intensity reaches it; steps: the stage steady states). It is kept beside the\n"
+    "automatic value and marked as manual wherever it is used.\n\n"
+    "examples:\n  cpdomain ramp set 3 --get-vo2 2450\n  cpdomain ramp set 4 --get-power 180\n";
 static const char HELP_PLOT[] =
     "usage: cpdomain ramp plot ID [--kind vslope|veq] -o FILE.svg\n\n"
     "Writes the V-slope plot (VCO2 against VO2 with both lines) or the ventilatory equivalents over\n"
@@ -52,7 +62,7 @@ static const char HELP_REMOVE[] = "usage: cpdomain ramp remove ID\n\nDeletes a s
 
 typedef struct {
     const char *date, *rate, *start, *onset, *baseline, *mrt, *modality, *map, *note, *window, *outlier, *get, *rcp,
-        *kind, *out;
+        *kind, *out, *end, *protocol, *get_int, *rcp_int;
     int clear_get, clear_rcp;
 } ramp_opts;
 
@@ -77,6 +87,10 @@ static int ramp_opt(int opt, const char *arg, void *ud)
     case 'C': o->clear_rcp = 1; break;
     case 'K': o->kind = arg; break;
     case 'o': o->out = arg; break;
+    case 'E': o->end = arg; break;
+    case 'P': o->protocol = arg; break;
+    case 'x': o->get_int = arg; break;
+    case 'y': o->rcp_int = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -91,6 +105,9 @@ static const struct option ramp_longopts[] = {
     {"outlier-sd", required_argument, NULL, 'k'}, {"get-vo2", required_argument, NULL, 'g'},
     {"rcp-vo2", required_argument, NULL, 'c'},  {"clear-get", no_argument, NULL, 'G'},
     {"clear-rcp", no_argument, NULL, 'C'},      {"kind", required_argument, NULL, 'K'},
+    {"end", required_argument, NULL, 'E'},      {"protocol", required_argument, NULL, 'P'},
+    {"get-power", required_argument, NULL, 'x'}, {"rcp-power", required_argument, NULL, 'y'},
+    {"get-speed", required_argument, NULL, 'x'}, {"rcp-speed", required_argument, NULL, 'y'},
     {"help", no_argument, NULL, 'h'},           {NULL, 0, NULL, 0},
 };
 
@@ -110,6 +127,50 @@ static int parse(int argc, char **argv, const char *help, ramp_opts *o, int want
     return 0;
 }
 
+/* The intensity options of 'ramp add' into t, checked against the file g: --rate is required only
+ * when the file has no column for the modality. Returns 0 or an exit code. */
+static int ramp_add_opts(const ramp_opts *o, cpd_gx_test *t, const cpd_gx_series *g)
+{
+    int rc;
+    const char *u = t->speed ? "m/s" : "W";
+    double maxi = t->speed ? 15 : 3000;
+    int col = t->speed ? CPD_GX_SPEED : CPD_GX_POWER;
+    if (!o->rate && !g->ch[col])
+        return cli_usage("ramp add", "--rate is required: the file has no %s column to read the intensity from",
+                         cpd_gx_channel_name(col));
+    if (o->rate && (rc = cli_ranged("--rate", o->rate, t->speed ? 0.005 : 1, t->speed ? 2 : 200,
+                                    t->speed ? "(m/s)/min" : "W/min", 0, &t->rate_per_min)))
+        return rc;
+    t->has_rate = o->rate != NULL;
+    if (o->start && (rc = cli_ranged("--start", o->start, 0, maxi, u, 0, &t->start)))
+        return rc;
+    t->has_start = o->start != NULL;
+    if (o->onset && (rc = cli_ranged("--onset", o->onset, 0, 7200, "s", 1, &t->onset_s)))
+        return rc;
+    if (o->end) {
+        if ((rc = cli_ranged("--end", o->end, 0, 86400, "s", 1, &t->end_s)))
+            return rc;
+        t->has_end = 1;
+    }
+    if (o->protocol) {
+        if (strcmp(o->protocol, "steps") == 0 && !g->ch[col])
+            return cli_usage("ramp add", "--protocol steps: a step test is read from the recorded intensity, and the "
+                             "file has no %s column", cpd_gx_channel_name(col));
+        t->protocol = strcmp(o->protocol, "steps") == 0 ? 2 : 1;
+    }
+    if (o->baseline) {
+        if ((rc = cli_ranged("--baseline", o->baseline, 0, maxi, u, 0, &t->baseline)))
+            return rc;
+        t->has_baseline = 1;
+    }
+    if (o->mrt) {
+        if ((rc = cli_ranged("--mrt", o->mrt, 0, 300, "s", 1, &t->mrt_s)))
+            return rc;
+        t->has_mrt = 1;
+    }
+    return 0;
+}
+
 static int ramp_add(cli_ctx *c, int argc, char **argv)
 {
     ramp_opts o;
@@ -117,8 +178,10 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
     int rc = parse(argc, argv, HELP_ADD, &o, 2, "CODE FILE.csv", &first);
     if (rc)
         return rc < 0 ? 0 : rc;
-    if (!o.date || !o.rate)
-        return cli_usage("ramp add", "--date and --rate are required");
+    if (!o.date)
+        return cli_usage("ramp add", "--date is required");
+    if (o.protocol && strcmp(o.protocol, "ramp") && strcmp(o.protocol, "steps"))
+        return cli_usage("ramp add", "--protocol must be ramp or steps");
     char msg[CPD_MSG_MAX];
     if (strlen(o.date) != 10 || cpd_validate_date(o.date, c->today, msg))
         return cli_usage("ramp add", "--date: %s", strlen(o.date) != 10 ? "use YYYY-MM-DD" : msg);
@@ -134,38 +197,31 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
     snprintf(t.date, sizeof t.date, "%s", o.date);
     if (o.modality && strcmp(o.modality, "power") && strcmp(o.modality, "speed"))
         return cli_usage("ramp add", "--modality must be power or speed");
+    cpd_gx_series *g = NULL;
+    cpd_gx_import_report rep;
+    if ((rc = cpd_import_gx_report(argv[first + 1], o.map, CPD_RAMP_MIN_SAMPLES, &g, &rep, msg)))
+        return cli_fail(c, rc, "%s", msg);
+    /* the modality: as given, else the file's one intensity column, else the athlete's sport */
+    int has_p = g->ch[CPD_GX_POWER] != NULL, has_v = g->ch[CPD_GX_SPEED] != NULL;
     t.speed = o.modality ? strcmp(o.modality, "speed") == 0
-                         : strcmp(a.sport, "running") == 0 || strcmp(a.sport, "swimming") == 0;
-    const char *u = t.speed ? "m/s" : "W";
-    double maxi = t.speed ? 15 : 3000;
-    if ((rc = cli_ranged("--rate", o.rate, t.speed ? 0.005 : 1, t.speed ? 2 : 200, t.speed ? "(m/s)/min" : "W/min", 0, &t.rate_per_min)))
+              : has_p != has_v ? has_v
+                               : strcmp(a.sport, "running") == 0 || strcmp(a.sport, "swimming") == 0;
+    rc = ramp_add_opts(&o, &t, g);
+    if (!rc && t.onset_s >= g->t_s[g->n - 1])
+        rc = cli_usage("ramp add", "--onset %g s lies outside the file's times (%g to %g s)", t.onset_s, g->t_s[0],
+                       g->t_s[g->n - 1]);
+    if (!rc && t.has_end && !(t.end_s > t.onset_s && t.end_s <= g->t_s[g->n - 1]))
+        rc = cli_usage("ramp add", "--end %g s lies outside the exercise (onset %g s, last sample %g s)", t.end_s,
+                       t.onset_s, g->t_s[g->n - 1]);
+    if (rc) {
+        cpd_gx_free(g);
         return rc;
-    if (o.start && (rc = cli_ranged("--start", o.start, 0, maxi, u, 0, &t.start)))
-        return rc;
-    if (o.onset && (rc = cli_ranged("--onset", o.onset, 0, 7200, "s", 1, &t.onset_s)))
-        return rc;
-    if (o.baseline) {
-        if ((rc = cli_ranged("--baseline", o.baseline, 0, maxi, u, 0, &t.baseline)))
-            return rc;
-        t.has_baseline = 1;
     }
-    if (o.mrt) {
-        if ((rc = cli_ranged("--mrt", o.mrt, 0, 300, "s", 1, &t.mrt_s)))
-            return rc;
-        t.has_mrt = 1;
-    }
+    t.hr_dropped = rep.hr_dropped;
+    t.blank_cells = rep.blank_total;
     if (o.note)
         snprintf(t.note, sizeof t.note, "%s", o.note);
     snprintf(t.source_file, sizeof t.source_file, "%s", argv[first + 1]);
-    cpd_gx_series *g = NULL;
-    if ((rc = cpd_import_gx(argv[first + 1], o.map, CPD_RAMP_MIN_SAMPLES, &g, msg)))
-        return cli_fail(c, rc, "%s", msg);
-    if (t.onset_s >= g->t_s[g->n - 1]) {
-        int ex = cli_usage("ramp add", "--onset %g s lies outside the file's times (%g to %g s)", t.onset_s, g->t_s[0],
-                           g->t_s[g->n - 1]);
-        cpd_gx_free(g);
-        return ex;
-    }
     int64_t id = 0;
     rc = cpd_store_gx_add(c->store, &t, g, &id);
     size_t n = g->n;
@@ -178,9 +234,14 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
         cj_str(d, "athlete", a.code);
         cj_str(d, "date", t.date);
         cj_int(d, "samples", (long long)n);
+        cj_int(d, "hr_dropped", (long long)rep.hr_dropped);
+        cj_int(d, "blank_cells_dropped", (long long)rep.blank_total);
         return cj_print(d);
     }
     cli_note(c, "stored ramp %lld for %s: %zu samples", (long long)id, a.code, n);
+    if (rep.hr_dropped || rep.blank_total)
+        cli_note(c, "dropped: %zu heart-rate sample(s) as artefacts (outside %.0f-%.0f beats/min), %zu blank cell(s)",
+                 rep.hr_dropped, CPD_GX_HR_MIN, CPD_GX_HR_MAX, rep.blank_total);
     return 0;
 }
 
@@ -191,8 +252,9 @@ static void test_json(cli_json *o, const cpd_gx_test *t)
     cj_str(o, "date", t->date);
     cj_str(o, "modality", t->speed ? "speed" : "power");
     if (t->kind == CPD_GXT_RAMP) {
-        cj_num(o, t->speed ? "rate_m_s_per_min" : "rate_w_per_min", t->rate_per_min);
-        cj_num(o, t->speed ? "start_m_s" : "start_w", t->start);
+        cj_num(o, t->speed ? "rate_m_s_per_min" : "rate_w_per_min", t->has_rate ? t->rate_per_min : NAN);
+        cj_num(o, t->speed ? "start_m_s" : "start_w", t->has_start || t->has_rate ? t->start : NAN);
+        cj_str(o, "protocol", t->protocol == 2 ? "steps" : t->protocol == 1 ? "ramp" : "from the record");
     } else
         cj_num(o, t->speed ? "speed_m_s" : "power_w", t->intensity);
     cj_num(o, "onset_s", t->onset_s);
@@ -236,6 +298,10 @@ static int ramp_list(cli_ctx *c, int argc, char **argv)
         snprintf(rate, sizeof rate, "%s %s", cli_num(num, sizeof num, v[i].rate_per_min, v[i].speed ? 3 : 0),
                  v[i].speed ? "(m/s)/min" : "W/min");
         snprintf(st, sizeof st, "%s %s", cli_num(num, sizeof num, v[i].start, v[i].speed ? 2 : 0), v[i].speed ? "m/s" : "W");
+        if (!v[i].has_rate)
+            snprintf(rate, sizeof rate, "%s", v[i].protocol == 2 ? "steps" : "recorded");
+        if (!v[i].has_rate && !v[i].has_start)
+            snprintf(st, sizeof st, "recorded");
         snprintf(ns, sizeof ns, "%zu", v[i].n_samples);
         snprintf(man, sizeof man, "%s%s", v[i].has_get_manual ? "GET " : "", v[i].has_rcp_manual ? "RCP" : "");
         const char *row[] = {id, v[i].date, rate, st, ns, man[0] ? man : "-", v[i].note};
@@ -273,9 +339,17 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
         return cli_store_fail(c, rc);
     }
     ro.modality = t->speed ? CPD_RAMP_SPEED : CPD_RAMP_POWER;
-    ro.rate_per_min = t->rate_per_min;
+    ro.rate_per_min = t->has_rate ? t->rate_per_min : 0;
     ro.start = t->start;
+    ro.start_given = t->has_start;
     ro.onset_s = t->onset_s;
+    ro.protocol = t->protocol;
+    ro.end_given = t->has_end;
+    ro.end_s = t->end_s;
+    if (t->has_get_intensity)
+        ro.manual_get_intensity = t->get_intensity_manual;
+    if (t->has_rcp_intensity)
+        ro.manual_rcp_intensity = t->rcp_intensity_manual;
     if (t->has_baseline) {
         ro.baseline_given = 1;
         ro.baseline_intensity = t->baseline;
@@ -357,6 +431,113 @@ static void print_threshold(const char *name, const cpd_ramp_threshold *th, cons
     }
 }
 
+static const char *protocol_word(int p)
+{
+    return p == CPD_RAMP_PROTO_STEPS ? "steps" : "ramp";
+}
+
+/* The record, the protocol, the stages and what import dropped, in the JSON of 'ramp show'. */
+static void record_json(cli_json *d, const cpd_gx_test *t, const cpd_ramp_result *r)
+{
+    int spd = t->speed;
+    cj_str(d, "protocol", protocol_word(r->protocol));
+    cj_str(d, "protocol_source", r->protocol_from_record ? "recorded intensity" : "given");
+    cj_str(d, "intensity_source", r->intensity_recorded ? "recorded" : "nominal");
+    cli_json *rec = cj_add_obj(d, "intensity");
+    cj_num(rec, spd ? "rate_m_s_per_min" : "rate_w_per_min", r->rate_used);
+    cj_num(rec, spd ? "start_m_s" : "start_w", r->start_used);
+    cj_num(rec, spd ? "recorded_rate_m_s_per_min" : "recorded_rate_w_per_min", r->has_record_line ? r->record_rate : NAN);
+    cj_num(rec, spd ? "recorded_start_m_s" : "recorded_start_w", r->has_record_line ? r->record_start : NAN);
+    cj_num(rec, spd ? "nominal_rate_m_s_per_min" : "nominal_rate_w_per_min", t->has_rate ? t->rate_per_min : NAN);
+    cj_num(rec, spd ? "nominal_start_m_s" : "nominal_start_w", t->has_start ? t->start : NAN);
+    if (r->has_nominal)
+        cj_bool(rec, "nominal_disagrees", r->nominal_mismatch);
+    else
+        cj_null(rec, "nominal_disagrees");
+    cj_num(rec, spd ? "mean_difference_m_s" : "mean_difference_w", r->has_nominal ? r->column_mad : NAN);
+    cj_num(d, "exercise_s", r->duration_s);
+    cj_str(d, "end_source", t->has_end ? "given" : r->end_from_record ? "recorded intensity" : "last sample");
+    cj_str(d, "gain_basis", r->gain_basis == CPD_RAMP_GAIN_BELOW_GET ? "below the GET"
+                            : r->gain_basis == CPD_RAMP_GAIN_BELOW_80PCT ? "below 80 % of peak (no GET)" : NULL);
+    cj_str(d, "mrt_method", r->mrt_status != CPD_THR_FOUND ? NULL
+                            : r->mrt_without_baseline ? "first-order fit to the recorded intensity (no baseline)"
+                                                      : "lagged-linear with the pre-onset baseline");
+    cj_int(d, "hr_dropped", (long long)t->hr_dropped);
+    cj_int(d, "blank_cells_dropped", (long long)t->blank_cells);
+    if (r->protocol != CPD_RAMP_PROTO_STEPS) {
+        cj_null(d, "stages");
+        return;
+    }
+    cli_json *sd = cj_add_obj(d, "steps");
+    cj_num(sd, "step_s", r->steps.step_s);
+    cj_num(sd, spd ? "increment_m_s" : "increment_w", r->steps.increment);
+    cli_json *arr = cj_add_arr(d, "stages");
+    for (size_t k = 0; k < r->steps.n; k++) {
+        const cpd_steps_stage *g = &r->steps.stage[k];
+        cli_json *o = cj_obj();
+        cj_int(o, "stage", (long long)k + 1);
+        cj_num(o, spd ? "speed_m_s" : "power_w", g->intensity);
+        cj_num(o, "start_s", g->t_start_s);
+        cj_num(o, "end_s", g->t_end_s);
+        cj_bool(o, "complete", g->complete);
+        cj_num(o, "vo2_ml_min", g->vo2_ml_min);
+        cj_num(o, "vo2_sd_ml_min", g->vo2_sd);
+        if (g->stable < 0)
+            cj_null(o, "stable");
+        else
+            cj_bool(o, "stable", g->stable);
+        cj_num(o, "drift_ml_min", g->stable < 0 ? NAN : g->drift_ml_min);
+        cj_num(o, "vco2_ml_min", g->has_vco2 ? g->vco2_ml_min : NAN);
+        cj_num(o, "rer", g->has_vco2 ? g->vco2_ml_min / g->vo2_ml_min : NAN);
+        cj_num(o, "hr_bpm", g->has_hr ? g->hr_bpm : NAN);
+        cj_bool(o, "in_gain", g->in_gain);
+        cj_push(arr, o);
+    }
+}
+
+/* The human lines of the same. */
+static void print_record(const cpd_gx_test *t, const cpd_ramp_result *r)
+{
+    const char *u = t->speed ? "m/s" : "W";
+    int dec = t->speed ? 2 : 0;
+    char n1[32], n2[32], tm[24];
+    cpd_format_duration(r->duration_s, tm, sizeof tm);
+    printf("exercise %s from onset to the end (%s)%s\n", tm,
+           t->has_end ? "given" : r->end_from_record ? "from the recorded intensity" : "the last sample",
+           r->intensity_recorded ? "; intensities as recorded" : "; intensities from the nominal rate and start");
+    if (r->gain_status == CPD_THR_FOUND && r->gain_basis == CPD_RAMP_GAIN_BELOW_80PCT)
+        printf("         the gain is fitted below 80 %% of peak %s (no GET)\n", t->speed ? "speed" : "power");
+    if (r->has_nominal)
+        printf("         nominal %s %s/min %s the record (%s %s/min)\n", cli_num(n1, sizeof n1, r->nominal_rate, dec + 1), u,
+               r->nominal_mismatch ? "DISAGREES with" : "agrees with", cli_num(n2, sizeof n2, r->record_rate, dec + 1), u);
+    if (t->hr_dropped || t->blank_cells)
+        printf("dropped  %zu heart-rate sample%s as artefacts, %zu blank cell%s\n", t->hr_dropped,
+               t->hr_dropped == 1 ? "" : "s", t->blank_cells, t->blank_cells == 1 ? "" : "s");
+    if (r->protocol != CPD_RAMP_PROTO_STEPS)
+        return;
+    printf("\nstages (steady state: mean of the final 30 s)\n");
+    static const char *const head[] = {"stage", "intensity", "from", "to", "VO2", "SD", "stable", "VCO2", "RER", "HR", "gain"};
+    cli_table *tb = cli_table_new(11, head, "rrrrrrlrrrl");
+    for (size_t k = 0; k < r->steps.n; k++) {
+        const cpd_steps_stage *g = &r->steps.stage[k];
+        char sn[8], in[32], fr[24], to[24], vo[24], sd[24], vc[24], rer[24], hr[24];
+        snprintf(sn, sizeof sn, "%zu", k + 1);
+        snprintf(in, sizeof in, "%s %s%s", cli_num(n1, sizeof n1, g->intensity, dec), u, g->complete ? "" : "*");
+        cpd_format_duration(g->t_start_s, fr, sizeof fr);
+        cpd_format_duration(g->t_end_s, to, sizeof to);
+        snprintf(vo, sizeof vo, "%.0f", g->vo2_ml_min);
+        snprintf(sd, sizeof sd, "%.0f", g->vo2_sd);
+        snprintf(vc, sizeof vc, g->has_vco2 ? "%.0f" : "-", g->vco2_ml_min);
+        snprintf(rer, sizeof rer, g->has_vco2 ? "%.2f" : "-", g->vco2_ml_min / g->vo2_ml_min);
+        snprintf(hr, sizeof hr, g->has_hr ? "%.0f" : "-", g->hr_bpm);
+        const char *row[] = {sn, in, fr, to, vo, sd, g->stable < 0 ? "?" : g->stable ? "yes" : "no", vc, rer, hr,
+                             g->in_gain ? "yes" : ""};
+        cli_table_row(tb, row);
+    }
+    cli_table_print(tb);
+    printf("(* cut short; stable: within %.0f mL/min of the 30 s before; ? stage under 60 s)\n", CPD_STEPS_STABLE_ML_MIN);
+}
+
 static int ramp_show(cli_ctx *c, int argc, char **argv)
 {
     ramp_opts o;
@@ -419,11 +600,20 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cj_str(vq, "reason", r->veq.status == CPD_THR_FOUND ? NULL : r->veq.why);
         cj_int(d, "samples", (long long)r->n_samples);
         cj_int(d, "outliers_removed", (long long)r->n_outliers);
+        record_json(d, &t, r);
         rc = cj_print(d);
     } else {
-        char n1[32], tm[24];
-        printf("ramp %lld: %s %s, %s, %s %s/min from %s %s\n\n", id, a.code, a.name, t.date,
-               cli_num(n1, sizeof n1, t.rate_per_min, spd ? 3 : 0), u, cli_num(tm, sizeof tm, t.start, spd ? 2 : 0), u);
+        char n1[32], n2[32], tm[24], st[24];
+        cpd_format_duration(r->steps.step_s, st, sizeof st);
+        if (r->protocol == CPD_RAMP_PROTO_STEPS)
+            printf("ramp %lld: %s %s, %s, step test: %s %s every %s from %s %s\n\n", id, a.code, a.name, t.date,
+                   cli_num(n1, sizeof n1, r->steps.increment, spd ? 2 : 0), u,
+                   st,
+                   cli_num(n2, sizeof n2, r->steps.stage[0].intensity, spd ? 2 : 0), u);
+        else
+            printf("ramp %lld: %s %s, %s, %s %s/min from %s %s%s\n\n", id, a.code, a.name, t.date,
+                   cli_num(n1, sizeof n1, r->rate_used, spd ? 3 : 0), u, cli_num(tm, sizeof tm, r->start_used, spd ? 2 : 0),
+                   u, r->intensity_recorded ? " (recorded)" : "");
         cpd_format_duration(r->vo2peak_time_s, tm, sizeof tm);
         printf("VO2peak  %.0f mL/min", r->vo2peak_ml_min);
         if (r->has_relative)
@@ -447,10 +637,73 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         else
             printf("MRT      %.0f s (%s)\n", r->mrt_s, r->mrt_status == CPD_THR_MANUAL ? "given" : "estimated, lagged-linear model");
         printf("samples  %zu, %zu outlier breaths removed\n", r->n_samples, r->n_outliers);
+        print_record(&t, r);
     }
+    if (r->has_nominal && r->nominal_mismatch)
+        cli_note(c, "warning: ramp %lld: the nominal %s (%g %s/min) disagrees with the recorded intensity (%.3g %s/min, "
+                 "mean difference %.3g %s); the record is used", id, "rate", r->nominal_rate, u, r->record_rate, u,
+                 r->column_mad, u);
     cpd_ramp_free(w);
     free(r);
     return rc;
+}
+
+/* 'ramp set --get-power/--rcp-power': the reviewer's threshold as an intensity, checked against the
+ * record (inside the test's intensities, GET below RCP) and its VO2 shown. */
+static int ramp_set_intensity(cli_ctx *c, const ramp_opts *o, const char *ids)
+{
+    long long id = 0;
+    int rc;
+    if ((rc = cli_id("ramp set", ids, &id)))
+        return rc;
+    double g = 0, r = 0;
+    if (o->get_int && (rc = cli_ranged("--get-power", o->get_int, 0, 3000, "W or m/s", 0, &g)))
+        return rc;
+    if (o->rcp_int && (rc = cli_ranged("--rcp-power", o->rcp_int, 0, 3000, "W or m/s", 0, &r)))
+        return rc;
+    if ((rc = cli_open(c, 0)))
+        return rc;
+    cpd_gx_test t;
+    cpd_athlete a;
+    cpd_ramp_ws *w = NULL;
+    cpd_ramp_result *rr = calloc(1, sizeof *rr);
+    if (!rr)
+        return cli_fail(c, CPD_ENOMEM, "out of memory");
+    if ((rc = cli_ramp_analyse(c, id, NULL, NULL, NULL, &t, &a, &w, rr))) {
+        free(rr);
+        return rc;
+    }
+    double lo = rr->protocol == CPD_RAMP_PROTO_STEPS ? rr->steps.stage[0].intensity : rr->start_used;
+    double hi = rr->peak_intensity, gi = g > 0 ? g : rr->get.status != CPD_THR_NOT_FOUND ? rr->get.ramp_intensity : lo;
+    cpd_ramp_free(w);
+    free(rr);
+    const char *u = t.speed ? "m/s" : "W";
+    const char *bad = o->get_int && !(g > lo && g < hi) ? "--get-power" : o->rcp_int && !(r > lo && r < hi) ? "--rcp-power" : NULL;
+    if (bad)
+        return cli_fail(c, CPD_EDATA, "%s %g %s: ramp %lld runs from %.4g to %.4g %s; a threshold must lie between", bad,
+                        bad[2] == 'g' ? g : r, u, id, lo, hi, u);
+    if (o->rcp_int && !(r > gi))
+        return cli_fail(c, CPD_EDATA, "--rcp-power %g %s is not above the GET (%.4g %s)", r, u, gi, u);
+    if ((rc = cpd_store_begin(c->store)))
+        return cli_store_fail(c, rc);
+    if (o->get_int && (rc = cpd_store_gx_set_manual(c->store, id, 2, 1, g)))
+        return cli_store_fail(c, rc);
+    if (o->rcp_int && (rc = cpd_store_gx_set_manual(c->store, id, 3, 1, r)))
+        return cli_store_fail(c, rc);
+    if ((rc = cpd_store_commit(c->store)))
+        return cli_store_fail(c, rc);
+    if (c->json) {
+        cli_json *d = cj_obj();
+        cj_int(d, "id", id);
+        if (o->get_int)
+            cj_num(d, t.speed ? "get_speed_manual" : "get_power_manual", g);
+        if (o->rcp_int)
+            cj_num(d, t.speed ? "rcp_speed_manual" : "rcp_power_manual", r);
+        return cj_print(d);
+    }
+    cli_note(c, "ramp %lld: reviewer's choice recorded as an intensity (its VO2 is read from the record; the automatic "
+             "values are kept)", id);
+    return 0;
 }
 
 static int ramp_set(cli_ctx *c, int argc, char **argv)
@@ -463,10 +716,14 @@ static int ramp_set(cli_ctx *c, int argc, char **argv)
     long long id = 0;
     if ((rc = cli_id("ramp set", argv[first], &id)))
         return rc;
-    if (!o.get && !o.rcp && !o.clear_get && !o.clear_rcp)
-        return cli_usage("ramp set", "give --get-vo2, --rcp-vo2, --clear-get or --clear-rcp");
-    if ((o.get && o.clear_get) || (o.rcp && o.clear_rcp))
+    if (!o.get && !o.rcp && !o.clear_get && !o.clear_rcp && !o.get_int && !o.rcp_int)
+        return cli_usage("ramp set", "give --get-vo2, --rcp-vo2, --get-power, --rcp-power, --clear-get or --clear-rcp");
+    if (((o.get || o.get_int) && o.clear_get) || ((o.rcp || o.rcp_int) && o.clear_rcp))
         return cli_usage("ramp set", "a value and its --clear together make no sense");
+    if ((o.get && o.get_int) || (o.rcp && o.rcp_int))
+        return cli_usage("ramp set", "give a threshold as VO2 or as an intensity, not both");
+    if (o.get_int || o.rcp_int)
+        return ramp_set_intensity(c, &o, argv[first]);
     double g = 0, r = 0;
     if (o.get && (rc = cli_ranged("--get-vo2", o.get, CPD_RANGE_VO2.lo, CPD_RANGE_VO2.hi, "mL/min", 0, &g)))
         return rc;
@@ -555,6 +812,14 @@ static int ramp_plot(cli_ctx *c, int argc, char **argv)
         return rc;
     }
     char *svg = NULL;
+    const cpd_gx_series *cs = cpd_ramp_samples(w);
+    if (!cs->ch[CPD_GX_VCO2] || (veq && !cs->ch[CPD_GX_VE])) {
+        cli_note(c, "ramp %lld: %s plot skipped: it needs %s, which the file does not have", id,
+                 veq ? "ventilatory-equivalent" : "V-slope", cs->ch[CPD_GX_VCO2] ? "VE" : "VCO2");
+        cpd_ramp_free(w);
+        free(r);
+        return 0;
+    }
     rc = veq ? cpd_plot_veq(w, r, &svg) : cpd_plot_vslope(w, r, &svg);
     if (rc)
         rc = cli_fail(c, rc, "ramp %lld: no %s plot: %s", id, veq ? "ventilatory-equivalent" : "V-slope",

@@ -800,24 +800,29 @@ static void baseline(struct ctx *c)
 }
 
 /* ---- MRT without a baseline: VO2 = a + G P_f(t) over the 1-s grid from onset, P_f the intensity
- * through a first-order filter of time constant tau (the MRT) that starts at the baseline intensity;
- * the curvature of the early response identifies tau (Whipp et al. 1981's first-order model). */
+ * through two first-order stages of time constant tau/2 each (mean response time tau: the lag of a
+ * ramp's response, Whipp et al. 1981; two stages give the delayed, S-shaped onset one stage lacks),
+ * started at the intensity before onset; the curvature of the early response identifies tau. Unless
+ * the baseline intensity is given, the intensity before onset (p0) is a fourth parameter. */
 struct mrtfit {
     const double *t, *p, *v; /* grid from onset: time, intensity, VO2 */
     size_t n;
-    double p0;               /* intensity before onset */
+    double p0;               /* intensity before onset (when not fitted) */
+    int fit_p0;              /* 1: p0 is the 4th parameter (the intensity before onset is unknown) */
     double *pf;              /* scratch, n */
 };
 
-static void mrt_filter(const struct mrtfit *m, double tau, double *pf)
+static void mrt_filter(const struct mrtfit *m, double tau, double p0, double *pf)
 {
-    double y = m->p0;
+    double y1 = p0, y2 = p0;
     for (size_t i = 0; i < m->n; i++) {
         if (i > 0) {
             double dt = m->t[i] - m->t[i - 1], u = 0.5 * (m->p[i] + m->p[i - 1]);
-            y += (1 - exp(-dt / tau)) * (u - y);
+            double k = 1 - exp(-2 * dt / tau), y1n = y1 + k * (u - y1);
+            y2 += k * (0.5 * (y1 + y1n) - y2);
+            y1 = y1n;
         }
-        pf[i] = y;
+        pf[i] = y2;
     }
 }
 
@@ -826,7 +831,7 @@ static int mrt_resid(const double *b, void *ctx, double *f)
     const struct mrtfit *m = ctx;
     if (!(b[2] > 0.1 && b[2] < 1000))
         return 1;
-    mrt_filter(m, b[2], m->pf);
+    mrt_filter(m, b[2], m->fit_p0 ? b[3] : m->p0, m->pf);
     for (size_t i = 0; i < m->n; i++)
         f[i] = b[0] + b[1] * m->pf[i] - m->v[i];
     return 0;
@@ -849,12 +854,12 @@ static void mrt_filtered(struct ctx *c, double t_hi)
     for (size_t i = 0; i < n; i++)
         pv[i] = intensity_at(c, g->t_s[c->i0 + i]);
     struct mrtfit m = {g->t_s + c->i0, pv, g->ch[CPD_GX_VO2] + c->i0, n,
-                       c->o->baseline_given ? c->o->baseline_intensity : pv[0], buf};
-    /* start: the best tau of a coarse grid, a and G by OLS for each */
-    double b0[3] = {0, 0, 0}, best = -1;
+                       c->o->baseline_given ? c->o->baseline_intensity : pv[0], 0, buf};
+    /* start: the best tau of a coarse grid, a and G by OLS for each, p0 at the intensity at onset */
+    double b0[4] = {0, 0, 0, m.p0}, best = -1;
     for (double tau = 5; tau <= MRT_MAX_S; tau += 5) {
         cpd_linfit_result f;
-        mrt_filter(&m, tau, buf);
+        mrt_filter(&m, tau, m.p0, buf);
         if (cpd_linfit_line(buf, m.v, n, &f) == CPD_OK && (best < 0 || f.rss < best)) {
             best = f.rss;
             b0[0] = f.b[0];
@@ -864,7 +869,7 @@ static void mrt_filtered(struct ctx *c, double t_hi)
     }
     cpd_nlfit_ws *ws = best >= 0 ? cpd_nlfit_alloc() : NULL;
     cpd_nlfit_result fr;
-    cpd_nlfit_problem pr = {n, 3, mrt_resid, NULL, &m};
+    cpd_nlfit_problem pr = {n, m.fit_p0 ? 4 : 3, mrt_resid, NULL, &m};
     int rc = ws ? cpd_nlfit_solve(ws, &pr, b0, NULL, &fr) : CPD_ENODATA;
     cpd_nlfit_free(ws);
     free(buf);
@@ -877,8 +882,8 @@ static void mrt_filtered(struct ctx *c, double t_hi)
     double tau = fr.b[2], se = fr.se[2];
     if (!fr.has_se || !(tau > 1 && tau < MRT_MAX_S) || (se > MRT_NI_FRAC * tau && se > MRT_NI_MIN_S)) {
         r->mrt_reason = CPD_RAMP_R_NOT_IDENTIFIABLE;
-        say(r->mrt_why, sizeof r->mrt_why, "no baseline, and the early curvature does not identify it (fit %.0f +- %.0f s)",
-            tau, fr.has_se ? se : 0.0);
+        say(r->mrt_why, sizeof r->mrt_why, "no baseline; the early rise does not identify it (%.0f +- %.0f s): "
+            "give the intensity before onset as the baseline", tau, fr.has_se ? se : 0.0);
         return;
     }
     r->mrt_reason = CPD_RAMP_R_NONE;
