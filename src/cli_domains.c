@@ -77,6 +77,8 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         in->hr_get = g->hr_bpm;
     } else if (g->status != CPD_THR_NOT_FOUND)
         d->ramp_mrt_missing = 1;
+    else if (g->reason == CPD_RAMP_R_NO_VCO2)
+        d->ramp_no_vco2 = 1;
     if (r->rcp.status != CPD_THR_NOT_FOUND && r->rcp.has_hr) {
         in->has_hr_rcp = 1;
         in->hr_rcp = r->rcp.hr_bpm;

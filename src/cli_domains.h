@@ -15,6 +15,7 @@ typedef struct {
     long long ramp_id;
     char ramp_date[11];
     int ramp_mrt_missing;         /* 1 when the ramp had no MRT: no constant-power equivalent */
+    int ramp_no_vco2;             /* 1 when the ramp is VO2-only: GET and RCP cannot be computed */
     size_t older_trials;          /* trials before the newest block, left out of the boundaries */
 } cli_domains;
 

@@ -9,6 +9,9 @@ const char CLI_HR_CAUTION[] =
 
 const char CLI_MRT_MISSING_NOTE[] =
     "The newest ramp has a GET but no MRT: give 'ramp add --mrt' for its constant-power equivalent.";
+const char CLI_NO_VCO2_NOTE[] =
+    "The newest ramp has VO2 only (no VCO2): its GET cannot be computed; a reviewer's GET can be given as "
+    "power with 'ramp set ID --get-power W'.";
 
 static void range_json(cli_json *o, const cli_domains *d, const cpd_domain_range *r)
 {

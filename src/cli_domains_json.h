@@ -10,6 +10,7 @@ extern const char CLI_HR_CAUTION[];
 
 /* The note when the newest ramp has a GET but no MRT (no constant-power equivalent). */
 extern const char CLI_MRT_MISSING_NOTE[];
+extern const char CLI_NO_VCO2_NOTE[];
 
 /* Adds the keys of 'domains --json' (athlete, modality, model, boundaries, stale, targets,
  * heavy_ceiling_w|_m_s, time_to_vo2max_s, severe_efforts, delta, flags, fit_flags, hr_caution,

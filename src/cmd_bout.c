@@ -186,8 +186,11 @@ static int bout_add(cli_ctx *c, int argc, char **argv)
     snprintf(t.date, sizeof t.date, "%s", o.date);
     snprintf(t.source_file, sizeof t.source_file, "%s", argv[first + 1]);
     cpd_gx_series *g = NULL;
-    if ((rc = cpd_import_gx(argv[first + 1], o.map, BOUT_MIN_SAMPLES, &g, msg)))
+    cpd_gx_import_report rep;
+    if ((rc = cpd_import_gx_report(argv[first + 1], o.map, BOUT_MIN_SAMPLES, &g, &rep, msg)))
         return cli_fail(c, rc, "%s", msg);
+    t.hr_dropped = rep.hr_dropped;
+    t.blank_cells = rep.blank_total;
     if (t.onset_s >= g->t_s[g->n - 1]) {
         int ex = cli_usage("bout add", "--onset %g s lies outside the file's times (%g to %g s)", t.onset_s, g->t_s[0],
                            g->t_s[g->n - 1]);
@@ -212,8 +215,13 @@ static int bout_add(cli_ctx *c, int argc, char **argv)
         cj_num(d, "onset_s", t.onset_s);
         cj_num(d, "exercise_s", after);
         cj_int(d, "samples", (long long)n);
+        cj_int(d, "hr_dropped", (long long)t.hr_dropped);
+        cj_int(d, "blank_cells_dropped", (long long)t.blank_cells);
         return cj_print(d);
     }
+    if (t.hr_dropped || t.blank_cells)
+        cli_note(c, "dropped: %zu heart-rate sample(s) as artefacts (outside %.0f-%.0f beats/min), %zu blank cell(s)",
+                 t.hr_dropped, CPD_GX_HR_MIN, CPD_GX_HR_MAX, t.blank_cells);
     char iv[48], dur[24];
     cpd_format_duration(after, dur, sizeof dur);
     cli_note(c, "stored bout %lld for %s: %s, %zu samples, %s after the onset", (long long)id, a.code,
@@ -875,6 +883,13 @@ static int show_json(const bout_run *r)
     }
     cj_int(d, "breaths", (long long)k->n_breaths);
     cj_int(d, "outliers_removed", (long long)k->n_outliers);
+    size_t hr_dropped = 0, blank = 0;
+    for (size_t i = 0; i < r->n; i++) {
+        hr_dropped += r->t[i].hr_dropped;
+        blank += r->t[i].blank_cells;
+    }
+    cj_int(d, "hr_dropped", (long long)hr_dropped);
+    cj_int(d, "blank_cells_dropped", (long long)blank);
     cli_json *bl = cj_add_arr(d, "bouts");
     for (size_t i = 0; i < r->n; i++) {
         cli_json *b = cj_obj();
@@ -982,6 +997,14 @@ static void show_text(const bout_run *r)
         snprintf(pts, sizeof pts, "%s", r->n > 1 ? "1-s ensemble means" : "breaths");
     printf("data       %zu breaths, %zu outliers removed; fitted on %s from %s to %s\n", k->n_breaths, k->n_outliers, pts,
            tm, tm2);
+    size_t hr_dropped = 0, blank = 0;
+    for (size_t i = 0; i < r->n; i++) {
+        hr_dropped += r->t[i].hr_dropped;
+        blank += r->t[i].blank_cells;
+    }
+    if (hr_dropped || blank)
+        printf("dropped    %zu heart-rate sample%s as artefacts, %zu blank cell%s\n", hr_dropped, hr_dropped == 1 ? "" : "s",
+               blank, blank == 1 ? "" : "s");
 }
 
 static int bout_show(cli_ctx *c, int argc, char **argv)

@@ -172,6 +172,8 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
         }
         if (d.ramp_mrt_missing)
             printf("  - %s\n", CLI_MRT_MISSING_NOTE);
+        if (d.ramp_no_vco2)
+            printf("  - %s\n", CLI_NO_VCO2_NOTE);
         printf("\n%s\n%s\n", CLI_HR_CAUTION, CLI_CAUTION);
     }
     cli_domains_free(&d);

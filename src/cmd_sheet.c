@@ -337,6 +337,8 @@ static int build_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int st
         add_test(b, d->in.tau_source, d->in.tau_date);
     if (d->ramp_mrt_missing && s->nnotes < CPD_SHEET_MAX_NOTES)
         s->notes_more[s->nnotes++] = CLI_MRT_MISSING_NOTE;
+    if (d->ramp_no_vco2 && s->nnotes < CPD_SHEET_MAX_NOTES)
+        s->notes_more[s->nnotes++] = CLI_NO_VCO2_NOTE;
     if (f->skipped_other && s->nnotes < CPD_SHEET_MAX_NOTES) {
         snprintf(b->skipped_note, sizeof b->skipped_note, "%zu %s trial(s) were left out: one fit uses one modality.",
                  f->skipped_other, f->modality == CPD_PD_SPEED ? "power" : "speed or distance");

@@ -132,4 +132,33 @@ cut -d, -f1-4 "$TMP/steps.csv" >"$TMP/nopower.csv"
 expect 64 "no power column, no --rate" ramp add S01 "$TMP/nopower.csv" --date 2026-10-07
 err_has "--rate is required" "the message names --rate"
 expect 64 "--protocol steps without a record" ramp add S01 "$TMP/nopower.csv" --date 2026-10-07 --rate 8 --protocol steps
+
+# (5) sheets for an athlete whose only gas-exchange test is VO2-only
+expect 0 "athlete" athlete add V01 --name "Vo Only"
+printf 'athlete,date,duration_s,power_w\nV01,2026-09-01,180,360\nV01,2026-09-03,420,310\nV01,2026-09-05,720,285\n' >"$TMP/tr.csv"
+expect 0 "trials" trial import "$TMP/tr.csv"
+expect 0 "VO2-only ramp" ramp add V01 "$TMP/vo2.csv" --date 2026-10-02
+expect 0 "sheet" sheet V01 -o "$TMP/v.html"
+grep -Eq "VO2peak [0-9.]+ L/min" "$TMP/v.html" && pass "the sheet shows the VO2peak of the VO2-only test" || fail "no VO2peak on the sheet"
+grep -q "VO2 only (no VCO2)" "$TMP/v.html" && pass "the sheet says why there is no GET" || fail "no VO2-only note on the sheet"
+vid=$(sqlite3 "$DB" "SELECT max(id) FROM gx_test")
+expect 0 "a reviewer's GET as power" ramp set "$vid" --get-power 175
+expect 0 "domains" --json domains V01
+json_is 'd["boundaries"][0]["name"], d["boundaries"][0]["power_w"], d["boundaries"][0]["manual"]' "('moderate-heavy', 175, True)" "the reviewer's GET (a step test: the power itself) reaches the domains"
+
+# (1, 6) constant-power bouts: a baseline at negative times gives the same kinetics as --onset; HR artefacts counted
+DEMO="$CPDOMAIN_TESTS/../demo/data"
+awk -F, 'BEGIN { OFS = "," } NR == 1 { print; next } { $1 = sprintf("%.2f", $1 - 180); if (NR == 30) $5 = "0"; if (NR == 31) $5 = ""; print }' \
+    "$DEMO/bout_C01_1.csv" >"$TMP/bout_neg.csv"
+expect 0 "bout with negative times" --json bout add S01 "$TMP/bout_neg.csv" --date 2026-10-22 --power 150 --baseline 20
+json_is 'd["hr_dropped"], d["blank_cells_dropped"]' "(1, 1)" "bout: a 0 heart rate and a blank cell dropped and counted"
+b1=$(json 'd["id"]')
+expect 0 "the same bout with --onset 180" --json bout add S01 "$DEMO/bout_C01_1.csv" --date 2026-10-22 --power 150 --baseline 20 --onset 180
+b2=$(json 'd["id"]')
+expect 0 "show the negative layout" --json bout show "$b1"
+tau1=$(json 'd["fits"]["mono"]["tau_s"]')
+expect 0 "show the shifted layout" --json bout show "$b2"
+json_is "abs(d['fits']['mono']['tau_s'] - $tau1) < 1e-6 * $tau1" True "both layouts: the same time constant"
+expect 0 "human bout show" bout show "$b1"
+out_has "1 heart-rate sample as artefacts, 1 blank cell" "bout show counts the dropped samples"
 echo "# $N checks"
