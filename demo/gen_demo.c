@@ -159,6 +159,8 @@ typedef struct {
     FILE *manifest; /* kind,athlete,file,date,unit,rate_per_min,start,onset_s,power,baseline,note */
     FILE *truth;    /* file,key,value,unit */
     int nfiles;
+    double t_shift; /* written times are trace time minus this (a baseline at negative times) */
+    int vo2_only;   /* 1: breaths without VCO2, VE and end-tidal pressures (an older cart's export) */
 } gen;
 
 static FILE *xopen(gen *g, const char *name)
@@ -355,8 +357,11 @@ static void write_breaths(gen *g, const char *fname, const phys *p, const trace 
     rng r;
     rng_seed(&r, fname);
     FILE *f = xopen(g, fname);
-    fprintf(f, "time_s,vo2_ml_min,vco2_ml_min,ve_l_min,hr_bpm,%s,peto2_mmhg,petco2_mmhg\n",
-            speed ? "speed_m_s" : "power_w");
+    if (g->vo2_only)
+        fprintf(f, "time_s,vo2_ml_min,hr_bpm,%s\n", speed ? "speed_m_s" : "power_w");
+    else
+        fprintf(f, "time_s,vo2_ml_min,vco2_ml_min,ve_l_min,hr_bpm,%s,peto2_mmhg,petco2_mmhg\n",
+                speed ? "speed_m_s" : "power_w");
     double T = (double)(tr->n - 1) * tr->dt;
     double out_t[8];
     if (n_out > 8)
@@ -402,13 +407,18 @@ static void write_breaths(gen *g, const char *fname, const phys *p, const trace 
                 kind = "outlier_breath_low_time_s";
             }
             char ts[32];
-            snprintf(ts, sizeof ts, "%.2f", t);
+            snprintf(ts, sizeof ts, "%.2f", t - g->t_shift);
             truth(g, fname, kind, atof(ts), "s");
             k_out++;
         }
-        fprintf(f, "%.2f,%.0f,%.0f,%.1f,%.0f,", t, o_vo2, o_vco2, o_ve, o_hr);
-        fprintf(f, speed ? "%.3f," : "%.1f,", tr_at(tr, tr->inten, t));
-        fprintf(f, "%.1f,%.1f\n", o_po2, o_pco2);
+        if (g->vo2_only) {
+            fprintf(f, "%.2f,%.0f,%.0f,", t - g->t_shift, o_vo2, o_hr);
+            fprintf(f, speed ? "%.3f\n" : "%.1f\n", tr_at(tr, tr->inten, t));
+        } else {
+            fprintf(f, "%.2f,%.0f,%.0f,%.1f,%.0f,", t - g->t_shift, o_vo2, o_vco2, o_ve, o_hr);
+            fprintf(f, speed ? "%.3f," : "%.1f,", tr_at(tr, tr->inten, t));
+            fprintf(f, "%.1f,%.1f\n", o_po2, o_pco2);
+        }
         t += clamp(bi * exp(0.18 * gauss(&r) - 0.0162), 1.0, 5.0);
     }
     xclose(f, fname);
@@ -471,6 +481,64 @@ static void gen_ramp(gen *g, const char *code, const char *fname, const char *da
     snprintf(onset, sizeof onset, "%g", rp->baseline_s);
     manifest(g, "ramp", code, fname, date, u, rate, start, onset, "", "",
              speed ? "treadmill ramp; rate in m/s per min" : "ramp starts at the baseline power");
+    trace_free(&tr);
+}
+
+/* A step test (power held for step_s, then raised by inc) exported with its baseline at negative times
+ * (exercise starts at t = 0) and the recovery after exhaustion, half-way into the first stage above
+ * the power at VO2max. */
+typedef struct {
+    double base;      /* W before the onset */
+    double first;     /* W of the first stage */
+    double inc;       /* W added each stage */
+    double step_s;    /* s per stage */
+    double pre_s;     /* s of baseline before the onset */
+    double rec_w;     /* W during the recovery */
+    double rec_s;     /* s of recovery recorded */
+} steps_proto;
+
+static void gen_steps(gen *g, const char *code, const char *fname, const char *date, const phys *p,
+                      const steps_proto *sp)
+{
+    const double delay = 8.0, dt = 0.1;
+    int n_full = 0;
+    while (sp->first + sp->inc * n_full < x_vo2max(p))
+        n_full++;
+    double ex = sp->step_s * (n_full + 0.5); /* exhaustion half-way into stage n_full + 1 */
+    double T = sp->pre_s + ex + sp->rec_s;
+    trace tr = trace_alloc(T, dt);
+    double tau = p->mrt_s - delay, a = 1.0 - exp(-dt / tau), y = u_ss(p, sp->base);
+    for (size_t i = 0; i < tr.n; i++) {
+        double t = (double)i * dt;
+        double x = t < sp->pre_s ? sp->base : t > sp->pre_s + ex ? sp->rec_w
+                   : sp->first + sp->inc * floor((t - sp->pre_s) / sp->step_s);
+        double td = t - delay;
+        double xd = td < sp->pre_s ? sp->base : td > sp->pre_s + ex ? sp->rec_w
+                    : sp->first + sp->inc * floor((td - sp->pre_s) / sp->step_s);
+        y += (u_ss(p, xd) - y) * a;
+        tr.co2drv[i] = y;
+        tr.vo2[i] = smin(y, p->vo2max, 90.0);
+        tr.inten[i] = x;
+        tr.hr[i] = hr_of(p, tr.vo2[i]);
+    }
+    truth_s(g, fname, "athlete", code);
+    truth(g, fname, "onset_s", 0.0, "s");
+    truth(g, fname, "baseline_from_s", -sp->pre_s, "s");
+    truth(g, fname, "first_stage_w", sp->first, "W");
+    truth(g, fname, "increment_w", sp->inc, "W");
+    truth(g, fname, "step_s", sp->step_s, "s");
+    truth(g, fname, "end_of_exercise_s", ex, "s");
+    truth(g, fname, "peak_power_w", sp->first + sp->inc * n_full, "W");
+    truth(g, fname, "recovery_w", sp->rec_w, "W");
+    truth(g, fname, "vo2max_ml_min", p->vo2max, "mL/min");
+    truth(g, fname, "get_vo2_ml_min", p->get, "mL/min");
+    truth(g, fname, "get_intensity_constant", x_get(p), "W");
+    truth(g, fname, "gain_below_get", p->gain, "mL/min/W");
+    g->t_shift = sp->pre_s;
+    write_breaths(g, fname, p, &tr, 0, 3, sp->pre_s);
+    g->t_shift = 0;
+    manifest(g, "steps", code, fname, date, "W", "", "", "", "", "",
+             "step test; baseline at negative times and a recovery after the end");
     trace_free(&tr);
 }
 
@@ -1344,7 +1412,7 @@ int main(int argc, char **argv)
         fprintf(stderr, "usage: %s OUTPUT_DIR   (e.g. build/gen_demo demo/data)\n", argv[0]);
         return 64;
     }
-    gen g = {argv[1], NULL, NULL, 0};
+    gen g = {argv[1], NULL, NULL, 0, 0, 0};
     if (mkdir(g.dir, 0777) != 0 && errno != EEXIST)
         die("cannot create directory", g.dir);
     g.manifest = xopen(&g, "manifest.csv");
@@ -1379,6 +1447,12 @@ int main(int argc, char **argv)
     gen_ramp(&g, "W01", "ramp_W01.csv", "2026-10-07", &PH_W01, &(ramp_proto){50, 25, 180, 40}, 0);
     gen_ramp(&g, "R01", "ramp_R01.csv", "2026-09-22", &PH_R01, &(ramp_proto){2.2, 0.3, 180, 40}, 1);
     gen_ramp(&g, "R02", "ramp_R02.csv", "2026-09-08", &PH_R02, &(ramp_proto){2.5, 0.3, 180, 40}, 1);
+    /* exports as labs make them: a step test with a baseline at negative times and a recovery, and a
+     * VO2-only ramp from an older cart; both older than the athletes' full ramps */
+    gen_steps(&g, "C03", "steps_C03.csv", "2026-09-15", &PH_C03, &(steps_proto){20, 100, 25, 180, 180, 40, 120});
+    g.vo2_only = 1;
+    gen_ramp(&g, "C04", "ramp_C04_vo2.csv", "2026-09-12", &PH_C04, &(ramp_proto){30, 25, 180, 40}, 0);
+    g.vo2_only = 0;
 
     const bout_def c01_mod = {"moderate", 150, 20, 180, 27, 15, 10.0, 0, 0, 0, 0, 0};
     gen_bout(&g, "C01", "bout_C01_1.csv", "2026-10-22", &PH_C01, &c01_mod);

@@ -34,6 +34,9 @@ tail -n +2 "$data/manifest.csv" | while IFS=, read -r kind code file date unit r
         mod=power; [ "$unit" = "m/s" ] && mod=speed
         cpd ramp add "$code" "$data/$file" --date "$date" --rate "$rate" --start "$start" --onset "$onset" \
             --modality "$mod" --note "$note" ;;
+    steps)
+        has ramp || continue
+        cpd ramp add "$code" "$data/$file" --date "$date" --note "$note" ;;
     bout)
         has bout || continue
         cpd bout add "$code" "$data/$file" --date "$date" --power "$power" --baseline "$baseline" --onset "$onset" ;;

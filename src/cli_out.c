@@ -92,8 +92,13 @@ int cli_store_fail(cli_ctx *c, int rc)
     return cli_fail(c, rc, "%s", cpd_store_errmsg(c->store));
 }
 
+/* The family of the subcommand being run ("trial" for 'trial list'), so that option errors name
+ * the real command. */
+static const char *dispatched_family;
+
 int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_t n, int argc, char **argv)
 {
+    dispatched_family = family;
     if (argc < 2 || strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0) {
         FILE *out = argc < 2 ? stderr : stdout;
         fprintf(out, "usage: cpdomain %s SUBCOMMAND [ARGS...]\n\n", family);
@@ -124,9 +129,12 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
         }
         if (o == '?' || o == ':') {
             const char *bad = argv[optind - 1];
+            char cmd[96];
+            snprintf(cmd, sizeof cmd, "%s%s%s", dispatched_family ? dispatched_family : "", dispatched_family ? " " : "",
+                     argv[0]);
             if (o == ':' || (optopt && strchr(shortopts, optopt)))
-                return cli_usage(argv[0], "option '%s' needs a value", bad);
-            return cli_usage(argv[0], "unknown option '%s'", bad);
+                return cli_usage(cmd, "option '%s' needs a value", bad);
+            return cli_usage(cmd, "unknown option '%s'", bad);
         }
         int rc = fn(o, optarg, ud);
         if (rc)

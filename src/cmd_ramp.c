@@ -406,7 +406,8 @@ static void threshold_json(cli_json *o, const cpd_ramp_threshold *th, const cpd_
     }
 }
 
-static void print_threshold(const char *name, const cpd_ramp_threshold *th, const cpd_ramp_threshold *autov, int speed)
+static void print_threshold(const char *name, const cpd_ramp_threshold *th, const cpd_ramp_threshold *autov, int speed,
+                            int steps)
 {
     const char *u = speed ? "m/s" : "W";
     int dec = speed ? 2 : 0;
@@ -416,10 +417,12 @@ static void print_threshold(const char *name, const cpd_ramp_threshold *th, cons
     }
     char t[24], n1[32], n2[32];
     cpd_format_duration(th->time_s, t, sizeof t);
-    printf("%-4s %s%.0f mL/min (%.0f %% of VO2peak) at %s, ramp %s %s", name, th->status == CPD_THR_MANUAL ? "[manual] " : "",
-           th->vo2_ml_min, th->pct_vo2peak, t, cli_num(n1, sizeof n1, th->ramp_intensity, dec), u);
+    printf("%-4s %s%.0f mL/min (%.0f %% of VO2peak) at %s, %s %s %s", name, th->status == CPD_THR_MANUAL ? "[manual] " : "",
+           th->vo2_ml_min, th->pct_vo2peak, t, steps ? "stage" : "ramp", cli_num(n1, sizeof n1, th->ramp_intensity, dec), u);
     if (th->has_equiv)
-        printf(", constant-%s equivalent %s %s", speed ? "speed" : "power", cli_num(n2, sizeof n2, th->equiv_intensity, dec), u);
+        printf(", %s %s %s", steps ? (speed ? "steady-state speed" : "steady-state power")
+                                   : (speed ? "constant-speed equivalent" : "constant-power equivalent"),
+               cli_num(n2, sizeof n2, th->equiv_intensity, dec), u);
     if (th->has_hr)
         printf(", HR %.0f", th->hr_bpm);
     printf("\n     method: %s\n", th->method);
@@ -505,8 +508,6 @@ static void print_record(const cpd_gx_test *t, const cpd_ramp_result *r)
     printf("exercise %s from onset to the end (%s)%s\n", tm,
            t->has_end ? "given" : r->end_from_record ? "from the recorded intensity" : "the last sample",
            r->intensity_recorded ? "; intensities as recorded" : "; intensities from the nominal rate and start");
-    if (r->gain_status == CPD_THR_FOUND && r->gain_basis == CPD_RAMP_GAIN_BELOW_80PCT)
-        printf("         the gain is fitted below 80 %% of peak %s (no GET)\n", t->speed ? "speed" : "power");
     if (r->has_nominal)
         printf("         nominal %s %s/min %s the record (%s %s/min)\n", cli_num(n1, sizeof n1, r->nominal_rate, dec + 1), u,
                r->nominal_mismatch ? "DISAGREES with" : "agrees with", cli_num(n2, sizeof n2, r->record_rate, dec + 1), u);
@@ -620,20 +621,24 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
             printf(" (%.1f mL/kg/min)", r->vo2peak_ml_kg_min);
         printf(" at %s, %s; peak %s %s\n", tm, r->plateau == 1 ? "with a plateau" : r->plateau == 0 ? "no plateau" : "plateau unknown",
                cli_num(n1, sizeof n1, r->peak_intensity, spd ? 2 : 0), u);
-        print_threshold("GET", &r->get, &r->get_auto, spd);
+        print_threshold("GET", &r->get, &r->get_auto, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
         if (r->veq.status == CPD_THR_FOUND)
             printf("     ventilatory equivalents: %.0f mL/min, %s the V-slope\n", r->veq.vo2_ml_min,
                    r->veq.agree == 1 ? "agrees with" : r->veq.agree == 0 ? "DISAGREES with" : "compared with");
         else
             printf("     ventilatory equivalents: not found (%s)\n", r->veq.why);
-        print_threshold("RCP", &r->rcp, &r->rcp_auto, spd);
+        print_threshold("RCP", &r->rcp, &r->rcp_auto, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
         if (r->gain_status == CPD_THR_FOUND)
-            printf("gain     %.1f mL/min per %s below the GET%s\n", r->gain, u,
+            printf("gain     %.1f mL/min per %s %s%s\n", r->gain, u,
+                   r->gain_basis == CPD_RAMP_GAIN_BELOW_80PCT ? "below 80 % of peak (no GET)"
+                   : r->protocol == CPD_RAMP_PROTO_STEPS      ? "from the stages below the GET"
+                                                              : "below the GET",
                    r->gain_in_range == 0 ? " (outside the usual 8-12 mL/min/W for cycling: check calibration)" : "");
         else
             printf("gain     not found: %s\n", r->gain_why);
         if (r->mrt_status == CPD_THR_NOT_FOUND)
-            printf("MRT      not estimated: %s (give --mrt for constant-power equivalents)\n", r->mrt_why);
+            printf("MRT      not estimated: %s%s\n", r->mrt_why,
+                   r->protocol == CPD_RAMP_PROTO_STEPS ? "" : " (give --mrt for constant-power equivalents)");
         else
             printf("MRT      %.0f s (%s)\n", r->mrt_s, r->mrt_status == CPD_THR_MANUAL ? "given" : "estimated, lagged-linear model");
         printf("samples  %zu, %zu outlier breaths removed\n", r->n_samples, r->n_outliers);

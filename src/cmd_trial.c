@@ -136,6 +136,19 @@ static int trial_add(cli_ctx *c, int argc, char **argv)
     }
     if ((rc = cli_open(c, 0)))
         return rc;
+    int dup = 0; /* an exact duplicate is skipped, as 'trial import' does */
+    if ((rc = cpd_store_trial_exists(c->store, &t, &dup)))
+        return cli_store_fail(c, rc);
+    if (dup) {
+        if (c->json) {
+            cli_json *d = cj_obj();
+            cj_str(d, "athlete", t.athlete);
+            cj_bool(d, "skipped_duplicate", 1);
+            return cj_print(d);
+        }
+        cli_note(c, "%s already has this trial (same date, duration and value): skipped as a duplicate", t.athlete);
+        return 0;
+    }
     int64_t id = 0;
     if ((rc = cpd_store_trial_add(c->store, &t, &id)))
         return cli_store_fail(c, rc);

@@ -321,8 +321,17 @@ int cpd_csv_map(cpd_csv *c, const char *map, char *msg)
             return CPD_EUSAGE;
         }
         char name[128], header[256];
-        snprintf(name, sizeof name, "%.*s", (int)(eq - p), p);
-        snprintf(header, sizeof header, "%.*s", (int)(p + L - eq - 1), eq + 1);
+        const char *n0 = p, *n1 = eq, *h0 = eq + 1, *h1 = p + L; /* blanks around NAME and HEADER do not count */
+        while (n0 < n1 && (*n0 == ' ' || *n0 == '\t'))
+            n0++;
+        while (n1 > n0 && (n1[-1] == ' ' || n1[-1] == '\t'))
+            n1--;
+        while (h0 < h1 && (*h0 == ' ' || *h0 == '\t'))
+            h0++;
+        while (h1 > h0 && (h1[-1] == ' ' || h1[-1] == '\t'))
+            h1--;
+        snprintf(name, sizeof name, "%.*s", (int)(n1 - n0), n0);
+        snprintf(header, sizeof header, "%.*s", (int)(h1 - h0), h0);
         int j = cpd_csv_find(c, header);
         if (j < 0) {
             snprintf(msg, CPD_MSG_MAX, "--map: %s has no column '%s'", c->path, header);

@@ -63,6 +63,38 @@ static int today(void)
     return d;
 }
 
+/* Moves the global options given after the command (--json, --quiet, --db FILE, --db=FILE) into c and
+ * out of argv, up to a "--"; *argc shrinks. Returns 0, or 64 when --db lacks its value. */
+static int late_globals(cli_ctx *c, int *argc, char **argv, int from)
+{
+    int w = from;
+    for (int r = from; r < *argc; r++) {
+        const char *a = argv[r];
+        if (strcmp(a, "--") == 0) {
+            while (r < *argc)
+                argv[w++] = argv[r++];
+            break;
+        }
+        if (strcmp(a, "--json") == 0)
+            c->json = 1;
+        else if (strcmp(a, "--quiet") == 0)
+            c->quiet = 1;
+        else if (strncmp(a, "--db=", 5) == 0)
+            c->db_path = a + 5;
+        else if (strcmp(a, "--db") == 0) {
+            if (r + 1 >= *argc) {
+                fprintf(stderr, "cpdomain: option '--db' needs a value\nTry 'cpdomain --help'.\n");
+                return EX_USAGE;
+            }
+            c->db_path = argv[++r];
+        } else
+            argv[w++] = argv[r];
+    }
+    *argc = w;
+    argv[w] = NULL;
+    return 0;
+}
+
 int main(int argc, char **argv)
 {
     gsl_set_error_handler_off(); /* every GSL status is checked where it is returned */
@@ -113,7 +145,10 @@ int main(int argc, char **argv)
         fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
         return EX_USAGE;
     }
-    int rc = cmd->run(&c, argc - optind, argv + optind);
+    int rc = late_globals(&c, &argc, argv, optind + 1);
+    if (rc)
+        return rc;
+    rc = cmd->run(&c, argc - optind, argv + optind);
     cpd_store_rollback(c.store); /* no-op after a commit; undoes a command that returned early */
     cpd_store_close(c.store);
     if (fclose(stdout) != 0 && rc == 0) {

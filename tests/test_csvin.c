@@ -62,6 +62,36 @@ static void lines_follow_quoted_line_breaks(void **state)
     unlink(path);
 }
 
+/* RFC 4180: what a quoted field holds is kept exactly, blanks included; blanks around an unquoted
+ * field are dropped. A header without commas but with semicolons or tabs sets the separator. Blanks
+ * around the names of a --map do not count. */
+static void quoted_blanks_and_separators(void **state)
+{
+    (void)state;
+    cpd_csv *c = NULL;
+    char msg[CPD_MSG_MAX];
+    write_file("a,b\n\"  a, b  \", \t x \t\n");
+    assert_int_equal(cpd_csv_read(path, &c, msg), CPD_OK);
+    assert_string_equal(cpd_csv_get(c, 0, 0), "  a, b  ");
+    assert_string_equal(cpd_csv_get(c, 0, 1), "x");
+    cpd_csv_free(c);
+    unlink(path);
+    write_file("ID;name\nA1;\"Ann; B\"\n");
+    assert_int_equal(cpd_csv_read(path, &c, msg), CPD_OK);
+    assert_int_equal(cpd_csv_ncols(c), 2);
+    assert_string_equal(cpd_csv_get(c, 0, 1), "Ann; B");
+    assert_int_equal(cpd_csv_map(c, " code = ID ", msg), CPD_OK);
+    assert_int_equal(cpd_csv_find(c, "code"), 0);
+    cpd_csv_free(c);
+    unlink(path);
+    write_file("time_s\tvo2_ml_min\n1\t 2000 \n");
+    assert_int_equal(cpd_csv_read(path, &c, msg), CPD_OK);
+    assert_int_equal(cpd_csv_ncols(c), 2);
+    assert_string_equal(cpd_csv_get(c, 0, 1), "2000");
+    cpd_csv_free(c);
+    unlink(path);
+}
+
 static void malformed_files_are_located(void **state)
 {
     (void)state;
@@ -135,6 +165,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(lines_follow_quoted_line_breaks),
+        cmocka_unit_test(quoted_blanks_and_separators),
         cmocka_unit_test(malformed_files_are_located),
         cmocka_unit_test(trial_rows_are_validated),
     };

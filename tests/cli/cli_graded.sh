@@ -161,4 +161,21 @@ expect 0 "show the shifted layout" --json bout show "$b2"
 json_is "abs(d['fits']['mono']['tau_s'] - $tau1) < 1e-6 * $tau1" True "both layouts: the same time constant"
 expect 0 "human bout show" bout show "$b1"
 out_has "1 heart-rate sample as artefacts, 1 blank cell" "bout show counts the dropped samples"
+
+# (9) CSV and command-line details
+expect 0 "global options after the command" trial list V01 --json
+json_is 'len(d["trials"])' 3 "trial list V01 --json gives JSON"
+"$BIN" trial list V01 --db "$DB" --quiet --json >"$TMP/out" 2>"$TMP/err"; RC=$?
+[ "$RC" -eq 0 ] && json_is 'len(d["trials"])' 3 "--db, --quiet and --json after the command" || fail "--db after the command: exit $RC"
+expect 64 "an unknown option" trial list V01 --bogus
+err_has "cpdomain trial list: unknown option '--bogus'" "the message names the real command"
+printf 'ID;name;mass_kg\nA1;"Ann  Lee";60\n' >"$TMP/ath.csv"
+expect 0 "athlete import --map code=ID (semicolons)" athlete import "$TMP/ath.csv" --map code=ID
+expect 0 "athlete show" --json athlete show A1
+json_is 'd["name"]' "Ann  Lee" "the quoted name kept exactly (two spaces)"
+expect 0 "trial add" trial add V01 --date 2026-09-07 --duration 5:00 --power 320
+expect 0 "the same trial again" --json trial add V01 --date 2026-09-07 --duration 5:00 --power 320
+json_is 'd["skipped_duplicate"]' True "an exact duplicate is skipped, as trial import does"
+expect 0 "count" --json trial list V01
+json_is 'len(d["trials"])' 4 "stored once"
 echo "# $N checks"
