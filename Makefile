@@ -51,6 +51,7 @@ TESTS += test_domains
 TESTS += test_history
 TESTS += test_ramp
 TESTS += test_lactate
+TESTS += test_steps
 TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump

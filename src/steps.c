@@ -36,6 +36,8 @@ int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, d
     size_t i = 0;
     while (i < n && t[i] < 0)
         i++;
+    int pend = 0;              /* a short run at a new level, before a dip: the stage may start there */
+    double pend_t0 = 0, pend_mean = 0;
     while (i < n && t[i] <= t_end_s && r->n < CPD_STEPS_MAX) {
         size_t j = i;
         double sum = 0;
@@ -46,13 +48,19 @@ int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, d
         cpd_steps_stage *prev = r->n ? &r->stage[r->n - 1] : NULL;
         if (prev && fabs(mean - prev->intensity) <= tol) {
             prev->t_end_s = t1; /* the same stage after a short dip: one stage */
-        } else if (t1 - t0 >= (last ? CPD_STEPS_MIN_LAST_S : CPD_STEPS_MIN_STAGE_S) &&
-                   (!prev || mean > prev->intensity)) {
+        } else if (prev && mean < prev->intensity) {
+            /* a dip below the stage: not a stage, and it does not end a pending start */
+        } else if (t1 - t0 >= (last ? CPD_STEPS_MIN_LAST_S : CPD_STEPS_MIN_STAGE_S)) {
             cpd_steps_stage *s = &r->stage[r->n++];
-            s->t_start_s = t0;
+            s->t_start_s = pend && fabs(mean - pend_mean) <= tol ? pend_t0 : t0;
             s->t_end_s = t1;
             s->intensity = mean;
             s->stable = -1;
+            pend = 0;
+        } else if (!pend || fabs(mean - pend_mean) > tol) {
+            pend = 1;
+            pend_t0 = t0;
+            pend_mean = mean;
         }
         i = j;
     }
@@ -175,16 +183,16 @@ int cpd_steps_at(const cpd_steps_result *r, double value, int by_intensity, doub
         return CPD_EUSAGE;
     if (r->n < 2)
         return CPD_ENODATA;
-    double in[CPD_STEPS_MAX], vo2[CPD_STEPS_MAX];
-    for (size_t k = 0; k < r->n; k++) {
-        in[k] = r->stage[k].intensity;
-        vo2[k] = r->stage[k].vo2_ml_min;
-        if (k > 0 && !(vo2[k] > vo2[k - 1]) && !by_intensity)
-            return CPD_ENODATA;
+    /* the first pair of consecutive stages that brackets the value (stage intensities always rise;
+     * stage VO2 may not, after a drifting stage) */
+    for (size_t k = 0; k + 1 < r->n; k++) {
+        double in[2] = {r->stage[k].intensity, r->stage[k + 1].intensity};
+        double vo2[2] = {r->stage[k].vo2_ml_min, r->stage[k + 1].vo2_ml_min};
+        const double *xs = by_intensity ? in : vo2, *ys = by_intensity ? vo2 : in;
+        if (xs[1] > xs[0] && value >= xs[0] && value <= xs[1]) {
+            *out = cpd_lactate_stage_interp(xs, ys, 2, value);
+            return CPD_OK;
+        }
     }
-    const double *xs = by_intensity ? in : vo2, *ys = by_intensity ? vo2 : in;
-    if (value < xs[0] || value > xs[r->n - 1])
-        return CPD_ENODATA;
-    *out = cpd_lactate_stage_interp(xs, ys, r->n, value);
-    return CPD_OK;
+    return CPD_ENODATA;
 }

@@ -83,10 +83,10 @@ int cpd_steps_means(cpd_steps_result *r, const cpd_gx_series *g);
  * CPD_ENODATA when fewer than 3 stages qualify (gain_basis NONE). */
 int cpd_steps_gain(cpd_steps_result *r, double get_vo2, double peak_intensity);
 
-/* The intensity whose stage steady-state VO2 is vo2 (linear between the stages that bracket it, as
- * lactate.h places a value between stages), or the steady-state VO2 at an intensity (by_intensity 1).
- * Returns CPD_OK, CPD_ENODATA with fewer than 2 stages or when vo2 lies outside the stage means
- * (no extrapolation) or the stage means do not rise. */
+/* The intensity whose stage steady-state VO2 is value (linear between the first two consecutive
+ * stages that bracket it, as lactate.h places a value between stages), or the steady-state VO2 at
+ * the intensity value (by_intensity 1). Returns CPD_OK, or CPD_ENODATA with fewer than 2 stages or
+ * when no pair of stages brackets the value (no extrapolation). */
 int cpd_steps_at(const cpd_steps_result *r, double value, int by_intensity, double *out);
 
 #endif
