@@ -135,9 +135,9 @@ static int ramp_add_opts(const ramp_opts *o, cpd_gx_test *t, const cpd_gx_series
     const char *u = t->speed ? "m/s" : "W";
     double maxi = t->speed ? 15 : 3000;
     int col = t->speed ? CPD_GX_SPEED : CPD_GX_POWER;
-    if (!o->rate && !g->ch[col])
-        return cli_usage("ramp add", "--rate is required: the file has no %s column to read the intensity from",
-                         cpd_gx_channel_name(col));
+    if ((!o->rate || !o->start) && !g->ch[col])
+        return cli_usage("ramp add", "--rate and --start are required: the file has no %s column to read the intensity "
+                         "from", cpd_gx_channel_name(col));
     if (o->rate && (rc = cli_ranged("--rate", o->rate, t->speed ? 0.005 : 1, t->speed ? 2 : 200,
                                     t->speed ? "(m/s)/min" : "W/min", 0, &t->rate_per_min)))
         return rc;
@@ -169,6 +169,53 @@ static int ramp_add_opts(const ramp_opts *o, cpd_gx_test *t, const cpd_gx_series
         t->has_mrt = 1;
     }
     return 0;
+}
+
+/* The analysis options a stored test carries (the caller has initialised ro). */
+static void opts_from_test(const cpd_gx_test *t, const cpd_athlete *a, cpd_ramp_opts *ro)
+{
+    ro->modality = t->speed ? CPD_RAMP_SPEED : CPD_RAMP_POWER;
+    ro->rate_per_min = t->has_rate ? t->rate_per_min : 0;
+    ro->start = t->start;
+    ro->start_given = t->has_start;
+    ro->onset_s = t->onset_s;
+    ro->protocol = t->protocol;
+    ro->end_given = t->has_end;
+    ro->end_s = t->end_s;
+    ro->baseline_given = t->has_baseline;
+    ro->baseline_intensity = t->baseline;
+    ro->mrt_given = t->has_mrt;
+    ro->mrt_s = t->mrt_s;
+    ro->mass_kg = a->has_mass ? a->mass_kg : 0;
+    ro->manual_get_vo2_ml_min = t->has_get_manual ? t->get_vo2_manual : 0;
+    ro->manual_rcp_vo2_ml_min = t->has_rcp_manual ? t->rcp_vo2_manual : 0;
+    ro->manual_get_intensity = t->has_get_intensity ? t->get_intensity_manual : 0;
+    ro->manual_rcp_intensity = t->has_rcp_intensity ? t->rcp_intensity_manual : 0;
+}
+
+/* What the analysis will read from the file, said once at 'ramp add': the protocol found in the
+ * record, and a nominal rate that disagrees with it. A file that cannot be analysed yet is still
+ * stored ('ramp show' says why). */
+static void add_preview(cli_ctx *c, const cpd_gx_test *t, const cpd_athlete *a, const cpd_gx_series *g)
+{
+    cpd_ramp_opts ro;
+    cpd_ramp_opts_init(&ro);
+    opts_from_test(t, a, &ro);
+    cpd_ramp_ws *w = cpd_ramp_alloc();
+    cpd_ramp_result *r = calloc(1, sizeof *r);
+    char msg[CPD_MSG_MAX];
+    const char *u = t->speed ? "m/s" : "W";
+    if (w && r && cpd_ramp_analyse(w, g, &ro, r, msg) == CPD_OK) {
+        char st[24];
+        cpd_format_duration(r->steps.step_s, st, sizeof st);
+        if (r->protocol == CPD_RAMP_PROTO_STEPS)
+            cli_note(c, "read as a step test: %zu stages of %s, +%.4g %s each", r->steps.n, st, r->steps.increment, u);
+        if (r->has_nominal && r->nominal_mismatch)
+            cli_note(c, "warning: the nominal rate %g %s/min disagrees with the recorded intensity (%.3g %s/min, mean "
+                     "difference %.3g %s); the record is used", r->nominal_rate, u, r->record_rate, u, r->column_mad, u);
+    }
+    cpd_ramp_free(w);
+    free(r);
 }
 
 static int ramp_add(cli_ctx *c, int argc, char **argv)
@@ -219,6 +266,7 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
     }
     t.hr_dropped = rep.hr_dropped;
     t.blank_cells = rep.blank_total;
+    add_preview(c, &t, &a, g);
     if (o.note)
         snprintf(t.note, sizeof t.note, "%s", o.note);
     snprintf(t.source_file, sizeof t.source_file, "%s", argv[first + 1]);
@@ -338,22 +386,7 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
         cpd_gx_free(g);
         return cli_store_fail(c, rc);
     }
-    ro.modality = t->speed ? CPD_RAMP_SPEED : CPD_RAMP_POWER;
-    ro.rate_per_min = t->has_rate ? t->rate_per_min : 0;
-    ro.start = t->start;
-    ro.start_given = t->has_start;
-    ro.onset_s = t->onset_s;
-    ro.protocol = t->protocol;
-    ro.end_given = t->has_end;
-    ro.end_s = t->end_s;
-    if (t->has_get_intensity)
-        ro.manual_get_intensity = t->get_intensity_manual;
-    if (t->has_rcp_intensity)
-        ro.manual_rcp_intensity = t->rcp_intensity_manual;
-    if (t->has_baseline) {
-        ro.baseline_given = 1;
-        ro.baseline_intensity = t->baseline;
-    }
+    opts_from_test(t, a, &ro);
     if (mrt) {
         if ((rc = cli_ranged("--mrt", mrt, 0, 300, "s", 1, &v))) {
             cpd_gx_free(g);
@@ -361,16 +394,7 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
         }
         ro.mrt_given = 1;
         ro.mrt_s = v;
-    } else if (t->has_mrt) {
-        ro.mrt_given = 1;
-        ro.mrt_s = t->mrt_s;
     }
-    if (a->has_mass)
-        ro.mass_kg = a->mass_kg;
-    if (t->has_get_manual)
-        ro.manual_get_vo2_ml_min = t->get_vo2_manual;
-    if (t->has_rcp_manual)
-        ro.manual_rcp_vo2_ml_min = t->rcp_vo2_manual;
     *w = cpd_ramp_alloc();
     char msg[CPD_MSG_MAX] = "";
     rc = *w ? cpd_ramp_analyse(*w, g, &ro, r, msg) : CPD_ENOMEM;
@@ -381,6 +405,21 @@ int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *o
         return cli_fail(c, rc, "ramp %lld: %s", id, msg[0] ? msg : cpd_strerror(rc));
     }
     return 0;
+}
+
+/* Ramp id analysed with its stored options into a new *r (the caller frees *r and *w). Returns 0 or
+ * an exit code after printing why. */
+static int ramp_load(cli_ctx *c, long long id, cpd_gx_test *t, cpd_athlete *a, cpd_ramp_ws **w, cpd_ramp_result **r)
+{
+    *r = calloc(1, sizeof **r);
+    if (!*r)
+        return cli_fail(c, CPD_ENOMEM, "out of memory");
+    int rc = cli_ramp_analyse(c, id, NULL, NULL, NULL, t, a, w, *r);
+    if (rc) {
+        free(*r);
+        *r = NULL;
+    }
+    return rc;
 }
 
 static const char *status_word(int st)
@@ -671,13 +710,9 @@ static int ramp_set_intensity(cli_ctx *c, const ramp_opts *o, const char *ids)
     cpd_gx_test t;
     cpd_athlete a;
     cpd_ramp_ws *w = NULL;
-    cpd_ramp_result *rr = calloc(1, sizeof *rr);
-    if (!rr)
-        return cli_fail(c, CPD_ENOMEM, "out of memory");
-    if ((rc = cli_ramp_analyse(c, id, NULL, NULL, NULL, &t, &a, &w, rr))) {
-        free(rr);
+    cpd_ramp_result *rr = NULL;
+    if ((rc = ramp_load(c, id, &t, &a, &w, &rr)))
         return rc;
-    }
     double lo = rr->protocol == CPD_RAMP_PROTO_STEPS ? rr->steps.stage[0].intensity : rr->start_used;
     double hi = rr->peak_intensity, gi = g > 0 ? g : rr->get.status != CPD_THR_NOT_FOUND ? rr->get.ramp_intensity : lo;
     cpd_ramp_free(w);
@@ -809,13 +844,9 @@ static int ramp_plot(cli_ctx *c, int argc, char **argv)
     cpd_gx_test t;
     cpd_athlete a;
     cpd_ramp_ws *w = NULL;
-    cpd_ramp_result *r = calloc(1, sizeof *r);
-    if (!r)
-        return cli_fail(c, CPD_ENOMEM, "out of memory");
-    if ((rc = cli_ramp_analyse(c, id, NULL, NULL, NULL, &t, &a, &w, r))) {
-        free(r);
+    cpd_ramp_result *r = NULL;
+    if ((rc = ramp_load(c, id, &t, &a, &w, &r)))
         return rc;
-    }
     char *svg = NULL;
     const cpd_gx_series *cs = cpd_ramp_samples(w);
     if (!cs->ch[CPD_GX_VCO2] || (veq && !cs->ch[CPD_GX_VE])) {

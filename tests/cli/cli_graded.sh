@@ -130,8 +130,9 @@ err_has "the header reads as one column" "the message says how to convert it"
 # --rate stays required without an intensity column
 cut -d, -f1-4 "$TMP/steps.csv" >"$TMP/nopower.csv"
 expect 64 "no power column, no --rate" ramp add S01 "$TMP/nopower.csv" --date 2026-10-07
-err_has "--rate is required" "the message names --rate"
-expect 64 "--protocol steps without a record" ramp add S01 "$TMP/nopower.csv" --date 2026-10-07 --rate 8 --protocol steps
+err_has "--rate and --start are required" "the message names --rate and --start"
+expect 64 "--protocol steps without a record" ramp add S01 "$TMP/nopower.csv" --date 2026-10-07 --rate 8 --start 100 --protocol steps
+err_has "a step test is read from the recorded intensity" "steps need the record"
 
 # (5) sheets for an athlete whose only gas-exchange test is VO2-only
 expect 0 "athlete" athlete add V01 --name "Vo Only"
@@ -178,4 +179,8 @@ expect 0 "the same trial again" --json trial add V01 --date 2026-09-07 --duratio
 json_is 'd["skipped_duplicate"]' True "an exact duplicate is skipped, as trial import does"
 expect 0 "count" --json trial list V01
 json_is 'len(d["trials"])' 4 "stored once"
+expect 0 "ramp add says what it read" ramp add S01 "$TMP/steps.csv" --date 2026-10-08
+err_has "read as a step test: 10 stages of 3:00, +25 W each" "the protocol is said at import"
+expect 0 "a disagreeing --rate is warned about at import" ramp add S01 "$TMP/ramp.csv" --date 2026-10-08 --rate 20
+err_has "warning: the nominal rate 20 W/min disagrees with the recorded intensity" "the warning at import"
 echo "# $N checks"
