@@ -27,12 +27,39 @@ static double median(double *v, size_t n)
     return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
+/* The noise SD of a recorded intensity over [0, t_end] from its successive differences, robustly
+ * (1.4826 x the median absolute deviation of the differences, / sqrt 2): a measured power that
+ * wanders around its target. Steps and a steady ramp give 0 (their differences are all alike). */
+static double record_noise(const double *t, const double *x, size_t n, double t_end_s)
+{
+    size_t m = 0;
+    for (size_t i = 1; i < n; i++)
+        m += t[i - 1] >= 0 && t[i] <= t_end_s;
+    if (m < 10)
+        return 0;
+    double *d = malloc(m * sizeof *d);
+    if (!d)
+        return 0;
+    size_t k = 0;
+    for (size_t i = 1; i < n; i++)
+        if (t[i - 1] >= 0 && t[i] <= t_end_s)
+            d[k++] = x[i] - x[i - 1];
+    double med = median(d, m);
+    for (size_t i = 0; i < m; i++)
+        d[i] = fabs(d[i] - med);
+    double mad = median(d, m);
+    free(d);
+    return 1.4826 * mad / sqrt(2.0);
+}
+
 int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, double tol, cpd_steps_result *r)
 {
     if (!t || !x || !r || !(tol > 0))
         return CPD_EUSAGE;
     memset(r, 0, sizeof *r);
     r->tol = tol;
+    r->noise = record_noise(t, x, n, t_end_s);
+    tol = fmax(tol, 4 * r->noise);
     size_t i = 0;
     while (i < n && t[i] < 0)
         i++;
@@ -41,7 +68,7 @@ int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, d
     while (i < n && t[i] <= t_end_s && r->n < CPD_STEPS_MAX) {
         size_t j = i;
         double sum = 0;
-        while (j < n && t[j] <= t_end_s && fabs(x[j] - x[i]) <= tol)
+        while (j < n && t[j] <= t_end_s && fabs(x[j] - (j > i ? sum / (double)(j - i) : x[i])) <= tol)
             sum += x[j++];
         double t0 = t[i], t1 = t[j - 1], mean = sum / (double)(j - i);
         int last = j >= n || t[j] > t_end_s;
@@ -76,6 +103,19 @@ int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, d
             d[k] = r->stage[k + 1].intensity - r->stage[k].intensity;
         r->increment = median(d, r->n - 1);
     }
+    /* how much the intensity rises within a stage (least-squares slope x length): ~0 for a step, the
+     * whole band for a slow ramp that only looks like steps */
+    for (size_t k = 0; k < r->n; k++) {
+        cpd_steps_stage *g = &r->stage[k];
+        size_t a = 0, m = 0;
+        while (a < n && t[a] < g->t_start_s)
+            a++;
+        while (a + m < n && t[a + m] <= g->t_end_s)
+            m++;
+        cpd_linfit_result f;
+        d[k] = m >= 3 && cpd_linfit_line(t + a, x + a, m, &f) == CPD_OK ? fabs(f.b[1]) * (g->t_end_s - g->t_start_s) : 0;
+    }
+    r->within_rise = median(d, r->n);
     for (size_t k = 0; k < r->n; k++) /* a stage cut short (usually the last) is not complete */
         r->stage[k].complete = r->n >= 2 && r->stage[k].t_end_s - r->stage[k].t_start_s >= r->step_s - COMPLETE_TOL_S;
     return CPD_OK;
@@ -83,7 +123,8 @@ int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, d
 
 int cpd_steps_is_steps(const cpd_steps_result *r)
 {
-    return r && r->n >= CPD_STEPS_MIN_STAGES && r->covered_frac >= CPD_STEPS_MIN_COVER && r->increment >= 2 * r->tol;
+    return r && r->n >= CPD_STEPS_MIN_STAGES && r->covered_frac >= CPD_STEPS_MIN_COVER && r->increment >= 2 * r->tol &&
+           r->within_rise < 0.5 * r->increment;
 }
 
 /* Mean and SD (n - 1) of v over the grid values with t in (lo, hi]; the count in *m. */

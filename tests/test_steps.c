@@ -55,6 +55,31 @@ static void stages_are_found_in_the_record(void **state)
     assert_near(r.stage[2].t_start_s, 360.4, 1e-9);
 }
 
+/* A measured power that wanders around its target (SD 4 W): the same stages. */
+static void a_noisy_record_gives_the_same_stages(void **state)
+{
+    (void)state;
+    double t[1200], x[1200];
+    size_t n = record(t, x, 1200, 100, 25, 180, 8, 7 * 180 + 50, 120);
+    uint64_t z = 0x1234567ULL;
+    for (size_t i = 0; i < n; i++) {
+        double s = 0; /* sum of 12 uniforms - 6: unit variance */
+        for (int k = 0; k < 12; k++) {
+            z = z * 6364136223846793005ULL + 1442695040888963407ULL;
+            s += (double)(z >> 11) * 0x1.0p-53;
+        }
+        if (t[i] <= 7 * 180 + 50)
+            x[i] += 4.0 * (s - 6.0);
+    }
+    cpd_steps_result r;
+    assert_int_equal(cpd_steps_find(t, x, n, 7 * 180 + 50, CPD_STEPS_TOL_W, &r), CPD_OK);
+    assert_near(r.noise, 4.0, 1.0);
+    assert_int_equal(r.n, 8);
+    assert_true(cpd_steps_is_steps(&r));
+    for (size_t k = 0; k < r.n; k++)
+        assert_near(r.stage[k].intensity, 100 + 25.0 * (double)k, 1.5);
+}
+
 static void a_slow_ramp_is_not_steps(void **state)
 {
     (void)state;
@@ -67,6 +92,7 @@ static void a_slow_ramp_is_not_steps(void **state)
     cpd_steps_result r;
     assert_int_equal(cpd_steps_find(t, x, n, 1200, CPD_STEPS_TOL_W, &r), CPD_OK);
     assert_int_equal(cpd_steps_is_steps(&r), 0);
+    assert_true(r.within_rise > 0.5 * r.increment); /* it rises inside every band */
     n = 0;
     for (double u = 0.3; u < 600; u += 2.5) { /* 30 W/min: no stage at all */
         t[n] = u;
@@ -163,6 +189,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(stages_are_found_in_the_record),
+        cmocka_unit_test(a_noisy_record_gives_the_same_stages),
         cmocka_unit_test(a_slow_ramp_is_not_steps),
         cmocka_unit_test(steady_states_and_the_gain),
         cmocka_unit_test(refusals),

@@ -51,7 +51,9 @@ typedef struct {
     double step_s;                         /* s: median time from one stage's start to the next's */
     double increment;                      /* W or m/s: median rise between consecutive stages */
     double covered_frac;                   /* fraction of the exercise spent in stages */
-    double tol;                            /* W or m/s: the tolerance the stages were found with */
+    double tol;                            /* W or m/s: the tolerance asked for */
+    double noise;                          /* W or m/s: noise SD of the record (robust, successive differences) */
+    double within_rise;                    /* W or m/s: median rise of the intensity within a stage (LS slope x length) */
     int gain_basis;                        /* cpd_steps_gain_basis */
     size_t gain_n;                         /* stages in the gain */
     double gain, gain_se;                  /* mL/min per W (per m/s): OLS slope of stage VO2 on intensity */
@@ -59,15 +61,17 @@ typedef struct {
 } cpd_steps_result;
 
 /* Finds the stages in the recorded intensity x[n] at times t[n] (s from onset, non-decreasing):
- * runs of samples within tol of the run's first sample, over [0, t_end_s]; a run is a stage when it
- * lasts at least CPD_STEPS_MIN_STAGE_S (the final run: CPD_STEPS_MIN_LAST_S) and lies above the
- * stage before it by more than tol. Fills n, the stages' times and intensities, step_s, increment,
+ * runs of samples within tol (or 4 noise SDs of a measured record, whichever is larger) of the mean
+ * of the run so far, over [0, t_end_s]; a run is a stage when it lasts at least CPD_STEPS_MIN_STAGE_S (the
+ * final run: CPD_STEPS_MIN_LAST_S) and lies above the stage before it (a run back at the level of
+ * the stage before continues it; one below it is a dip and ignored). Fills n, the stages' times and intensities, step_s, increment,
  * covered_frac. Returns CPD_OK (n may be 0), CPD_EUSAGE for NULL arrays or tol <= 0. */
 int cpd_steps_find(const double *t, const double *x, size_t n, double t_end_s, double tol, cpd_steps_result *r);
 
 /* 1 when stages found by cpd_steps_find make a step test: at least CPD_STEPS_MIN_STAGES stages
- * covering CPD_STEPS_MIN_COVER of the exercise, rising by a median of at least twice the tolerance
- * (a slow ramp also holds each value within the tolerance for a while, but rises by less). */
+ * covering CPD_STEPS_MIN_COVER of the exercise, rising by a median of at least twice the tolerance,
+ * and flat within (median within_rise below half the increment): a slow ramp also holds each value
+ * within the tolerance for a while, but rises inside each such band. */
 int cpd_steps_is_steps(const cpd_steps_result *r);
 
 /* Fills each stage's steady-state means from a 1-s grid g (times from onset; VO2 required, VCO2 and
