@@ -194,9 +194,10 @@ static void opts_from_test(const cpd_gx_test *t, const cpd_athlete *a, cpd_ramp_
 }
 
 /* What the analysis will read from the file, said once at 'ramp add': the protocol found in the
- * record, and a nominal rate that disagrees with it. A file that cannot be analysed yet is still
+ * record, and a nominal rate that disagrees with it. Returns 0, or 64 when the options cannot
+ * describe the file (a flat intensity column and no --rate); a file too short to analyse is still
  * stored ('ramp show' says why). */
-static void add_preview(cli_ctx *c, const cpd_gx_test *t, const cpd_athlete *a, const cpd_gx_series *g)
+static int add_preview(cli_ctx *c, const cpd_gx_test *t, const cpd_athlete *a, const cpd_gx_series *g)
 {
     cpd_ramp_opts ro;
     cpd_ramp_opts_init(&ro);
@@ -205,7 +206,8 @@ static void add_preview(cli_ctx *c, const cpd_gx_test *t, const cpd_athlete *a, 
     cpd_ramp_result *r = calloc(1, sizeof *r);
     char msg[CPD_MSG_MAX];
     const char *u = t->speed ? "m/s" : "W";
-    if (w && r && cpd_ramp_analyse(w, g, &ro, r, msg) == CPD_OK) {
+    int rc = w && r ? cpd_ramp_analyse(w, g, &ro, r, msg) : CPD_ENOMEM;
+    if (rc == CPD_OK) {
         char st[24];
         cpd_format_duration(r->steps.step_s, st, sizeof st);
         if (r->protocol == CPD_RAMP_PROTO_STEPS)
@@ -216,6 +218,7 @@ static void add_preview(cli_ctx *c, const cpd_gx_test *t, const cpd_athlete *a, 
     }
     cpd_ramp_free(w);
     free(r);
+    return rc == CPD_EUSAGE ? cli_usage("ramp add", "%s", msg) : 0;
 }
 
 static int ramp_add(cli_ctx *c, int argc, char **argv)
@@ -266,7 +269,10 @@ static int ramp_add(cli_ctx *c, int argc, char **argv)
     }
     t.hr_dropped = rep.hr_dropped;
     t.blank_cells = rep.blank_total;
-    add_preview(c, &t, &a, g);
+    if ((rc = add_preview(c, &t, &a, g))) {
+        cpd_gx_free(g);
+        return rc;
+    }
     if (o.note)
         snprintf(t.note, sizeof t.note, "%s", o.note);
     snprintf(t.source_file, sizeof t.source_file, "%s", argv[first + 1]);

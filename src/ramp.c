@@ -1325,7 +1325,7 @@ static int prepare(struct ctx *c, const cpd_gx_series *s, char *msg)
         has_col = hi - lo >= drop_abs;
     }
     if (!has_col && !(o->rate_per_min > 0)) {
-        say(msg, CPD_MSG_MAX, "no usable recorded intensity (%s)%s: give the ramp rate", cpd_gx_channel_name(col),
+        say(msg, CPD_MSG_MAX, "no usable recorded intensity (%s)%s: give the ramp rate and start", cpd_gx_channel_name(col),
             cl->ch[col] ? " (the column does not vary)" : "");
         return CPD_EUSAGE;
     }

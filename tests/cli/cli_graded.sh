@@ -183,4 +183,10 @@ expect 0 "ramp add says what it read" ramp add S01 "$TMP/steps.csv" --date 2026-
 err_has "read as a step test: 10 stages of 3:00, +25 W each" "the protocol is said at import"
 expect 0 "a disagreeing --rate is warned about at import" ramp add S01 "$TMP/ramp.csv" --date 2026-10-08 --rate 20
 err_has "warning: the nominal rate 20 W/min disagrees with the recorded intensity" "the warning at import"
+awk -F, 'BEGIN { OFS = "," } NR == 1 { print; next } { $6 = 0; print }' "$TMP/steps.csv" >"$TMP/flat.csv"
+snapshot
+expect 64 "a power column of zeros and no --rate" ramp add S01 "$TMP/flat.csv" --date 2026-10-09
+err_has "the column does not vary): give the ramp rate and start" "the message says what to do"
+unchanged "nothing stored"
+expect 0 "with --rate and --start it is a ramp from the nominal line" --json ramp add S01 "$TMP/flat.csv" --date 2026-10-09 --rate 8 --start 90
 echo "# $N checks"
