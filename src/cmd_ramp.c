@@ -43,7 +43,10 @@ static const char HELP_SHOW[] =
     "the respiratory compensation point, the VO2-power gain, the mean response time and the\n"
     "constant-power equivalent of each threshold (ramp power - rate x MRT). Breaths beyond\n"
     "--outlier-sd (default 4) SD of their neighbours are dropped and counted. A threshold that\n"
-    "cannot be found is reported as not found, with the reason.\n\n"
+    "cannot be found is reported as not found, with the reason. A step test shows its stages: the\n"
+    "steady state of each (mean of the final 30 s, SD, stable or not), the gain from the stage means\n"
+    "and each threshold's steady-state power; VO2peak covers the whole exercise, the last stage too.\n"
+    "A VO2-only file gives VO2peak, peak power, the gain and (a ramp) the MRT.\n\n"
     "examples:\n  cpdomain ramp show 3\n  cpdomain --json ramp show 3 --window 20\n";
 static const char HELP_SET[] =
     "usage: cpdomain ramp set ID (--get-vo2 ML_MIN | --rcp-vo2 ML_MIN | --get-power W | --rcp-power W\n"

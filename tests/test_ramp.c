@@ -594,6 +594,65 @@ static void mrt_estimate_recovers_the_generator(void **state)
  * the recorded power through a first-order filter, checked against scipy.optimize.least_squares on the
  * same 1-s grid (tests/ref/mrt_filter.py) and against the generator (tau + delay). Noise that hides
  * the curvature makes it "not identifiable", with the reason, never a number. */
+/* The same ramp written with its baseline at negative times (onset at t = 0) and starting at 0 with
+ * the onset given: the same analysis. A recovery after the end is recorded: the end comes from the
+ * power column (its drop), not the last sample, and VO2peak and the peak power stop there. */
+static void layouts_and_recovery(void **state)
+{
+    (void)state;
+    synth_ramp p = quiet_ramp();
+    p.post_s = 120; /* recovery at the baseline power */
+    synth_rng rng = {.s = 0x7077ULL};
+    cpd_gx_series *s = synth_make(&p, &rng, NULL);
+    assert_non_null(s);
+    cpd_ramp_opts o;
+    cpd_ramp_opts_init(&o); /* no rate, no start: the record gives them */
+    o.onset_s = p.onset_s;
+    cpd_ramp_ws *w = cpd_ramp_alloc();
+    cpd_ramp_result a, b;
+    char msg[CPD_MSG_MAX];
+    assert_int_equal(cpd_ramp_analyse(w, s, &o, &a, msg), CPD_OK);
+    assert_int_equal(a.end_from_record, 1);
+    assert_int_equal(a.intensity_recorded, 1);
+    assert_int_equal(a.protocol, CPD_RAMP_PROTO_RAMP);
+    assert_near(a.record_rate, p.rate, 1e-6);
+    assert_true(a.duration_s <= p.dur_s && a.duration_s > p.dur_s - p.bi_hi);
+    double pmax = 0; /* the highest recorded power of the exercise */
+    for (size_t i = 0; i < s->n; i++)
+        if (s->t_s[i] >= p.onset_s && s->t_s[i] - p.onset_s <= a.duration_s && s->ch[CPD_GX_POWER][i] > pmax)
+            pmax = s->ch[CPD_GX_POWER][i];
+    assert_near(a.peak_intensity, pmax, 1e-12);
+    assert_true(a.vo2peak_time_s <= a.duration_s);
+    cpd_gx_shift(s, -p.onset_s); /* baseline at negative times */
+    o.onset_s = 0;
+    assert_int_equal(cpd_ramp_analyse(w, s, &o, &b, msg), CPD_OK);
+    assert_near(b.vo2peak_ml_min, a.vo2peak_ml_min, 1e-9 * a.vo2peak_ml_min);
+    assert_near(b.get.vo2_ml_min, a.get.vo2_ml_min, 1e-9 * a.get.vo2_ml_min);
+    assert_near(b.get.time_s, a.get.time_s, 1e-6);
+    assert_near(b.gain, a.gain, 1e-9);
+    assert_near(b.mrt_s, a.mrt_s, 1e-6);
+    assert_near(b.duration_s, a.duration_s, 1e-9);
+    /* a nominal rate 20 % off the record: the record is used, the mismatch flagged with both values */
+    o.rate_per_min = 0.8 * p.rate;
+    o.start = p.start;
+    o.start_given = 1;
+    assert_int_equal(cpd_ramp_analyse(w, s, &o, &b, msg), CPD_OK);
+    assert_int_equal(b.has_nominal, 1);
+    assert_int_equal(b.nominal_mismatch, 1);
+    assert_near(b.nominal_rate, 0.8 * p.rate, 0);
+    assert_near(b.rate_used, p.rate, 1e-6);
+    assert_near(b.gain, a.gain, 1e-9);
+    /* --end overrides the record */
+    o.rate_per_min = 0;
+    o.end_given = 1;
+    o.end_s = 400;
+    assert_int_equal(cpd_ramp_analyse(w, s, &o, &b, msg), CPD_OK);
+    assert_near(b.duration_s, 400, 1.0);
+    assert_int_equal(b.end_from_record, 0);
+    cpd_ramp_free(w);
+    cpd_gx_free(s);
+}
+
 static void mrt_without_baseline(void **state)
 {
     (void)state;
@@ -1098,6 +1157,7 @@ int main(void)
         cmocka_unit_test(gain_is_recovered_and_flagged),
         cmocka_unit_test(mrt_correction_arithmetic),
         cmocka_unit_test(mrt_estimate_recovers_the_generator),
+        cmocka_unit_test(layouts_and_recovery),
         cmocka_unit_test(mrt_without_baseline),
         cmocka_unit_test(outliers_are_removed_and_counted),
         cmocka_unit_test(ventilatory_equivalents_need_isocapnic_buffering),
