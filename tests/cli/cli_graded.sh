@@ -189,4 +189,17 @@ expect 64 "a power column of zeros and no --rate" ramp add S01 "$TMP/flat.csv" -
 err_has "the column does not vary): give the ramp rate and start" "the message says what to do"
 unchanged "nothing stored"
 expect 0 "with --rate and --start it is a ramp from the nominal line" --json ramp add S01 "$TMP/flat.csv" --date 2026-10-09 --rate 8 --start 90
+
+# ---- a version-4 store (before db/005_gx_protocol.sql) keeps its ramp and takes a step test ----
+OLD="$TMP/v4.db"
+for f in schema.sql 002_fits.sql 003_gas_exchange.sql 004_sessions.sql; do sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/$f"; done
+sqlite3 "$OLD" "PRAGMA user_version = 4; INSERT INTO athlete (code, name) VALUES ('V4', 'Version Four');"
+"$BIN" --db "$OLD" ramp add V4 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 180 >/dev/null 2>&1 \
+    && pass "a version-4 store takes a ramp" || fail "v4 store refused a ramp"
+v=$(sqlite3 "$OLD" "PRAGMA user_version")
+[ "$v" -ge 5 ] && pass "the store was upgraded to version $v" || fail "store at version $v"
+sqlite3 "$OLD" "UPDATE gx_test SET protocol = NULL, end_s = NULL, hr_dropped = 0 WHERE id = 1" \
+    && pass "the new columns exist" || fail "no new columns"
+"$BIN" --db "$OLD" --json ramp add V4 "$TMP/steps.csv" --date 2026-10-01 >"$TMP/out" 2>/dev/null && json_is 'd["hr_dropped"]' 3 "and a step test" \
+    || fail "v4 store refused a step test"
 echo "# $N checks"
