@@ -71,7 +71,9 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         in->has_get = 1;
         in->get = g->equiv_intensity;
         in->get_manual = g->status == CPD_THR_MANUAL;
-        snprintf(in->get_source, sizeof in->get_source, "ramp %lld", id);
+        snprintf(in->get_source, sizeof in->get_source, "ramp %lld%s", id,
+                 r->protocol == CPD_RAMP_PROTO_STEPS ? " (a step test)" : "");
+        in->get_steps = r->protocol == CPD_RAMP_PROTO_STEPS;
         snprintf(in->get_date, sizeof in->get_date, "%s", t.date);
         in->has_hr_get = g->has_hr;
         in->hr_get = g->hr_bpm;

@@ -109,9 +109,14 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
         mh->manual = in->get_manual;
         snprintf(mh->source, sizeof mh->source, "%s: gas exchange threshold%s", in->get_source,
                  in->get_manual ? " (a reviewer's choice)" : "");
-        snprintf(mh->method, sizeof mh->method,
-                 "V-slope GET (Beaver, Wasserman & Whipp 1986) at its constant-%s equivalent: ramp %s - rate x MRT",
-                 in->modality == CPD_PD_SPEED ? "speed" : "power", in->modality == CPD_PD_SPEED ? "speed" : "power");
+        if (in->get_steps)
+            snprintf(mh->method, sizeof mh->method,
+                     "V-slope GET (Beaver, Wasserman & Whipp 1986) at the %s whose stage steady state has its VO2",
+                     in->modality == CPD_PD_SPEED ? "speed" : "power");
+        else
+            snprintf(mh->method, sizeof mh->method,
+                     "V-slope GET (Beaver, Wasserman & Whipp 1986) at its constant-%s equivalent: ramp %s - rate x MRT",
+                     in->modality == CPD_PD_SPEED ? "speed" : "power", in->modality == CPD_PD_SPEED ? "speed" : "power");
         snprintf(mh->date, sizeof mh->date, "%s", in->get_date);
     } else if (in->has_lt1) {
         mh->valid = 1;

@@ -31,6 +31,7 @@ typedef struct {
     double get;                        /* the GET's constant-intensity equivalent */
     int get_manual;                    /* 1 when a reviewer chose it */
     char get_source[CPD_DOMAINS_TEXT]; /* e.g. "ramp 3" */
+    int get_steps;                     /* 1 when the GET comes from a step test (its stage steady states) */
     char get_date[11];
     int has_hr_get, has_hr_rcp;        /* heart rates at the GET and the RCP on the ramp */
     double hr_get, hr_rcp;             /* beats/min */

@@ -146,6 +146,7 @@ vid=$(sqlite3 "$DB" "SELECT max(id) FROM gx_test")
 expect 0 "a reviewer's GET as power" ramp set "$vid" --get-power 175
 expect 0 "domains" --json domains V01
 json_is 'd["boundaries"][0]["name"], d["boundaries"][0]["power_w"], d["boundaries"][0]["manual"]' "('moderate-heavy', 175, True)" "the reviewer's GET (a step test: the power itself) reaches the domains"
+json_is '"step test" in d["boundaries"][0]["source"], "stage steady state" in d["boundaries"][0]["method"]' "(True, True)" "the domains say the GET comes from a step test's stage steady states"
 
 # (1, 6) constant-power bouts: a baseline at negative times gives the same kinetics as --onset; HR artefacts counted
 DEMO="$CPDOMAIN_TESTS/../demo/data"
