@@ -264,10 +264,11 @@ void cpd_ramp_opts_init(cpd_ramp_opts *o);
 cpd_ramp_ws *cpd_ramp_alloc(void);
 void cpd_ramp_free(cpd_ramp_ws *w);
 
-/* Analyses the ramp in s (file times that never run backwards; VO2 required) by the rules above:
- * GET by V-slope (Beaver, Wasserman & Whipp 1986 J Appl Physiol 60:2020), MRT by the lagged-linear
- * model (Whipp et al. 1981 J Appl Physiol 50:217). Returns CPD_OK (thresholds may be NOT_FOUND),
- * CPD_EUSAGE for bad options, CPD_EDATA for invalid data (time backwards, VO2 <= 0 or absurd, no
+/* Analyses the graded test in s (file times that never run backwards, negative before the onset;
+ * VO2 required) by the rules above: a ramp or a step test, GET by V-slope (Beaver, Wasserman & Whipp
+ * 1986 J Appl Physiol 60:2020), MRT by the lagged-linear model (Whipp et al. 1981 J Appl Physiol
+ * 50:217). Returns CPD_OK (thresholds may be NOT_FOUND), CPD_EUSAGE for bad options (also: no rate
+ * and no usable intensity column; steps asked without a column), CPD_EDATA for invalid data (time backwards, VO2 <= 0 or absurd, no
  * VO2), CPD_ENODATA for too short a ramp, CPD_ENOMEM; res is zeroed on error. msg (CPD_MSG_MAX bytes,
  * may be NULL) gets the detail. Results of the fits stay readable in w until its next analysis. */
 int cpd_ramp_analyse(cpd_ramp_ws *w, const cpd_gx_series *s, const cpd_ramp_opts *o, cpd_ramp_result *res,
