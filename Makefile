@@ -39,6 +39,7 @@ CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd
 LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
 CLI_SRCS += src/cmd_bout.c
+CLI_SRCS += src/cli_energy.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 LIB_SRCS += src/store_session.c src/import_session.c
 CLI_SRCS += src/cmd_session.c

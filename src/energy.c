@@ -460,8 +460,8 @@ const char *cpd_energy_aod_cautions(void)
            "power above VO2max as it does below it, and that efficiency is the same in a 2-min bout as in the "
            "steady states; neither is verified, and the extrapolation reaches well beyond the line's data. Medbo "
            "et al. built the line from about ten submaximal bouts of 10 min (from memory); fewer points, short "
-           "bouts, a slow component in the heavy domain, or a line from a ramp change the demand, and with it the "
-           "deficit, by several litres' worth of percent. The interval covers the line's statistical "
+           "bouts, a slow component in the heavy domain, or a line from a ramp change the demand and so the deficit "
+           "substantially. The interval covers the line's statistical "
            "uncertainty only. Compare deficits only within one method, one ergometer and one athlete.";
 }
 
