@@ -7,6 +7,7 @@
 #include <gsl/gsl_cdf.h>
 #include <gsl/gsl_errno.h>
 #include <gsl/gsl_integration.h>
+#include <gsl/gsl_randist.h>
 #include <gsl/gsl_rng.h>
 #include <gsl/gsl_sort.h>
 #include <gsl/gsl_statistics_double.h>
@@ -536,4 +537,196 @@ int cpd_vo2model_domain(const cpd_vo2model *m, double vo2_ml_min)
     if (vo2_ml_min >= fmin(vcp, m->vo2peak_ml_min * 0.95))
         return CPD_KIN_SEVERE;
     return CPD_KIN_HEAVY;
+}
+
+/* ---- the cost of a recorded session ---- */
+
+static double clampd(double x, double lo, double hi) { return x < lo ? lo : x > hi ? hi : x; }
+
+/* One draw of the parameters: normal around the point values, clamped to the model's domain. */
+static void draw_params(const cpd_energy_params *p, gsl_rng *g, cpd_vo2model *m, double *rer)
+{
+    const cpd_vo2model *a = &p->m, *s = &p->sd;
+#define DRAW(f) (a->f + (s->f > 0 ? gsl_ran_gaussian(g, s->f) : 0.0))
+    m->base_ml_min = fmax(DRAW(base_ml_min), 100.0);
+    m->gain_ml_min_w = fmax(DRAW(gain_ml_min_w), 1.0);
+    m->tau_s = fmax(DRAW(tau_s), 5.0);
+    m->delay_s = fmax(DRAW(delay_s), 0.0);
+    m->get_w = fmax(DRAW(get_w), 10.0);
+    m->cp_w = a->cp_w > 0 ? fmax(DRAW(cp_w), m->get_w + 1.0) : 0.0;
+    m->sc_gain_ml_min_w = fmax(DRAW(sc_gain_ml_min_w), 0.0);
+    m->sc_tau_s = fmax(DRAW(sc_tau_s), 20.0);
+    m->sc_delay_s = fmax(DRAW(sc_delay_s), 0.0);
+    m->vo2peak_ml_min = fmax(DRAW(vo2peak_ml_min), m->base_ml_min + 100.0);
+#undef DRAW
+    for (int k = 0; k < 3; k++)
+        rer[k] = clampd(p->rer[k] + (p->rer_sd[k] > 0 ? gsl_ran_gaussian(g, p->rer_sd[k]) : 0.0), 0.70, 1.10);
+}
+
+/* Energy (kJ), CHO and fat (g) of one second at VO2 vo2 (mL/min) with RER rer. */
+static void second_cost(const cpd_energy_eqset *e, double vo2, double rer, double *kj, double *cho, double *fat)
+{
+    double l = vo2 / 1000.0;
+    *kj = cpd_energy_weir_kcal_min(l, rer * l) * CPD_ENERGY_KJ_PER_KCAL / 60.0;
+    double r = clampd(rer, CPD_ENERGY_RER_VALID_LO, CPD_ENERGY_RER_VALID_HI);
+    rates(e, l, r * l, cho, fat);
+    *cho /= 60.0;
+    *fat /= 60.0;
+}
+
+/* Runs model m over the record and adds each recorded second's cost into minute sums (any may be
+ * NULL); dom_* receive the per-domain split when not NULL. */
+static int cost_run(const cpd_vo2model *m, const double *rer, const cpd_energy_eqset *e, const double *p,
+                    const unsigned char *rec, size_t n, double *vo2, double *ee, double *cho, double *fat,
+                    double *vo2_sum, double *dom_s, double *dom_ee)
+{
+    int rc = cpd_vo2model_run(m, p, n, vo2);
+    if (rc)
+        return rc;
+    for (size_t i = 0; i < n; i++) {
+        if (!rec[i])
+            continue;
+        size_t k = i / 60;
+        int d = cpd_vo2model_domain(m, vo2[i]);
+        double kj, c, f;
+        second_cost(e, vo2[i], rer[d - 1], &kj, &c, &f);
+        if (ee)
+            ee[k] += kj;
+        if (cho)
+            cho[k] += c;
+        if (fat)
+            fat[k] += f;
+        if (vo2_sum)
+            vo2_sum[k] += vo2[i];
+        if (dom_s) {
+            dom_s[d - 1] += 1.0;
+            dom_ee[d - 1] += kj;
+        }
+    }
+    return CPD_OK;
+}
+
+static void pct95(double *v, size_t n, double *lo, double *hi)
+{
+    gsl_sort(v, 1, n);
+    *lo = gsl_stats_quantile_from_sorted_data(v, 1, n, 0.025);
+    *hi = gsl_stats_quantile_from_sorted_data(v, 1, n, 0.975);
+}
+
+void cpd_energy_session_free(cpd_energy_session_result *r)
+{
+    if (!r)
+        return;
+    free(r->buf);
+    r->buf = NULL;
+}
+
+int cpd_energy_session(const cpd_energy_params *par, const double *p_w, const unsigned char *rec, size_t n, int eq,
+                       double efficiency, size_t draws, uint64_t seed, cpd_energy_session_result *out)
+{
+    memset(out, 0, sizeof *out);
+    const cpd_energy_eqset *e = cpd_energy_eqset_get(eq);
+    if (!par || !p_w || !rec || n == 0 || !e || !(efficiency >= 0.05 && efficiency <= 0.5) || draws < 20 ||
+        !model_ok(&par->m))
+        return CPD_EUSAGE;
+    for (int k = 0; k < 3; k++)
+        if (!(par->rer[k] >= CPD_ENERGY_RER_MIN && par->rer[k] <= CPD_ENERGY_RER_MAX))
+            return CPD_EUSAGE;
+    size_t M = (n + 59) / 60;
+    enum { NARR = 15 };
+    out->buf = calloc(NARR * M, sizeof *out->buf);
+    double *mat = calloc(3 * M * draws + 4 * draws + n + draws, sizeof *mat);
+    gsl_rng *g = gsl_rng_alloc(gsl_rng_mt19937);
+    int rc = CPD_OK;
+    if (!out->buf || !mat || !g) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    double **arr[NARR] = {&out->rec_s, &out->power_w, &out->work_kj, &out->vo2_ml_min, &out->ee_kj, &out->ee_lo,
+                          &out->ee_hi, &out->cho_g, &out->cho_lo, &out->cho_hi, &out->fat_g, &out->fat_lo,
+                          &out->fat_hi, &out->fixed_kj, &out->nosc_kj};
+    for (size_t k = 0; k < NARR; k++)
+        *arr[k] = out->buf + k * M;
+    out->n_min = M;
+    out->draws = draws;
+    out->efficiency = efficiency;
+    out->eq = eq;
+    double *dee = mat, *dcho = mat + M * draws, *dfat = mat + 2 * M * draws;
+    double *tot = mat + 3 * M * draws, *vo2 = tot + 4 * draws, *tmp = vo2 + n;
+    for (size_t i = 0; i < n; i++) {
+        if (!rec[i])
+            continue;
+        size_t k = i / 60;
+        out->rec_s[k] += 1.0;
+        out->power_w[k] += p_w[i];
+        out->work_kj[k] += p_w[i] / 1000.0;
+        out->fixed_kj[k] += p_w[i] / efficiency / 1000.0;
+    }
+    /* the point estimate, and the model without its slow component */
+    if ((rc = cost_run(&par->m, par->rer, e, p_w, rec, n, vo2, out->ee_kj, out->cho_g, out->fat_g, out->vo2_ml_min,
+                       out->dom_s, out->dom_ee_kj)))
+        goto done;
+    for (size_t i = 0; i < n; i++)
+        if (rec[i])
+            out->dom_fixed_kj[cpd_vo2model_domain(&par->m, vo2[i]) - 1] += p_w[i] / efficiency / 1000.0;
+    cpd_vo2model flat = par->m;
+    flat.sc_gain_ml_min_w = 0.0;
+    flat.cp_w = 0.0;
+    if ((rc = cost_run(&flat, par->rer, e, p_w, rec, n, vo2, out->nosc_kj, NULL, NULL, NULL, NULL, NULL)))
+        goto done;
+    for (size_t k = 0; k < M; k++) {
+        if (out->rec_s[k] > 0) {
+            out->power_w[k] /= out->rec_s[k];
+            out->vo2_ml_min[k] /= out->rec_s[k];
+        }
+        out->rec_total_s += out->rec_s[k];
+        out->work_total_kj += out->work_kj[k];
+        out->ee_total_kj += out->ee_kj[k];
+        out->cho_total_g += out->cho_g[k];
+        out->fat_total_g += out->fat_g[k];
+        out->fixed_total_kj += out->fixed_kj[k];
+        out->nosc_total_kj += out->nosc_kj[k];
+    }
+    out->diff_total_kj = out->ee_total_kj - out->fixed_total_kj;
+
+    /* Monte Carlo over the parameters */
+    gsl_rng_set(g, (unsigned long)seed);
+    for (size_t j = 0; j < draws; j++) {
+        cpd_vo2model m;
+        double rer[3];
+        draw_params(par, g, &m, rer);
+        double *ee = dee + j * M, *ch = dcho + j * M, *ft = dfat + j * M;
+        if ((rc = cost_run(&m, rer, e, p_w, rec, n, vo2, ee, ch, ft, NULL, NULL, NULL)))
+            goto done;
+        double s[3] = {0, 0, 0};
+        for (size_t k = 0; k < M; k++) {
+            s[0] += ee[k];
+            s[1] += ch[k];
+            s[2] += ft[k];
+        }
+        tot[j] = s[0];
+        tot[draws + j] = s[1];
+        tot[2 * draws + j] = s[2];
+        tot[3 * draws + j] = s[0] - out->fixed_total_kj;
+    }
+    for (size_t k = 0; k < M; k++) {
+        double *lo[3] = {&out->ee_lo[k], &out->cho_lo[k], &out->fat_lo[k]};
+        double *hi[3] = {&out->ee_hi[k], &out->cho_hi[k], &out->fat_hi[k]};
+        const double *src[3] = {dee, dcho, dfat};
+        for (int q = 0; q < 3; q++) {
+            for (size_t j = 0; j < draws; j++)
+                tmp[j] = src[q][j * M + k];
+            pct95(tmp, draws, lo[q], hi[q]);
+        }
+    }
+    pct95(tot, draws, &out->ee_total_ci[0], &out->ee_total_ci[1]);
+    pct95(tot + draws, draws, &out->cho_total_ci[0], &out->cho_total_ci[1]);
+    pct95(tot + 2 * draws, draws, &out->fat_total_ci[0], &out->fat_total_ci[1]);
+    pct95(tot + 3 * draws, draws, &out->diff_total_ci[0], &out->diff_total_ci[1]);
+done:
+    gsl_rng_free(g);
+    free(mat);
+    if (rc)
+        cpd_energy_session_free(out);
+    return rc;
 }

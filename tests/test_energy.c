@@ -344,6 +344,64 @@ static void test_model_against_bout_fits(void **state)
     assert_true(rmse > 0.0);
 }
 
+/* Session costing: from a steady state below the GET the modelled VO2 is base + gain P throughout,
+ * so energy is the Weir sum of that VO2 (closed form), the fixed-efficiency estimate is work /
+ * efficiency, and with no parameter uncertainty the interval collapses onto the estimate. */
+static void test_session_cost(void **state)
+{
+    (void)state;
+    enum { N = 1250 };
+    double p[N];
+    unsigned char rec[N];
+    for (int i = 0; i < N; i++) {
+        p[i] = 140.0;
+        rec[i] = i < 1200; /* the last 50 s not recorded: not counted */
+    }
+    cpd_energy_params par;
+    memset(&par, 0, sizeof par);
+    par.m = model_a();
+    par.rer[0] = 0.87;
+    par.rer[1] = 0.93;
+    par.rer[2] = 1.0;
+    cpd_energy_session_result r;
+    assert_int_equal(cpd_energy_session(&par, p, rec, N, CPD_ENERGY_EQ_JW_HIGH, 0.21, 50, 7, &r), CPD_OK);
+    double v = (830 + 10.2 * 140) / 1000.0;
+    double kj_s = (3.941 * v + 1.106 * 0.87 * v) * 4.184 / 60.0;
+    assert_int_equal(r.n_min, 21);
+    assert_near(r.rec_total_s, 1200, 0);
+    assert_near(r.ee_total_kj, 1200 * kj_s, 1e-7);
+    assert_near(r.ee_total_ci[0], r.ee_total_kj, 1e-7);
+    assert_near(r.fixed_total_kj, 140.0 * 1200 / 0.21 / 1000.0, 1e-9);
+    assert_near(r.work_total_kj, 168.0, 1e-9);
+    assert_near(r.cho_total_g, 1200 * (4.210 * 0.87 * v - 2.962 * v) / 60.0, 1e-7);
+    assert_near(r.fat_total_g, 1200 * (1.695 * v - 1.701 * 0.87 * v) / 60.0, 1e-7);
+    assert_near(r.nosc_total_kj, r.ee_total_kj, 1e-9);
+    assert_near(r.dom_s[0], 1200, 0);
+    assert_near(r.ee_kj[3], 60 * kj_s, 1e-9);
+    assert_near(r.rec_s[20], 0, 0);
+    cpd_energy_session_free(&r);
+
+    /* heavy intervals: the slow component costs energy, the intervals open with uncertainty */
+    for (int i = 0; i < N; i++)
+        p[i] = (i / 240) % 2 ? 235.0 : 90.0;
+    par.sd.tau_s = 5;
+    par.sd.gain_ml_min_w = 0.8;
+    par.sd.sc_gain_ml_min_w = 3;
+    par.rer_sd[1] = 0.03;
+    assert_int_equal(cpd_energy_session(&par, p, rec, N, CPD_ENERGY_EQ_JW_HIGH, 0.21, 200, 7, &r), CPD_OK);
+    assert_true(r.ee_total_kj > r.nosc_total_kj + 5.0);
+    assert_true(r.ee_total_ci[0] < r.ee_total_kj && r.ee_total_kj < r.ee_total_ci[1]);
+    assert_true(r.dom_s[1] > 0);
+    for (size_t k = 0; k < r.n_min; k++)
+        assert_true(r.ee_lo[k] <= r.ee_hi[k]);
+    cpd_energy_session_free(&r);
+    assert_int_equal(cpd_energy_session(&par, p, rec, N, CPD_ENERGY_EQ_JW_HIGH, 0.9, 200, 7, &r), CPD_EUSAGE);
+    assert_int_equal(cpd_energy_session(&par, p, rec, N, CPD_ENERGY_EQ_JW_HIGH, 0.21, 3, 7, &r), CPD_EUSAGE);
+    par.rer[0] = 2.0;
+    assert_int_equal(cpd_energy_session(&par, p, rec, N, CPD_ENERGY_EQ_JW_HIGH, 0.21, 200, 7, &r), CPD_EUSAGE);
+    cpd_energy_session_free(&r);
+}
+
 int main(void)
 {
     (void)synth_heavy; /* the shared header's other cases are not used here */
@@ -358,6 +416,7 @@ int main(void)
         cmocka_unit_test(test_accumulate),
         cmocka_unit_test(test_model_steps),
         cmocka_unit_test(test_model_against_bout_fits),
+        cmocka_unit_test(test_session_cost),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

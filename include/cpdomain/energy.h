@@ -238,4 +238,55 @@ int cpd_vo2model_run(const cpd_vo2model *m, const double *p_w, size_t n, double 
  * steady-state VO2 at CP, heavy between): 1 moderate, 2 heavy, 3 severe (as kinetics.h). */
 int cpd_vo2model_domain(const cpd_vo2model *m, double vo2_ml_min);
 
+/* ---- the cost of a recorded session ---- */
+
+/* The model's parameters with the uncertainty of each (0: held fixed), and the RER of each domain. */
+typedef struct {
+    cpd_vo2model m;        /* point values */
+    cpd_vo2model sd;       /* standard deviations of the same fields (normal draws, clamped to valid values) */
+    double rer[3];         /* RER at a steady state in the moderate, heavy and severe domains */
+    double rer_sd[3];      /* their SDs */
+} cpd_energy_params;
+
+/* Per-minute and total cost of a session. Intervals are the 2.5th and 97.5th percentiles of the
+ * Monte Carlo draws. Arrays have n_min values and live in buf (cpd_energy_session_free). */
+typedef struct {
+    size_t n_min;          /* minutes (the last may be partial) */
+    size_t draws;          /* Monte Carlo draws */
+    double efficiency;     /* gross efficiency of the fixed-efficiency estimate, fraction */
+    int eq;                /* equation set for CHO and fat */
+    double *rec_s;         /* recorded seconds in each minute */
+    double *power_w;       /* mean power over them, W */
+    double *work_kj;       /* mechanical work, kJ */
+    double *vo2_ml_min;    /* mean modelled VO2 (point parameters), mL/min */
+    double *ee_kj, *ee_lo, *ee_hi;    /* modelled energy expenditure (Weir 1949), kJ, and its interval */
+    double *cho_g, *cho_lo, *cho_hi;  /* carbohydrate oxidised, g */
+    double *fat_g, *fat_lo, *fat_hi;  /* fat oxidised, g */
+    double *fixed_kj;      /* work / efficiency, kJ */
+    double *nosc_kj;       /* the model without a slow component (point), kJ */
+    double *buf;           /* owner of the arrays */
+    double rec_total_s;    /* recorded seconds */
+    double work_total_kj;
+    double ee_total_kj, ee_total_ci[2];
+    double cho_total_g, cho_total_ci[2];
+    double fat_total_g, fat_total_ci[2];
+    double fixed_total_kj;
+    double diff_total_kj, diff_total_ci[2]; /* model - fixed efficiency */
+    double nosc_total_kj;  /* model without slow component: ee_total - nosc_total is its cost */
+    double dom_s[3];       /* recorded seconds with modelled VO2 in the moderate, heavy, severe domain */
+    double dom_ee_kj[3];   /* modelled energy in each */
+    double dom_fixed_kj[3];/* fixed-efficiency energy in each */
+} cpd_energy_session_result;
+
+/* Costs a 1-Hz power record p_w[0..n-1] (rec[i] 0 for seconds not recorded: they are modelled at 0 W
+ * and not counted): VO2 by cpd_vo2model_run, energy by Weir 1949 with VCO2 = RER x VO2 and the RER of
+ * the modelled VO2's domain, CHO and fat by equation set eq with the RER limited to [0.70, 1.00] (all
+ * carbohydrate above: the equations do not hold there), and the fixed-efficiency estimate work /
+ * efficiency. draws Monte Carlo draws of the parameters (normal, seed) give the intervals.
+ * Returns CPD_OK, CPD_EUSAGE (bad parameters, efficiency outside 0.05-0.5, draws < 20, n == 0),
+ * CPD_ENOMEM. The caller frees out with cpd_energy_session_free. */
+int cpd_energy_session(const cpd_energy_params *par, const double *p_w, const unsigned char *rec, size_t n, int eq,
+                       double efficiency, size_t draws, uint64_t seed, cpd_energy_session_result *out);
+void cpd_energy_session_free(cpd_energy_session_result *r);
+
 #endif
