@@ -10,18 +10,21 @@
 #include <stdlib.h>
 #include <string.h>
 
-static void gather_ramp(cli_ctx *c, cli_energy_athlete *A)
+static void gather_ramp(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
 {
     cpd_gx_test *v = NULL;
     size_t n = 0;
     if (cpd_store_gx_list(c->store, A->a.code, CPD_GXT_RAMP, &v, &n))
         return;
     long long id = 0;
-    for (size_t i = n; i-- > 0;)
-        if (!v[i].speed) {
+    for (size_t i = n; i-- > 0;) /* oldest first: the newest power ramp on or before to_date */
+        if (!v[i].speed && (!to_date || strcmp(v[i].date, to_date) <= 0)) {
             id = v[i].id;
             break;
         }
+    for (size_t i = 0; !id && i < n; i++)
+        if (!v[i].speed)
+            id = v[i].id;
     free(v);
     cpd_ramp_result *rr = calloc(1, sizeof *rr);
     if (!id || !rr) {
@@ -54,14 +57,14 @@ static void gather_ramp(cli_ctx *c, cli_energy_athlete *A)
     free(rr);
 }
 
-static void gather_domains(cli_ctx *c, cli_energy_athlete *A)
+static void gather_domains(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
 {
     cli_domains d;
-    if (cli_domains_build(c, A->a.code, NULL, NULL, NULL, 0, &d))
+    if (cli_domains_build(c, A->a.code, NULL, to_date, NULL, 0, &d))
         return;
     if (d.fit.modality == CPD_PD_POWER) {
         const cpd_boundary *g = &d.res.b[CPD_BND_MOD_HEAVY], *p = &d.res.b[CPD_BND_HEAVY_SEVERE];
-        if (g->valid) {
+        if (g->valid && !A->has_get) { /* the ramp chosen for the date comes first */
             A->has_get = 1;
             A->get_w = g->value;
             A->get_sd_w = g->has_ci ? (g->ci95[1] - g->ci95[0]) / 3.92 : 0.05 * g->value;
@@ -77,7 +80,63 @@ static void gather_domains(cli_ctx *c, cli_energy_athlete *A)
     cli_domains_free(&d);
 }
 
-int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, cli_energy_athlete *A)
+/* Mean VO2 and VCO2 of the breaths in [from, to] s after each onset, averaged over the repeats.
+ * Returns 0, 1 when a repeat has no VCO2, 2 when a window holds no breath. */
+static int window_means(const cpd_gx_series *const *g, const double *onset, size_t m, double from, double to,
+                        double *vo2, double *vco2)
+{
+    double sv = 0, sc = 0;
+    for (size_t r = 0; r < m; r++) {
+        const double *V = g[r]->ch[CPD_GX_VO2], *C = g[r]->ch[CPD_GX_VCO2];
+        if (!C)
+            return 1;
+        double a = 0, b = 0;
+        size_t k = 0;
+        for (size_t i = 0; i < g[r]->n; i++) {
+            double t = g[r]->t_s[i] - onset[r];
+            if (t >= from && t <= to) {
+                a += V[i];
+                b += C[i];
+                k++;
+            }
+        }
+        if (!k)
+            return 2;
+        sv += a / (double)k;
+        sc += b / (double)k;
+    }
+    *vo2 = sv / (double)m;
+    *vco2 = sc / (double)m;
+    return 0;
+}
+
+/* A steady state by the bout's response: moderate, or heavy with VO2 levelling off (the 80 mL/min
+ * per min of kinetics.h), and long enough. */
+static int is_steady(const cpd_kinetics_result *k)
+{
+    return k->end_s >= CLI_ENERGY_STEADY_MIN_S - CPD_KIN_END_TOL_S &&
+           (k->domain == CPD_KIN_MODERATE ||
+            (k->domain == CPD_KIN_HEAVY && k->slope_valid && k->end_slope_ml_min_per_min <= 80.0));
+}
+
+/* The RER of bout e's last minute when it is a steady state. */
+static void bout_rer(cli_ctx *c, cli_energy_bout *e)
+{
+    cpd_gx_test t;
+    cpd_gx_series *g = NULL;
+    if (!is_steady(&e->res) || cpd_store_gx_get(c->store, e->id, CPD_GXT_BOUT, &t, &g))
+        return;
+    const cpd_gx_series *gg[1] = {g};
+    double vo2, vco2;
+    if (window_means(gg, &t.onset_s, 1, e->res.end_s - CLI_ENERGY_STEADY_WIN_S, e->res.end_s, &vo2, &vco2) == 0 &&
+        vco2 / vo2 >= CPD_ENERGY_RER_MIN && vco2 / vo2 <= CPD_ENERGY_RER_MAX) {
+        e->has_rer = 1;
+        e->rer = vco2 / vo2;
+    }
+    cpd_gx_free(g);
+}
+
+int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, const char *to_date, cli_energy_athlete *A)
 {
     memset(A, 0, sizeof *A);
     int rc;
@@ -106,12 +165,13 @@ int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, cli_energ
             snprintf(e->date, sizeof e->date, "%s", v[i].date);
             e->power_w = v[i].intensity;
             e->baseline_w = v[i].has_baseline ? v[i].baseline : 0.0;
+            bout_rer(c, e);
             A->nb++;
         }
     }
     free(v);
-    gather_ramp(c, A);
-    gather_domains(c, A);
+    gather_ramp(c, A, to_date);
+    gather_domains(c, A, to_date);
     c->mute--;
     c->quiet = quiet;
     return 0;
@@ -166,36 +226,6 @@ int cli_energy_line(const cli_energy_athlete *A, cpd_energy_line *L, double *max
 
 /* ---- the energy block of 'bout show' ---- */
 
-/* Mean VO2 and VCO2 of the breaths in [from, to] s after each onset, averaged over the repeats.
- * Returns 0, 1 when a repeat has no VCO2, 2 when a window holds no breath. */
-static int window_means(const cpd_gx_series *const *g, const double *onset, size_t m, double from, double to,
-                        double *vo2, double *vco2)
-{
-    double sv = 0, sc = 0;
-    for (size_t r = 0; r < m; r++) {
-        const double *V = g[r]->ch[CPD_GX_VO2], *C = g[r]->ch[CPD_GX_VCO2];
-        if (!C)
-            return 1;
-        double a = 0, b = 0;
-        size_t k = 0;
-        for (size_t i = 0; i < g[r]->n; i++) {
-            double t = g[r]->t_s[i] - onset[r];
-            if (t >= from && t <= to) {
-                a += V[i];
-                b += C[i];
-                k++;
-            }
-        }
-        if (!k)
-            return 2;
-        sv += a / (double)k;
-        sc += b / (double)k;
-    }
-    *vo2 = sv / (double)m;
-    *vco2 = sc / (double)m;
-    return 0;
-}
-
 static void line_out(cli_json *json, const char *key, const char *label, const char *text)
 {
     if (json) {
@@ -226,8 +256,7 @@ static void report_substrate(const cpd_gx_series *const *g, const double *onset,
         line_out(json, "energy", "energy", txt);
         return;
     }
-    int steady = k->domain == CPD_KIN_MODERATE ||
-                 (k->domain == CPD_KIN_HEAVY && k->slope_valid && k->end_slope_ml_min_per_min <= 80.0);
+    int steady = is_steady(k);
     cpd_energy_substrate s;
     char msg[CPD_MSG_MAX];
     if (cpd_energy_substrate_calc(vo2, vco2, steady, CPD_ENERGY_EQ_JW_HIGH, &s, msg)) {
@@ -302,7 +331,7 @@ static void report_aod(cli_ctx *c, const char *code, long long id, const cpd_gx_
         return;
     }
     cli_energy_athlete A;
-    if (cli_energy_gather(c, code, id, &A))
+    if (cli_energy_gather(c, code, id, NULL, &A))
         return;
     cpd_energy_line L;
     double maxp = 0;

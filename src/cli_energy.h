@@ -18,6 +18,8 @@ typedef struct {
     char date[11];
     double power_w;     /* W */
     double baseline_w;  /* W before the onset (0 when not given) */
+    int has_rer;        /* 1 when the last minute is a steady state with VCO2 */
+    double rer;         /* RER of the last minute of exercise */
     cpd_kinetics_result res;
 } cli_energy_bout;
 
@@ -41,10 +43,11 @@ typedef struct {
     char get_source[200], cp_source[200];
 } cli_energy_athlete;
 
-/* Gathers athlete code's power bouts (all but skip_id; 0 skips none), newest power ramp, GET and CP
- * (as 'domains' finds them), quietly. Returns 0 or an exit code after printing why (unknown athlete).
- * The caller frees A with cli_energy_free. */
-int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, cli_energy_athlete *A);
+/* Gathers athlete code's power bouts (all but skip_id; 0 skips none), the newest power ramp dated on
+ * or before to_date (NULL: the newest; when none is that old, the oldest), and GET and CP as 'domains'
+ * finds them from the trials up to to_date, quietly. Returns 0 or an exit code after printing why
+ * (unknown athlete). The caller frees A with cli_energy_free. */
+int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, const char *to_date, cli_energy_athlete *A);
 void cli_energy_free(cli_energy_athlete *A);
 
 /* The athlete's steady-state VO2-power line: the moderate bouts' baseline and end-exercise points

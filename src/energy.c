@@ -527,6 +527,15 @@ int cpd_vo2model_run(const cpd_vo2model *m, const double *p_w, size_t n, double 
     return CPD_OK;
 }
 
+double cpd_vo2model_gross_efficiency(const cpd_vo2model *m, double power_w, double rer)
+{
+    if (!(power_w > 0))
+        return 0.0;
+    double l = (m->base_ml_min + m->gain_ml_min_w * power_w) / 1000.0;
+    double watts = cpd_energy_weir_kcal_min(l, rer * l) * CPD_ENERGY_KJ_PER_KCAL * 1000.0 / 60.0;
+    return watts > 0 ? power_w / watts : 0.0;
+}
+
 int cpd_vo2model_domain(const cpd_vo2model *m, double vo2_ml_min)
 {
     double vget = m->base_ml_min + m->gain_ml_min_w * m->get_w;

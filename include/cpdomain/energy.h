@@ -234,6 +234,10 @@ typedef struct {
  * n == 0, negative or non-finite power). */
 int cpd_vo2model_run(const cpd_vo2model *m, const double *p_w, size_t n, double *vo2_out);
 
+/* Gross efficiency (fraction) at a steady state below the GET at power_w with RER rer: mechanical
+ * power over the Weir energy rate of VO2 = base + gain P. 0 for power_w <= 0. */
+double cpd_vo2model_gross_efficiency(const cpd_vo2model *m, double power_w, double rer);
+
 /* Domain of a modelled VO2 by VO2 (moderate below the VO2 at the GET, severe at or above the
  * steady-state VO2 at CP, heavy between): 1 moderate, 2 heavy, 3 severe (as kinetics.h). */
 int cpd_vo2model_domain(const cpd_vo2model *m, double vo2_ml_min);
