@@ -224,6 +224,239 @@ int cli_energy_line(const cli_energy_athlete *A, cpd_energy_line *L, double *max
     return CPD_ENODATA;
 }
 
+/* ---- the session model's parameters ---- */
+
+
+static void set(cli_energy_par *p, double v, double sd, int typical, const char *fmt, const char *arg)
+{
+    p->v = v;
+    p->sd = sd;
+    p->typical = typical;
+    p->known = 1;
+    snprintf(p->src, sizeof p->src, fmt, arg ? arg : "");
+}
+
+/* The ids of the bouts of domain dom (0: any) into ids; returns how many. */
+static size_t bouts_of(const cli_energy_athlete *A, int dom, char *ids, size_t n)
+{
+    size_t k = 0, off = 0;
+    ids[0] = '\0';
+    for (size_t i = 0; i < A->nb; i++)
+        if (!dom || A->b[i].res.domain == dom) {
+            off += (size_t)snprintf(ids + off, off < n ? n - off : 0, "%s%lld", k ? ", " : "", A->b[i].id);
+            k++;
+        }
+    return k;
+}
+
+int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P)
+{
+    memset(P, 0, CLI_EN_N * sizeof *P);
+    char ids[200], buf[240];
+    if (!A->has_ramp || !(A->vo2peak_ml_min > 0))
+        return cli_fail(c, CPD_ENODATA, "%s has no power ramp with a VO2peak: the session model needs VO2peak (add one "
+                        "with 'ramp add')", A->a.code);
+    snprintf(buf, sizeof buf, "ramp %lld (%s); SD 3 %% [chosen]", A->ramp_id, A->ramp_date);
+    set(&P[CLI_EN_PEAK], A->vo2peak_ml_min, 0.03 * A->vo2peak_ml_min, 0, "%s", buf);
+    if (!A->has_get)
+        return cli_fail(c, CPD_ENODATA, "%s has no GET as a constant power (a ramp with its MRT, or a lactate LT1): the "
+                        "session model needs the moderate-heavy boundary", A->a.code);
+    set(&P[CLI_EN_GET], A->get_w, A->get_sd_w, 0, "%s", A->get_source);
+    if (A->has_cp)
+        set(&P[CLI_EN_CP], A->cp_w, A->cp_sd_w, 0, "%s", A->cp_source);
+    else
+        snprintf(P[CLI_EN_CP].src, sizeof P[CLI_EN_CP].src, "no power-duration fit: no severe domain; work above the GET is costed as heavy");
+
+    /* gain, baseline, primary kinetics: the moderate bouts */
+    size_t nm = bouts_of(A, CPD_KIN_MODERATE, ids, sizeof ids);
+    double g = 0, gse = 0, b = 0, bse = 0, tau = 0, tse = 0, td = 0;
+    for (size_t i = 0; i < A->nb; i++) {
+        const cli_energy_bout *e = &A->b[i];
+        if (e->res.domain != CPD_KIN_MODERATE)
+            continue;
+        const cpd_kinetics_fitres *f = &e->res.mono;
+        double dp = e->power_w - e->baseline_w;
+        g += e->res.primary.gain_ml_min_w;
+        gse += f->has_se ? f->se[CPD_KIN_A1] / dp : 0.5;
+        b += e->res.baseline_ml_min - e->res.primary.gain_ml_min_w * e->baseline_w;
+        bse += e->res.baseline_sd_ml_min / sqrt((double)(e->res.n_baseline ? e->res.n_baseline : 1));
+        tau += e->res.primary.tau_s;
+        tse += e->res.primary.tau_se_s;
+        td += e->res.primary.delay_s;
+    }
+    if (nm > 0) {
+        double m = (double)nm;
+        snprintf(buf, sizeof buf, "moderate bout%s %s", nm > 1 ? "s" : "", ids);
+        set(&P[CLI_EN_GAIN], g / m, gse / m, 0, "%s", buf);
+        set(&P[CLI_EN_BASE], b / m, fmax(bse / m, 20.0), 0, "%s", buf);
+        set(&P[CLI_EN_TAU], tau / m, tse / m, 0, "%s", buf);
+        set(&P[CLI_EN_DELAY], td / m, 2.0, 0, "%s; SD 2 s [chosen]", buf);
+    } else if (A->has_gain) {
+        snprintf(buf, sizeof buf, "ramp %lld (%s)", A->ramp_id, A->ramp_date);
+        set(&P[CLI_EN_GAIN], A->gain, A->gain_se, 0, "%s", buf);
+        set(&P[CLI_EN_BASE], A->ramp_base_vo2 - A->gain * A->ramp_base_w, 50.0, 0, "%s baseline; SD 50 mL/min [chosen]", buf);
+    } else
+        return cli_fail(c, CPD_ENODATA, "%s has neither a moderate bout nor a ramp gain: the session model needs the "
+                        "steady-state VO2-power line", A->a.code);
+    if (nm == 0) {
+        size_t na = bouts_of(A, 0, ids, sizeof ids);
+        if (na > 0) {
+            for (size_t i = 0; i < A->nb; i++) {
+                tau += A->b[i].res.primary.tau_s;
+                tse += A->b[i].res.primary.tau_se_s;
+                td += A->b[i].res.primary.delay_s;
+            }
+            snprintf(buf, sizeof buf, "primary of bout%s %s (no moderate bout)", na > 1 ? "s" : "", ids);
+            set(&P[CLI_EN_TAU], tau / (double)na, tse / (double)na, 0, "%s", buf);
+            set(&P[CLI_EN_DELAY], td / (double)na, 2.0, 0, "%s", buf);
+        } else {
+            set(&P[CLI_EN_TAU], 30.0, 8.0, 1, "20-35 s in healthy adults (Burnley, Doust & Jones 2006 J Appl "
+                "Physiol 101:1320)%s", NULL);
+            set(&P[CLI_EN_DELAY], 10.0, 4.0, 1, "[chosen]: the fitted delay after phase I%s", NULL);
+        }
+    }
+
+    /* slow component per W above the GET: the heavy bouts with a supported slow component */
+    double sg = 0, sgse = 0, st = 0, sd2 = 0;
+    size_t nh = 0, off = 0;
+    ids[0] = '\0';
+    for (size_t i = 0; i < A->nb; i++) {
+        const cli_energy_bout *e = &A->b[i];
+        double above = e->power_w - A->get_w;
+        if (e->res.domain != CPD_KIN_HEAVY || !e->res.slow.present || !(above > 5.0))
+            continue;
+        /* the excess of the bout's asymptote over the moderate line: the primary gain of a heavy bout
+         * differs from the moderate gain, and the session's energy rests on the total */
+        const double *bb = e->res.bi.b;
+        double total = bb[CPD_KIN_BASE] + bb[CPD_KIN_A1] + bb[CPD_KIN_A2];
+        sg += fmax(0.0, total - (P[CLI_EN_BASE].v + P[CLI_EN_GAIN].v * e->power_w)) / above;
+        sgse += e->res.bi.has_se ? e->res.bi.se[CPD_KIN_A2] / above : 0.5 * e->res.slow.asymptote_ml_min / above;
+        st += e->res.slow.tau_s;
+        sd2 += e->res.slow.delay_s;
+        off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%lld", nh ? ", " : "", e->id);
+        nh++;
+    }
+    if (nh > 0) {
+        double m = (double)nh;
+        snprintf(buf, sizeof buf, "heavy bout%s %s", nh > 1 ? "s" : "", ids);
+        set(&P[CLI_EN_SCG], sg / m, sgse / m, 0, "%s: asymptote above the steady-state line", buf);
+        set(&P[CLI_EN_SCTAU], st / m, 0.25 * st / m, 0, "%s; SD 25 %% [chosen]", buf);
+        set(&P[CLI_EN_SCDEL], sd2 / m, 15.0, 0, "%s; SD 15 s [chosen]", buf);
+    } else {
+        set(&P[CLI_EN_SCG], 7.0, 3.5, 1, "[chosen]: 200-400 mL/min in the middle of the heavy domain (order of "
+            "magnitude from memory)%s", NULL);
+        set(&P[CLI_EN_SCTAU], 180.0, 60.0, 1, "[chosen], from memory%s", NULL);
+        set(&P[CLI_EN_SCDEL], 100.0, 30.0, 1, "105 +- 46 s (Barstow & Mole 1991 J Appl Physiol 71:2099)%s", NULL);
+    }
+
+    /* RER of each domain: the athlete's steady-state bouts, else typical */
+    static const double RER_TYP[3] = {0.85, 0.93, 1.00}, RER_TSD[3] = {0.04, 0.03, 0.02};
+    for (int d = 0; d < 3; d++) {
+        double s = 0;
+        size_t k = 0;
+        off = 0;
+        ids[0] = '\0';
+        for (size_t i = 0; d < 2 && i < A->nb; i++)
+            if (A->b[i].has_rer && A->b[i].res.domain == d + 1) {
+                s += A->b[i].rer;
+                off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%lld", k ? ", " : "",
+                                        A->b[i].id);
+                k++;
+            }
+        if (k) {
+            snprintf(buf, sizeof buf, "last minute of bout%s %s; SD 0.02 [chosen]", k > 1 ? "s" : "", ids);
+            set(&P[CLI_EN_RER_M + d], s / (double)k, 0.02, 0, "%s", buf);
+        } else
+            set(&P[CLI_EN_RER_M + d], RER_TYP[d], RER_TSD[d], 1,
+                d == 2 ? "at or above 1.00 in the severe domain; substrate taken as all carbohydrate%s"
+                       : "[chosen], from memory; steady-state bouts or a step test with VCO2 give the athlete's own%s", NULL);
+    }
+    return 0;
+}
+
+void cli_energy_to_model(const cli_energy_par *P, cpd_energy_params *E)
+{
+    memset(E, 0, sizeof *E);
+    double *mv[10] = {&E->m.base_ml_min, &E->m.gain_ml_min_w, &E->m.tau_s, &E->m.delay_s, &E->m.get_w, &E->m.cp_w,
+                      &E->m.sc_gain_ml_min_w, &E->m.sc_tau_s, &E->m.sc_delay_s, &E->m.vo2peak_ml_min};
+    double *sv[10] = {&E->sd.base_ml_min, &E->sd.gain_ml_min_w, &E->sd.tau_s, &E->sd.delay_s, &E->sd.get_w, &E->sd.cp_w,
+                      &E->sd.sc_gain_ml_min_w, &E->sd.sc_tau_s, &E->sd.sc_delay_s, &E->sd.vo2peak_ml_min};
+    for (int k = 0; k < 10; k++) {
+        *mv[k] = P[k].known ? P[k].v : 0.0;
+        *sv[k] = P[k].known ? P[k].sd : 0.0;
+    }
+    for (int d = 0; d < 3; d++) {
+        E->rer[d] = P[CLI_EN_RER_M + d].v;
+        E->rer_sd[d] = P[CLI_EN_RER_M + d].sd;
+    }
+}
+
+/* ---- fuel on the sheet ---- */
+
+#define FUEL_BOUT_S 1200 /* the rate is the mean of 20 min of work at the target */
+
+int cli_energy_fuel_text(cli_ctx *c, const char *code, const cpd_domains_result *dom, char *text, size_t n)
+{
+    cli_energy_athlete A;
+    cli_energy_par P[CLI_EN_N];
+    int quiet = c->quiet, ok = -1;
+    c->quiet = 1;
+    c->mute++;
+    if (cli_energy_gather(c, code, 0, NULL, &A) || cli_energy_params(c, &A, P)) {
+        cli_energy_free(&A);
+        c->mute--;
+        c->quiet = quiet;
+        return -1;
+    }
+    c->mute--;
+    c->quiet = quiet;
+    cpd_energy_params E;
+    cli_energy_to_model(P, &E);
+    static const char *const DN[3] = {"moderate", "heavy", "severe"};
+    double target[3] = {0, 0, 0};
+    const cpd_domain_range *r = dom->range;
+    if (r[CPD_DOM_MODERATE].has_hi)
+        target[0] = 0.75 * r[CPD_DOM_MODERATE].hi;
+    if (r[CPD_DOM_HEAVY].has_lo && r[CPD_DOM_HEAVY].has_hi)
+        target[1] = 0.5 * (r[CPD_DOM_HEAVY].lo + r[CPD_DOM_HEAVY].hi);
+    if (r[CPD_DOM_SEVERE].has_lo && r[CPD_DOM_SEVERE].has_hi)
+        target[2] = 0.5 * (r[CPD_DOM_SEVERE].lo + r[CPD_DOM_SEVERE].hi);
+    double p[FUEL_BOUT_S];
+    unsigned char rec[FUEL_BOUT_S];
+    memset(rec, 1, sizeof rec);
+    size_t off = (size_t)snprintf(text, n, "Modelled from the athlete's own VO2 kinetics (as 'energy' does): the mean "
+                                  "rate over 20 min of work at each domain's target, per hour, with 95 %% intervals.");
+    for (int d = 0; d < 3; d++) {
+        if (!(target[d] > 0))
+            continue;
+        for (size_t i = 0; i < FUEL_BOUT_S; i++)
+            p[i] = target[d];
+        cpd_energy_session_result s;
+        if (cpd_energy_session(&E, p, rec, FUEL_BOUT_S, CPD_ENERGY_EQ_JW_HIGH, 0.2, 200, 1, &s))
+            continue;
+        double k = 3600.0 / FUEL_BOUT_S / CPD_ENERGY_KJ_PER_KCAL, g = 3600.0 / FUEL_BOUT_S;
+        if (off < n)
+            off += (size_t)snprintf(text + off, n - off, " %s, %.0f W%s: %.0f kcal/h (%.0f to %.0f), carbohydrate "
+                                    "%.0f g/h (%.0f to %.0f);", DN[d], target[d],
+                                    d == 0 ? " (75 % of the GET)" : " (middle of the domain)", s.ee_total_kj * k,
+                                    s.ee_total_ci[0] * k, s.ee_total_ci[1] * k, s.cho_total_g * g, s.cho_total_ci[0] * g,
+                                    s.cho_total_ci[1] * g);
+        ok = 0;
+        cpd_energy_session_free(&s);
+    }
+    size_t nt = 0;
+    for (int k = 0; k < CLI_EN_N; k++)
+        nt += (size_t)P[k].typical;
+    if (off < n && nt)
+        off += (size_t)snprintf(text + off, n - off, " Typical values, not the athlete's, stand in for %zu of the "
+                                "model's parameters ('energy' lists them).", nt);
+    if (off < n)
+        snprintf(text + off, n - off, " Estimates for planning training, not intake advice: fuelling plans belong to "
+                 "a registered dietitian or sports nutritionist.");
+    cli_energy_free(&A);
+    return ok;
+}
+
 /* ---- the energy block of 'bout show' ---- */
 
 static void line_out(cli_json *json, const char *key, const char *label, const char *text)

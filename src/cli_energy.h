@@ -5,6 +5,7 @@
 #define CPDOMAIN_CLI_ENERGY_H
 
 #include "cli.h"
+#include "cpdomain/domains.h"
 #include "cpdomain/energy.h"
 #include "cpdomain/kinetics.h"
 
@@ -54,6 +55,36 @@ void cli_energy_free(cli_energy_athlete *A);
  * when there are two distinct powers, else the ramp's gain through its baseline (slope SE only).
  * src receives where it came from; *max_p the highest power behind it. Returns 0, or CPD_ENODATA. */
 int cli_energy_line(const cli_energy_athlete *A, cpd_energy_line *L, double *max_p, char *src, size_t n);
+
+/* The session model's parameters (cpd_vo2model and the RER of each domain), in this order. */
+enum {
+    CLI_EN_BASE, CLI_EN_GAIN, CLI_EN_TAU, CLI_EN_DELAY, CLI_EN_GET, CLI_EN_CP, CLI_EN_SCG, CLI_EN_SCTAU,
+    CLI_EN_SCDEL, CLI_EN_PEAK, CLI_EN_RER_M, CLI_EN_RER_H, CLI_EN_RER_S, CLI_EN_N
+};
+
+/* One parameter: value, SD for the Monte Carlo draws, and where it came from. */
+typedef struct {
+    double v, sd;
+    int typical;   /* 1: a typical published value, not the athlete's */
+    int known;     /* 0: absent (CP only) */
+    char src[200]; /* its source in words */
+} cli_energy_par;
+
+/* The parameters from the athlete's tests: gain, baseline, tau and delay from the moderate bouts
+ * (else the ramp's gain, typical kinetics), GET and CP, the slow component per W above the GET from
+ * the heavy bouts (its asymptote above the steady-state line), VO2peak, the RER of each domain from
+ * steady-state bouts; typical values, flagged, for the rest. P has CLI_EN_N entries. Returns 0, or
+ * 69 after saying what is missing (no ramp with VO2peak, no GET, no steady-state line). */
+int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P);
+
+/* The energy module's parameters from P. */
+void cli_energy_to_model(const cli_energy_par *P, cpd_energy_params *E);
+
+/* The sheet's fuel paragraph for athlete code with domains dom (power only): kcal/h and carbohydrate
+ * g/h, with 95 % Monte Carlo intervals, of 20 min of work at each domain's target (moderate: 75 % of
+ * the GET; heavy and severe: the middle of the domain), from the session model. Quiet (c->mute):
+ * returns 0 when text (n bytes) was written, -1 when the athlete's tests do not allow it. */
+int cli_energy_fuel_text(cli_ctx *c, const char *code, const cpd_domains_result *dom, char *text, size_t n);
 
 /* The energy part of 'bout show' for repeats g[0..m-1] (onsets onset_s) at power_w from baseline_w
  * (speed 1: a treadmill bout in m/s, without the per-W figures and the AOD)

@@ -38,188 +38,15 @@ static const char HELP[] =
     "examples:\n  cpdomain energy 14\n  cpdomain --json energy 14 --efficiency 22\n  cpdomain energy 14 --csv s14.csv\n";
 
 
-/* Parameters of the model with their values, SDs and where they came from. */
-enum { K_BASE, K_GAIN, K_TAU, K_DELAY, K_GET, K_CP, K_SCG, K_SCTAU, K_SCDEL, K_PEAK, K_RER_M, K_RER_H, K_RER_S, K_N };
-static const char *const K_NAME[K_N] = {"baseline_ml_min", "gain_ml_min_w", "tau_s", "delay_s", "get_w", "cp_w",
+/* Names, labels and units of the model's parameters (cli_energy.h). */
+static const char *const K_NAME[CLI_EN_N] = {"baseline_ml_min", "gain_ml_min_w", "tau_s", "delay_s", "get_w", "cp_w",
                                         "slow_gain_ml_min_w", "slow_tau_s", "slow_delay_s", "vo2peak_ml_min",
                                         "rer_moderate", "rer_heavy", "rer_severe"};
-static const char *const K_LABEL[K_N] = {"VO2 at 0 W", "gain", "primary tau", "primary delay", "GET", "CP",
+static const char *const K_LABEL[CLI_EN_N] = {"VO2 at 0 W", "gain", "primary tau", "primary delay", "GET", "CP",
                                          "slow component", "slow tau", "slow delay", "VO2peak", "RER moderate",
                                          "RER heavy", "RER severe"};
-static const char *const K_UNIT[K_N] = {"mL/min", "mL/min/W", "s", "s", "W", "W", "mL/min/W above GET", "s", "s",
+static const char *const K_UNIT[CLI_EN_N] = {"mL/min", "mL/min/W", "s", "s", "W", "W", "mL/min/W above GET", "s", "s",
                                         "mL/min", "", "", ""};
-
-typedef struct {
-    double v, sd;
-    int typical; /* 1: a typical published value, not the athlete's */
-    int known;   /* 0: absent (CP only) */
-    char src[200];
-} epar;
-
-static void set(epar *p, double v, double sd, int typical, const char *fmt, const char *arg)
-{
-    p->v = v;
-    p->sd = sd;
-    p->typical = typical;
-    p->known = 1;
-    snprintf(p->src, sizeof p->src, fmt, arg ? arg : "");
-}
-
-/* Mean of bout values chosen by domain dom (0: any), or NAN. */
-static size_t bouts_of(const cli_energy_athlete *A, int dom, char *ids, size_t n)
-{
-    size_t k = 0, off = 0;
-    ids[0] = '\0';
-    for (size_t i = 0; i < A->nb; i++)
-        if (!dom || A->b[i].res.domain == dom) {
-            off += (size_t)snprintf(ids + off, off < n ? n - off : 0, "%s%lld", k ? ", " : "", A->b[i].id);
-            k++;
-        }
-    return k;
-}
-
-/* Builds the parameters; returns 0 or an exit code after saying what is missing. */
-static int build_params(cli_ctx *c, const cli_energy_athlete *A, epar *P)
-{
-    memset(P, 0, K_N * sizeof *P);
-    char ids[200], buf[240];
-    if (!A->has_ramp || !(A->vo2peak_ml_min > 0))
-        return cli_fail(c, CPD_ENODATA, "%s has no power ramp with a VO2peak: the session model needs VO2peak (add one "
-                        "with 'ramp add')", A->a.code);
-    snprintf(buf, sizeof buf, "ramp %lld (%s); SD 3 %% [chosen]", A->ramp_id, A->ramp_date);
-    set(&P[K_PEAK], A->vo2peak_ml_min, 0.03 * A->vo2peak_ml_min, 0, "%s", buf);
-    if (!A->has_get)
-        return cli_fail(c, CPD_ENODATA, "%s has no GET as a constant power (a ramp with its MRT, or a lactate LT1): the "
-                        "session model needs the moderate-heavy boundary", A->a.code);
-    set(&P[K_GET], A->get_w, A->get_sd_w, 0, "%s", A->get_source);
-    if (A->has_cp)
-        set(&P[K_CP], A->cp_w, A->cp_sd_w, 0, "%s", A->cp_source);
-    else
-        snprintf(P[K_CP].src, sizeof P[K_CP].src, "no power-duration fit: no severe domain; work above the GET is costed as heavy");
-
-    /* gain, baseline, primary kinetics: the moderate bouts */
-    size_t nm = bouts_of(A, CPD_KIN_MODERATE, ids, sizeof ids);
-    double g = 0, gse = 0, b = 0, bse = 0, tau = 0, tse = 0, td = 0;
-    for (size_t i = 0; i < A->nb; i++) {
-        const cli_energy_bout *e = &A->b[i];
-        if (e->res.domain != CPD_KIN_MODERATE)
-            continue;
-        const cpd_kinetics_fitres *f = &e->res.mono;
-        double dp = e->power_w - e->baseline_w;
-        g += e->res.primary.gain_ml_min_w;
-        gse += f->has_se ? f->se[CPD_KIN_A1] / dp : 0.5;
-        b += e->res.baseline_ml_min - e->res.primary.gain_ml_min_w * e->baseline_w;
-        bse += e->res.baseline_sd_ml_min / sqrt((double)(e->res.n_baseline ? e->res.n_baseline : 1));
-        tau += e->res.primary.tau_s;
-        tse += e->res.primary.tau_se_s;
-        td += e->res.primary.delay_s;
-    }
-    if (nm > 0) {
-        double m = (double)nm;
-        snprintf(buf, sizeof buf, "moderate bout%s %s", nm > 1 ? "s" : "", ids);
-        set(&P[K_GAIN], g / m, gse / m, 0, "%s", buf);
-        set(&P[K_BASE], b / m, fmax(bse / m, 20.0), 0, "%s", buf);
-        set(&P[K_TAU], tau / m, tse / m, 0, "%s", buf);
-        set(&P[K_DELAY], td / m, 2.0, 0, "%s; SD 2 s [chosen]", buf);
-    } else if (A->has_gain) {
-        snprintf(buf, sizeof buf, "ramp %lld (%s)", A->ramp_id, A->ramp_date);
-        set(&P[K_GAIN], A->gain, A->gain_se, 0, "%s", buf);
-        set(&P[K_BASE], A->ramp_base_vo2 - A->gain * A->ramp_base_w, 50.0, 0, "%s baseline; SD 50 mL/min [chosen]", buf);
-    } else
-        return cli_fail(c, CPD_ENODATA, "%s has neither a moderate bout nor a ramp gain: the session model needs the "
-                        "steady-state VO2-power line", A->a.code);
-    if (nm == 0) {
-        size_t na = bouts_of(A, 0, ids, sizeof ids);
-        if (na > 0) {
-            for (size_t i = 0; i < A->nb; i++) {
-                tau += A->b[i].res.primary.tau_s;
-                tse += A->b[i].res.primary.tau_se_s;
-                td += A->b[i].res.primary.delay_s;
-            }
-            snprintf(buf, sizeof buf, "primary of bout%s %s (no moderate bout)", na > 1 ? "s" : "", ids);
-            set(&P[K_TAU], tau / (double)na, tse / (double)na, 0, "%s", buf);
-            set(&P[K_DELAY], td / (double)na, 2.0, 0, "%s", buf);
-        } else {
-            set(&P[K_TAU], 30.0, 8.0, 1, "20-35 s in healthy adults (Burnley, Doust & Jones 2006 J Appl "
-                "Physiol 101:1320)%s", NULL);
-            set(&P[K_DELAY], 10.0, 4.0, 1, "[chosen]: the fitted delay after phase I%s", NULL);
-        }
-    }
-
-    /* slow component per W above the GET: the heavy bouts with a supported slow component */
-    double sg = 0, sgse = 0, st = 0, sd2 = 0;
-    size_t nh = 0, off = 0;
-    ids[0] = '\0';
-    for (size_t i = 0; i < A->nb; i++) {
-        const cli_energy_bout *e = &A->b[i];
-        double above = e->power_w - A->get_w;
-        if (e->res.domain != CPD_KIN_HEAVY || !e->res.slow.present || !(above > 5.0))
-            continue;
-        /* the excess of the bout's asymptote over the moderate line: the primary gain of a heavy bout
-         * differs from the moderate gain, and the session's energy rests on the total */
-        const double *bb = e->res.bi.b;
-        double total = bb[CPD_KIN_BASE] + bb[CPD_KIN_A1] + bb[CPD_KIN_A2];
-        sg += fmax(0.0, total - (P[K_BASE].v + P[K_GAIN].v * e->power_w)) / above;
-        sgse += e->res.bi.has_se ? e->res.bi.se[CPD_KIN_A2] / above : 0.5 * e->res.slow.asymptote_ml_min / above;
-        st += e->res.slow.tau_s;
-        sd2 += e->res.slow.delay_s;
-        off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%lld", nh ? ", " : "", e->id);
-        nh++;
-    }
-    if (nh > 0) {
-        double m = (double)nh;
-        snprintf(buf, sizeof buf, "heavy bout%s %s", nh > 1 ? "s" : "", ids);
-        set(&P[K_SCG], sg / m, sgse / m, 0, "%s: asymptote above the steady-state line", buf);
-        set(&P[K_SCTAU], st / m, 0.25 * st / m, 0, "%s; SD 25 %% [chosen]", buf);
-        set(&P[K_SCDEL], sd2 / m, 15.0, 0, "%s; SD 15 s [chosen]", buf);
-    } else {
-        set(&P[K_SCG], 7.0, 3.5, 1, "[chosen]: 200-400 mL/min in the middle of the heavy domain (order of "
-            "magnitude from memory)%s", NULL);
-        set(&P[K_SCTAU], 180.0, 60.0, 1, "[chosen], from memory%s", NULL);
-        set(&P[K_SCDEL], 100.0, 30.0, 1, "105 +- 46 s (Barstow & Mole 1991 J Appl Physiol 71:2099)%s", NULL);
-    }
-
-    /* RER of each domain: the athlete's steady-state bouts, else typical */
-    static const double RER_TYP[3] = {0.85, 0.93, 1.00}, RER_TSD[3] = {0.04, 0.03, 0.02};
-    for (int d = 0; d < 3; d++) {
-        double s = 0;
-        size_t k = 0;
-        off = 0;
-        ids[0] = '\0';
-        for (size_t i = 0; d < 2 && i < A->nb; i++)
-            if (A->b[i].has_rer && A->b[i].res.domain == d + 1) {
-                s += A->b[i].rer;
-                off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%lld", k ? ", " : "",
-                                        A->b[i].id);
-                k++;
-            }
-        if (k) {
-            snprintf(buf, sizeof buf, "last minute of bout%s %s; SD 0.02 [chosen]", k > 1 ? "s" : "", ids);
-            set(&P[K_RER_M + d], s / (double)k, 0.02, 0, "%s", buf);
-        } else
-            set(&P[K_RER_M + d], RER_TYP[d], RER_TSD[d], 1,
-                d == 2 ? "at or above 1.00 in the severe domain; substrate taken as all carbohydrate%s"
-                       : "[chosen], from memory; steady-state bouts or a step test with VCO2 give the athlete's own%s", NULL);
-    }
-    return 0;
-}
-
-static void to_params(const epar *P, cpd_energy_params *E)
-{
-    memset(E, 0, sizeof *E);
-    double *mv[10] = {&E->m.base_ml_min, &E->m.gain_ml_min_w, &E->m.tau_s, &E->m.delay_s, &E->m.get_w, &E->m.cp_w,
-                      &E->m.sc_gain_ml_min_w, &E->m.sc_tau_s, &E->m.sc_delay_s, &E->m.vo2peak_ml_min};
-    double *sv[10] = {&E->sd.base_ml_min, &E->sd.gain_ml_min_w, &E->sd.tau_s, &E->sd.delay_s, &E->sd.get_w, &E->sd.cp_w,
-                      &E->sd.sc_gain_ml_min_w, &E->sd.sc_tau_s, &E->sd.sc_delay_s, &E->sd.vo2peak_ml_min};
-    for (int k = 0; k < 10; k++) {
-        *mv[k] = P[k].known ? P[k].v : 0.0;
-        *sv[k] = P[k].known ? P[k].sd : 0.0;
-    }
-    for (int d = 0; d < 3; d++) {
-        E->rer[d] = P[K_RER_M + d].v;
-        E->rer_sd[d] = P[K_RER_M + d].sd;
-    }
-}
 
 /* The model driven by each bout's power against the bout's own fit, phase I to the end. */
 typedef struct {
@@ -312,7 +139,7 @@ static const char CAUTION[] =
     "laboratory responses to the road, and carbohydrate and fat rest on assumed steady-state RERs. Fuelling and "
     "intake plans belong to a registered dietitian or sports nutritionist.";
 
-static int print_json(const cpd_session_rec *sr, const cli_energy_athlete *A, const epar *P, int eq, const char *eff_src,
+static int print_json(const cpd_session_rec *sr, const cli_energy_athlete *A, const cli_energy_par *P, int eq, const char *eff_src,
                        const cpd_energy_session_result *r, const val_row *vr, size_t nv)
 {
     cli_json *d = cj_obj();
@@ -326,7 +153,7 @@ static int print_json(const cpd_session_rec *sr, const cli_energy_athlete *A, co
     cj_str(d, "efficiency_source", eff_src);
     cj_int(d, "draws", (long long)r->draws);
     cli_json *pa = cj_add_obj(d, "parameters");
-    for (int k = 0; k < K_N; k++) {
+    for (int k = 0; k < CLI_EN_N; k++) {
         cli_json *o = cj_add_obj(pa, K_NAME[k]);
         cj_num(o, "value", P[k].known ? P[k].v : NAN);
         cj_num(o, "sd", P[k].known ? P[k].sd : NAN);
@@ -392,7 +219,7 @@ static int print_json(const cpd_session_rec *sr, const cli_energy_athlete *A, co
     return cj_print(d);
 }
 
-static void print_text(const cpd_session_rec *sr, const cli_energy_athlete *A, const epar *P, int eq, const char *eff_src,
+static void print_text(const cpd_session_rec *sr, const cli_energy_athlete *A, const cli_energy_par *P, int eq, const char *eff_src,
                        const cpd_energy_session_result *r, const val_row *vr, size_t nv)
 {
     char dur[24];
@@ -400,10 +227,10 @@ static void print_text(const cpd_session_rec *sr, const cli_energy_athlete *A, c
     printf("energy of session %lld: %s %s, %s, %s recorded%s%s\n\n", (long long)sr->id, A->a.code, A->a.name, sr->date,
            dur, sr->note[0] ? ", " : "", sr->note);
     printf("parameters (SD drives the intervals)\n");
-    for (int k = 0; k < K_N; k++) {
+    for (int k = 0; k < CLI_EN_N; k++) {
         if (P[k].known)
-            printf("  %-15s %8.*f %-19s SD %-6.*f %s%s\n", K_LABEL[k], k >= K_RER_M || k == K_GAIN ? 2 : 1, P[k].v,
-                   K_UNIT[k], k >= K_RER_M || k == K_GAIN ? 2 : 1, P[k].sd, P[k].typical ? "TYPICAL: " : "", P[k].src);
+            printf("  %-15s %8.*f %-19s SD %-6.*f %s%s\n", K_LABEL[k], k >= CLI_EN_RER_M || k == CLI_EN_GAIN ? 2 : 1, P[k].v,
+                   K_UNIT[k], k >= CLI_EN_RER_M || k == CLI_EN_GAIN ? 2 : 1, P[k].sd, P[k].typical ? "TYPICAL: " : "", P[k].src);
         else
             printf("  %-15s %8s %-19s %s\n", K_LABEL[k], "-", K_UNIT[k], P[k].src);
     }
@@ -497,13 +324,13 @@ int cmd_energy(cli_ctx *c, int argc, char **argv)
     cpd_energy_session_result r;
     memset(&r, 0, sizeof r);
     val_row *vr = NULL;
-    epar P[K_N];
+    cli_energy_par P[CLI_EN_N];
     if (sr.speed) {
         rc = cli_fail(c, CPD_EDATA, "session %lld is a speed session: energy models power sessions (cycling, "
                       "ergometers) only", id);
         goto done;
     }
-    if ((rc = cli_energy_gather(c, sr.athlete, 0, sr.date, &A)) || (rc = build_params(c, &A, P)))
+    if ((rc = cli_energy_gather(c, sr.athlete, 0, sr.date, &A)) || (rc = cli_energy_params(c, &A, P)))
         goto done;
     size_t n = 0;
     for (size_t i = 0; i < s.n_segments; i++)
@@ -521,7 +348,7 @@ int cmd_energy(cli_ctx *c, int argc, char **argv)
             rec[s.segments[i].start_s + j] = 1;
         }
     cpd_energy_params E;
-    to_params(P, &E);
+    cli_energy_to_model(P, &E);
     const char *eff_src = "given (--efficiency)";
     if (!o.eff) { /* the athlete's own gross efficiency at the top of the moderate domain */
         eff = 100.0 * cpd_vo2model_gross_efficiency(&E.m, E.m.get_w, E.rer[0]);

@@ -145,4 +145,11 @@ expect 0 "R02 run" --json session add R02 "$DEMO/session_R02_2026-09-01.csv"
 sid3=$(json 'd["sessions"][0]["id"]' 2>/dev/null || json 'd["id"]')
 expect 65 "a speed session" energy "$sid3"
 err_has "speed session" "speed sessions refused"
+# ---- fuel on the sheet ----
+expect 0 "sheet, text" sheet C01 --format txt
+out_has "Energy and carbohydrate at the domains' targets" "the sheet has the fuel section"
+out_has "kcal/h" "kcal per hour at the targets"
+out_has "registered dietitian" "the fuel section defers intake advice"
+expect 0 "sheet, json" --json sheet C01 --format json
+json_is '[s["key"] for s in d["sections"] if s["key"] == "fuel"]' "['fuel']" "the fuel section in JSON"
 echo "# $N checks"
