@@ -38,6 +38,8 @@ static const char HELP[] =
     "examples:\n  cpdomain energy 14\n  cpdomain --json energy 14 --efficiency 22\n  cpdomain energy 14 --csv s14.csv\n";
 
 
+#define CLI_EN_MAX_CELLS 3e7 /* per-minute Monte Carlo values kept at once (240 MB of doubles) */
+
 /* Names, labels and units of the model's parameters (cli_energy.h). */
 static const char *const K_NAME[CLI_EN_N] = {"baseline_ml_min", "gain_ml_min_w", "tau_s", "delay_s", "get_w", "cp_w",
                                         "slow_gain_ml_min_w", "slow_tau_s", "slow_delay_s", "vo2peak_ml_min",
@@ -347,6 +349,13 @@ int cmd_energy(cli_ctx *c, int argc, char **argv)
             p[s.segments[i].start_s + j] = s.segments[i].value[j];
             rec[s.segments[i].start_s + j] = 1;
         }
+    /* the draws keep every minute's values for the percentiles: bound the memory (3 x minutes x draws) */
+    double max_draws = floor(CLI_EN_MAX_CELLS / (3.0 * (double)((n + 59) / 60)));
+    if (draws > max_draws) {
+        rc = cli_usage("energy", "--draws %.0f is too many for a session of %zu min: at most %.0f", draws, (n + 59) / 60,
+                       max_draws);
+        goto done;
+    }
     cpd_energy_params E;
     cli_energy_to_model(P, &E);
     const char *eff_src = "given (--efficiency)";
