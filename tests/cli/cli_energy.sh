@@ -145,6 +145,12 @@ expect 0 "R02 run" --json session add R02 "$DEMO/session_R02_2026-09-01.csv"
 sid3=$(json 'd["sessions"][0]["id"]' 2>/dev/null || json 'd["id"]')
 expect 65 "a speed session" energy "$sid3"
 err_has "speed session" "speed sessions refused"
+awk 'BEGIN { print "time_s,power_w"; for (i = 0; i < 126000; i++) print i "," 150 + (i % 600 < 300 ? 50 : 0) }' >"$TMP/long_2026-11-20.csv"
+expect 0 "a 35-hour ride" --json session add C01 "$TMP/long_2026-11-20.csv"
+sid4=$(json 'd["sessions"][0]["id"]' 2>/dev/null || json 'd["id"]')
+expect 64 "5000 draws over 35 hours" energy "$sid4" --draws 5000
+err_has "too many for a session of 2100 min" "the memory bound is explained"
+
 # ---- fuel on the sheet ----
 expect 0 "sheet, text" sheet C01 --format txt
 out_has "Energy and carbohydrate at the domains' targets" "the sheet has the fuel section"
