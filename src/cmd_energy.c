@@ -5,6 +5,7 @@
 #include "cli_session.h"
 #include "commands.h"
 #include "cpdomain/energy.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/units.h"
 
 #include <math.h>
@@ -15,7 +16,7 @@
 
 static const char HELP[] =
     "usage: cpdomain energy SESSION_ID [--efficiency PCT] [--draws N] [--seed N] [--csv FILE]\n"
-    "                                  [--equations jw2005-high|jw2005-low|frayn1983]\n\n"
+    "                                  [--plot FILE.svg] [--equations jw2005-high|jw2005-low|frayn1983]\n\n"
     "Models the second-by-second VO2 of a recorded power session from the athlete's own parameters:\n"
     "the steady-state gain and baseline (moderate bouts, else the ramp), the primary time constant and\n"
     "delay (moderate bouts), the GET and CP (as 'domains' finds them), the slow component per W above\n"
@@ -32,6 +33,7 @@ static const char HELP[] =
     "  --draws N         Monte Carlo draws (default 200; 20-5000)\n"
     "  --seed N          seed of the draws (default 1)\n"
     "  --csv FILE        write the minute-by-minute table as CSV\n"
+    "  --plot FILE.svg   draw the modelled VO2 beside the linear rule (base + gain x power) as SVG\n"
     "  --equations SET   carbohydrate and fat equations (default jw2005-high)\n"
     "These are modelled estimates for training analysis, not intake advice: fuelling plans belong to a\n"
     "registered dietitian or sports nutritionist.\n\n"
@@ -92,7 +94,7 @@ static size_t validate(const cli_energy_athlete *A, const cpd_vo2model *m, val_r
 }
 
 typedef struct {
-    const char *eff, *draws, *seed, *csv, *eq;
+    const char *eff, *draws, *seed, *csv, *eq, *plot;
 } en_opts;
 
 static int en_opt(int opt, const char *arg, void *ud)
@@ -104,6 +106,7 @@ static int en_opt(int opt, const char *arg, void *ud)
     case 's': o->seed = arg; break;
     case 'c': o->csv = arg; break;
     case 'q': o->eq = arg; break;
+    case 'p': o->plot = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -112,7 +115,8 @@ static int en_opt(int opt, const char *arg, void *ud)
 static const struct option longopts[] = {
     {"efficiency", required_argument, NULL, 'e'}, {"draws", required_argument, NULL, 'n'},
     {"seed", required_argument, NULL, 's'},       {"csv", required_argument, NULL, 'c'},
-    {"equations", required_argument, NULL, 'q'},  {"help", no_argument, NULL, 'h'},
+    {"equations", required_argument, NULL, 'q'},  {"plot", required_argument, NULL, 'p'},
+    {"help", no_argument, NULL, 'h'},
     {NULL, 0, NULL, 0},
 };
 
@@ -134,6 +138,48 @@ static char *minutes_csv(const cpd_energy_session_result *r, size_t *len)
         return NULL;
     }
     return s;
+}
+
+#define PLOT_BIN_S 5 /* the plot draws 5-s means */
+
+/* The modelled VO2 (point parameters) beside the linear rule, as SVG into path. Returns 0 or an exit code. */
+static int write_plot(cli_ctx *c, const char *path, const cpd_session_rec *sr, const cpd_energy_params *E,
+                      const double *p, size_t n)
+{
+    size_t nb = (n + PLOT_BIN_S - 1) / PLOT_BIN_S;
+    double *v = malloc((n + 4 * nb) * sizeof *v);
+    if (!v)
+        return cli_fail(c, CPD_ENOMEM, "out of memory");
+    double *t = v + n, *mv = t + nb, *ml = mv + nb, *mp = ml + nb;
+    int rc = cpd_vo2model_run(&E->m, p, n, v);
+    for (size_t b = 0; rc == CPD_OK && b < nb; b++) {
+        size_t i0 = b * PLOT_BIN_S, i1 = i0 + PLOT_BIN_S < n ? i0 + PLOT_BIN_S : n;
+        double sv = 0, sl = 0, sp = 0;
+        for (size_t i = i0; i < i1; i++) {
+            sv += v[i];
+            sl += fmin(E->m.base_ml_min + E->m.gain_ml_min_w * p[i], E->m.vo2peak_ml_min);
+            sp += p[i];
+        }
+        double k = (double)(i1 - i0);
+        t[b] = 0.5 * (double)(i0 + i1);
+        mv[b] = sv / k;
+        ml[b] = sl / k;
+        mp[b] = sp / k;
+    }
+    char title[200], *svg = NULL;
+    snprintf(title, sizeof title, "Session %lld: %s, %s: modelled VO2 and the linear rule", (long long)sr->id,
+             sr->athlete, sr->date);
+    if (rc == CPD_OK)
+        rc = cpd_plot_session_vo2(t, mv, ml, mp, nb, E->m.base_ml_min + E->m.gain_ml_min_w * E->m.get_w,
+                                  E->m.vo2peak_ml_min, title, &svg);
+    free(v);
+    if (rc)
+        return cli_fail(c, rc, "no plot: %s", cpd_strerror(rc));
+    rc = cli_write_file(c, path, svg, strlen(svg));
+    free(svg);
+    if (!rc)
+        cli_note(c, "wrote %s", path);
+    return rc;
 }
 
 static const char CAUTION[] =
@@ -371,6 +417,8 @@ int cmd_energy(cli_ctx *c, int argc, char **argv)
         goto done;
     }
     size_t nv = validate(&A, &E.m, vr);
+    if (o.plot && (rc = write_plot(c, o.plot, &sr, &E, p, n)))
+        goto done;
     if (o.csv) {
         size_t len = 0;
         char *csv = minutes_csv(&r, &len);

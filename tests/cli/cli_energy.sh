@@ -123,6 +123,11 @@ expect 0 "energy, human" energy "$sid"
 out_has "of it, the slow component" "human: the slow component's cost"
 out_has "registered dietitian" "human: the caution defers intake advice"
 out_has "model check" "human: the model check against the bouts"
+expect 0 "energy --plot" energy "$sid" --plot "$TMP/s.svg" --draws 20
+if xmllint --noout "$TMP/s.svg" 2>/dev/null && grep -q "linear rule" "$TMP/s.svg" && grep -q "modelled VO2" "$TMP/s.svg"; then
+    pass "the plot is well-formed SVG with the modelled VO2 and the linear rule"
+else fail "the plot is not well-formed or lacks its lines"; fi
+expect 73 "plot into a missing folder" energy "$sid" --plot "$TMP/nodir/s.svg" --draws 20
 expect 0 "energy --efficiency 20 --equations frayn1983" --json energy "$sid" --efficiency 20 --equations frayn1983 --draws 50
 json_is 'd["efficiency_pct"], d["substrate_equations"], d["draws"]' "(20, 'Frayn 1983', 50)" "options honoured"
 
