@@ -62,6 +62,7 @@ BENCHES  =
 BENCHES += bench_pd
 BENCHES += bench_mmp
 BENCHES += bench_sessions
+BENCHES += bench_energy
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 
