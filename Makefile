@@ -32,6 +32,7 @@ LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
 LIB_SRCS += src/sheet.c
+LIB_SRCS += src/energy.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
@@ -39,6 +40,7 @@ CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd
 LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
 CLI_SRCS += src/cmd_bout.c
+CLI_SRCS += src/cli_energy.c src/cmd_energy.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 LIB_SRCS += src/store_session.c src/import_session.c
 CLI_SRCS += src/cmd_session.c
@@ -56,11 +58,13 @@ TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
+TESTS += test_energy
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
 BENCHES += bench_mmp
 BENCHES += bench_sessions
+BENCHES += bench_energy
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 

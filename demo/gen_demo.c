@@ -1221,6 +1221,27 @@ static void gen_sessions(gen *g)
     free(w);
 }
 
+/* C01's heavy interval ride, the energy demo: warm-up, 5 x 8 min at 88 % of CP (above the GET, in the
+ * heavy domain) with 3 min easy between, cool-down. 'energy' costs it from C01's own bouts and ramp. */
+static void gen_session_c01(gen *g)
+{
+    sbuf b = {0};
+    rng r;
+    const char *fname = "session_C01_2026-11-06.csv";
+    rng_seed(&r, fname);
+    sb_reset(&b, 0);
+    blk_ramp(&b, &r, 600, 0.40 * PH_C01.cp, 0.60 * PH_C01.cp);
+    for (int i = 0; i < 5; i++) {
+        blk_effort(&b, &r, 480, 0.88 * PH_C01.cp, 0);
+        blk_steady(&b, &r, 180, 0.45 * PH_C01.cp, 0.0);
+    }
+    blk_ramp(&b, &r, 600, 0.55 * PH_C01.cp, 0.40 * PH_C01.cp);
+    double *w = written_of(&b, fname, NULL);
+    write_session(g, "C01", fname, "2026-11-06", &b, w, PH_C01.cp, PH_C01.hr_max, "H");
+    free(b.x);
+    free(w);
+}
+
 /* ------------------------------------------------------------------ 3-minute all-out test */
 
 typedef struct {
@@ -1468,6 +1489,9 @@ int main(int argc, char **argv)
              &(bout_def){"heavy", 280, 20, 120, 28, 14, 9.3, 250, 110, 120, 0, 0});
     gen_bout(&g, "C05", "bout_C05_3.csv", "2026-10-19", &PH_C05,
              &(bout_def){"severe", 375, 20, 120, 31, 13, 9.3, 0, 80, 110, 1.3, 1});
+    /* supra-maximal: demand ~120 % of VO2max, to exhaustion (~150 s): the accumulated O2 deficit */
+    gen_bout(&g, "C01", "bout_C01_6.csv", "2026-11-05", &PH_C01,
+             &(bout_def){"severe", 340, 20, 180, 33, 14, 9.3, 0, 85, 110, 1.6, 1});
 
     gen_lactate(&g, "C01", "lactate_C01.csv", "2026-10-01", &PH_C01,
                 &(lactate_def){90, 25, 8, 240, 0.9, 3.8, 45, 8.5}, 0);
@@ -1480,6 +1504,7 @@ int main(int argc, char **argv)
     gen_allout(&g, "C05", "allout_C05.csv", "2026-10-22", &PH_C05, &(allout_def){312, 0.95 * 24000, 1150, 132, 88});
 
     gen_sessions(&g);
+    gen_session_c01(&g);
 
     xclose(g.manifest, "manifest.csv");
     xclose(g.truth, "truth.csv");

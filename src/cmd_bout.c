@@ -2,6 +2,7 @@
  * exchange and their VO2 kinetics. Repeats of one transition given as ID,ID,... are ensemble-averaged;
  * the domain comes from the response and is checked against the athlete's GET and CP when known. */
 #include "cli_domains.h"
+#include "cli_energy.h"
 #include "cli_gx.h"
 #include "commands.h"
 #include "cpdomain/import.h"
@@ -762,7 +763,20 @@ static void check_json(cli_json *o, const bout_run *r)
     cj_str(o, "message", r->chk.message);
 }
 
-static int show_json(const bout_run *r)
+/* Substrate use at the steady state, the oxygen deficit and the accumulated O2 deficit (cli_energy.c). */
+static void energy_block(cli_ctx *c, const bout_run *r, cli_json *d)
+{
+    const cpd_gx_series *g[BOUT_MAX_REPEATS];
+    double on[BOUT_MAX_REPEATS];
+    for (size_t i = 0; i < r->n; i++) {
+        g[i] = r->g[i];
+        on[i] = r->t[i].onset_s;
+    }
+    cli_energy_bout_report(c, r->a.code, r->t[0].id, g, on, r->n, r->speed, r->intensity, r->baseline, &r->res,
+                           r->ko.vo2peak_ml_min, d);
+}
+
+static int show_json(cli_ctx *c, const bout_run *r)
 {
     const cpd_kinetics_result *k = &r->res;
     const cpd_kinetics_opts *ko = &r->ko;
@@ -899,6 +913,7 @@ static int show_json(const bout_run *r)
         cj_num(b, "onset_s", r->t[i].onset_s);
         cj_push(bl, b);
     }
+    energy_block(c, r, d);
     return cj_print(d);
 }
 
@@ -1018,9 +1033,11 @@ static int bout_show(cli_ctx *c, int argc, char **argv)
     if (!(rc = run_load(c, "bout show", argv[first], &o, &r))) {
         run_check(c, r);
         if (c->json)
-            rc = show_json(r);
-        else
+            rc = show_json(c, r);
+        else {
             show_text(r);
+            energy_block(c, r, NULL);
+        }
     }
     run_free(r);
     return rc;

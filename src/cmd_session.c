@@ -1,6 +1,7 @@
 /* cmd_session.c: 'session add|list|show|remove', 'allout add|list|show|remove', 'curve', and the
  * session halves of 'fit --source curve' and 'predict --session'. */
 #include "cli_pd.h"
+#include "cli_session.h"
 #include "commands.h"
 #include "cpdomain/allout.h"
 #include "cpdomain/import.h"
@@ -547,8 +548,8 @@ static int allout_list(cli_ctx *c, int argc, char **argv)
 
 /* Loads a stored session or all-out test and cleans its samples again by the rules of session.h
  * with the spike limit used at import. *w holds the clean series; the caller frees *w and *x. */
-static int load_clean(cli_ctx *c, long long id, int allout, cpd_session_rec *r, cpd_session_samples **x,
-                      cpd_session_ws **w, cpd_session *s)
+int cli_session_load_clean(cli_ctx *c, long long id, int allout, cpd_session_rec *r, cpd_session_samples **x,
+                           cpd_session_ws **w, cpd_session *s)
 {
     *w = NULL;
     int rc = cpd_store_session_get(c->store, id, allout, r, x);
@@ -600,7 +601,7 @@ static int session_show(cli_ctx *c, int argc, char **argv)
     cpd_session_samples *x = NULL;
     cpd_session_ws *w = NULL;
     cpd_session s;
-    if ((rc = load_clean(c, id, 0, &r, &x, &w, &s)))
+    if ((rc = cli_session_load_clean(c, id, 0, &r, &x, &w, &s)))
         return rc;
     double *cbuf = NULL;
     cpd_mmp_curve cv;
@@ -854,7 +855,7 @@ static int allout_show(cli_ctx *c, int argc, char **argv)
     cpd_session_samples *x = NULL;
     cpd_session_ws *w = NULL;
     cpd_session s;
-    if ((rc = load_clean(c, id, 1, &r, &x, &w, &s)))
+    if ((rc = cli_session_load_clean(c, id, 1, &r, &x, &w, &s)))
         return rc;
     int ex = 0;
     cpd_allout_result res;
@@ -1198,7 +1199,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
     cpd_session_samples *x = NULL;
     cpd_session_ws *w = NULL;
     cpd_session s;
-    int rc = load_clean(c, id, 0, &r, &x, &w, &s);
+    int rc = cli_session_load_clean(c, id, 0, &r, &x, &w, &s);
     if (rc)
         return rc;
     int ex = 0;

@@ -1,6 +1,7 @@
 /* cmd_sheet.c: 'sheet CODE' and 'sheet --all -o DIR': the per-athlete domain sheet (HTML, CSV,
  * JSON or text) and the team's index page. The store is only read. */
 #include "cli_domains_json.h"
+#include "cli_energy.h"
 #include "cli_gx.h"
 #include "cli_history.h"
 #include "commands.h"
@@ -85,6 +86,7 @@ typedef struct {
     cpd_sheet_session *session; /* NULL when none could be built */
     char *svg_pd, *svg_balance, *svg_vslope, *svg_kinetics, *svg_trend;
     char kinetics_text[600], trend_text[600], field_text[900];
+    char fuel_text[1200];
     char test_what[CPD_SHEET_MAX_TESTS][CPD_DOMAINS_TEXT + 32];
     char test_date[CPD_SHEET_MAX_TESTS][32];
     char ramp_label[200];
@@ -181,6 +183,16 @@ static void add_kinetics(cli_ctx *c, sheet_build *b)
 
 /* The field estimate beside the lab estimate: the models fitted to the season's mean-maximal
  * curve of recorded sessions (fit --source curve), when the athlete has sessions. */
+/* Energy and carbohydrate per hour at each domain's target (cli_energy.c), as an optional section. */
+static void add_fuel(cli_ctx *c, sheet_build *b)
+{
+    cpd_sheet *s = &b->s;
+    if (s->nextra < CPD_SHEET_MAX_EXTRA && s->modality == CPD_PD_POWER &&
+        cli_energy_fuel_text(c, s->code, s->dom, b->fuel_text, sizeof b->fuel_text) == 0)
+        s->extra[s->nextra++] = (cpd_sheet_section){"fuel", "Energy and carbohydrate at the domains' targets", b->fuel_text,
+                                                    NULL};
+}
+
 static void add_field(cli_ctx *c, sheet_build *b)
 {
     cpd_sheet *s = &b->s;
@@ -357,6 +369,7 @@ static int build_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int st
     add_kinetics(c, b);
     add_trend(c, b);
     add_field(c, b);
+    add_fuel(c, b);
     *out = b;
     return 0;
 }

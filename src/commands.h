@@ -21,5 +21,6 @@ int cmd_sheet(cli_ctx *c, int argc, char **argv);
 int cmd_session(cli_ctx *c, int argc, char **argv);
 int cmd_allout(cli_ctx *c, int argc, char **argv);
 int cmd_curve(cli_ctx *c, int argc, char **argv);
+int cmd_energy(cli_ctx *c, int argc, char **argv);
 
 #endif

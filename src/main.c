@@ -19,6 +19,7 @@ static const cli_command commands[] = {
     {"bout", cmd_bout, "constant-power bouts: VO2 kinetics, slow component, domain from the response", NULL},
     {"session", cmd_session, "recorded training and race sessions: cleaning, mean-maximal curves", NULL},
     {"allout", cmd_allout, "3-minute all-out tests: end power and work above it", NULL},
+    {"energy", cmd_energy, "the O2, energy and fuel cost of a recorded power session from the athlete's kinetics", NULL},
     {"curve", cmd_curve, "the mean-maximal power (speed) curve over an athlete's sessions", NULL},
     {"fit", cmd_fit, "fit CP and W' (CS and D') with uncertainty; saved for the history", NULL},
     {"domains", cmd_domains, "the four intensity domains, their boundaries and training targets", NULL},

@@ -513,3 +513,44 @@ int cpd_plot_trend(const int *day, const double *v, const double *lo, const doub
     free(ep);
     return finish(p, svg);
 }
+
+int cpd_plot_session_vo2(const double *t_s, const double *vo2, const double *linear, const double *power_w, size_t n,
+                         double vo2_get, double vo2peak, const char *title, char **svg)
+{
+    if (!svg)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    if (!t_s || !vo2 || !linear || !power_w || n < 2)
+        return CPD_EUSAGE;
+    cpd_svgplot *p = cpd_svgplot_alloc(720, 380);
+    if (!p)
+        return CPD_ENOMEM;
+    double vmax = vo2peak, pmax = 0;
+    for (size_t i = 0; i < n; i++) {
+        vmax = fmax(vmax, fmax(vo2[i], linear[i]));
+        pmax = fmax(pmax, power_w[i]);
+    }
+    cpd_svgplot_set_title(p, title ? title : "Modelled VO2 of the session");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "time (h:min:s)");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_TIME_S);
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_X, t_s[0], t_s[n - 1]);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "VO2 (mL/min)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, 0, vmax * 1.08);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y2, "power (W)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y2, 0, (pmax > 0 ? pmax : 1) * 1.6);
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_GREY, CPD_SVGPLOT_MARKER_NONE, 0.8, CPD_SVGPLOT_SOLID);
+    st.y_axis = CPD_SVGPLOT_Y2;
+    cpd_svgplot_line(p, t_s, power_w, n, &st, "power (right axis)");
+    style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 1.4, CPD_SVGPLOT_DASHED);
+    cpd_svgplot_line(p, t_s, linear, n, &st, "linear rule: base + gain x power");
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2.2, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, t_s, vo2, n, &st, "modelled VO2 (kinetics, slow component)");
+    style(&st, CPD_SVGPLOT_GREEN, CPD_SVGPLOT_MARKER_NONE, 1.1, CPD_SVGPLOT_DOTTED);
+    if (vo2_get > 0)
+        cpd_svgplot_hline(p, vo2_get, &st, "VO2 at the GET");
+    style(&st, CPD_SVGPLOT_RED, CPD_SVGPLOT_MARKER_NONE, 1.1, CPD_SVGPLOT_DOTTED);
+    if (vo2peak > 0)
+        cpd_svgplot_hline(p, vo2peak, &st, "VO2peak");
+    return finish(p, svg);
+}

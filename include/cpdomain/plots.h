@@ -58,4 +58,11 @@ int cpd_plot_balance(const double *intensity, const double *balance, size_t n, i
 int cpd_plot_trend(const int *day, const double *v, const double *lo, const double *hi, size_t n, const char *title,
                    const char *ylabel, char **svg);
 
+/* Modelled VO2 of a session (energy.h) against time beside the linear prediction base + gain P, with
+ * the power on the right axis and the VO2 at the GET and VO2peak marked: t_s, vo2, linear (mL/min)
+ * and power_w (W) have n points. title is copied. Same ownership; CPD_EUSAGE for NULL pointers or
+ * n < 2; CPD_ENOMEM. */
+int cpd_plot_session_vo2(const double *t_s, const double *vo2, const double *linear, const double *power_w, size_t n,
+                         double vo2_get, double vo2peak, const char *title, char **svg);
+
 #endif

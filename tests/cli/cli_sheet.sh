@@ -93,7 +93,7 @@ c02svg=$($PY "$CHECK" split "$TMP/s/C02.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 grep -q "The season" "$TMP/s/C02.html" && grep -q "meaningful" "$TMP/s/C02.html" && pass "C02's sheet shows the season and calls the CP change meaningful" || fail "no season section on C02"
 grep -q "Field estimate from the best efforts" "$TMP/s/C02.html" && grep -q "The lab estimate from the trials" "$TMP/s/C02.html" \
     && pass "C02's sheet shows the field estimate from sessions beside the lab estimate" || fail "no field estimate on C02"
-grep -q "Field estimate from the best efforts" "$TMP/s/C01.html" && fail "C01 has no sessions but shows a field estimate" \
+grep -q "Field estimate from the best efforts" "$TMP/s/C05.html" && fail "C05 has no sessions but shows a field estimate" \
     || pass "no field estimate without sessions"
 s01svg=$($PY "$CHECK" split "$TMP/s/S01.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 [ "$s01svg" -eq 2 ] && pass "S01 (no ramp) has two plots" || fail "S01 has $s01svg plots"
