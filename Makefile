@@ -54,6 +54,7 @@ TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
+TESTS += test_honest
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

@@ -76,7 +76,11 @@ static void print_range(const cli_domains *d, const char *name, const cpd_domain
         snprintf(hr, sizeof hr, "HR < %.0f", r->hr_hi);
     else if (r->has_hr_lo)
         snprintf(hr, sizeof hr, "HR > %.0f", r->hr_lo);
-    printf("  %-9s %-40s %-11s %-17s %s\n", name, span, pct, wkg, hr);
+    if (strlen(name) > 9) /* the uncertain band: its label on a line of its own */
+        printf("  %s (%s's 95 %% interval):\n  %-9s", name, d->fit.modality == CPD_PD_SPEED ? "CS" : "CP", "");
+    else
+        printf("  %-9s", name);
+    printf(" %-40s %-11s %-17s %s\n", span, pct, wkg, hr);
 }
 
 int cmd_domains(cli_ctx *c, int argc, char **argv)
@@ -139,8 +143,11 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
                 printf("  %-15s stale: %s\n", "", x->stale_why);
         }
         printf("\ntargets (%% of %s%s):\n", spd ? "CS" : "CP", d.fit.athlete.has_mass && !spd ? ", W/kg" : "");
-        for (int k = 0; k < CPD_DOM_N; k++)
+        for (int k = 0; k < CPD_DOM_N; k++) {
             print_range(&d, cpd_domain_name((cpd_domain)k), &r->range[k]);
+            if (k == CPD_DOM_HEAVY && r->has_uncertain)
+                print_range(&d, "heavy or severe: the data cannot tell", &r->uncertain);
+        }
         printf("  heavy-domain work is capped at %s, the lower 95 %% bound of %s\n", cli_domains_fmt(&d, r->heavy_ceiling, v, sizeof v),
                spd ? "CS" : "CP");
         printf("\nsevere efforts (held to task failure):\n");
@@ -148,6 +155,10 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
             const cpd_domain_effort *e = &r->effort[k];
             char t[16];
             cpd_format_duration(e->duration_s, t, sizeof t);
+            if (e->beyond_severe) {
+                printf("  %5s  -  (beyond the severe-extreme boundary: extreme domain)\n", t);
+                continue;
+            }
             if (!e->valid) {
                 printf("  %5s  -\n", t);
                 continue;

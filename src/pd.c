@@ -1052,3 +1052,23 @@ int cpd_pd_predict_distance_time(const cpd_pd_model_fit *m, double distance_m, c
     finish_log(m, t, grad_var(m, g), out);
     return CPD_OK;
 }
+
+int cpd_pd_time_near_cp(const cpd_pd_model_fit *m, double intensity, int *inside, double *t_lo)
+{
+    if (!m || !inside || !t_lo || !(isfinite(intensity) && intensity > 0))
+        return CPD_EUSAGE;
+    *inside = 0;
+    *t_lo = 0;
+    if (!m->ok || !m->has_se || !(m->w_prime > 0))
+        return CPD_OK;
+    double lo = m->cp_ci95[0], hi = m->cp_ci95[1];
+    if (!(intensity >= lo && intensity <= hi))
+        return CPD_OK;
+    *inside = 1;
+    /* CP at its lower bound is the most pessimistic CP the data allow; W' at its estimate */
+    if (intensity > lo) {
+        double t = m->w_prime / (intensity - lo) - m->t_offset_s;
+        *t_lo = t > 0 && isfinite(t) ? t : 0;
+    }
+    return CPD_OK;
+}

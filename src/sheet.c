@@ -704,10 +704,16 @@ static void html_domains(sb *b, const cpd_sheet *s)
         al[k] = k == nc - 1 ? 'l' : 'n';
     al[nc] = '\0';
     th_row(b, h, al, (size_t)nc);
-    for (int k = 0; k < CPD_DOM_N; k++) {
-        const cpd_domain_range *r = &d->range[k];
-        sb_printf(b, "<tr><td><span class=\"sw d%d\"></span>", k);
-        esc(b, cpd_domain_name((cpd_domain)k));
+    for (int k = 0, band = 0; k < CPD_DOM_N; k += !band) {
+        /* after heavy: CP's 95 % interval, where the data cannot tell heavy from severe */
+        band = !band && k == CPD_DOM_SEVERE && d->has_uncertain;
+        const cpd_domain_range *r = band ? &d->uncertain : &d->range[k];
+        if (band)
+            sb_puts(b, "<tr><td>heavy or severe");
+        else {
+            sb_printf(b, "<tr><td><span class=\"sw d%d\"></span>", k);
+            esc(b, cpd_domain_name((cpd_domain)k));
+        }
         sb_puts(b, "</td>");
         td_range(b, range_words(r->lo, r->has_lo, r->hi, r->has_hi, t, sizeof t, f_inten, s));
         if (spd)
@@ -718,7 +724,9 @@ static void html_domains(sb *b, const cpd_sheet *s)
         if (hr)
             td_range(b, r->has_hr_lo || r->has_hr_hi ? range_words(r->hr_lo, r->has_hr_lo, r->hr_hi, r->has_hr_hi, t, sizeof t, f_hr, s)
                                                      : "-");
-        td(b, "w", (spd ? DOMAIN_WORDS_SPEED : DOMAIN_WORDS)[k]);
+        td(b, "w", band ? (spd ? "inside CS's 95 % interval: heavy or severe, the data cannot tell"
+                               : "inside CP's 95 % interval: heavy or severe, the data cannot tell")
+                        : (spd ? DOMAIN_WORDS_SPEED : DOMAIN_WORDS)[k]);
         sb_puts(b, "</tr>\n");
     }
     table_close(b);
@@ -1129,9 +1137,10 @@ static void render_csv(sb *b, const cpd_sheet *s)
         csv_row(b, "boundary", nm, "stale_why", x->stale ? x->stale_why : "", "");
         csv_row(b, "boundary", nm, "reason", x->valid ? "" : x->why, "");
     }
-    for (int j = 0; j < CPD_DOM_N; j++) {
-        const cpd_domain_range *r = &s->dom->range[j];
-        const char *nm = cpd_domain_name((cpd_domain)j);
+    for (int j = 0, band = 0; j < CPD_DOM_N; j += !band) {
+        band = !band && j == CPD_DOM_SEVERE && s->dom->has_uncertain; /* CP's interval, after heavy */
+        const cpd_domain_range *r = band ? &s->dom->uncertain : &s->dom->range[j];
+        const char *nm = band ? "heavy_or_severe" : cpd_domain_name((cpd_domain)j);
         csv_num(b, "target", nm, "lo", r->has_lo ? r->lo : NAN, iu);
         csv_num(b, "target", nm, "hi", r->has_hi ? r->hi : NAN, iu);
         snprintf(k, sizeof k, "lo_%s", kpct);
@@ -1320,8 +1329,9 @@ static void render_txt(sb *b, const cpd_sheet *s)
     t->align = "lllll";
     const char *hd[] = {"domain", spd ? "speed" : "power", spd ? "pace" : "% of CP", spd ? "% of CS" : "W/kg", "HR (bpm)"};
     tt_row(t, hd);
-    for (int k = 0; k < CPD_DOM_N; k++) {
-        const cpd_domain_range *r = &d->range[k];
+    for (int k = 0, band = 0; k < CPD_DOM_N; k += !band) {
+        band = !band && k == CPD_DOM_SEVERE && d->has_uncertain; /* CP's interval, after heavy */
+        const cpd_domain_range *r = band ? &d->uncertain : &d->range[k];
         range_words(r->lo, r->has_lo, r->hi, r->has_hi, a, sizeof a, f_inten, s);
         if (spd)
             pace_range(s, r, c, sizeof c);
@@ -1337,7 +1347,7 @@ static void render_txt(sb *b, const cpd_sheet *s)
             range_words(r->hr_lo, r->has_hr_lo, r->hr_hi, r->has_hr_hi, f, sizeof f, f_hr, s);
         else
             snprintf(f, sizeof f, "-");
-        const char *row[] = {cpd_domain_name((cpd_domain)k), a, c, e, f};
+        const char *row[] = {band ? "heavy or severe (the data cannot tell)" : cpd_domain_name((cpd_domain)k), a, c, e, f};
         tt_row(t, row);
     }
     tt_print(b, t);

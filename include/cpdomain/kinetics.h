@@ -365,4 +365,31 @@ const char *cpd_kinetics_domain_name(int domain);
 /* Short English text of a CPD_KIN_R_* reason; never NULL. */
 const char *cpd_kinetics_reason_text(int reason);
 
+/* Time to reach VO2max in a severe-domain bout, for the severe-extreme boundary: the phase-II delay
+ * plus 4 primary time constants, TD1 + 4 tau1 (98 % of the primary amplitude; arithmetic of the
+ * exponential), the boundary being the power whose time to task failure equals the time to reach
+ * VO2max (Hill, Poole & Smith 2002 Med Sci Sports Exerc 34:709). */
+#define CPD_KIN_TVO2MAX_BI_SE_FACTOR 1.5 /* the bi-exponential's asymptotic SE of TD1 + 4 tau1 is 1.2-1.6
+                                          * times too small in simulated severe bouts (the slow
+                                          * component's delay makes the least-squares surface rough);
+                                          * tests/test_honest.c measures the resulting coverage */
+typedef struct {
+    int valid;          /* 1 when the fields below hold */
+    const char *fit;    /* the fit behind it: "bi", "mono_end" or "mono" (static) */
+    double tau_s;       /* primary tau1, s */
+    double tau_se_s;    /* its standard error (inflated as the sum's), s */
+    double delay_s;     /* primary delay TD1, s */
+    double t_s;         /* TD1 + 4 tau1, s */
+    double se_s;        /* its standard error (delta method on the fit's covariance, x the factor above for bi), s */
+    size_t dof;         /* degrees of freedom of the fit */
+} cpd_kinetics_tvo2max;
+
+/* The rule for the primary component of a bout above CP: the bi-exponential's primary whenever it
+ * converged with standard errors and a slow-component delay after the primary one, whether or not
+ * the slow component passes the F-test (above CP a slow component is expected, and a whole-bout
+ * mono-exponential absorbs it into tau: 41 s instead of 33 s in a bout with a 300 mL/min slow
+ * component); otherwise the mono-exponential ending at primary_end_s (180 s), else the whole-bout
+ * mono-exponential. Returns CPD_OK, CPD_EUSAGE for NULL, CPD_ENODATA when no fit has SEs. */
+int cpd_kinetics_time_to_vo2max(const cpd_kinetics_result *r, cpd_kinetics_tvo2max *out);
+
 #endif

@@ -226,4 +226,13 @@ int cpd_pd_predict_intensity(const cpd_pd_model_fit *m, double duration_s, cpd_p
  * Return codes as cpd_pd_predict_time, plus CPD_EUSAGE for a power model. */
 int cpd_pd_predict_distance_time(const cpd_pd_model_fit *m, double distance_m, cpd_pd_pred *out);
 
+/* Near CP: *inside = 1 when the intensity lies inside CP's 95 % interval, where the data cannot tell
+ * the heavy domain (no W'-limited failure) from the severe one; there the time to task failure has
+ * no upper bound and *t_lo receives a lower bound, W'/(intensity - CP_lo) (minus the
+ * three-parameter offset), s; 0 when the intensity is at CP_lo (no bound). The delta-method
+ * interval of cpd_pd_predict_time is meaningless there (it spans minutes to days). *inside = 0
+ * outside the interval or without standard errors. Returns CPD_OK, or CPD_EUSAGE for NULL
+ * pointers or an intensity that is not positive and finite. */
+int cpd_pd_time_near_cp(const cpd_pd_model_fit *m, double intensity, int *inside, double *t_lo);
+
 #endif

@@ -1,0 +1,41 @@
+# cli_honest.sh: issue 12 through the real binary: no prediction that invites over-exertion and no
+# number without its uncertainty, on synthetic trials with a known truth.
+. "$CPDOMAIN_TESTS/cli/lib.sh"
+
+expect 0 "init" init
+expect 0 "athlete" athlete add H1 --name "Honest Rider" --mass 66
+# CP 234 W, W' 15.7 kJ (t = W'/(P - CP)) with durations off by -8 % to +9 %: CP's interval spans
+# about +-10 W, as the demo rider of the issue (234 W, 220 to 248 W)
+printf 'athlete,date,power_w,duration_s\nH1,2026-11-01,330,179\nH1,2026-11-03,290,255\nH1,2026-11-05,270,470\nH1,2026-11-07,255,720\nH1,2026-11-09,250,1020\n' >"$TMP/t.csv"
+expect 0 "trials" trial import "$TMP/t.csv"
+expect 0 "fit" --json fit H1 --model linear-inverse
+lo=$(json 'd["models"][0]["cp_ci95"][0]')
+hi=$(json 'd["models"][0]["cp_ci95"][1]')
+w=$(json 'd["models"][0]["w_prime"]')
+mid=$(/usr/bin/python3 -c "print(round(($lo + 2 * $hi) / 3, 1))")
+# inside CP's interval: a lower bound W'/(P - CP_lo), no upper bound, and the domain undecided
+expect 0 "predict inside CP's interval" --json predict H1 --model linear-inverse --power "$mid"
+json_is 'd["time_to_failure_s"], d["time_to_failure_ci95"], d["domain"]' "(None, None, 'heavy or severe: the data cannot tell')" "no point time, no upper bound"
+json_is "abs(d['time_to_failure_at_least_s'] - $w / ($mid - $lo)) < 1e-6" True "lower bound W'/(P - CP_lo)"
+expect 0 "the same in words" predict H1 --model linear-inverse --power "$mid"
+out_has "at least about" "text gives the lower bound"
+out_has "no upper bound" "and says there is none above"
+# above the interval: an ordinary prediction with its interval
+expect 0 "predict above CP's interval" --json predict H1 --model linear-inverse --power 300
+json_is 'd["time_to_failure_s"] > 0 and d["time_to_failure_at_least_s"] is None' True "above the interval: a time"
+# a duration outside the trials is flagged as an extrapolation, for a distance as well
+expect 0 "a runner" athlete add H2 --name "Honest Runner" --sport running --mass 58
+# CS 4.2 m/s, D' 180 m: t = (D - D')/CS exactly
+printf 'athlete,date,distance_m,duration_s\nH2,2026-11-01,1200,242.857142857\nH2,2026-11-03,2400,528.571428571\nH2,2026-11-05,3600,814.285714286\nH2,2026-11-07,1800,385.71428571\n' >"$TMP/r.csv"
+expect 0 "runner trials" trial import "$TMP/r.csv"
+expect 0 "5 km" --json predict H2 --distance 5000
+json_is 'd["extrapolated"], d["time_s"] > 0, d["long_run_caution"]' "(True, True, None)" "5 km: extrapolated, under 30 min, no long-run caution"
+expect 0 "2 km" --json predict H2 --distance 2000
+json_is 'd["extrapolated"]' False "2 km lies inside the trials"
+# beyond 30 min of running: no time that assumes running at CS, the published caution instead
+expect 0 "marathon" --json predict H2 --distance 42195
+json_is 'd["time_s"], d["time_ci95"], "Smyth" in d["long_run_caution"]' "(None, None, True)" "marathon: no time at CS"
+json_is "abs(d['time_at_least_s'] - (42195 - d['d_prime']) / d['cs']) < 1e-6" True "only the bound that running at CS would give"
+expect 0 "marathon in words" predict H2 --distance 42195
+out_has "no time is predicted" "says no time is predicted"
+if grep -qF "predicted time" "$TMP/out"; then fail "prints no marathon time"; else pass "prints no marathon time"; fi
