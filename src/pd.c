@@ -505,7 +505,7 @@ static unsigned model_flags(const cpd_pd_model_fit *f, const double *x, const do
         fl |= CPD_PD_FLAG_IMPLAUSIBLE_PARAMETER;
     if (f->cp >= xlo)
         fl |= CPD_PD_FLAG_TRIAL_AT_OR_BELOW_CP;
-    /* METHODS §9: from trials of 2-15 min only, Pmax's SE exceeded Pmax in about half of simulated
+    /* From trials of 2-15 min only, Pmax's SE exceeded Pmax in about half of simulated
      * athletes while the fit converged, so these conditions are flagged rather than trusted. */
     if (f->has_p_max && (!f->has_se || f->p_max_se >= f->p_max || f->p_max <= xhi || tlo >= CPD_PD_SHORT_S))
         fl |= CPD_PD_FLAG_P_MAX_UNIDENTIFIABLE;

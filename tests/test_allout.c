@@ -268,7 +268,7 @@ static void texts(void **state)
     assert_null(cpd_allout_flag_text(0));
     assert_null(cpd_allout_flag_text(CPD_ALLOUT_FLAG_PACED | CPD_ALLOUT_FLAG_STOPPED));
     assert_string_equal(cpd_allout_flag_name(CPD_ALLOUT_FLAG_PACED), "paced");
-    /* the caution names its sources (METHODS.md §2) */
+    /* the caution names its sources (Vanhatalo, Doust & Burnley 2007) */
     const char *c = cpd_allout_caution();
     assert_non_null(strstr(c, "Wright"));
     assert_non_null(strstr(c, "Johnson"));

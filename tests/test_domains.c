@@ -1,5 +1,5 @@
 /* test_domains.c: boundaries, targets and flags of the domains module on fits whose answers are
- * known in closed form (METHODS.md section 9 identities: P = CP + W'/t). */
+ * known in closed form (2-parameter identities: P = CP + W'/t). */
 #include "cpdomain/domains.h"
 #include "cpdomain/status.h"
 #include "cpdomain/units.h"

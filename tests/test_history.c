@@ -1,5 +1,5 @@
 /* test_history.c: blocks of trials, fits per block and the verdict on changes, on data generated
- * from known CP and W' (the 2-parameter identity t = W'/(P - CP), METHODS.md section 9). */
+ * from known CP and W' (the 2-parameter identity t = W'/(P - CP), the 2-parameter identity (derived)). */
 #include "cpdomain/history.h"
 #include "cpdomain/status.h"
 

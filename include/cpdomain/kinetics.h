@@ -30,8 +30,8 @@ enum {
     CPD_KIN_BI = 2    /* all seven (Barstow & Mole 1991 J Appl Physiol 71:2099, independent delays) */
 };
 
-/* Intensity domains as judged from the response (Hill, Poole & Smith 2002; journal details from
- * memory: Med Sci Sports Exerc 34:709). */
+/* Intensity domains as judged from the response (Hill, Poole & Smith 2002 Med Sci Sports Exerc
+ * 34:709). */
 enum {
     CPD_KIN_UNDETERMINED = 0, /* the response does not decide it (bout too short) */
     CPD_KIN_MODERATE,         /* no slow component, steady by 3 min */
@@ -162,7 +162,7 @@ typedef struct {
  * - Baseline: mean of the breaths in the 60 s before the onset, at least 3 breaths, else "no
  *   baseline data". It is not fitted: after phase I with a free delay, base + A1 (1 - e^(-(t-TD)/tau))
  *   = (base + A1) - A1 e^(TD/tau) e^(-t/tau), so base, A1 and TD cannot all be told apart.
- * - Phase I: the first 20 s are excluded from every fit (METHODS 6.1; Bell et al. 2001 fitted from 20 s).
+ * - Phase I: the first 20 s are excluded from every fit (Bell et al. 2001 fitted from 20 s).
  * - Fits: mono-exponential phase I to end; mono-exponential phase I to 180 s; bi-exponential with
  *   independent delays over the whole bout (Barstow & Mole 1991) when it lasts 300 s; the windowed
  *   fit (cpd_kinetics_window). Bout marks allow CPD_KIN_END_TOL_S for the last breath.
@@ -307,7 +307,7 @@ double cpd_kinetics_eval(int model, const double *b, double t_s);
  * (cpd_nlfit_solve, analytic Jacobian), holding fixed parameters. Covariance: with no raw data
  * the points are independent breaths, s^2 (J'J)^-1 (Bates & Watts 1988, Wiley). With raw data the
  * points are averages (ensemble, bins): the noise variance comes from the raw breaths' residuals
- * and (J'J)^-1 is scaled by n / n_eff, n_eff = raw breaths in the window (METHODS 6.2).
+ * and (J'J)^-1 is scaled by n / n_eff, n_eff = raw breaths in the window.
  * Returns CPD_OK, CPD_EUSAGE (out->reason BAD_ARG), CPD_ENODATA (TOO_FEW_POINTS, START_OUTSIDE),
  * CPD_ENOCONV (NO_CONVERGENCE, also when tau runs off to 100 spans of the data: a straight line),
  * CPD_ENOMEM. On failure out->valid is 0 and no estimate is kept. */

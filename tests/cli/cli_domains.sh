@@ -5,7 +5,7 @@ DEMO="$CPDOMAIN_TESTS/../demo/data"
 
 expect 0 "init" init
 expect 0 "athlete" athlete add D1 --name "Domain Rider" --mass 64
-# near-exact trials of CP 250 W, W' 20 000 J (METHODS.md section 9), one 1.5 % long for an interval
+# near-exact trials of CP 250 W, W' 20 000 J (the 2-parameter identity, derived), one 1.5 % long for an interval
 printf 'athlete,date,power_w,duration_s\nD1,2026-11-01,400,133.33333333333334\nD1,2026-11-03,350,200\nD1,2026-11-05,310,338.3333333333333\nD1,2026-11-07,280,666.6666666666666\n' >"$TMP/t.csv"
 expect 0 "trials" trial import "$TMP/t.csv"
 expect 0 "an athlete with two trials" athlete add D2 --name "Two Trials"
