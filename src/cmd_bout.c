@@ -589,7 +589,7 @@ static void run_check(cli_ctx *c, bout_run *r)
         return;
     }
     r->checked = 1;
-    r->check_rc = cpd_kinetics_verify_domain(r->res.domain, r->intensity, r->get, r->cp, &r->chk);
+    r->check_rc = cpd_kinetics_verify_bout(r->res.domain, r->res.end_s, r->intensity, r->get, r->cp, &r->chk);
 }
 
 /* The rule behind the domain in words. */

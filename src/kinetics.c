@@ -1291,3 +1291,22 @@ int cpd_kinetics_time_to_vo2max(const cpd_kinetics_result *r, cpd_kinetics_tvo2m
     out->valid = 1;
     return CPD_OK;
 }
+
+int cpd_kinetics_verify_bout(int observed, double end_s, double power_w, double get_power_w, double cp_w,
+                             cpd_kinetics_check *out)
+{
+    int rc = cpd_kinetics_verify_domain(observed, power_w, get_power_w, cp_w, out);
+    if (rc != CPD_OK || !(isfinite(end_s) && end_s > 0))
+        return rc;
+    if (out->agreement == 0 && out->predicted_mask == (1u << CPD_KIN_SEVERE) && observed == CPD_KIN_HEAVY &&
+        end_s < CPD_KIN_VERIFY_LEVEL_S) {
+        out->agreement = -1;
+        snprintf(out->message, sizeof out->message,
+                 "bout at %.1f %% above CP levelled off within its %.1f min, but a bout shorter than %.0f min cannot "
+                 "tell the heavy domain from the low severe one (just above CP, VO2 can take well over 10 min to "
+                 "reach its maximum): nothing to conclude about CP; a bout of at least %.0f min can",
+                 100.0 * (power_w - cp_w) / cp_w, end_s / 60.0, CPD_KIN_VERIFY_LEVEL_S / 60.0,
+                 CPD_KIN_VERIFY_LEVEL_S / 60.0);
+    }
+    return CPD_OK;
+}

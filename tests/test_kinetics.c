@@ -1041,10 +1041,30 @@ static void names_and_reasons(void **state)
     assert_string_equal(cpd_kinetics_reason_text(CPD_KIN_R_NREASON), "unknown reason");
 }
 
+/* Issue 12: a 6-min bout 3 % above CP that levelled off does not suggest CP is underestimated; a
+ * 12-min one does (the 10-min rule of cpd_kinetics_verify_bout). */
+static void short_bouts_do_not_overreach(void **state)
+{
+    (void)state;
+    cpd_kinetics_check c;
+    assert_int_equal(cpd_kinetics_verify_bout(CPD_KIN_HEAVY, 358.5, 257.5, 180.0, 250.0, &c), CPD_OK);
+    assert_int_equal(c.agreement, -1);
+    assert_non_null(strstr(c.message, "nothing to conclude about CP"));
+    assert_null(strstr(c.message, "underestimated"));
+    assert_int_equal(cpd_kinetics_verify_bout(CPD_KIN_HEAVY, 721.0, 257.5, 180.0, 250.0, &c), CPD_OK);
+    assert_int_equal(c.agreement, 0);
+    assert_non_null(strstr(c.message, "CP may be underestimated"));
+    /* the rule touches only that verdict: a severe response below CP still says so after 6 min */
+    assert_int_equal(cpd_kinetics_verify_bout(CPD_KIN_SEVERE, 358.5, 240.0, 180.0, 250.0, &c), CPD_OK);
+    assert_int_equal(c.agreement, 0);
+    assert_non_null(strstr(c.message, "CP may be overestimated"));
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(short_bouts_do_not_overreach),
         cmocka_unit_test(nist_misra1a),
         cmocka_unit_test(nist_boxbod),
         cmocka_unit_test(model_values_by_hand),

@@ -392,4 +392,17 @@ typedef struct {
  * mono-exponential. Returns CPD_OK, CPD_EUSAGE for NULL, CPD_ENODATA when no fit has SEs. */
 int cpd_kinetics_time_to_vo2max(const cpd_kinetics_result *r, cpd_kinetics_tvo2max *out);
 
+/* Shortest bout whose levelling off may suggest that CP is underestimated, s. Just above CP the
+ * VO2 slow component can take well over 10 min to drive VO2 to its maximum (Poole et al., as
+ * summarised by Hill, Poole & Smith 2002), so a shorter bout that "stabilised" cannot tell the
+ * heavy domain from the low severe one. 10 min is our rule, stated with every use. */
+#define CPD_KIN_VERIFY_LEVEL_S 600.0
+
+/* cpd_kinetics_verify_domain for a bout of end_s seconds of exercise: when the boundaries predict
+ * severe and the response levelled off (heavy) in a bout shorter than CPD_KIN_VERIFY_LEVEL_S, the
+ * verdict is "nothing to conclude" (agreement -1), not "CP may be underestimated". end_s <= 0
+ * means unknown (no rule applied). Return codes as cpd_kinetics_verify_domain. */
+int cpd_kinetics_verify_bout(int observed, double end_s, double power_w, double get_power_w, double cp_w,
+                             cpd_kinetics_check *out);
+
 #endif
