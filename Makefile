@@ -25,6 +25,7 @@ LIB_SRCS += src/pd.c
 LIB_SRCS += src/svgplot.c
 LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
+LIB_SRCS += src/ramp_ci.c
 LIB_SRCS += src/lactate.c
 LIB_SRCS += src/domains.c
 LIB_SRCS += src/history.c
@@ -55,6 +56,7 @@ TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
 TESTS += test_honest
+TESTS += test_ramp_ci
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

@@ -75,6 +75,17 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         snprintf(in->get_date, sizeof in->get_date, "%s", t.date);
         in->has_hr_get = g->has_hr;
         in->hr_get = g->hr_bpm;
+        cpd_ramp_ci ci;
+        cpd_ramp_opts ro; /* the options cli_ramp_analyse used without command-line overrides */
+        cpd_ramp_opts_init(&ro);
+        ro.rate_per_min = t.rate_per_min;
+        ro.start = t.start;
+        if (g->status == CPD_THR_FOUND && cpd_ramp_ci_compute(w, r, &ro, 200, (uint64_t)id, &ci) == CPD_OK &&
+            ci.get.valid && ci.get.has_equiv) {
+            in->has_get_ci = 1;
+            in->get_ci95[0] = ci.get.equiv_ci95[0];
+            in->get_ci95[1] = ci.get.equiv_ci95[1];
+        }
     } else if (g->status != CPD_THR_NOT_FOUND)
         d->ramp_mrt_missing = 1;
     if (r->rcp.status != CPD_THR_NOT_FOUND && r->rcp.has_hr) {

@@ -107,6 +107,11 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
         mh->valid = 1;
         mh->value = in->get;
         mh->manual = in->get_manual;
+        if (in->has_get_ci && !in->get_manual) {
+            mh->has_ci = 1;
+            mh->ci95[0] = in->get_ci95[0];
+            mh->ci95[1] = in->get_ci95[1];
+        }
         snprintf(mh->source, sizeof mh->source, "%s: gas exchange threshold%s", in->get_source,
                  in->get_manual ? " (a reviewer's choice)" : "");
         snprintf(mh->method, sizeof mh->method,

@@ -32,6 +32,8 @@ typedef struct {
     int get_manual;                    /* 1 when a reviewer chose it */
     char get_source[CPD_DOMAINS_TEXT]; /* e.g. "ramp 3" */
     char get_date[11];
+    int has_get_ci;                    /* 1 when the GET equivalent has a 95 % interval (cpd_ramp_ci_compute) */
+    double get_ci95[2];
     int has_hr_get, has_hr_rcp;        /* heart rates at the GET and the RCP on the ramp */
     double hr_get, hr_rcp;             /* beats/min */
     int has_peak;                      /* 1 when the ramp's peak constant-intensity equivalent is known */
