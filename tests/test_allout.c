@@ -275,10 +275,45 @@ static void texts(void **state)
     assert_non_null(strstr(c, "28 %"));
 }
 
+/* Issue 12: the end power's interval covers the true end level: 200 simulated tests, an exponential
+ * fall from 720 W to a true end level of 262.5 W with white noise of SD 14.5 W each second. */
+static void end_power_interval_covers(void **state)
+{
+    (void)state;
+    uint64_t sd = 0x9e3779b97f4a7c15ull;
+    int hit = 0, n = 200;
+    double p[180];
+    for (int k = 0; k < n; k++) {
+        for (int i = 0; i < 180; i++) {
+            /* splitmix64 uniforms and Box-Muller normals, as tests/rng.h */
+            uint64_t z1 = (sd += 0x9E3779B97F4A7C15ull), z2 = (sd += 0x9E3779B97F4A7C15ull);
+            z1 = (z1 ^ (z1 >> 30)) * 0xBF58476D1CE4E5B9ull;
+            z1 = (z1 ^ (z1 >> 27)) * 0x94D049BB133111EBull;
+            z1 ^= z1 >> 31;
+            z2 = (z2 ^ (z2 >> 30)) * 0xBF58476D1CE4E5B9ull;
+            z2 = (z2 ^ (z2 >> 27)) * 0x94D049BB133111EBull;
+            z2 ^= z2 >> 31;
+            double u1 = ((double)(z1 >> 11) + 0.5) / 9007199254740992.0, u2 = ((double)(z2 >> 11) + 0.5) / 9007199254740992.0;
+            double e = sqrt(-2 * log(u1)) * cos(6.283185307179586 * u2);
+            p[i] = 262.5 + 457.5 * exp(-i / 22.0) + 14.5 * e;
+        }
+        cpd_allout_result r;
+        assert_int_equal(cpd_allout_analyse(p, 180, 0, &r, NULL), CPD_OK);
+        double truth = 0;
+        for (int i = 150; i < 180; i++)
+            truth += (262.5 + 457.5 * exp(-i / 22.0)) / 30;
+        hit += r.end_power_ci95[0] <= truth && truth <= r.end_power_ci95[1];
+        assert_true(r.work_above_ci95[0] < r.work_above_end_j && r.work_above_end_j < r.work_above_ci95[1]);
+    }
+    printf("3-minute all-out end power: coverage %.1f %% (%d of %d simulated tests)\n", 100.0 * hit / n, hit, n);
+    assert_true(hit >= 180 && hit <= 197);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(end_power_interval_covers),
         cmocka_unit_test(brief_example),
         cmocka_unit_test(all_out_profile),
         cmocka_unit_test(paced_test),
