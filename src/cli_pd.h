@@ -86,7 +86,12 @@ typedef struct {
     void (*json_extra)(cli_json *d, const void *ud); /* adds keys to the JSON document, or NULL */
     const void *ud;
     const char *trace_path;          /* --trace file, or NULL */
+    int completed;                   /* 1: a recorded session the athlete completed (no "task failure") */
 } cli_balance_input;
+
+#define CLI_NBALANCE 3 /* recovery models reported side by side */
+#define CLI_COMPLETED_BELOW_ZERO                                                                               \
+    "the athlete finished it, so CP or W' is probably out of date (too low); retest, or fit the newest trials"
 
 /* Runs balance model bm over in->x with fitted model m and prints the SPEC keys (JSON) or the
  * report with one table row per part; writes the trace when asked. Returns an exit code. */

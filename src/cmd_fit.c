@@ -42,7 +42,7 @@ static const char HELP_PREDICT[] =
     "  --distance M              runners and swimmers: the predicted time for the distance\n"
     "  --protocol SPEC           the W' (D') balance through a session, second by second: its lowest\n"
     "                            point, the end balance and the predicted failure time, if any;\n"
-    "                            --balance-model differential (default), integral or elite;\n"
+    "                            --balance-model differential (default), integral or bartram;\n"
     "                            --trace writes time_s,intensity,balance per second to a CSV file\n"
     "                            SPEC: DURATION@INTENSITY segments separated by ';' or ',', Nx(...)\n"
     "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n"

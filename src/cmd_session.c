@@ -1200,7 +1200,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
-        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or elite", balance_model);
+        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or bartram", balance_model);
     cpd_session_rec r;
     cpd_session_samples *x = NULL;
     cpd_session_ws *w = NULL;
@@ -1266,7 +1266,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
                             "1-s steps on the session's cleaned 1-Hz grid from its first sample: gaps of up to 5 s and "
                             "dropped spikes filled linearly; a longer gap (a pause, or a dropout that split the "
                             "session) counts as rest at zero power (speed) for its whole length",
-                            1, session_json, &ud, trace_path};
+                            1, session_json, &ud, trace_path, 1};
     ex = cli_balance_report(c, f, m, bm, &in);
 done:
     free(v);

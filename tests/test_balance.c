@@ -82,7 +82,8 @@ static void recovery_time_constants(void **state)
 static void model_names(void **state)
 {
     (void)state;
-    const char *names[3] = {"differential", "integral", "elite"};
+    /* issue 12: the trained-cyclist model is named after its authors (Bartram et al. 2018) */
+    const char *names[3] = {"differential", "integral", "bartram"};
     for (int i = 0; i < 3; i++) {
         cpd_balance_model m = (cpd_balance_model)99;
         assert_string_equal(cpd_balance_model_name(models[i]), names[i]);
@@ -90,6 +91,8 @@ static void model_names(void **state)
         assert_int_equal(m, models[i]);
     }
     cpd_balance_model m;
+    assert_int_equal(cpd_balance_model_parse("elite", &m), CPD_OK); /* its former name still reads */
+    assert_int_equal(m, CPD_BALANCE_BARTRAM);
     assert_int_equal(cpd_balance_model_parse("skiba", &m), CPD_EUSAGE);
     assert_int_equal(cpd_balance_model_parse(NULL, &m), CPD_EUSAGE);
     assert_null(cpd_balance_model_name((cpd_balance_model)7));

@@ -78,7 +78,8 @@ json_is 'd["failure_at_s"], d["balance_model"], round(d["min_balance_j"], 6)' "(
 expect 0 "below CP no failure" --json predict X1 --protocol "20min@240W" --model linear-total
 json_is 'd["failure_at_s"], round(d["end_balance_j"], 6)' "(None, 20000.0)" "below CP from rest: no failure, full balance"
 expect 0 "percent of CP" --json predict X1 --protocol "2x(1min@160%CP, 2min@50%CP)" --model linear-total --balance-model elite --trace "$TMP/trace.csv"
-json_is 'd["balance_model"], d["duration_s"]' "('elite', 360)" "elite model over a %CP protocol"
+json_is 'd["balance_model"], d["duration_s"]' "('bartram', 360)" "the former name 'elite' reads as the bartram model over a %CP protocol"
+json_is '[(m["name"], m["chosen"]) for m in d["balance_models"]]' "[('differential', False), ('integral', False), ('bartram', True)]" "every recovery model side by side, the chosen one marked"
 lines=$(wc -l <"$TMP/trace.csv")
 [ "$lines" = 361 ] && pass "trace has a header and 360 seconds" || fail "trace lines: $lines"
 head -1 "$TMP/trace.csv" | grep -q '^time_s,power_w,balance_j$' && pass "trace header" || fail "trace header: $(head -1 "$TMP/trace.csv")"

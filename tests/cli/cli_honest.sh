@@ -39,3 +39,24 @@ json_is "abs(d['time_at_least_s'] - (42195 - d['d_prime']) / d['cs']) < 1e-6" Tr
 expect 0 "marathon in words" predict H2 --distance 42195
 out_has "no time is predicted" "says no time is predicted"
 if grep -qF "predicted time" "$TMP/out"; then fail "prints no marathon time"; else pass "prints no marathon time"; fi
+
+# W' balance: every recovery model side by side, the chosen one marked; a completed session that
+# replays below zero says CP or W' is out of date (and how far), not "task failure"
+/usr/bin/python3 -c "
+print('time_s,power_w')
+for t in range(1200): print('%d,%d' % (t, 150 if t < 300 or t >= 900 else 300))" >"$TMP/session.csv"
+expect 0 "a completed session" session add H1 "$TMP/session.csv" --date 2026-11-10
+expect 0 "its replay" --json predict H1 --session 1 --model linear-inverse
+json_is 'd["completed_session"], d["failure_at_s"] is not None, "out of date" in d["below_zero_note"]' "(True, True, True)" "below zero in a completed session: out of date, not task failure"
+json_is '[m["name"] for m in d["balance_models"]], [m["chosen"] for m in d["balance_models"]]' "(['differential', 'integral', 'bartram'], [True, False, False])" "every recovery model, the chosen one marked"
+expect 0 "its replay in words" predict H1 --session 1 --model linear-inverse
+out_has "probably out of date" "text says CP or W' is out of date"
+if grep -qF "predicted task failure" "$TMP/out"; then fail "no 'predicted task failure' for a completed session"; else pass "no 'predicted task failure' for a completed session"; fi
+# solve: the answer under every model, and a 'check it' line that reproduces it
+expect 0 "solve" --json solve H1 --protocol "10min@140W; 4x(3min@?, 3min@120W); 3min@?" --finish 10 --model linear-inverse
+json_is '[m["name"] for m in d["balance_models"] if m["chosen"]]' "['differential']" "solve: the chosen model marked"
+pw=$(json 'd["power_w"]')
+expect 0 "solve in words" solve H1 --protocol "10min@140W; 4x(3min@?, 3min@120W); 3min@?" --finish 10 --model linear-inverse
+chk=$(sed -n 's/^check it: cpdomain predict H1 --protocol "\(.*\)"$/\1/p' "$TMP/out")
+expect 0 "the check" --json predict H1 --protocol "$chk" --model linear-inverse
+json_is "d['end_balance_j'] >= 0.10 * d['w_prime'] - 1e-6" True "the check line reproduces the answer (ends at or above the target)"
