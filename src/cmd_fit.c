@@ -279,6 +279,17 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
                     : cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
         return rc;
     const cpd_pd_result *r = f.res;
+    /* without dates over several blocks the fit pools them: say so, and name the current block that
+     * domains, predict, solve and the sheets use */
+    char cur_from[11] = "", pooled[320] = "";
+    size_t cur_n = !curve && !o.from && !o.to ? cli_pd_newest_block(&f, cur_from) : 0;
+    if (cur_n)
+        snprintf(pooled, sizeof pooled,
+                 "these %zu trials from %s to %s span more than one block (trials within %d days): this fit pools "
+                 "them. domains, predict, solve and the sheets use the current block, the %zu trials from %s: "
+                 "cpdomain fit %s --from %s; cpdomain history %s shows every block",
+                 f.n, f.trials[0].date, f.trials[f.n - 1].date, CLI_PD_BLOCK_DAYS, cur_n, cur_from, f.athlete.code,
+                 cur_from, f.athlete.code);
 
     /* one JSON document per model: printed, and saved as the model's detail */
     cli_json *doc = cj_obj();
@@ -289,6 +300,9 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     cj_str(doc, "from", f.trials[0].date);
     cj_str(doc, "to", f.trials[f.n - 1].date);
     cj_str(doc, "source", curve ? "curve" : "trials");
+    cj_bool(doc, "pooled_blocks", cur_n > 0);
+    cj_str(doc, "current_block_from", cur_n ? cur_from : NULL);
+    cj_str(doc, "pooled_note", cur_n ? pooled : NULL);
     if (curve)
         cj_bool(doc, "field_estimate", 1);
     cli_json *models = cj_add_arr(doc, "models");
@@ -362,6 +376,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     } else {
         cj_free(doc);
         print_fit(&f, mask);
+        if (cur_n)
+            printf("\nnote: %s\n", pooled);
         if (curve)
             printf("\n%s\n", CLI_FIELD_ESTIMATE);
         printf("\nsaved as fit %lld\n", (long long)run.id);

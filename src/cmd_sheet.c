@@ -257,10 +257,14 @@ static void add_trend(cli_ctx *c, sheet_build *b)
             if (ch->valid)
                 snprintf(b->trend_text, sizeof b->trend_text,
                          "%zu blocks of trials within %d days. Newest change of %s: %+.*f %s (95 %% interval %+.*f to "
-                         "%+.*f): %s (the interval from the combined standard errors of the two fits%s).",
+                         "%+.*f %s, %s model in both blocks, Student's t with Welch-Satterthwaite dof): %s (smallest "
+                         "worthwhile change %.*f %s, %.1f %% of the earlier value: Hopkins 2004).",
                          nb, a.win, spd ? "CS" : "CP", spd ? 2 : 1, ch->delta, spd ? "m/s" : "W", spd ? 2 : 1, ch->ci95[0],
-                         spd ? 2 : 1, ch->ci95[1], ch->meaningful ? "meaningful" : "within the noise",
-                         ch->meaningful ? " excludes zero" : " includes zero");
+                         spd ? 2 : 1, ch->ci95[1], spd ? "m/s" : "W",
+                         ch->model_valid ? cpd_pd_model_name(ch->model) : "the same",
+                         ch->meaningful ? "meaningful" : ch->excludes_zero ? "a change, not clearly worthwhile"
+                                                                          : "within the noise",
+                         spd ? 2 : 1, ch->swc, spd ? "m/s" : "W", CPD_HISTORY_SWC_PCT);
             else
                 snprintf(b->trend_text, sizeof b->trend_text, "%zu blocks of trials within %d days.", nb, a.win);
             s->extra[s->nextra++] = (cpd_sheet_section){"season", "The season", b->trend_text, b->svg_trend};
