@@ -208,8 +208,11 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
             printf(", D' = %.0f m\n", m->w_prime);
         else
             printf(", W' = %.2f kJ\n", m->w_prime / 1000);
-        printf("  (lowest combined %%SEE among valid fits; the rule in full: cpdomain --json fit %s, key best_rule)\n",
-               f->athlete.code);
+        if (f->time_trials)
+            printf("  (%s)\n", CLI_TIME_TRIAL_RULE);
+        else
+            printf("  (lowest combined %%SEE among valid fits; the rule in full: cpdomain --json fit %s, key best_rule)\n",
+                   f->athlete.code);
 
         printf("\n%s, %s model:\n", f->from_curve ? "curve points" : "trials", cpd_pd_model_name(r->best));
         const char *th[] = {f->from_curve ? "session" : "id", "date", spd ? "speed" : "power", "duration", "residual", "resid %",
@@ -296,7 +299,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     cj_str(doc, "athlete", f.athlete.code);
     cj_str(doc, "modality", f.modality == CPD_PD_SPEED ? "speed" : "power");
     cj_str(doc, "best", r->has_best ? cpd_pd_model_name(r->best) : NULL);
-    cj_str(doc, "best_rule", cpd_pd_best_rule());
+    cj_str(doc, "best_rule", f.time_trials ? CLI_TIME_TRIAL_RULE : cpd_pd_best_rule());
+    cj_bool(doc, "time_trials", f.time_trials);
     cj_str(doc, "from", f.trials[0].date);
     cj_str(doc, "to", f.trials[f.n - 1].date);
     cj_str(doc, "source", curve ? "curve" : "trials");

@@ -1072,3 +1072,19 @@ int cpd_pd_time_near_cp(const cpd_pd_model_fit *m, double intensity, int *inside
     }
     return CPD_OK;
 }
+
+int cpd_pd_best_for_time_trials(cpd_pd_result *res)
+{
+    if (!res || res->modality != CPD_PD_SPEED)
+        return CPD_EUSAGE;
+    const cpd_pd_model_fit *f = &res->models[CPD_PD_LINEAR_TOTAL];
+    if (!qualifies(f) || !f->has_se)
+        return CPD_ENODATA;
+    unsigned old = res->has_best ? res->models[res->best].flags : 0;
+    res->has_best = 1;
+    res->best = CPD_PD_LINEAR_TOTAL;
+    /* the fit's overall flags follow the best model */
+    res->flags = (res->flags & ~old) | res->data_flags | f->flags;
+    res->flags &= ~CPD_PD_FLAG_NO_VALID_MODEL;
+    return CPD_OK;
+}

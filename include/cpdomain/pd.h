@@ -235,4 +235,16 @@ int cpd_pd_predict_distance_time(const cpd_pd_model_fit *m, double distance_m, c
  * pointers or an intensity that is not positive and finite. */
 int cpd_pd_time_near_cp(const cpd_pd_model_fit *m, double intensity, int *inside, double *t_lo);
 
+/* Time trials (distance fixed, time measured): the best model becomes the linear distance-time
+ * model D = CS·t + D′ (linear-total on speed: D = v·t), the published model for such data
+ * (swimming: Wakayoshi et al. 1992, from memory; the slope of the distance-time regression,
+ * Takahashi, Wakayoshi et al. 2002 Jpn J Biomech Sports Exerc 6:110; running: Smyth &
+ * Muniz-Pumares 2020 Med Sci Sports Exerc 52:2637). The other models regress on the mean speed
+ * D/t, which carries the timing error of t itself: the hyperbola's least squares on t then has its
+ * error on both sides and its interval is too narrow (on the demo swimmer it excluded the generating
+ * CS). Applies when that model qualifies (see cpd_pd_best_rule) and has standard errors. Returns
+ * CPD_OK, CPD_EUSAGE for NULL or a power fit, CPD_ENODATA when the model does not qualify (the
+ * best stays as it was). */
+int cpd_pd_best_for_time_trials(cpd_pd_result *res);
+
 #endif

@@ -60,3 +60,12 @@ expect 0 "solve in words" solve H1 --protocol "10min@140W; 4x(3min@?, 3min@120W)
 chk=$(sed -n 's/^check it: cpdomain predict H1 --protocol "\(.*\)"$/\1/p' "$TMP/out")
 expect 0 "the check" --json predict H1 --protocol "$chk" --model linear-inverse
 json_is "d['end_balance_j'] >= 0.10 * d['w_prime'] - 1e-6" True "the check line reproduces the answer (ends at or above the target)"
+
+# speed from time trials: the distance-time model is the best, and the demo swimmer's CS interval
+# covers the generating 1.32 m/s (demo/TRUTH.md); the hyperbola on the mean speed did not
+DEMO="$CPDOMAIN_TESTS/../demo/data"
+expect 0 "demo athletes" athlete import "$DEMO/athletes.csv"
+expect 0 "demo trials" trial import "$DEMO/trials.csv"
+expect 0 "the swimmer" --json fit S01
+json_is 'd["best"], d["time_trials"], "distance-time" in d["best_rule"]' "('linear-total', True, True)" "time trials: the distance-time model is the best"
+json_is '[m["cs_ci95"][0] <= 1.32 <= m["cs_ci95"][1] for m in d["models"] if m["model"] == d["best"]]' "[True]" "the swimmer's CS interval covers the generating 1.32 m/s"
