@@ -27,6 +27,7 @@ LIB_SRCS += src/plots.c
 LIB_SRCS += src/ramp.c
 LIB_SRCS += src/ramp_ci.c
 LIB_SRCS += src/lactate.c
+LIB_SRCS += src/lactate_ci.c
 LIB_SRCS += src/domains.c
 LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c

@@ -71,11 +71,11 @@ static void print_range(const cli_domains *d, const char *name, const cpd_domain
     else if (r->has_mass && r->has_lo)
         snprintf(wkg, sizeof wkg, "> %.2f W/kg", r->lo_w_kg);
     if (r->has_hr_lo && r->has_hr_hi)
-        snprintf(hr, sizeof hr, "HR %.0f-%.0f", r->hr_lo, r->hr_hi);
+        snprintf(hr, sizeof hr, "HR %.0f-%.0f bpm", r->hr_lo, r->hr_hi);
     else if (r->has_hr_hi)
-        snprintf(hr, sizeof hr, "HR < %.0f", r->hr_hi);
+        snprintf(hr, sizeof hr, "HR < %.0f bpm", r->hr_hi);
     else if (r->has_hr_lo)
-        snprintf(hr, sizeof hr, "HR > %.0f", r->hr_lo);
+        snprintf(hr, sizeof hr, "HR > %.0f bpm", r->hr_lo);
     if (strlen(name) > 9) /* the uncertain band: its label on a line of its own */
         printf("  %s (%s's 95 %% interval):\n  %-9s", name, d->fit.modality == CPD_PD_SPEED ? "CS" : "CP", "");
     else

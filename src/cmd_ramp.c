@@ -347,7 +347,7 @@ static void print_threshold(const char *name, const cpd_ramp_threshold *th, cons
     if (th->has_equiv)
         printf(", constant-%s equivalent %s %s", speed ? "speed" : "power", cli_num(n2, sizeof n2, th->equiv_intensity, dec), u);
     if (th->has_hr)
-        printf(", HR %.0f", th->hr_bpm);
+        printf(", HR %.0f bpm", th->hr_bpm);
     printf("\n     method: %s\n", th->method);
     if (th->status == CPD_THR_MANUAL) {
         if (autov->status == CPD_THR_NOT_FOUND)
