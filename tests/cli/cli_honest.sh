@@ -69,3 +69,10 @@ expect 0 "demo trials" trial import "$DEMO/trials.csv"
 expect 0 "the swimmer" --json fit S01
 json_is 'd["best"], d["time_trials"], "distance-time" in d["best_rule"]' "('linear-total', True, True)" "time trials: the distance-time model is the best"
 json_is '[m["cs_ci95"][0] <= 1.32 <= m["cs_ci95"][1] for m in d["models"] if m["model"] == d["best"]]' "[True]" "the swimmer's CS interval covers the generating 1.32 m/s"
+# the sheet: speeds inside CS's interval get a lower bound and "cannot tell", never a point time
+expect 0 "runner's sheet" sheet R01 --format json -o "$TMP/r01.json"
+got=$(/usr/bin/python3 -c "
+import json; d = json.load(open('$TMP/r01.json')); lo, hi = d['fit']['cs_ci95']
+rows = [r for r in d['time_at_speed'] if lo <= r['speed_m_s'] <= hi]
+print(len(rows) > 0 and all(r['time_to_failure_s'] is None and r['status'] == 'heavy or severe: the data cannot tell' and r['time_to_failure_at_least_s'] > 0 for r in rows))")
+[ "$got" = True ] && pass "sheet rows inside CS's interval: a lower bound, no time" || fail "sheet rows inside CS's interval: $got"
