@@ -484,9 +484,9 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cpd_format_duration(r->vo2peak_time_s, tm, sizeof tm);
         printf("VO2peak  %.0f mL/min", r->vo2peak_ml_min);
         if (ci.has_vo2peak_ci)
-            printf(" (95%% CI %.0f to %.0f mL/min)", ci.vo2peak_ci95[0], ci.vo2peak_ci95[1]);
+            printf(" (95%% CI %.0f to %.0f mL/min%s", ci.vo2peak_ci95[0], ci.vo2peak_ci95[1], r->has_relative ? "; " : ")");
         if (r->has_relative)
-            printf(" (%.1f mL/kg/min)", r->vo2peak_ml_kg_min);
+            printf("%s%.1f mL/kg/min)", ci.has_vo2peak_ci ? "" : " (", r->vo2peak_ml_kg_min);
         printf(" at %s, %s; peak %s %s\n", tm,
                r->plateau == 1 ? "with a plateau" : r->plateau == 0 ? "plateau not detected" : "plateau unknown",
                cli_num(n1, sizeof n1, r->peak_intensity, spd ? 2 : 0), u);
