@@ -3,35 +3,12 @@
  * carries exactly the rule behind its estimate. Nothing here changes an estimate. */
 #include "cpdomain/lactate.h"
 #include "cpdomain/status.h"
+#include "resample.h"
 
 #include <math.h>
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
-
-static uint64_t next_u64(uint64_t *s)
-{
-    /* splitmix64 (Steele, Lea & Flood 2014 OOPSLA, from memory): reproducible resamples */
-    uint64_t z = (*s += 0x9E3779B97F4A7C15ull);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
-    return z ^ (z >> 31);
-}
-
-static int cmp_dbl(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
-static double pct(const double *v, size_t n, double p)
-{
-    double h = p * (double)(n - 1);
-    size_t k = (size_t)floor(h);
-    if (k + 1 >= n)
-        return v[n - 1];
-    return v[k] + (h - (double)k) * (v[k + 1] - v[k]);
-}
 
 static double cubic(const double *c, double x)
 {
@@ -69,7 +46,7 @@ int cpd_lactate_ci_compute(const double *intensity, const double *lactate, size_
         rc = CPD_ENOMEM;
     for (size_t b = 0; b < n_boot && !rc; b++) {
         for (size_t i = 0; i < n; i++) {
-            double y = fit[i] + res[next_u64(&seed) % n];
+            double y = fit[i] + res[cpd_rs_next(&seed) % n];
             ys[i] = y < 0.05 ? 0.05 : y > 30 ? 30 : y; /* the analysis accepts 0 < la <= 30 */
         }
         if (cpd_lactate_analyse(intensity, ys, NULL, n, rb, NULL) != CPD_OK)
@@ -84,10 +61,11 @@ int cpd_lactate_ci_compute(const double *intensity, const double *lactate, size_
         out->n_used[k] = m[k];
         if (e[k]->status != CPD_LACTATE_FOUND || m[k] < n_boot / 2)
             continue;
-        qsort(v[k], m[k], sizeof(double), cmp_dbl);
+        double lo, hi;
+        cpd_rs_interval95(v[k], m[k], &lo, &hi);
         out->valid[k] = 1;
-        out->ci95[k][0] = fmin(pct(v[k], m[k], 0.025), e[k]->intensity);
-        out->ci95[k][1] = fmax(pct(v[k], m[k], 0.975), e[k]->intensity);
+        out->ci95[k][0] = fmin(lo, e[k]->intensity);
+        out->ci95[k][1] = fmax(hi, e[k]->intensity);
     }
     for (int k = 0; k < CPD_LACTATE_NCI; k++)
         free(v[k]);

@@ -4,6 +4,7 @@
  * equivalents (with the MRT's SE). Kept apart from ramp.c: nothing here changes an estimate. */
 #include "cpdomain/ramp.h"
 #include "cpdomain/status.h"
+#include "resample.h"
 
 #include <math.h>
 #include <stdint.h>
@@ -13,35 +14,10 @@
 #define CI_MIN_SEG 6       /* as ramp.c: fewest points on either side of a breakpoint */
 #define CI_NOISE_WIN_S 120 /* breath noise from the final 2 min of the ramp */
 
-static uint64_t next_u64(uint64_t *s)
-{
-    /* splitmix64 (Steele, Lea & Flood 2014 OOPSLA, from memory): reproducible resamples */
-    uint64_t z = (*s += 0x9E3779B97F4A7C15ull);
-    z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
-    z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
-    return z ^ (z >> 31);
-}
-
-static int cmp_dbl(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 static int cmp_sz(const void *a, const void *b)
 {
     size_t x = *(const size_t *)a, y = *(const size_t *)b;
     return (x > y) - (x < y);
-}
-
-/* Percentile p (0..1) of sorted v[0..n). */
-static double pct(const double *v, size_t n, double p)
-{
-    double h = p * (double)(n - 1);
-    size_t k = (size_t)floor(h);
-    if (k + 1 >= n)
-        return v[n - 1];
-    return v[k] + (h - (double)k) * (v[k + 1] - v[k]);
 }
 
 /* Case (pairs) bootstrap of a two-segment fit's crossing: the bins (x, y) are resampled with
@@ -61,7 +37,7 @@ static size_t boot_cross(const double *x, const double *y, size_t n, size_t min_
         goto done;
     for (size_t b = 0; b < n_boot; b++) {
         for (size_t i = 0; i < n; i++)
-            ix[i] = (size_t)(next_u64(seed) % n);
+            ix[i] = (size_t)(cpd_rs_next(seed) % n);
         qsort(ix, n, sizeof *ix, cmp_sz); /* x is sorted, so sorted indices keep it sorted */
         for (size_t i = 0; i < n; i++) {
             xs[i] = x[ix[i]];
@@ -76,9 +52,7 @@ static size_t boot_cross(const double *x, const double *y, size_t n, size_t min_
         m = 0;
         goto done;
     }
-    qsort(xc, m, sizeof *xc, cmp_dbl);
-    *lo = pct(xc, m, 0.025);
-    *hi = pct(xc, m, 0.975);
+    cpd_rs_interval95(xc, m, lo, hi);
 done:
     free(xs);
     free(ys);

@@ -13,6 +13,7 @@
 #include <string.h>
 #include <cmocka.h>
 #include "near.h"
+#include "rng.h"
 
 
 /* Every double of a result is finite (the "never NaN" rule). */
@@ -257,21 +258,8 @@ static void bad_input_is_refused(void **state)
 }
 
 /* Issue 12: the bootstrap intervals on 200 simulated step tests (8 stages of 25 W from 90 W, lactate
- * 0.7 + 0.09 e^((P - 90)/38) mmol/L, noise SD 0.15 mmol/L; splitmix64 + Box-Muller as tests/rng.h).
+ * 0.7 + 0.09 e^((P - 90)/38) mmol/L, noise SD 0.15 mmol/L; tests/rng.h).
  * The truth of each method is its answer on the noise-free stages (what the method estimates). */
-static double mc_norm(uint64_t *s)
-{
-    uint64_t z1 = (*s += 0x9E3779B97F4A7C15ull), z2 = (*s += 0x9E3779B97F4A7C15ull);
-    z1 = (z1 ^ (z1 >> 30)) * 0xBF58476D1CE4E5B9ull;
-    z1 = (z1 ^ (z1 >> 27)) * 0x94D049BB133111EBull;
-    z1 ^= z1 >> 31;
-    z2 = (z2 ^ (z2 >> 30)) * 0xBF58476D1CE4E5B9ull;
-    z2 = (z2 ^ (z2 >> 27)) * 0x94D049BB133111EBull;
-    z2 ^= z2 >> 31;
-    double u1 = ((double)(z1 >> 11) + 0.5) / 9007199254740992.0, u2 = ((double)(z2 >> 11) + 0.5) / 9007199254740992.0;
-    return sqrt(-2 * log(u1)) * cos(6.283185307179586 * u2);
-}
-
 static void thresholds_have_intervals(void **state)
 {
     (void)state;
@@ -283,11 +271,11 @@ static void thresholds_have_intervals(void **state)
     cpd_lactate_result r0, r;
     assert_int_equal(cpd_lactate_analyse(x, y0, NULL, 8, &r0, NULL), CPD_OK);
     const cpd_lactate_value *t0[4] = {&r0.lt1, &r0.dmax, &r0.dmax_mod, &r0.obla};
-    uint64_t seed = 0x1ac7a7eull;
+    rng g = {.s = 0x1ac7a7eull};
     int hit[4] = {0}, n[4] = {0};
     for (int k = 0; k < 200; k++) {
         for (int i = 0; i < 8; i++)
-            y[i] = fmax(0.1, y0[i] + 0.15 * mc_norm(&seed));
+            y[i] = fmax(0.1, y0[i] + 0.15 * rng_normal(&g));
         assert_int_equal(cpd_lactate_analyse(x, y, NULL, 8, &r, NULL), CPD_OK);
         cpd_lactate_ci ci;
         assert_int_equal(cpd_lactate_ci_compute(x, y, 8, &r, 200, (uint64_t)k, &ci), CPD_OK);
