@@ -72,6 +72,7 @@ void cli_domains_json(cli_json *doc, const cli_domains *d)
         range_json(cj_add_obj(t, "heavy_or_severe"), d, &r->uncertain);
     cj_num(doc, spd ? "heavy_ceiling_m_s" : "heavy_ceiling_w", r->heavy_ceiling);
     cj_num(doc, "time_to_vo2max_s", r->t_vo2max_s);
+    cj_num(doc, "time_to_vo2max_se_s", r->t_vo2max_se_s > 0 ? r->t_vo2max_se_s : NAN);
     cli_json *ef = cj_add_arr(doc, "severe_efforts");
     for (int k = 0; k < CPD_DOMAINS_NEFFORTS; k++) {
         const cpd_domain_effort *e = &r->effort[k];

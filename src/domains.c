@@ -157,6 +157,7 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
     if (in->has_t_vo2max && in->t_vo2max_s > 0) {
         out->t_vo2max_s = in->t_vo2max_s;
         t_se = in->t_vo2max_se_s > 0 ? in->t_vo2max_se_s : 0;
+        out->t_vo2max_se_s = t_se;
         snprintf(se->source, sizeof se->source, "%s: primary VO2 tau %.0f s, delay %.0f s", in->tau_source, in->tau_s,
                  in->delay_s);
         snprintf(se->method, sizeof se->method,

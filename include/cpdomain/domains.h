@@ -106,6 +106,7 @@ typedef struct {
     cpd_domain_range uncertain;        /* CP's 95 % interval: heavy or severe, the data cannot tell */
     double heavy_ceiling;              /* highest intensity advised for heavy-domain work: CP's lower 95 % bound */
     double t_vo2max_s;                 /* time to reach VO2max used for the severe-extreme boundary, s */
+    double t_vo2max_se_s;              /* its standard error, s; 0 when assumed or unknown */
     cpd_domain_effort effort[CPD_DOMAINS_NEFFORTS];
     int has_delta;                     /* 1 when GET and peak give the %delta intensities */
     double delta_pct[CPD_DOMAINS_NDELTA];   /* 25, 50, 75 */
