@@ -2,6 +2,7 @@
 #include "cpdomain/allout.h"
 #include "cpdomain/status.h"
 
+#include <gsl/gsl_cdf.h>
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
@@ -72,6 +73,19 @@ int cpd_allout_analyse(const double *power_w, size_t n, size_t start_s, cpd_allo
         r->end_cv_pct = 100 * sqrt(ss / CPD_ALLOUT_END_S) / ep;
     }
 
+    {
+        double se = sqrt(ss / (CPD_ALLOUT_END_S - 1)) / sqrt((double)CPD_ALLOUT_END_S);
+        double q = gsl_cdf_tdist_Pinv(0.975, CPD_ALLOUT_END_S - 1);
+        size_t above = 0;
+        for (size_t i = 0; i < T; i++)
+            above += p[i] > ep;
+        r->end_power_se_w = se;
+        r->end_power_ci95[0] = ep - q * se;
+        r->end_power_ci95[1] = ep + q * se;
+        r->work_above_se_j = (double)above * se;
+        r->work_above_ci95[0] = r->work_above_end_j - q * r->work_above_se_j;
+        r->work_above_ci95[1] = r->work_above_end_j + q * r->work_above_se_j;
+    }
     if (r->peak_at_s >= CPD_ALLOUT_PEAK_BY_S)
         r->flags |= CPD_ALLOUT_FLAG_LATE_PEAK;
     if (!(r->first30_mean_w > CPD_ALLOUT_PACED_RATIO * ep))

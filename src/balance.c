@@ -26,8 +26,8 @@ const char *cpd_balance_model_name(cpd_balance_model m)
         return "differential";
     case CPD_BALANCE_INTEGRAL:
         return "integral";
-    case CPD_BALANCE_ELITE:
-        return "elite";
+    case CPD_BALANCE_BARTRAM:
+        return "bartram";
     }
     return NULL;
 }
@@ -37,6 +37,10 @@ int cpd_balance_model_parse(const char *name, cpd_balance_model *m)
     static const cpd_balance_model all[] = {CPD_BALANCE_DIFFERENTIAL, CPD_BALANCE_INTEGRAL, CPD_BALANCE_ELITE};
     if (!name)
         return CPD_EUSAGE;
+    if (strcmp(name, "elite") == 0) { /* the former name, named after a judgement rather than its authors */
+        *m = CPD_BALANCE_BARTRAM;
+        return CPD_OK;
+    }
     for (size_t i = 0; i < sizeof all / sizeof all[0]; i++)
         if (strcmp(name, cpd_balance_model_name(all[i])) == 0) {
             *m = all[i];

@@ -77,6 +77,17 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         snprintf(in->get_date, sizeof in->get_date, "%s", t.date);
         in->has_hr_get = g->has_hr;
         in->hr_get = g->hr_bpm;
+        cpd_ramp_ci ci;
+        cpd_ramp_opts ro; /* the options cli_ramp_analyse used without command-line overrides */
+        cpd_ramp_opts_init(&ro);
+        ro.rate_per_min = t.rate_per_min;
+        ro.start = t.start;
+        if (g->status == CPD_THR_FOUND && cpd_ramp_ci_compute(w, r, &ro, 200, (uint64_t)id, &ci) == CPD_OK &&
+            ci.get.valid && ci.get.has_equiv) {
+            in->has_get_ci = 1;
+            in->get_ci95[0] = ci.get.equiv_ci95[0];
+            in->get_ci95[1] = ci.get.equiv_ci95[1];
+        }
     } else if (g->status != CPD_THR_NOT_FOUND)
         d->ramp_mrt_missing = 1;
     else if (g->reason == CPD_RAMP_R_NO_VCO2)
@@ -123,8 +134,8 @@ static int add_lactate(cli_ctx *c, cli_domains *d)
     return 0;
 }
 
-/* The primary time constant of the newest bout whose response was severe (the VO2 kinetics that
- * set the time to reach VO2max: Ozkaya et al. 2025 use severe-domain kinetics). Quiet when none. */
+/* The time to reach VO2max from the newest bout above CP whose response was severe (delay + 4 tau
+ * of its primary component, cpd_kinetics_time_to_vo2max). Quiet when none. */
 static void add_tau(cli_ctx *c, cli_domains *d)
 {
     cpd_gx_test *v = NULL;
@@ -142,9 +153,14 @@ static void add_tau(cli_ctx *c, cli_domains *d)
         char id[32];
         snprintf(id, sizeof id, "%lld", (long long)v[i].id);
         /* a bout that cannot be analysed is skipped; its own command says why */
-        if (cli_bout_analyse(c, id, r) == 0 && r->domain == CPD_KIN_SEVERE && r->primary.tau_s > 0) {
-            d->in.has_tau = 1;
-            d->in.tau_s = r->primary.tau_s;
+        cpd_kinetics_tvo2max tv;
+        if (cli_bout_analyse(c, id, r) == 0 && r->domain == CPD_KIN_SEVERE &&
+            cpd_kinetics_time_to_vo2max(r, &tv) == CPD_OK) {
+            d->in.has_tau = d->in.has_t_vo2max = 1;
+            d->in.tau_s = tv.tau_s;
+            d->in.delay_s = tv.delay_s;
+            d->in.t_vo2max_s = tv.t_s;
+            d->in.t_vo2max_se_s = tv.se_s;
             snprintf(d->in.tau_source, sizeof d->in.tau_source, "bout %s (%.0f %s)", id, v[i].intensity,
                      want_speed ? "m/s" : "W");
             snprintf(d->in.tau_date, sizeof d->in.tau_date, "%s", v[i].date);

@@ -71,13 +71,17 @@ void cli_domains_json(cli_json *doc, const cli_domains *d)
     cli_json *t = cj_add_obj(doc, "targets");
     for (int k = 0; k < CPD_DOM_N; k++)
         range_json(cj_add_obj(t, cpd_domain_name((cpd_domain)k)), d, &r->range[k]);
+    if (r->has_uncertain) /* CP's 95 % interval: heavy or severe, the data cannot tell */
+        range_json(cj_add_obj(t, "heavy_or_severe"), d, &r->uncertain);
     cj_num(doc, spd ? "heavy_ceiling_m_s" : "heavy_ceiling_w", r->heavy_ceiling);
     cj_num(doc, "time_to_vo2max_s", r->t_vo2max_s);
+    cj_num(doc, "time_to_vo2max_se_s", r->t_vo2max_se_s > 0 ? r->t_vo2max_se_s : NAN);
     cli_json *ef = cj_add_arr(doc, "severe_efforts");
     for (int k = 0; k < CPD_DOMAINS_NEFFORTS; k++) {
         const cpd_domain_effort *e = &r->effort[k];
         cli_json *o2 = cj_obj();
         cj_num(o2, "time_to_failure_s", e->duration_s);
+        cj_bool(o2, "beyond_severe", e->beyond_severe);
         cj_num(o2, ikey, e->valid ? e->value : NAN);
         cj_pair(o2, "ci95", e->valid && e->has_ci ? e->ci95[0] : NAN, e->ci95[1]);
         cj_push(ef, o2);

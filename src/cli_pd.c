@@ -98,6 +98,12 @@ int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *
     char msg[CPD_MSG_MAX] = "";
     rc = w ? cpd_pd_fit(w, f->modality, f->x, f->t, f->n, &o, f->res, msg) : CPD_ENOMEM;
     cpd_pd_free(w);
+    /* time trials over set distances: the distance-time model has the right error structure */
+    size_t nd = 0;
+    for (size_t i = 0; i < f->n; i++)
+        nd += f->trials[i].kind == CPD_TRIAL_DISTANCE;
+    if (!rc && f->modality == CPD_PD_SPEED && nd == f->n && (mask & CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL)))
+        f->time_trials = cpd_pd_best_for_time_trials(f->res) == CPD_OK;
     if (rc) {
         int ex = cli_fail(c, rc, "fitting %s: %s", code, msg[0] ? msg : cpd_strerror(rc));
         cli_pd_fit_free(f);

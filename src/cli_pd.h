@@ -15,6 +15,7 @@ typedef struct {
     size_t skipped_other; /* trials of the other modality left out */
     cpd_pd_result *res;   /* the fit */
     int from_curve;       /* 1: the points come from the mean-maximal curve (trials[i].id is a session id) */
+    int time_trials;      /* 1: every trial a time trial over a distance: best = distance-time (linear-total) */
 } cli_pd_fit;
 
 /* Loads the athlete's trials that are not excluded, dated within [from, to] (either may be NULL),
@@ -23,6 +24,13 @@ typedef struct {
  * 2 trials 69). The caller frees f with cli_pd_fit_free. */
 int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f);
 void cli_pd_fit_free(cli_pd_fit *f);
+
+/* The best-model rule for time trials over set distances (cpd_pd_best_for_time_trials). */
+#define CLI_TIME_TRIAL_RULE                                                                                    \
+    "time trials over set distances: the linear distance-time model D = CS t + D' (linear-total), the "        \
+    "published model for such data (Wakayoshi et al. 1992, from memory; Takahashi, Wakayoshi et al. 2002 Jpn " \
+    "J Biomech Sports Exerc 6:110); the other models regress on the mean speed D/t, which carries the error "  \
+    "of the measured time"
 
 /* Trials within this many days of the newest one form the newest block (the history's window). */
 #define CLI_PD_BLOCK_DAYS 28
@@ -86,7 +94,12 @@ typedef struct {
     void (*json_extra)(cli_json *d, const void *ud); /* adds keys to the JSON document, or NULL */
     const void *ud;
     const char *trace_path;          /* --trace file, or NULL */
+    int completed;                   /* 1: a recorded session the athlete completed (no "task failure") */
 } cli_balance_input;
+
+#define CLI_NBALANCE 3 /* recovery models reported side by side */
+#define CLI_COMPLETED_BELOW_ZERO                                                                               \
+    "the athlete finished it, so CP or W' is probably out of date (too low); retest, or fit the newest trials"
 
 /* Runs balance model bm over in->x with fitted model m and prints the SPEC keys (JSON) or the
  * report with one table row per part; writes the trace when asked. Returns an exit code. */

@@ -598,7 +598,7 @@ static void run_check(cli_ctx *c, bout_run *r)
         return;
     }
     r->checked = 1;
-    r->check_rc = cpd_kinetics_verify_domain(r->res.domain, r->intensity, r->get, r->cp, &r->chk);
+    r->check_rc = cpd_kinetics_verify_bout(r->res.domain, r->res.end_s, r->intensity, r->get, r->cp, &r->chk);
 }
 
 /* The rule behind the domain in words. */
@@ -840,6 +840,18 @@ static int show_json(cli_ctx *c, const bout_run *r)
         cj_num(s, "asymptote_ml_min", k->slow.asymptote_ml_min);
     } else
         cj_null(d, "slow");
+    cpd_kinetics_tvo2max tv;
+    if (k->domain == CPD_KIN_SEVERE && cpd_kinetics_time_to_vo2max(k, &tv) == CPD_OK) {
+        /* what the severe-extreme boundary uses (cpd_kinetics_time_to_vo2max) */
+        cli_json *v = cj_add_obj(d, "time_to_vo2max");
+        cj_str(v, "fit", tv.fit);
+        cj_num(v, "tau_s", tv.tau_s);
+        cj_num(v, "tau_se_s", tv.tau_se_s);
+        cj_num(v, "delay_s", tv.delay_s);
+        cj_num(v, "time_s", tv.t_s);
+        cj_num(v, "se_s", tv.se_s);
+    } else
+        cj_null(d, "time_to_vo2max");
     cj_num(d, "delta_6_3_ml_min", k->delta_valid ? k->delta_6_3_ml_min : NAN);
     cj_num(d, "end_vo2_ml_min", k->end_vo2_ml_min);
     cj_num(d, "mrt_s", k->primary.mrt_s);
@@ -978,6 +990,11 @@ static void show_text(const bout_run *r)
                k->slow.amplitude_se_ml_min, k->slow.delay_s, k->slow.tau_s, sc);
     else
         printf("slow       none supported: %s\n", sc);
+    cpd_kinetics_tvo2max tv;
+    if (k->domain == CPD_KIN_SEVERE && cpd_kinetics_time_to_vo2max(k, &tv) == CPD_OK)
+        printf("VO2max     reached after about delay + 4 tau = %.0f s (SE %.0f s; tau %.1f s, delay %.1f s of the %s "
+               "primary): sets the severe-extreme boundary\n", tv.t_s, tv.se_s, tv.tau_s, tv.delay_s,
+               strcmp(tv.fit, "bi") == 0 ? "bi-exponential" : "mono-exponential");
     if (k->delta_valid)
         printf("delta 6-3  %.0f mL/min\n", k->delta_6_3_ml_min);
     else

@@ -17,6 +17,11 @@ static const char HELP[] =
     "                  equivalent (ramp power - rate x MRT), or the lactate LT1 without a ramp\n"
     "  heavy-severe    critical power (speed) of the best fit, with its 95 % interval\n"
     "  severe-extreme  the power whose predicted time to failure equals the time to reach VO2max\n"
+    "                  (delay + 4 tau of the newest severe bout, else about 100 s; Hill, Poole &\n"
+    "                  Smith 2002), its interval carrying both CP's and tau's uncertainty\n"
+    "Between CP's 95 % bounds the data cannot tell heavy from severe: that band is shown as such,\n"
+    "and the severe targets start at CP's upper bound; severe efforts are listed only inside the\n"
+    "severe domain.\n"
     "Then targets per domain (W, % of CP, W/kg, pace, heart rate from the ramp), heavy work kept below\n"
     "the lower 95 % bound of CP, severe efforts for 2-12 min with intervals, and 25/50/75 %delta.\n"
     "A boundary whose data are older than --stale-days (default 56) or that a newer block of\n"
@@ -71,12 +76,16 @@ static void print_range(const cli_domains *d, const char *name, const cpd_domain
     else if (r->has_mass && r->has_lo)
         snprintf(wkg, sizeof wkg, "> %.2f W/kg", r->lo_w_kg);
     if (r->has_hr_lo && r->has_hr_hi)
-        snprintf(hr, sizeof hr, "HR %.0f-%.0f", r->hr_lo, r->hr_hi);
+        snprintf(hr, sizeof hr, "HR %.0f-%.0f bpm", r->hr_lo, r->hr_hi);
     else if (r->has_hr_hi)
-        snprintf(hr, sizeof hr, "HR < %.0f", r->hr_hi);
+        snprintf(hr, sizeof hr, "HR < %.0f bpm", r->hr_hi);
     else if (r->has_hr_lo)
-        snprintf(hr, sizeof hr, "HR > %.0f", r->hr_lo);
-    printf("  %-9s %-40s %-11s %-17s %s\n", name, span, pct, wkg, hr);
+        snprintf(hr, sizeof hr, "HR > %.0f bpm", r->hr_lo);
+    if (strlen(name) > 9) /* the uncertain band: its label on a line of its own */
+        printf("  %s (%s's 95 %% interval):\n  %-9s", name, d->fit.modality == CPD_PD_SPEED ? "CS" : "CP", "");
+    else
+        printf("  %-9s", name);
+    printf(" %-40s %-11s %-17s %s\n", span, pct, wkg, hr);
 }
 
 int cmd_domains(cli_ctx *c, int argc, char **argv)
@@ -139,8 +148,11 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
                 printf("  %-15s stale: %s\n", "", x->stale_why);
         }
         printf("\ntargets (%% of %s%s):\n", spd ? "CS" : "CP", d.fit.athlete.has_mass && !spd ? ", W/kg" : "");
-        for (int k = 0; k < CPD_DOM_N; k++)
+        for (int k = 0; k < CPD_DOM_N; k++) {
             print_range(&d, cpd_domain_name((cpd_domain)k), &r->range[k]);
+            if (k == CPD_DOM_HEAVY && r->has_uncertain)
+                print_range(&d, "heavy or severe: the data cannot tell", &r->uncertain);
+        }
         printf("  heavy-domain work is capped at %s, the lower 95 %% bound of %s\n", cli_domains_fmt(&d, r->heavy_ceiling, v, sizeof v),
                spd ? "CS" : "CP");
         printf("\nsevere efforts (held to task failure):\n");
@@ -148,6 +160,10 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
             const cpd_domain_effort *e = &r->effort[k];
             char t[16];
             cpd_format_duration(e->duration_s, t, sizeof t);
+            if (e->beyond_severe) {
+                printf("  %5s  -  (beyond the severe-extreme boundary: extreme domain)\n", t);
+                continue;
+            }
             if (!e->valid) {
                 printf("  %5s  -\n", t);
                 continue;

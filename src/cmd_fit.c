@@ -42,7 +42,7 @@ static const char HELP_PREDICT[] =
     "  --distance M              runners and swimmers: the predicted time for the distance\n"
     "  --protocol SPEC           the W' (D') balance through a session, second by second: its lowest\n"
     "                            point, the end balance and the predicted failure time, if any;\n"
-    "                            --balance-model differential (default), integral or elite;\n"
+    "                            --balance-model differential (default), integral or bartram;\n"
     "                            --trace writes time_s,intensity,balance per second to a CSV file\n"
     "                            SPEC: DURATION@INTENSITY segments separated by ';' or ',', Nx(...)\n"
     "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n"
@@ -208,8 +208,11 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
             printf(", D' = %.0f m\n", m->w_prime);
         else
             printf(", W' = %.2f kJ\n", m->w_prime / 1000);
-        printf("  (lowest combined %%SEE among valid fits; the rule in full: cpdomain --json fit %s, key best_rule)\n",
-               f->athlete.code);
+        if (f->time_trials)
+            printf("  (%s)\n", CLI_TIME_TRIAL_RULE);
+        else
+            printf("  (lowest combined %%SEE among valid fits; the rule in full: cpdomain --json fit %s, key best_rule)\n",
+                   f->athlete.code);
 
         printf("\n%s, %s model:\n", f->from_curve ? "curve points" : "trials", cpd_pd_model_name(r->best));
         const char *th[] = {f->from_curve ? "session" : "id", "date", spd ? "speed" : "power", "duration", "residual", "resid %",
@@ -279,16 +282,31 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
                     : cli_pd_load_fit(c, argv[first], o.from, o.to, mask, &f)))
         return rc;
     const cpd_pd_result *r = f.res;
+    /* without dates over several blocks the fit pools them: say so, and name the current block that
+     * domains, predict, solve and the sheets use */
+    char cur_from[11] = "", pooled[320] = "";
+    size_t cur_n = !curve && !o.from && !o.to ? cli_pd_newest_block(&f, cur_from) : 0;
+    if (cur_n)
+        snprintf(pooled, sizeof pooled,
+                 "these %zu trials from %s to %s span more than one block (trials within %d days): this fit pools "
+                 "them. domains, predict, solve and the sheets use the current block, the %zu trials from %s: "
+                 "cpdomain fit %s --from %s; cpdomain history %s shows every block",
+                 f.n, f.trials[0].date, f.trials[f.n - 1].date, CLI_PD_BLOCK_DAYS, cur_n, cur_from, f.athlete.code,
+                 cur_from, f.athlete.code);
 
     /* one JSON document per model: printed, and saved as the model's detail */
     cli_json *doc = cj_obj();
     cj_str(doc, "athlete", f.athlete.code);
     cj_str(doc, "modality", f.modality == CPD_PD_SPEED ? "speed" : "power");
     cj_str(doc, "best", r->has_best ? cpd_pd_model_name(r->best) : NULL);
-    cj_str(doc, "best_rule", cpd_pd_best_rule());
+    cj_str(doc, "best_rule", f.time_trials ? CLI_TIME_TRIAL_RULE : cpd_pd_best_rule());
+    cj_bool(doc, "time_trials", f.time_trials);
     cj_str(doc, "from", f.trials[0].date);
     cj_str(doc, "to", f.trials[f.n - 1].date);
     cj_str(doc, "source", curve ? "curve" : "trials");
+    cj_bool(doc, "pooled_blocks", cur_n > 0);
+    cj_str(doc, "current_block_from", cur_n ? cur_from : NULL);
+    cj_str(doc, "pooled_note", cur_n ? pooled : NULL);
     if (curve)
         cj_bool(doc, "field_estimate", 1);
     cli_json *models = cj_add_arr(doc, "models");
@@ -362,6 +380,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
     } else {
         cj_free(doc);
         print_fit(&f, mask);
+        if (cur_n)
+            printf("\nnote: %s\n", pooled);
         if (curve)
             printf("\n%s\n", CLI_FIELD_ESTIMATE);
         printf("\nsaved as fit %lld\n", (long long)run.id);
@@ -372,6 +392,17 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
 
 /* The domain of a constant intensity against the athlete's boundaries (domains module, same
  * model and dates); without a GET on file, below CP is "moderate-or-heavy". */
+#define CLI_CANNOT_TELL "heavy or severe: the data cannot tell"
+#define CLI_NEAR_CP_NOTE                                                                                      \
+    "the intensity lies inside the 95 % interval of the critical intensity: it may be sustainable for a long "  \
+    "time (heavy domain) or lead to task failure (severe); the lower bound takes the critical intensity at its " \
+    "lower 95 % bound. Do not plan on the point estimate"
+#define CLI_RUN_LONG_S 1800.0 /* running predictions beyond about 30 min carry the long-event caution */
+#define CLI_RUN_LONG_CAUTION                                                                                   \
+    "in running events longer than about 30 min the sustainable speed falls below CS (recreational "          \
+    "marathoners ran their marathon below their CS: Smyth & Muniz-Pumares 2020 Med Sci Sports Exerc "     \
+    "52:2637); the CS model does not predict such events"
+
 static const char *domain_of(cli_ctx *c, const cli_pd_fit *f, cpd_pd_model which, const char *from, const char *to,
                              const cpd_pd_model_fit *m, double x)
 {
@@ -385,7 +416,10 @@ static const char *domain_of(cli_ctx *c, const cli_pd_fit *f, cpd_pd_model which
     if (rc)
         return x > m->cp ? "severe" : "moderate-or-heavy";
     cpd_domain k = cpd_domains_classify(&d.res, x);
+    int band = d.res.has_uncertain && x >= d.res.uncertain.lo && x <= d.res.uncertain.hi;
     cli_domains_free(&d);
+    if (band)
+        return CLI_CANNOT_TELL;
     return k == CPD_DOM_N ? "moderate-or-heavy" : cpd_domain_name(k);
 }
 
@@ -487,10 +521,28 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
         cli_pd_fit_free(&f);
         return ex;
     }
+    /* inside CP's 95 % interval the time has a lower bound and no upper one */
+    int near_cp = 0;
+    double t_lo = 0;
+    if ((o.power || o.speed) && cpd_pd_time_near_cp(m, q, &near_cp, &t_lo) == CPD_OK && near_cp) {
+        p.valid = 0;
+        p.ci_valid = 0;
+    }
+    /* running beyond about 30 min: the sustainable speed falls below CS in long events, so a time
+     * from CS + D' (or a speed for a long duration) is optimistic: no such time is printed as a prediction */
+    int run_long = 0;
+    if (spd && strcmp(f.athlete.sport, "running") == 0 && !near_cp) {
+        double tt = o.duration ? q : p.valid ? p.value : NAN;
+        if (isfinite(tt) && tt > CLI_RUN_LONG_S)
+            run_long = 1;
+    }
+    double run_bound = o.distance && run_long ? p.value : NAN;
+    if (o.distance && run_long)
+        p.valid = p.ci_valid = 0;
     /* a prediction whose duration lies outside the trials is an extrapolation: say so */
     char extrap[200] = "";
     double tq = o.duration ? q : p.valid ? p.value : NAN;
-    if (isfinite(tq) && !o.distance) {
+    if (isfinite(tq)) {
         double tlo = f.t[0], thi = f.t[0];
         for (size_t i = 1; i < f.n; i++) {
             tlo = fmin(tlo, f.t[i]);
@@ -517,7 +569,8 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             cj_num(d, ikey, q);
             cj_num(d, "time_to_failure_s", p.valid ? p.value : NAN);
             cj_pair(d, "time_to_failure_ci95", p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
-            cj_str(d, "domain", domain_of(c, &f, which, o.from, o.to, m, q));
+            cj_num(d, "time_to_failure_at_least_s", near_cp && t_lo > 0 ? t_lo : NAN);
+            cj_str(d, "domain", near_cp ? CLI_CANNOT_TELL : domain_of(c, &f, which, o.from, o.to, m, q));
         } else if (o.duration) {
             char ck[32];
             snprintf(ck, sizeof ck, "%s_ci95", ikey);
@@ -528,8 +581,12 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             cj_num(d, "distance_m", q);
             cj_num(d, "time_s", p.valid ? p.value : NAN);
             cj_pair(d, "time_ci95", p.valid && p.ci_valid ? p.ci95[0] : NAN, p.ci95[1]);
+            cj_num(d, "time_at_least_s", run_bound);
         }
-        cj_str(d, "note", p.valid ? (extrap[0] ? extrap : NULL) : cpd_pd_pred_text(p.status));
+        cj_bool(d, "extrapolated", extrap[0] != 0);
+        cj_str(d, "long_run_caution", run_long ? CLI_RUN_LONG_CAUTION : NULL);
+        cj_str(d, "note", near_cp ? CLI_NEAR_CP_NOTE
+                          : p.valid || run_long ? (extrap[0] ? extrap : NULL) : cpd_pd_pred_text(p.status));
         cli_pd_flags_json(cj_add_arr(d, "flags"), r->flags | m->flags, f.modality);
         cj_str(d, "caution", CLI_CAUTION);
         rc = cj_print(d);
@@ -549,6 +606,17 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                     printf(" (95%% interval %s to %s)", a, b);
                 }
                 printf(", %s domain\n", domain_of(c, &f, which, o.from, o.to, m, q));
+            } else if (near_cp) {
+                printf("at %s: %s (inside %s's 95%% interval %s to %s)\n", v, CLI_CANNOT_TELL, spd ? "CS" : "CP",
+                       fmt_intensity(&f, m->cp_ci95[0], a, sizeof a), fmt_intensity(&f, m->cp_ci95[1], b, sizeof b));
+                if (t_lo >= 120) /* whole minutes, rounded down: a bound, not an estimate */
+                    printf("time to task failure: at least about %.0f min, no upper bound\n", floor(t_lo / 60));
+                else if (t_lo > 0) {
+                    cpd_format_duration(t_lo, a, sizeof a);
+                    printf("time to task failure: at least about %s, no upper bound\n", a);
+                } else
+                    printf("time to task failure: no bound can be given\n");
+                printf("note: %s\n", CLI_NEAR_CP_NOTE);
             } else
                 printf("at %s: %s\n", v, cpd_pd_pred_text(p.status));
         } else if (o.duration) {
@@ -571,9 +639,15 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                     printf(" (95%% interval %s to %s)", a, b);
                 }
                 printf("\n");
+            } else if (run_long) {
+                cpd_format_duration(run_bound, a, sizeof a);
+                printf("%.0f m: no time is predicted (it would take more than 30 min); running at CS the whole way "
+                       "would take %s, and the real time is longer\n", q, a);
             } else
                 printf("%.0f m: %s\n", q, cpd_pd_pred_text(p.status));
         }
+        if (run_long)
+            printf("caution: %s\n", CLI_RUN_LONG_CAUTION);
         if (extrap[0])
             printf("note: %s\n", extrap);
         if (r->flags | m->flags) {

@@ -14,17 +14,22 @@
 #include <sysexits.h>
 
 static const char HELP[] =
-    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME]\n\n"
+    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME] [--swc PCT]\n\n"
     "The season: the power-duration fit of every block of trials (a block holds the trials within\n"
     "--window days, default 28, of its first trial), the GET and VO2peak of the ramp nearest each\n"
-    "block, and each change from one block to the next with its 95 % interval. A change of CP or W'\n"
-    "is meaningful when its interval, from the combined standard errors of the two fits, excludes\n"
-    "zero; GET and VO2peak changes use typical errors of 6 % and 3 % (common practice, from memory).\n"
-    "--all prints the team: the newest block of every athlete and its change.\n\n"
+    "block, and each change from one block to the next with its 95 % interval. CP and W' of both\n"
+    "blocks come from the same model (the better of those both support: lowest summed %SEE), and the\n"
+    "interval is Student's t with the Welch-Satterthwaite degrees of freedom of the two fits. GET and\n"
+    "VO2peak changes use typical errors of 6 % and 3 % (common practice, from memory). A change is\n"
+    "meaningful when its interval lies wholly beyond the smallest worthwhile change, --swc PCT of the\n"
+    "earlier value (default 4.6 %: 0.2 x the between-athlete SD of CP, Hopkins 2004 Sportscience 8:1,\n"
+    "with the SD of Johnson et al. 2011 Med Sci Sports Exerc 43: 47 W of 206 W).\n"
+    "--all prints the team: the current CP (the fit domains, predict and the sheets use) and the\n"
+    "newest change of every athlete.\n\n"
     "examples:\n  cpdomain history C02\n  cpdomain --json history --all --window 35\n";
 
 typedef struct {
-    const char *window, *model;
+    const char *window, *model, *swc;
     int all;
 } hist_opts;
 
@@ -35,6 +40,7 @@ static int hist_opt(int opt, const char *arg, void *ud)
     case 'w': o->window = arg; break;
     case 'm': o->model = arg; break;
     case 'a': o->all = 1; break;
+    case 's': o->swc = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -125,6 +131,10 @@ static void change_json(cli_json *o, const char *key, const cpd_history_change *
     cj_num(x, "delta", ch->delta);
     cj_pair(x, "ci95", ch->ci95[0], ch->ci95[1]);
     cj_bool(x, "meaningful", ch->meaningful);
+    cj_num(x, "swc", ch->swc);
+    cj_bool(x, "excludes_zero", ch->excludes_zero);
+    cj_num(x, "df", ch->df > 0 ? ch->df : NAN);
+    cj_str(x, "model", ch->model_valid ? cpd_pd_model_name(ch->model) : NULL);
 }
 
 static void block_json(cli_json *o, const cli_history *a, const cpd_history_block *b)
@@ -155,7 +165,7 @@ static void block_json(cli_json *o, const cli_history *a, const cpd_history_bloc
 
 static const char *verdict(const cpd_history_change *c)
 {
-    return !c->valid ? "" : c->meaningful ? "meaningful" : "within noise";
+    return !c->valid ? "" : c->meaningful ? "meaningful" : c->excludes_zero ? "not clearly worthwhile" : "within noise";
 }
 
 static void print_history(const cli_history *a)
@@ -189,9 +199,14 @@ static void print_history(const cli_history *a)
         cli_table_row(t, row);
     }
     cli_table_print(t);
+    printf("(CP per block from its own best model; each change from the model both blocks support best)\n");
     for (size_t k = 1; k < a->h->nblocks; k++) {
         const cpd_history_block *b = &a->h->block[k];
         printf("block %zu against the one before:", k + 1);
+        if (b->d_cp.valid && b->d_cp.model_valid)
+            printf(" %s %+.*f %s by the %s model in both%s%.1f);", spd ? "CS" : "CP", spd ? 2 : 1, b->d_cp.delta,
+                   spd ? "m/s" : "W", cpd_pd_model_name(b->d_cp.model), b->d_cp.df > 0 ? " (t interval, df " : " (",
+                   b->d_cp.df);
         if (b->d_w_prime.valid)
             printf(" %s %+.*f %s (%s);", spd ? "D'" : "W'", spd ? 0 : 2, spd ? b->d_w_prime.delta : b->d_w_prime.delta / 1000,
                    spd ? "m" : "kJ", verdict(&b->d_w_prime));
@@ -203,8 +218,11 @@ static void print_history(const cli_history *a)
             printf(" tau %+.1f s (%s);", b->d_tau.delta, verdict(&b->d_tau));
         printf("\n");
     }
-    printf("\nA change is meaningful when its 95 %% interval excludes zero (combined standard errors of the two fits;\n"
-           "typical errors of 6 %% for the GET and 3 %% for VO2peak, from memory).\n");
+    printf("\nA change is meaningful when its 95 %% interval lies wholly beyond the smallest worthwhile change of\n"
+           "%.1f %% of the earlier value (--swc; default 0.2 x the between-athlete SD, Hopkins 2004); the interval is\n"
+           "Student's t with the Welch-Satterthwaite dof of the two fits (typical errors of 6 %% for the GET and\n"
+           "3 %% for VO2peak, from memory). \"not clearly worthwhile\": the interval excludes zero, not the SWC.\n",
+           a->h->swc_pct > 0 ? a->h->swc_pct : CPD_HISTORY_SWC_PCT);
 }
 
 int cmd_history(cli_ctx *c, int argc, char **argv)
@@ -212,7 +230,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     static const struct option lo[] = {
         {"window", required_argument, NULL, 'w'}, {"model", required_argument, NULL, 'm'},
         {"all", no_argument, NULL, 'a'},          {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
+        {"swc", required_argument, NULL, 's'},    {NULL, 0, NULL, 0},
     };
     hist_opts o = {0};
     int first = 0, done = 0;
@@ -233,12 +251,17 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     cpd_pd_model m;
     if (o.model && cpd_pd_model_parse(o.model, &m))
         return cli_usage("history", "--model: '%s' is not a model", o.model);
+    double swc = 0;
+    if (o.swc && (rc = cli_ranged("--swc", o.swc, 0.1, 50, "%", 0, &swc)))
+        return rc;
     if ((rc = cli_open(c, 0)))
         return rc;
     if (!o.all) {
         cli_history a;
         if ((rc = cli_history_build(c, argv[first], win, o.model, 0, &a)))
             return rc;
+        a.h->swc_pct = swc;
+        cpd_history_changes(a.h);
         if (c->json) {
             cli_json *d = cj_obj();
             cj_str(d, "athlete", a.f.athlete.code);
@@ -250,9 +273,12 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
                 block_json(b, &a, &a.h->block[k]);
                 cj_push(bs, b);
             }
-            cj_str(d, "rule", "a change is meaningful when its 95 % interval excludes zero: +-1.96 x the combined "
-                              "standard error of the two fits (CP, W'), or of sqrt(2) typical errors of 6 % (GET) "
-                              "and 3 % (VO2peak)");
+            cj_num(d, "swc_pct", swc > 0 ? swc : CPD_HISTORY_SWC_PCT);
+            cj_str(d, "rule", "a change is meaningful when its 95 % interval lies wholly beyond the smallest "
+                              "worthwhile change (swc_pct of the earlier value; default 0.2 x the between-athlete SD, "
+                              "Hopkins 2004 Sportscience 8:1). CP and W': the same model in both blocks (lowest "
+                              "summed %SEE), Student's t with Welch-Satterthwaite dof; GET and VO2peak: +-1.96 x "
+                              "sqrt(2) typical errors of 6 % and 3 %");
             rc = cj_print(d);
         } else
             print_history(&a);
@@ -267,18 +293,41 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     cli_json *arr = doc ? cj_add_arr(doc, "athletes") : NULL;
     cli_table *t = NULL;
     if (!doc) {
-        static const char *const head[] = {"code", "blocks", "newest block", "CP/CS", "change", "verdict"};
+        static const char *const head[] = {"code", "blocks", "newest block", "current CP/CS", "change", "verdict"};
         t = cli_table_new(6, head, "lrlrrl");
     }
+    char k2[40];
     for (size_t i = 0; i < n; i++) {
         cli_history a;
         int r2 = cli_history_build(c, v[i].code, win, o.model, 1, &a);
         if (r2) /* too few trials: listed without blocks */
             continue;
+        a.h->swc_pct = swc;
+        cpd_history_changes(a.h);
+        /* the current CP: the fit domains, predict and the sheets use, so that the team table and the
+         * sheets agree */
+        double cur = NAN;
+        cli_pd_fit cf;
+        size_t older = 0;
+        int q0 = c->quiet;
+        c->quiet = 1;
+        c->mute++;
+        if (cli_pd_load_current(c, v[i].code, NULL, NULL, CPD_PD_ALL_MODELS, &cf, &older) == 0) {
+            const cpd_pd_result *cr = cf.res;
+            cpd_pd_model cm = cr->best;
+            if (o.model)
+                cpd_pd_model_parse(o.model, &cm);
+            if ((o.model || cr->has_best) && cr->models[cm].ok)
+                cur = cr->models[cm].cp;
+            cli_pd_fit_free(&cf);
+        }
+        c->mute--;
+        c->quiet = q0;
         const cpd_history_block *b = a.h->nblocks ? &a.h->block[a.h->nblocks - 1] : NULL;
         if (doc) {
             cli_json *x = cj_obj();
             cj_str(x, "athlete", a.f.athlete.code);
+            cj_num(x, cli_pd_key(a.f.modality, "current_cp", k2, sizeof k2), cur);
             cli_json *bs = cj_add_arr(x, "blocks");
             for (size_t k = 0; k < a.h->nblocks; k++) {
                 cli_json *bj = cj_obj();
@@ -292,7 +341,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             cpd_format_date(b->from_day, from);
             cpd_format_date(b->to_day, to);
             snprintf(span, sizeof span, "%s..%s", from, to);
-            cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, a.f.modality == CPD_PD_SPEED ? 2 : 1);
+            cli_num(cp, sizeof cp, cur, a.f.modality == CPD_PD_SPEED ? 2 : 1);
             if (b->d_cp.valid)
                 snprintf(d, sizeof d, "%+.*f", a.f.modality == CPD_PD_SPEED ? 2 : 1, b->d_cp.delta);
             else

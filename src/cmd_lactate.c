@@ -7,6 +7,7 @@
 #include "cpdomain/validate.h"
 
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -205,6 +206,9 @@ static int lactate_show(cli_ctx *c, int argc, char **argv)
     }
     if ((rc = analyse(c, id, t, r)))
         goto done;
+    cpd_lactate_ci ci; /* issue 12: every threshold with its interval */
+    if (cpd_lactate_ci_compute(t->intensity, t->lactate, t->n, r, 200, (uint64_t)id, &ci) != CPD_OK)
+        memset(&ci, 0, sizeof ci);
     const struct {
         const char *key, *name;
         const cpd_lactate_value *v;
@@ -219,8 +223,14 @@ static int lactate_show(cli_ctx *c, int argc, char **argv)
         cj_str(d, "date", t->date);
         cj_str(d, "modality", t->speed ? "speed" : "power");
         cj_int(d, "stages", (long long)t->n);
-        for (size_t k = 0; k < 4; k++)
+        for (size_t k = 0; k < 4; k++) {
             value_json(d, vals[k].key, vals[k].v, t->speed);
+            char ck[48];
+            snprintf(ck, sizeof ck, "%s_%s_ci95", vals[k].key, t->speed ? "m_s" : "w");
+            cj_pair(d, ck, ci.valid[k] ? ci.ci95[k][0] : NAN, ci.ci95[k][1]);
+        }
+        cj_str(d, "ci_method", "residual bootstrap about the least-squares cubic, 200 resamples, each analysed by "
+                               "the same rules; percentile interval");
         rc = cj_print(d);
     } else {
         printf("lactate test %lld: %s, %s, %zu stages\n\n", id, t->athlete, t->date, t->n);
@@ -231,11 +241,18 @@ static int lactate_show(cli_ctx *c, int argc, char **argv)
                 printf("%-14s %s %s at %.2f mmol/L", vals[k].name, cli_num(n1, sizeof n1, v->intensity, t->speed ? 2 : 0),
                        t->speed ? "m/s" : "W", v->lactate_mmol_l);
                 if (v->has_hr)
-                    printf(", HR %.0f", v->hr_bpm);
+                    printf(", HR %.0f bpm", v->hr_bpm);
+                if (ci.valid[k]) {
+                    char a1[32], a2[32];
+                    printf(" (95%% CI %s to %s %s)", cli_num(a1, sizeof a1, ci.ci95[k][0], t->speed ? 2 : 0),
+                           cli_num(a2, sizeof a2, ci.ci95[k][1], t->speed ? 2 : 0), t->speed ? "m/s" : "W");
+                }
                 printf("\n");
             } else
                 printf("%-14s not found: %s\n", vals[k].name, v->why);
         }
+        printf("\nintervals: residual bootstrap about the least-squares cubic (200 resamples, each analysed by the "
+               "same rules)\n");
     }
 done:
     free(t);

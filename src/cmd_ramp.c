@@ -472,7 +472,7 @@ static void print_threshold(const char *name, const cpd_ramp_threshold *th, cons
                                    : (speed ? "constant-speed equivalent" : "constant-power equivalent"),
                cli_num(n2, sizeof n2, th->equiv_intensity, dec), u);
     if (th->has_hr)
-        printf(", HR %.0f", th->hr_bpm);
+        printf(", HR %.0f bpm", th->hr_bpm);
     printf("\n     method: %s\n", th->method);
     if (th->status == CPD_THR_MANUAL) {
         if (autov->status == CPD_THR_NOT_FOUND)
@@ -587,6 +587,52 @@ static void print_record(const cpd_gx_test *t, const cpd_ramp_result *r)
     printf("(* cut short; stable: within %.0f mL/min of the 30 s before; ? stage under 60 s)\n", CPD_STEPS_STABLE_ML_MIN);
 }
 
+/* Issue 12: the intervals of ramp_ci.c for a ramp analysed by cli_ramp_analyse (the same options). */
+#define RAMP_CI_BOOT 200
+/* One fixed seed: the same record gives the same interval whatever its id or layout. */
+#define RAMP_CI_SEED 20261130u
+#define RAMP_PLATEAU_NOTE "plateau not detected: a verification bout above the ramp's peak power confirms VO2max"
+#define RAMP_RCP_EQUIV_CAUTION                                                                                      \
+    "the MRT shift assumes VO2 follows the ramp with one lag (lagged-linear model, Whipp et al. 1981 J Appl "        \
+    "Physiol 50:217), which holds below the GET; above it the slow component (Barstow & Mole 1991 J Appl Physiol " \
+    "71:2099) makes the response nonlinear, so the RCP's constant-power equivalent is approximate"
+
+static void ramp_ci_of(const cpd_ramp_ws *w, const cpd_ramp_result *r, const cpd_gx_test *t, const cpd_athlete *a,
+                       const char *window, cpd_ramp_ci *ci)
+{
+    cpd_ramp_opts ro;
+    cpd_ramp_opts_init(&ro);
+    opts_from_test(t, a, &ro);
+    double v = 0;
+    if (window && cli_ranged("--window", window, 5, 120, "s", 1, &v) == 0)
+        ro.peak_window_s = v;
+    if (cpd_ramp_ci_compute(w, r, &ro, RAMP_CI_BOOT, RAMP_CI_SEED, ci) != CPD_OK)
+        memset(ci, 0, sizeof *ci);
+}
+
+static void ci_json(cli_json *o, const cpd_ramp_thr_ci *ci, int speed)
+{
+    cj_pair(o, "vo2_ci95", ci->valid ? ci->vo2_ci95[0] : NAN, ci->vo2_ci95[1]);
+    cj_pair(o, speed ? "ramp_speed_m_s_ci95" : "ramp_power_w_ci95", ci->valid ? ci->ramp_ci95[0] : NAN, ci->ramp_ci95[1]);
+    cj_pair(o, speed ? "speed_m_s_ci95" : "power_w_ci95", ci->valid && ci->has_equiv ? ci->equiv_ci95[0] : NAN,
+            ci->equiv_ci95[1]);
+}
+
+static void print_ci(const cpd_ramp_thr_ci *ci, int speed)
+{
+    if (!ci->valid)
+        return;
+    const char *u = speed ? "m/s" : "W";
+    int dec = speed ? 2 : 0;
+    char a[32], b[32];
+    printf("     95%% CI %.0f to %.0f mL/min, ramp %s to %s %s", ci->vo2_ci95[0], ci->vo2_ci95[1],
+           cli_num(a, sizeof a, ci->ramp_ci95[0], dec), cli_num(b, sizeof b, ci->ramp_ci95[1], dec), u);
+    if (ci->has_equiv)
+        printf(", constant-%s equivalent %s to %s %s", speed ? "speed" : "power", cli_num(a, sizeof a, ci->equiv_ci95[0], dec),
+               cli_num(b, sizeof b, ci->equiv_ci95[1], dec), u);
+    printf(" (bootstrap of the breakpoint fit, %zu resamples)\n", ci->n_used);
+}
+
 static int ramp_show(cli_ctx *c, int argc, char **argv)
 {
     ramp_opts o;
@@ -611,6 +657,8 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
     }
     int spd = t.speed;
     const char *u = spd ? "m/s" : "W";
+    cpd_ramp_ci ci;
+    ramp_ci_of(w, r, &t, &a, o.window, &ci);
     if (c->json) {
         cli_json *d = cj_obj();
         cj_int(d, "id", t.id);
@@ -618,6 +666,9 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cj_str(d, "date", t.date);
         cj_str(d, "modality", spd ? "speed" : "power");
         cj_num(d, "vo2peak_ml_min", r->vo2peak_ml_min);
+        cj_pair(d, "vo2peak_ci95", ci.has_vo2peak_ci ? ci.vo2peak_ci95[0] : NAN, ci.vo2peak_ci95[1]);
+        cj_num(d, "vo2peak_se_ml_min", ci.has_vo2peak_ci ? ci.vo2peak_se_ml_min : NAN);
+        cj_num(d, "breath_noise_sd_ml_min", ci.has_vo2peak_ci ? ci.noise_sd_ml_min : NAN);
         cj_num(d, "vo2peak_time_s", r->vo2peak_time_s);
         cj_num(d, spd ? "vo2peak_speed_m_s" : "vo2peak_power_w", r->vo2peak_intensity);
         cj_num(d, "vo2peak_ml_kg_min", r->has_relative ? r->vo2peak_ml_kg_min : NAN);
@@ -626,6 +677,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
             cj_null(d, "plateau");
         else
             cj_bool(d, "plateau", r->plateau);
+        cj_str(d, "plateau_note", r->plateau == 0 ? RAMP_PLATEAU_NOTE : NULL);
         cj_num(d, spd ? "gain_ml_min_per_m_s" : "gain_ml_min_w", r->gain_status == CPD_THR_FOUND ? r->gain : NAN);
         if (r->gain_in_range < 0)
             cj_null(d, "gain_in_typical_range");
@@ -634,8 +686,14 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cj_num(d, "mrt_s", r->mrt_status != CPD_THR_NOT_FOUND ? r->mrt_s : NAN);
         cj_str(d, "mrt_source", r->mrt_status == CPD_THR_MANUAL ? "given" : r->mrt_status == CPD_THR_FOUND ? "estimated (lagged-linear)" : NULL);
         cj_str(d, "mrt_reason", r->mrt_status == CPD_THR_NOT_FOUND ? r->mrt_why : NULL);
-        threshold_json(cj_add_obj(d, "get"), &r->get, &r->get_auto, spd);
-        threshold_json(cj_add_obj(d, "rcp"), &r->rcp, &r->rcp_auto, spd);
+        cj_num(d, "mrt_se_s", r->mrt_status == CPD_THR_FOUND && r->has_mrt_est ? r->mrt_est_se_s : NAN);
+        cli_json *gj = cj_add_obj(d, "get"), *rj = cj_add_obj(d, "rcp");
+        threshold_json(gj, &r->get, &r->get_auto, spd);
+        ci_json(gj, &ci.get, spd);
+        threshold_json(rj, &r->rcp, &r->rcp_auto, spd);
+        ci_json(rj, &ci.rcp, spd);
+        cj_str(rj, "equivalent_caution", r->rcp.has_equiv ? RAMP_RCP_EQUIV_CAUTION : NULL);
+        cj_int(d, "bootstrap_resamples", RAMP_CI_BOOT);
         cli_json *vs = cj_add_obj(d, "vslope");
         cj_num(vs, "s1", r->has_vslope ? r->vslope.s1 : NAN);
         cj_num(vs, "s2", r->has_vslope ? r->vslope.s2 : NAN);
@@ -665,17 +723,31 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
                    u, r->intensity_recorded ? " (recorded)" : "");
         cpd_format_duration(r->vo2peak_time_s, tm, sizeof tm);
         printf("VO2peak  %.0f mL/min", r->vo2peak_ml_min);
+        if (ci.has_vo2peak_ci)
+            printf(" (95%% CI %.0f to %.0f mL/min%s", ci.vo2peak_ci95[0], ci.vo2peak_ci95[1], r->has_relative ? "; " : ")");
         if (r->has_relative)
-            printf(" (%.1f mL/kg/min)", r->vo2peak_ml_kg_min);
-        printf(" at %s, %s; peak %s %s\n", tm, r->plateau == 1 ? "with a plateau" : r->plateau == 0 ? "no plateau" : "plateau unknown",
+            printf("%s%.1f mL/kg/min)", ci.has_vo2peak_ci ? "" : " (", r->vo2peak_ml_kg_min);
+        printf(" at %s, %s; peak %s %s\n", tm,
+               r->plateau == 1 ? "with a plateau" : r->plateau == 0 ? "plateau not detected" : "plateau unknown",
                cli_num(n1, sizeof n1, r->peak_intensity, spd ? 2 : 0), u);
+        if (ci.has_vo2peak_ci)
+            printf("         interval: SE %.0f mL/min of the peak mean from the breath noise (SD %.0f mL/min, %zu breaths)\n",
+                   ci.vo2peak_se_ml_min, ci.noise_sd_ml_min, ci.peak_breaths);
+        if (r->plateau == 0)
+            printf("         %s\n", RAMP_PLATEAU_NOTE);
         print_threshold("GET", &r->get, &r->get_auto, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
+        if (r->get.status == CPD_THR_FOUND)
+            print_ci(&ci.get, spd);
         if (r->veq.status == CPD_THR_FOUND)
             printf("     ventilatory equivalents: %.0f mL/min, %s the V-slope\n", r->veq.vo2_ml_min,
                    r->veq.agree == 1 ? "agrees with" : r->veq.agree == 0 ? "DISAGREES with" : "compared with");
         else
             printf("     ventilatory equivalents: not found (%s)\n", r->veq.why);
         print_threshold("RCP", &r->rcp, &r->rcp_auto, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
+        if (r->rcp.status == CPD_THR_FOUND)
+            print_ci(&ci.rcp, spd);
+        if (r->rcp.has_equiv && r->protocol != CPD_RAMP_PROTO_STEPS)
+            printf("     caution: %s\n", RAMP_RCP_EQUIV_CAUTION);
         if (r->gain_status == CPD_THR_FOUND)
             printf("gain     %.1f mL/min per %s %s%s\n", r->gain, u,
                    r->gain_basis == CPD_RAMP_GAIN_BELOW_80PCT ? "below 80 % of peak (no GET)"
@@ -687,6 +759,9 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         if (r->mrt_status == CPD_THR_NOT_FOUND)
             printf("MRT      not estimated: %s%s\n", r->mrt_why,
                    r->protocol == CPD_RAMP_PROTO_STEPS ? "" : " (give --mrt for constant-power equivalents)");
+        else if (r->mrt_status == CPD_THR_FOUND && r->has_mrt_est)
+            printf("MRT      %.0f s (SE %.0f s; estimated, %s)\n", r->mrt_s, r->mrt_est_se_s,
+                   r->mrt_without_baseline ? "first-order fit to the recorded intensity, no baseline" : "lagged-linear model");
         else
             printf("MRT      %.0f s (%s)\n", r->mrt_s, r->mrt_status == CPD_THR_MANUAL ? "given" : "estimated, lagged-linear model");
         printf("samples  %zu, %zu outlier breaths removed\n", r->n_samples, r->n_outliers);

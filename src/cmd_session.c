@@ -887,6 +887,10 @@ static int allout_show(cli_ctx *c, int argc, char **argv)
         cj_num(d, "end_drift_w", res.end_drift_w);
         cj_num(d, "end_cv_pct", res.has_end_cv ? res.end_cv_pct : NAN);
         cj_int(d, "zero_s", (long long)res.zero_s);
+        cj_pair(d, "end_power_ci95", res.end_power_ci95[0], res.end_power_ci95[1]);
+        cj_num(d, "end_power_se_w", res.end_power_se_w);
+        cj_pair(d, "work_above_end_ci95", res.work_above_ci95[0], res.work_above_ci95[1]);
+        cj_num(d, "work_above_end_se_j", res.work_above_se_j);
         cj_bool(d, "all_out", res.all_out);
         flags_json(d, res.flags);
         cj_str(d, "method", "end_power_w: mean of the final 30 s; work_above_end_j: sum of max(P - end power, 0) "
@@ -898,8 +902,11 @@ static int allout_show(cli_ctx *c, int argc, char **argv)
     char t1[24];
     printf("3-minute all-out test %lld: %s %s, %s%s%s\n\n", id, a.code, a.name, r.date, r.source_file[0] ? ", file " : "",
            r.source_file);
-    printf("end power        %.1f W   (mean of the final 30 s: the estimate of CP)\n", res.end_power_w);
-    printf("work above it    %.2f kJ  (over the 180 s: the estimate of W')\n", res.work_above_end_j / 1000);
+    printf("end power        %.1f W   (95%% CI %.1f to %.1f W; mean of the final 30 s: the estimate of CP)\n",
+           res.end_power_w, res.end_power_ci95[0], res.end_power_ci95[1]);
+    printf("work above it    %.2f kJ  (95%% CI %.2f to %.2f kJ; over the 180 s: the estimate of W')\n",
+           res.work_above_end_j / 1000, res.work_above_ci95[0] / 1000, res.work_above_ci95[1] / 1000);
+    printf("                 intervals: measurement precision (SE of the 30-s mean), not the test's validity\n");
     cpd_format_duration((double)res.peak_at_s, t1, sizeof t1);
     printf("peak             %.0f W at %s; mean %.1f W; total work %.1f kJ\n", res.peak_power_w, t1, res.mean_power_w,
            res.total_work_j / 1000);
@@ -1194,7 +1201,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
-        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or elite", balance_model);
+        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or bartram", balance_model);
     cpd_session_rec r;
     cpd_session_samples *x = NULL;
     cpd_session_ws *w = NULL;
@@ -1260,7 +1267,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
                             "1-s steps on the session's cleaned 1-Hz grid from its first sample: gaps of up to 5 s and "
                             "dropped spikes filled linearly; a longer gap (a pause, or a dropout that split the "
                             "session) counts as rest at zero power (speed) for its whole length",
-                            1, session_json, &ud, trace_path};
+                            1, session_json, &ud, trace_path, 1};
     ex = cli_balance_report(c, f, m, bm, &in);
 done:
     free(v);

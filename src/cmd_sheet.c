@@ -138,6 +138,16 @@ static void add_ramp(cli_ctx *c, sheet_build *b)
     s->vo2peak_ml_min = r->vo2peak_ml_min;
     s->has_vo2peak_rel = r->has_relative;
     s->vo2peak_ml_kg_min = r->vo2peak_ml_kg_min;
+    cpd_ramp_opts ro; /* the options cli_ramp_analyse used */
+    cpd_ramp_opts_init(&ro);
+    ro.rate_per_min = t.rate_per_min;
+    ro.start = t.start;
+    cpd_ramp_ci ci;
+    if (cpd_ramp_ci_compute(w, r, &ro, 200, (uint64_t)b->d.ramp_id, &ci) == CPD_OK && ci.has_vo2peak_ci) {
+        s->has_vo2peak_ci = 1;
+        s->vo2peak_ci95[0] = ci.vo2peak_ci95[0];
+        s->vo2peak_ci95[1] = ci.vo2peak_ci95[1];
+    }
     char get[64] = "no GET found";
     if (r->get.status != CPD_THR_NOT_FOUND)
         snprintf(get, sizeof get, "GET at VO2 %.2f L/min (%.0f %% of VO2peak)", r->get.vo2_ml_min / 1000, r->get.pct_vo2peak);
@@ -269,10 +279,14 @@ static void add_trend(cli_ctx *c, sheet_build *b)
             if (ch->valid)
                 snprintf(b->trend_text, sizeof b->trend_text,
                          "%zu blocks of trials within %d days. Newest change of %s: %+.*f %s (95 %% interval %+.*f to "
-                         "%+.*f): %s (the interval from the combined standard errors of the two fits%s).",
+                         "%+.*f %s, %s model in both blocks, Student's t with Welch-Satterthwaite dof): %s (smallest "
+                         "worthwhile change %.*f %s, %.1f %% of the earlier value: Hopkins 2004).",
                          nb, a.win, spd ? "CS" : "CP", spd ? 2 : 1, ch->delta, spd ? "m/s" : "W", spd ? 2 : 1, ch->ci95[0],
-                         spd ? 2 : 1, ch->ci95[1], ch->meaningful ? "meaningful" : "within the noise",
-                         ch->meaningful ? " excludes zero" : " includes zero");
+                         spd ? 2 : 1, ch->ci95[1], spd ? "m/s" : "W",
+                         ch->model_valid ? cpd_pd_model_name(ch->model) : "the same",
+                         ch->meaningful ? "meaningful" : ch->excludes_zero ? "a change, not clearly worthwhile"
+                                                                          : "within the noise",
+                         spd ? 2 : 1, ch->swc, spd ? "m/s" : "W", CPD_HISTORY_SWC_PCT);
             else
                 snprintf(b->trend_text, sizeof b->trend_text, "%zu blocks of trials within %d days.", nb, a.win);
             s->extra[s->nextra++] = (cpd_sheet_section){"season", "The season", b->trend_text, b->svg_trend};
@@ -439,7 +453,15 @@ static cli_json *sheet_json(const sheet_build *b)
     cli_json *at = cj_add_arr(doc, spd ? "time_at_speed" : "time_at_power");
     for (size_t j = 0; j < s->tables->n_at; j++) {
         cli_json *o = cj_obj();
-        pred_json(o, ikey, s->tables->at[j].intensity, &s->tables->at[j].pred, "time_to_failure_s");
+        const cpd_sheet_at_intensity *x = &s->tables->at[j];
+        if (x->near_cp) { /* inside CP's interval: a lower bound only */
+            cj_num(o, ikey, x->intensity);
+            cj_null(o, "time_to_failure_s");
+            cj_null(o, "ci95");
+            cj_num(o, "time_to_failure_at_least_s", x->at_least_s > 0 ? x->at_least_s : NAN);
+            cj_str(o, "status", CPD_SHEET_CANNOT_TELL);
+        } else
+            pred_json(o, ikey, x->intensity, &x->pred, "time_to_failure_s");
         cj_push(at, o);
     }
     if (s->session) {
@@ -468,6 +490,7 @@ static cli_json *sheet_json(const sheet_build *b)
         cj_int(o, "id", b->d.ramp_id);
         cj_str(o, "date", b->d.ramp_date);
         cj_num(o, "vo2peak_ml_min", s->has_vo2peak ? s->vo2peak_ml_min : NAN);
+        cj_pair(o, "vo2peak_ci95", s->has_vo2peak_ci ? s->vo2peak_ci95[0] : NAN, s->vo2peak_ci95[1]);
         cj_num(o, "vo2peak_ml_kg_min", s->has_vo2peak_rel ? s->vo2peak_ml_kg_min : NAN);
     } else
         cj_null(doc, "ramp");

@@ -68,6 +68,14 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         free(trace);
         return cli_fail(c, rc, "computing the balance: %s", cpd_strerror(rc));
     }
+    /* every recovery model side by side: they disagree far more than CP's interval moves them */
+    static const cpd_balance_model allm[CLI_NBALANCE] = {CPD_BALANCE_DIFFERENTIAL, CPD_BALANCE_INTEGRAL, CPD_BALANCE_BARTRAM};
+    cpd_balance_result ball[CLI_NBALANCE];
+    int has_all[CLI_NBALANCE] = {0, 0, 0};
+    for (int k = 0; k < CLI_NBALANCE; k++) {
+        cpd_balance_params bk = {allm[k], m->cp, m->w_prime};
+        has_all[k] = cpd_balance_run(&bk, x, in->n, NULL, &ball[k]) == CPD_OK;
+    }
     /* the same intensities with CP at the ends of its interval (W' moving with it) */
     int has_unc[2] = {0, 0};
     cpd_balance_result bu[2];
@@ -122,6 +130,26 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
             else
                 cj_null(u1, "failure_at_s");
         }
+        cli_json *ms = cj_add_arr(d, "balance_models");
+        for (int q = 0; q < CLI_NBALANCE; q++) {
+            if (!has_all[q])
+                continue;
+            cli_json *o2 = cj_obj();
+            cj_str(o2, "name", cpd_balance_model_name(allm[q]));
+            cj_bool(o2, "chosen", allm[q] == bm);
+            cj_bool(o2, "cycling_constants", spd && allm[q] != CPD_BALANCE_DIFFERENTIAL);
+            snprintf(k, sizeof k, "end_balance_%s", u);
+            cj_num(o2, k, ball[q].end_balance);
+            snprintf(k, sizeof k, "min_balance_%s", u);
+            cj_num(o2, k, ball[q].min_balance);
+            if (ball[q].failed)
+                cj_int(o2, "failure_at_s", (long long)ball[q].failure_at_s);
+            else
+                cj_null(o2, "failure_at_s");
+            cj_push(ms, o2);
+        }
+        cj_bool(d, "completed_session", in->completed);
+        cj_str(d, "below_zero_note", in->completed && br.failed ? CLI_COMPLETED_BELOW_ZERO : NULL);
         if (in->trace_path)
             cj_str(d, "trace_file", in->trace_path);
         cj_str(d, "caution", CLI_CAUTION);
@@ -168,11 +196,29 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
             printf("\nlowest balance %.*f %s at %s; end balance %.*f %s (%.0f %% of %s)\n", spd ? 0 : 2,
                    br.min_balance * sc, un, a, spd ? 0 : 2, br.end_balance * sc, un, 100 * br.end_balance / m->w_prime,
                    spd ? "D'" : "W'");
-        if (br.failed) {
+        if (br.failed && in->completed) {
+            cpd_format_duration((double)br.failure_at_s, b, sizeof b);
+            printf("the balance went below zero at %s and reached %.*f %s (%.0f %% of %s) in a session that was "
+                   "completed: %s\n", b, spd ? 0 : 2, br.min_balance * sc, un, 100 * br.min_balance / m->w_prime,
+                   spd ? "D'" : "W'", CLI_COMPLETED_BELOW_ZERO);
+        } else if (br.failed) {
             cpd_format_duration((double)br.failure_at_s, b, sizeof b);
             printf("predicted task failure at %s (second %zu)\n", b, br.failure_at_s);
         } else
             printf("no task failure predicted\n");
+        printf("\nunder each recovery model (* the one used%s):\n", spd ? "; c: constants fitted on cycling power, "
+                                                                          "used here for speed" : "");
+        for (int q = 0; q < CLI_NBALANCE; q++) {
+            if (!has_all[q])
+                continue;
+            char f0[24] = "none";
+            if (ball[q].failed)
+                cpd_format_duration((double)ball[q].failure_at_s, f0, sizeof f0);
+            printf("  %-13s%s%s end %*.*f %s, lowest %*.*f %s, %s %s\n", cpd_balance_model_name(allm[q]),
+                   allm[q] == bm ? "*" : " ", spd && allm[q] != CPD_BALANCE_DIFFERENTIAL ? "c" : " ", 7, spd ? 0 : 2,
+                   ball[q].end_balance * sc, un, 7, spd ? 0 : 2, ball[q].min_balance * sc, un,
+                   in->completed ? "below zero from" : "task failure", f0);
+        }
         if (has_unc[0] && has_unc[1]) {
             printf("with %s at the ends of its 95 %% interval (%s moving with it): end balance %.*f to %.*f %s",
                    spd ? "CS" : "CP", spd ? "D'" : "W'", spd ? 0 : 2, bu[0].end_balance * sc, spd ? 0 : 2,
@@ -183,7 +229,8 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
                     cpd_format_duration((double)bu[0].failure_at_s, f0, sizeof f0);
                 if (bu[1].failed)
                     cpd_format_duration((double)bu[1].failure_at_s, f1, sizeof f1);
-                printf("; failure %s (low %s) / %s (high %s)", f0, spd ? "CS" : "CP", f1, spd ? "CS" : "CP");
+                printf("; %s %s (low %s) / %s (high %s)", in->completed ? "below zero from" : "failure", f0,
+                       spd ? "CS" : "CP", f1, spd ? "CS" : "CP");
             }
             printf("\n");
         } else
@@ -201,7 +248,7 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
-        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or elite", balance_model);
+        return cli_usage("predict", "--balance-model: '%s' is not differential, integral or bartram", balance_model);
     cpd_protocol *p = NULL;
     int rc = load_protocol(c, f, text, &p);
     if (rc)
@@ -233,7 +280,7 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
     snprintf(heading, sizeof heading, "protocol of %s in %zu segments", a, p->n);
     cli_balance_input in = {x, p->total_s, parts, p->n, heading, "segment",
                             "1-s steps, each second at the protocol's intensity; balance at the end of each second",
-                            0, NULL, NULL, trace_path};
+                            0, NULL, NULL, trace_path, 0};
     rc = cli_balance_report(c, f, m, bm, &in);
     free(x);
     free(parts);
@@ -253,14 +300,16 @@ static void subst_unknown(const char *text, cpd_protocol_unit unit, double v, do
         char r[32];
         switch (unit) {
         case CPD_PROTOCOL_UNIT_NONE:
-            snprintf(r, sizeof r, v >= 20 ? "%.0fW" : "%.3fm/s", v); /* bare '?': W for power, m/s for speed */
+            /* as printed in the answer (0.1 W), so that the check reproduces it: rounding 291.5 W up
+             * to 292 W would end below the target */
+            snprintf(r, sizeof r, v >= 20 ? "%.1fW" : "%.3fm/s", v); /* bare '?': W for power, m/s for speed */
             break;
         case CPD_PROTOCOL_UNIT_W:
-            snprintf(r, sizeof r, "%.0f", v);
+            snprintf(r, sizeof r, "%.1f", v);
             break;
         case CPD_PROTOCOL_UNIT_PCT_CP:
         case CPD_PROTOCOL_UNIT_PCT_CS:
-            snprintf(r, sizeof r, "%.1f", 100 * v / cp);
+            snprintf(r, sizeof r, "%.2f", 100 * v / cp);
             break;
         case CPD_PROTOCOL_UNIT_M_S:
             snprintf(r, sizeof r, "%.3f", v);
@@ -289,7 +338,8 @@ static const char HELP_SOLVE[] =
     "without passing through task failure on the way (bracketed root finding, GSL's Brent method).\n"
     "Protocol: segments DURATION@INTENSITY separated by ';' or ','; Nx( ... ) repeats a group;\n"
     "intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m or ?. Balance models: differential\n"
-    "(default; Skiba et al. 2015), integral (Skiba et al. 2012), elite (Bartram et al. 2018).\n"
+    "(default; Skiba et al. 2015), integral (Skiba et al. 2012), bartram (Bartram et al. 2018,\n"
+    "trained cyclists; 'elite' is read as its former name). The answer under every model is shown.\n"
     "An impossible request exits 69 and says why.\n\n"
     "examples:\n"
     "  cpdomain solve C03 --protocol \"15min@150W; 5x(3min@?, 3min@140W)\" --finish 20\n"
@@ -338,7 +388,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         return cli_usage("solve", "--finish must be a percentage of W' from 0 to below 100 (got %g)", pct);
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (o.bmodel && cpd_balance_model_parse(o.bmodel, &bm))
-        return cli_usage("solve", "--balance-model: '%s' is not differential, integral or elite", o.bmodel);
+        return cli_usage("solve", "--balance-model: '%s' is not differential, integral or bartram", o.bmodel);
     unsigned mask = CPD_PD_ALL_MODELS;
     cpd_pd_model which = CPD_PD_HYPERBOLIC;
     if (o.model) {
@@ -413,6 +463,21 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         }
         cpd_balance_free(wq);
     }
+    /* the answer under every recovery model, side by side (they disagree more than CP's interval) */
+    static const cpd_balance_model allm[CLI_NBALANCE] = {CPD_BALANCE_DIFFERENTIAL, CPD_BALANCE_INTEGRAL, CPD_BALANCE_BARTRAM};
+    int has_m[CLI_NBALANCE] = {0, 0, 0};
+    double ans_m[CLI_NBALANCE] = {0, 0, 0};
+    for (int q = 0; q < CLI_NBALANCE && rc == CPD_OK; q++) {
+        cpd_balance_params bq = {allm[q], m->cp, m->w_prime};
+        cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
+        cpd_balance_solution sq;
+        if (wq && cpd_balance_solve(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
+            sq.reason == CPD_SOLVE_OK) {
+            has_m[q] = 1;
+            ans_m[q] = sq.intensity;
+        }
+        cpd_balance_free(wq);
+    }
     const char *ikey = spd ? "speed_m_s" : "power_w";
     const char *u = spd ? "m" : "j";
     char k[40];
@@ -445,6 +510,15 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         cj_pair(d, k, has_range[0] && has_range[1] ? fmin(range[0], range[1]) : NAN, fmax(range[0], range[1]));
         cj_str(d, "range_method", "solved again with CP at each end of its 95 % interval, W' moved with it along "
                                   "their covariance");
+        cli_json *ms = cj_add_arr(d, "balance_models");
+        for (int q = 0; q < CLI_NBALANCE; q++) {
+            cli_json *o2 = cj_obj();
+            cj_str(o2, "name", cpd_balance_model_name(allm[q]));
+            cj_bool(o2, "chosen", allm[q] == bm);
+            cj_bool(o2, "cycling_constants", spd && allm[q] != CPD_BALANCE_DIFFERENTIAL);
+            cj_num(o2, ikey, has_m[q] ? ans_m[q] : NAN);
+            cj_push(ms, o2);
+        }
         cj_str(d, "result", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
         if (ok && spd) {
             const char *lab;
@@ -479,6 +553,16 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
                    spd ? "CS" : "CP", spd ? "D'" : "W'", cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1),
                    cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1), cli_pd_unit(f.modality));
         }
+        printf("under each recovery model (* the one used%s):", spd ? "; c: constants fitted on cycling power" : "");
+        for (int q = 0; q < CLI_NBALANCE; q++) {
+            char nq[32];
+            printf("%s %s%s%s %s", q ? "," : "", cpd_balance_model_name(allm[q]), allm[q] == bm ? "*" : "",
+                   spd && allm[q] != CPD_BALANCE_DIFFERENTIAL ? " (c)" : "",
+                   has_m[q] ? cli_num(nq, sizeof nq, ans_m[q], spd ? 3 : 1) : "none");
+            if (has_m[q])
+                printf(" %s", cli_pd_unit(f.modality));
+        }
+        printf("\n");
         char check[1024];
         subst_unknown(o.protocol, p->unknown_unit, sol.intensity, m->cp, check, sizeof check);
         printf("check it: cpdomain predict %s --protocol \"%s\"\n", f.athlete.code, check);

@@ -107,6 +107,11 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
         mh->valid = 1;
         mh->value = in->get;
         mh->manual = in->get_manual;
+        if (in->has_get_ci && !in->get_manual) {
+            mh->has_ci = 1;
+            mh->ci95[0] = in->get_ci95[0];
+            mh->ci95[1] = in->get_ci95[1];
+        }
         snprintf(mh->source, sizeof mh->source, "%s: gas exchange threshold%s", in->get_source,
                  in->get_manual ? " (a reviewer's choice)" : "");
         if (in->get_steps)
@@ -151,14 +156,25 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
                  in->recent_from, in->recent_to, cpw, in->recent_cp);
     }
 
-    /* severe-extreme: t_lim equals the time to reach VO2max */
+    /* severe-extreme: t_lim equals the time to reach VO2max (Hill, Poole & Smith 2002) */
     cpd_boundary *se = &out->b[CPD_BND_SEVERE_EXTREME];
-    if (in->has_tau && in->tau_s > 0) {
+    double t_se = 0;
+    if (in->has_t_vo2max && in->t_vo2max_s > 0) {
+        out->t_vo2max_s = in->t_vo2max_s;
+        t_se = in->t_vo2max_se_s > 0 ? in->t_vo2max_se_s : 0;
+        out->t_vo2max_se_s = t_se;
+        snprintf(se->source, sizeof se->source, "%s: primary VO2 tau %.0f s, delay %.0f s", in->tau_source, in->tau_s,
+                 in->delay_s);
+        snprintf(se->method, sizeof se->method,
+                 "intensity whose predicted time to failure equals the time to reach VO2max, delay + 4 tau = %.0f s "
+                 "(SE %.0f s) (Hill, Poole & Smith 2002)", out->t_vo2max_s, t_se);
+        snprintf(se->date, sizeof se->date, "%s", in->tau_date);
+    } else if (in->has_tau && in->tau_s > 0) {
         out->t_vo2max_s = 4 * in->tau_s;
         snprintf(se->source, sizeof se->source, "%s: primary VO2 time constant %.0f s", in->tau_source, in->tau_s);
         snprintf(se->method, sizeof se->method,
-                 "intensity whose predicted time to failure is 4 tau = %.0f s (Ozkaya et al. 2025 J Sports Sci; "
-                 "Hill, Poole & Smith 2002)", out->t_vo2max_s);
+                 "intensity whose predicted time to failure is 4 tau = %.0f s, the time to reach VO2max "
+                 "(Hill, Poole & Smith 2002)", out->t_vo2max_s);
         snprintf(se->date, sizeof se->date, "%s", in->tau_date);
     } else {
         out->t_vo2max_s = CPD_DOMAINS_T_VO2MAX_DEFAULT_S;
@@ -176,6 +192,13 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
         se->has_ci = p.ci_valid;
         se->ci95[0] = p.ci95[0];
         se->ci95[1] = p.ci95[1];
+        if (p.ci_valid && t_se > 0) {
+            /* dP/dT = -W'/(T + offset)^2; the kinetics and the trials are independent tests */
+            double u = out->t_vo2max_s + m->t_offset_s, hk = 1.96 * m->w_prime / (u * u) * t_se;
+            double hp = 0.5 * (p.ci95[1] - p.ci95[0]), h = sqrt(hp * hp + hk * hk);
+            se->ci95[0] = p.value - h;
+            se->ci95[1] = p.value + h;
+        }
     } else
         snprintf(se->why, sizeof se->why, "the model gives no intensity for %.0f s: %s", out->t_vo2max_s,
                  cpd_pd_pred_text(p.status));
@@ -199,7 +222,13 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
     double cp = m->cp;
     set_range(&out->range[CPD_DOM_MODERATE], 0, 0, mh->valid, mh->value, cp, in);
     set_range(&out->range[CPD_DOM_HEAVY], mh->valid, mh->value, 1, out->heavy_ceiling, cp, in);
-    set_range(&out->range[CPD_DOM_SEVERE], 1, cp, se->valid, se->value, cp, in);
+    /* between CP's bounds the data cannot tell heavy from severe: shown as such, not left out */
+    double sev_lo = m->has_se ? m->cp_ci95[1] : cp;
+    if (m->has_se) {
+        out->has_uncertain = 1;
+        set_range(&out->uncertain, 1, m->cp_ci95[0], 1, m->cp_ci95[1], cp, in);
+    }
+    set_range(&out->range[CPD_DOM_SEVERE], 1, sev_lo, se->valid, se->value, cp, in);
     set_range(&out->range[CPD_DOM_EXTREME], se->valid, se->value, 0, 0, cp, in);
     if (in->has_hr_get) {
         out->range[CPD_DOM_MODERATE].has_hr_hi = 1;
@@ -217,7 +246,11 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
     for (int k = 0; k < CPD_DOMAINS_NEFFORTS; k++) {
         cpd_domain_effort *e = &out->effort[k];
         e->duration_s = effort_s[k];
-        if (cpd_pd_predict_intensity(m, effort_s[k], &p) == CPD_OK && p.valid) {
+        if (cpd_pd_predict_intensity(m, effort_s[k], &p) != CPD_OK || !p.valid)
+            continue;
+        if (se->valid && p.value > se->value)
+            e->beyond_severe = 1; /* listed only inside the severe domain reported above */
+        else {
             e->valid = 1;
             e->value = p.value;
             e->has_ci = p.ci_valid;

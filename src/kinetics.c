@@ -1254,3 +1254,59 @@ int cpd_kinetics_verify_domain(int observed, double power_w, double get_power_w,
     snprintf(out->message, sizeof out->message, "%s %s: %s", where, what, cause);
     return CPD_OK;
 }
+
+/* ---- time to reach VO2max (the severe-extreme boundary) ---- */
+
+int cpd_kinetics_time_to_vo2max(const cpd_kinetics_result *r, cpd_kinetics_tvo2max *out)
+{
+    if (!r || !out)
+        return CPD_EUSAGE;
+    memset(out, 0, sizeof *out);
+    const cpd_kinetics_fitres *f = NULL;
+    double factor = 1.0;
+    if (r->bi.valid && r->bi.has_se && r->bi.b[CPD_KIN_TD2] > r->bi.b[CPD_KIN_TD1]) {
+        /* above CP a slow component is expected; the F-test decides only whether it is reported */
+        f = &r->bi;
+        out->fit = "bi";
+        factor = CPD_KIN_TVO2MAX_BI_SE_FACTOR;
+    } else if (r->mono_end.valid && r->mono_end.has_se) {
+        f = &r->mono_end;
+        out->fit = "mono_end";
+    } else if (r->mono.valid && r->mono.has_se) {
+        f = &r->mono;
+        out->fit = "mono";
+    } else
+        return CPD_ENODATA;
+    const double *c = f->cov;
+    double var = c[CPD_KIN_TD1 * CPD_KIN_NPAR + CPD_KIN_TD1] + 16.0 * c[CPD_KIN_TAU1 * CPD_KIN_NPAR + CPD_KIN_TAU1] +
+                 8.0 * c[CPD_KIN_TD1 * CPD_KIN_NPAR + CPD_KIN_TAU1];
+    out->tau_s = f->b[CPD_KIN_TAU1];
+    out->tau_se_s = f->se[CPD_KIN_TAU1] * factor;
+    out->delay_s = f->b[CPD_KIN_TD1];
+    out->t_s = out->delay_s + 4.0 * out->tau_s;
+    out->se_s = var > 0 ? factor * sqrt(var) : 0.0;
+    out->dof = f->dof;
+    if (!(out->t_s > 0) || !isfinite(out->se_s))
+        return CPD_ENODATA;
+    out->valid = 1;
+    return CPD_OK;
+}
+
+int cpd_kinetics_verify_bout(int observed, double end_s, double power_w, double get_power_w, double cp_w,
+                             cpd_kinetics_check *out)
+{
+    int rc = cpd_kinetics_verify_domain(observed, power_w, get_power_w, cp_w, out);
+    if (rc != CPD_OK || !(isfinite(end_s) && end_s > 0))
+        return rc;
+    if (out->agreement == 0 && out->predicted_mask == (1u << CPD_KIN_SEVERE) && observed == CPD_KIN_HEAVY &&
+        end_s < CPD_KIN_VERIFY_LEVEL_S) {
+        out->agreement = -1;
+        snprintf(out->message, sizeof out->message,
+                 "bout at %.1f %% above CP levelled off within its %.1f min, but a bout shorter than %.0f min cannot "
+                 "tell the heavy domain from the low severe one (just above CP, VO2 can take well over 10 min to "
+                 "reach its maximum): nothing to conclude about CP; a bout of at least %.0f min can",
+                 100.0 * (power_w - cp_w) / cp_w, end_s / 60.0, CPD_KIN_VERIFY_LEVEL_S / 60.0,
+                 CPD_KIN_VERIFY_LEVEL_S / 60.0);
+    }
+    return CPD_OK;
+}

@@ -505,7 +505,7 @@ static unsigned model_flags(const cpd_pd_model_fit *f, const double *x, const do
         fl |= CPD_PD_FLAG_IMPLAUSIBLE_PARAMETER;
     if (f->cp >= xlo)
         fl |= CPD_PD_FLAG_TRIAL_AT_OR_BELOW_CP;
-    /* METHODS §9: from trials of 2-15 min only, Pmax's SE exceeded Pmax in about half of simulated
+    /* From trials of 2-15 min only, Pmax's SE exceeded Pmax in about half of simulated
      * athletes while the fit converged, so these conditions are flagged rather than trusted. */
     if (f->has_p_max && (!f->has_se || f->p_max_se >= f->p_max || f->p_max <= xhi || tlo >= CPD_PD_SHORT_S))
         fl |= CPD_PD_FLAG_P_MAX_UNIDENTIFIABLE;
@@ -1050,5 +1050,41 @@ int cpd_pd_predict_distance_time(const cpd_pd_model_fit *m, double distance_m, c
     double Ft = 2 * cs * t + B;
     const double g[3] = {-(t * t + a * t) / Ft, -t / Ft, -(cs * t - D) / Ft};
     finish_log(m, t, grad_var(m, g), out);
+    return CPD_OK;
+}
+
+int cpd_pd_time_near_cp(const cpd_pd_model_fit *m, double intensity, int *inside, double *t_lo)
+{
+    if (!m || !inside || !t_lo || !(isfinite(intensity) && intensity > 0))
+        return CPD_EUSAGE;
+    *inside = 0;
+    *t_lo = 0;
+    if (!m->ok || !m->has_se || !(m->w_prime > 0))
+        return CPD_OK;
+    double lo = m->cp_ci95[0], hi = m->cp_ci95[1];
+    if (!(intensity >= lo && intensity <= hi))
+        return CPD_OK;
+    *inside = 1;
+    /* CP at its lower bound is the most pessimistic CP the data allow; W' at its estimate */
+    if (intensity > lo) {
+        double t = m->w_prime / (intensity - lo) - m->t_offset_s;
+        *t_lo = t > 0 && isfinite(t) ? t : 0;
+    }
+    return CPD_OK;
+}
+
+int cpd_pd_best_for_time_trials(cpd_pd_result *res)
+{
+    if (!res || res->modality != CPD_PD_SPEED)
+        return CPD_EUSAGE;
+    const cpd_pd_model_fit *f = &res->models[CPD_PD_LINEAR_TOTAL];
+    if (!qualifies(f) || !f->has_se)
+        return CPD_ENODATA;
+    unsigned old = res->has_best ? res->models[res->best].flags : 0;
+    res->has_best = 1;
+    res->best = CPD_PD_LINEAR_TOTAL;
+    /* the fit's overall flags follow the best model */
+    res->flags = (res->flags & ~old) | res->data_flags | f->flags;
+    res->flags &= ~CPD_PD_FLAG_NO_VALID_MODEL;
     return CPD_OK;
 }

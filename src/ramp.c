@@ -65,6 +65,7 @@ struct cpd_ramp_ws {
     int pvalid[3];
     unsigned char *drop, *flag;
     size_t cap_samp;
+    int col;   /* the modality's intensity channel of the last analysis */
     int valid;
 };
 
@@ -1227,6 +1228,7 @@ static int read_record(struct ctx *c, int has_col, char *msg)
         return CPD_EUSAGE;
     }
     r->intensity_recorded = c->rec;
+    c->w->col = c->col;
     r->rate_used = c->rate;
     r->start_used = c->start;
     return CPD_OK;
@@ -1480,6 +1482,15 @@ const cpd_gx_series *cpd_ramp_grid(const cpd_ramp_ws *w, const double **smoothed
     if (smoothed_vo2)
         *smoothed_vo2 = w->sm_vo2;
     return w->grid;
+}
+
+double cpd_ramp_intensity_at(const cpd_ramp_ws *w, const cpd_ramp_result *r, double t_s)
+{
+    if (!w || !w->valid || !r)
+        return NAN;
+    if (r->intensity_recorded)
+        return grid_at(w->grid, w->grid->ch[w->col], t_s);
+    return r->start_used + r->rate_used * t_s / 60.0;
 }
 
 const cpd_gx_series *cpd_ramp_samples(const cpd_ramp_ws *w)

@@ -73,6 +73,9 @@ int cpd_sheet_tables_compute(const cpd_pd_model_fit *m, const cpd_domains_result
         int rc = cpd_pd_predict_time(m, a->intensity, &a->pred);
         if (rc)
             return rc;
+        /* inside CP's interval the time has a lower bound, no upper one and no point value */
+        if (cpd_pd_time_near_cp(m, a->intensity, &a->near_cp, &a->at_least_s) == CPD_OK && a->near_cp)
+            a->pred.valid = a->pred.ci_valid = 0;
         out->n_at++;
     }
     return CPD_OK;
@@ -336,6 +339,19 @@ static const char *const DOMAIN_WORDS_SPEED[CPD_DOM_N] = {
 
 /* Palette colours of the domain bands, as in cpd_plot_pd (svgplot.h suggests them). */
 static const int DOMAIN_COLOR[CPD_DOM_N] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
+
+/* "at least about 16 min": the lower bound of a time to failure inside CP's interval, whole
+ * minutes rounded down (a bound, not an estimate). */
+static const char *at_least(double s_lo, char *buf, size_t n)
+{
+    if (s_lo >= 120)
+        snprintf(buf, n, "at least about %.0f min", floor(s_lo / 60));
+    else if (s_lo > 0)
+        snprintf(buf, n, "at least about %.0f s", floor(s_lo));
+    else
+        snprintf(buf, n, "no bound");
+    return buf;
+}
 
 /* "173 W to 220 W", "below 173 W", "above 391 W" */
 static const char *range_words(double lo, int has_lo, double hi, int has_hi, char *buf, size_t n,
@@ -640,6 +656,11 @@ static void html_cards(sb *b, const cpd_sheet *s)
                      fmt(c, sizeof c, 100 * g->value / m->cp, 0));
         else
             snprintf(sub, sizeof sub, "%s %% of CP", fmt(c, sizeof c, 100 * g->value / m->cp, 0));
+        if (g->has_ci) {
+            size_t L = strlen(sub);
+            snprintf(sub + L, sizeof sub - L, "; 95 %%: %s to %s", inten(spd, g->ci95[0], a, sizeof a),
+                     inten(spd, g->ci95[1], c, sizeof c));
+        }
         card(b, s->dom->flags & CPD_DOMAINS_F_GET_FROM_LT1 ? "Lactate LT1 (for the GET)" : "GET equivalent",
              inten(spd, g->value, v, sizeof v), sub);
     } else
@@ -650,6 +671,12 @@ static void html_cards(sb *b, const cpd_sheet *s)
             snprintf(sub, sizeof sub, "%s mL/kg/min", fmt(c, sizeof c, s->vo2peak_ml_kg_min, 1));
         else
             sub[0] = '\0';
+        if (s->has_vo2peak_ci) {
+            char e[32];
+            size_t L = strlen(sub);
+            snprintf(sub + L, sizeof sub - L, "%s95 %%: %s to %s L/min", L ? "; " : "",
+                     fmt(a, sizeof a, s->vo2peak_ci95[0] / 1000, 2), fmt(e, sizeof e, s->vo2peak_ci95[1] / 1000, 2));
+        }
         card(b, "VO2peak", v, sub);
     } else
         card(b, "VO2peak", "unknown", "no ramp test");
@@ -704,10 +731,16 @@ static void html_domains(sb *b, const cpd_sheet *s)
         al[k] = k == nc - 1 ? 'l' : 'n';
     al[nc] = '\0';
     th_row(b, h, al, (size_t)nc);
-    for (int k = 0; k < CPD_DOM_N; k++) {
-        const cpd_domain_range *r = &d->range[k];
-        sb_printf(b, "<tr><td><span class=\"sw d%d\"></span>", k);
-        esc(b, cpd_domain_name((cpd_domain)k));
+    for (int k = 0, band = 0; k < CPD_DOM_N; k += !band) {
+        /* after heavy: CP's 95 % interval, where the data cannot tell heavy from severe */
+        band = !band && k == CPD_DOM_SEVERE && d->has_uncertain;
+        const cpd_domain_range *r = band ? &d->uncertain : &d->range[k];
+        if (band)
+            sb_puts(b, "<tr><td>heavy or severe");
+        else {
+            sb_printf(b, "<tr><td><span class=\"sw d%d\"></span>", k);
+            esc(b, cpd_domain_name((cpd_domain)k));
+        }
         sb_puts(b, "</td>");
         td_range(b, range_words(r->lo, r->has_lo, r->hi, r->has_hi, t, sizeof t, f_inten, s));
         if (spd)
@@ -718,7 +751,9 @@ static void html_domains(sb *b, const cpd_sheet *s)
         if (hr)
             td_range(b, r->has_hr_lo || r->has_hr_hi ? range_words(r->hr_lo, r->has_hr_lo, r->hr_hi, r->has_hr_hi, t, sizeof t, f_hr, s)
                                                      : "-");
-        td(b, "w", (spd ? DOMAIN_WORDS_SPEED : DOMAIN_WORDS)[k]);
+        td(b, "w", band ? (spd ? "inside CS's 95 % interval: heavy or severe, the data cannot tell"
+                               : "inside CP's 95 % interval: heavy or severe, the data cannot tell")
+                        : (spd ? DOMAIN_WORDS_SPEED : DOMAIN_WORDS)[k]);
         sb_puts(b, "</tr>\n");
     }
     table_close(b);
@@ -841,6 +876,13 @@ static void html_predictions(sb *b, const cpd_sheet *s)
         sb_puts(b, "<tr>");
         td(b, "n", inten(spd, x->intensity, a, sizeof a));
         td(b, "n", spd ? pace(s->pace_m, s->pace_label, x->intensity, p, sizeof p) : fmt(p, sizeof p, 100 * x->intensity / m->cp, 0));
+        if (x->near_cp) {
+            char lb[48];
+            td(b, "n", at_least(x->at_least_s, lb, sizeof lb));
+            td(b, "n", CPD_SHEET_CANNOT_TELL);
+            sb_puts(b, "</tr>\n");
+            continue;
+        }
         td(b, "n", ok ? dur(x->pred.value, t, sizeof t) : cpd_pd_pred_text(x->pred.status));
         if (ok && x->pred.ci_valid) {
             char lo[32], hi[32];
@@ -1115,6 +1157,8 @@ static void render_csv(sb *b, const cpd_sheet *s)
     csv_int(b, "fit", "", "n", (long long)m->n, "trials");
     csv_num(b, "ramp", "", "vo2peak_ml_min", s->has_vo2peak ? s->vo2peak_ml_min : NAN, "mL/min");
     csv_num(b, "ramp", "", "vo2peak_ml_kg_min", s->has_vo2peak_rel ? s->vo2peak_ml_kg_min : NAN, "mL/kg/min");
+    csv_num(b, "ramp", "", "vo2peak_ci95_lo", s->has_vo2peak_ci ? s->vo2peak_ci95[0] : NAN, "mL/min");
+    csv_num(b, "ramp", "", "vo2peak_ci95_hi", s->has_vo2peak_ci ? s->vo2peak_ci95[1] : NAN, "mL/min");
     csv_row(b, "ramp", "", "label", s->ramp_label, "");
     for (int j = 0; j < CPD_BND_N; j++) {
         const cpd_boundary *x = &s->dom->b[j];
@@ -1129,9 +1173,10 @@ static void render_csv(sb *b, const cpd_sheet *s)
         csv_row(b, "boundary", nm, "stale_why", x->stale ? x->stale_why : "", "");
         csv_row(b, "boundary", nm, "reason", x->valid ? "" : x->why, "");
     }
-    for (int j = 0; j < CPD_DOM_N; j++) {
-        const cpd_domain_range *r = &s->dom->range[j];
-        const char *nm = cpd_domain_name((cpd_domain)j);
+    for (int j = 0, band = 0; j < CPD_DOM_N; j += !band) {
+        band = !band && j == CPD_DOM_SEVERE && s->dom->has_uncertain; /* CP's interval, after heavy */
+        const cpd_domain_range *r = band ? &s->dom->uncertain : &s->dom->range[j];
+        const char *nm = band ? "heavy_or_severe" : cpd_domain_name((cpd_domain)j);
         csv_num(b, "target", nm, "lo", r->has_lo ? r->lo : NAN, iu);
         csv_num(b, "target", nm, "hi", r->has_hi ? r->hi : NAN, iu);
         snprintf(k, sizeof k, "lo_%s", kpct);
@@ -1168,7 +1213,10 @@ static void render_csv(sb *b, const cpd_sheet *s)
         csv_num(b, sec_at, item, "value", ok ? a->pred.value : NAN, "s");
         csv_num(b, sec_at, item, "ci95_lo", ok && a->pred.ci_valid ? a->pred.ci95[0] : NAN, "s");
         csv_num(b, sec_at, item, "ci95_hi", ok && a->pred.ci_valid ? a->pred.ci95[1] : NAN, "s");
-        if (!ok)
+        if (a->near_cp) {
+            csv_num(b, sec_at, item, "at_least", a->at_least_s > 0 ? a->at_least_s : NAN, "s");
+            csv_row(b, sec_at, item, "status", CPD_SHEET_CANNOT_TELL, "");
+        } else if (!ok)
             csv_row(b, sec_at, item, "status", cpd_pd_pred_text(a->pred.status), "");
     }
     if (s->session) {
@@ -1305,12 +1353,18 @@ static void render_txt(sb *b, const cpd_sheet *s)
     if (m->has_se)
         sb_printf(b, ", 95%% CI %s to %s", capac(spd, m->w_prime_ci95[0], c, sizeof c), capac(spd, m->w_prime_ci95[1], e, sizeof e));
     sb_puts(b, "\n");
-    if (d->b[CPD_BND_MOD_HEAVY].valid)
+    if (d->b[CPD_BND_MOD_HEAVY].valid) {
         sb_printf(b, "GET equivalent %s", inten(spd, d->b[CPD_BND_MOD_HEAVY].value, a, sizeof a));
-    else
+        if (d->b[CPD_BND_MOD_HEAVY].has_ci)
+            sb_printf(b, ", 95%% CI %s to %s", inten(spd, d->b[CPD_BND_MOD_HEAVY].ci95[0], c, sizeof c),
+                      inten(spd, d->b[CPD_BND_MOD_HEAVY].ci95[1], e, sizeof e));
+    } else
         sb_puts(b, "GET equivalent unknown");
     if (s->has_vo2peak)
         sb_printf(b, "; VO2peak %s L/min", fmt(a, sizeof a, s->vo2peak_ml_min / 1000, 2));
+    if (s->has_vo2peak_ci)
+        sb_printf(b, ", 95%% CI %s to %s L/min", fmt(c, sizeof c, s->vo2peak_ci95[0] / 1000, 2),
+                  fmt(e, sizeof e, s->vo2peak_ci95[1] / 1000, 2));
     if (s->has_vo2peak_rel)
         sb_printf(b, " (%s mL/kg/min)", fmt(a, sizeof a, s->vo2peak_ml_kg_min, 1));
     sb_puts(b, "\n\ndomains and targets:\n");
@@ -1320,8 +1374,9 @@ static void render_txt(sb *b, const cpd_sheet *s)
     t->align = "lllll";
     const char *hd[] = {"domain", spd ? "speed" : "power", spd ? "pace" : "% of CP", spd ? "% of CS" : "W/kg", "HR (bpm)"};
     tt_row(t, hd);
-    for (int k = 0; k < CPD_DOM_N; k++) {
-        const cpd_domain_range *r = &d->range[k];
+    for (int k = 0, band = 0; k < CPD_DOM_N; k += !band) {
+        band = !band && k == CPD_DOM_SEVERE && d->has_uncertain; /* CP's interval, after heavy */
+        const cpd_domain_range *r = band ? &d->uncertain : &d->range[k];
         range_words(r->lo, r->has_lo, r->hi, r->has_hi, a, sizeof a, f_inten, s);
         if (spd)
             pace_range(s, r, c, sizeof c);
@@ -1337,7 +1392,7 @@ static void render_txt(sb *b, const cpd_sheet *s)
             range_words(r->hr_lo, r->has_hr_lo, r->hr_hi, r->has_hr_hi, f, sizeof f, f_hr, s);
         else
             snprintf(f, sizeof f, "-");
-        const char *row[] = {cpd_domain_name((cpd_domain)k), a, c, e, f};
+        const char *row[] = {band ? "heavy or severe (the data cannot tell)" : cpd_domain_name((cpd_domain)k), a, c, e, f};
         tt_row(t, row);
     }
     tt_print(b, t);
@@ -1402,7 +1457,10 @@ static void render_txt(sb *b, const cpd_sheet *s)
         else
             fmt(c, sizeof c, 100 * x->intensity / m->cp, 0);
         snprintf(e, sizeof e, "%s", ok ? dur(x->pred.value, g, sizeof g) : "-");
-        if (ok && x->pred.ci_valid) {
+        if (x->near_cp) {
+            at_least(x->at_least_s, e, sizeof e);
+            snprintf(f, sizeof f, "%s", CPD_SHEET_CANNOT_TELL);
+        } else if (ok && x->pred.ci_valid) {
             char lo[32], hi[32];
             snprintf(f, sizeof f, "%s to %s", dur(x->pred.ci95[0], lo, sizeof lo), dur(x->pred.ci95[1], hi, sizeof hi));
         } else

@@ -104,7 +104,7 @@ static cpd_gx_series *synth_bout(const synth_params *p, synth_rng *r, size_t *n_
     return s;
 }
 
-/* Typical healthy-adult cycling transitions (METHODS 6.4): primary tau 20-35 s (Burnley, Doust &
+/* Typical healthy-adult cycling transitions: primary tau 20-35 s (Burnley, Doust &
  * Jones 2006 J Appl Physiol 101:1320), moderate gain about 10 mL/min/W (Hill, Poole & Smith 2002;
  * Barstow & Mole 1991: 9.1-11). Power 100 W from 0 W here, so A1 = 1020 mL/min is a gain of 10.2. */
 static synth_params synth_moderate(void)

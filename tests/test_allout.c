@@ -16,6 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <cmocka.h>
+#include "rng.h"
 
 /* Tolerance for sums of up to 180 values of a few hundred W: rounding is below 1e-10 J. */
 #define TOL 1e-9
@@ -268,17 +269,43 @@ static void texts(void **state)
     assert_null(cpd_allout_flag_text(0));
     assert_null(cpd_allout_flag_text(CPD_ALLOUT_FLAG_PACED | CPD_ALLOUT_FLAG_STOPPED));
     assert_string_equal(cpd_allout_flag_name(CPD_ALLOUT_FLAG_PACED), "paced");
-    /* the caution names its sources (METHODS.md §2) */
+    /* the caution names its sources (Vanhatalo, Doust & Burnley 2007) */
     const char *c = cpd_allout_caution();
     assert_non_null(strstr(c, "Wright"));
     assert_non_null(strstr(c, "Johnson"));
     assert_non_null(strstr(c, "28 %"));
 }
 
+/* Issue 12: the end power's interval covers the true end level: 200 simulated tests, an exponential
+ * fall from 720 W to a true end level of 262.5 W with white noise of SD 14.5 W each second. */
+static void end_power_interval_covers(void **state)
+{
+    (void)state;
+    rng g = {.s = 0x9e3779b97f4a7c15ull};
+    int hit = 0, n = 200;
+    double p[180];
+    for (int k = 0; k < n; k++) {
+        for (int i = 0; i < 180; i++) {
+            double e = rng_normal(&g);
+            p[i] = 262.5 + 457.5 * exp(-i / 22.0) + 14.5 * e;
+        }
+        cpd_allout_result r;
+        assert_int_equal(cpd_allout_analyse(p, 180, 0, &r, NULL), CPD_OK);
+        double truth = 0;
+        for (int i = 150; i < 180; i++)
+            truth += (262.5 + 457.5 * exp(-i / 22.0)) / 30;
+        hit += r.end_power_ci95[0] <= truth && truth <= r.end_power_ci95[1];
+        assert_true(r.work_above_ci95[0] < r.work_above_end_j && r.work_above_end_j < r.work_above_ci95[1]);
+    }
+    printf("3-minute all-out end power: coverage %.1f %% (%d of %d simulated tests)\n", 100.0 * hit / n, hit, n);
+    assert_true(hit >= 180 && hit <= 197);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(end_power_interval_covers),
         cmocka_unit_test(brief_example),
         cmocka_unit_test(all_out_profile),
         cmocka_unit_test(paced_test),

@@ -1,5 +1,5 @@
 /* test_balance.c: the W′ balance models against published recovery constants, closed-form
- * identities (METHODS.md §9), an independent Python implementation run now on seeded random
+ * identities (the 2-parameter identity), an independent Python implementation run now on seeded random
  * protocols, and the solver re-simulated at its answers. */
 #include "cpdomain/balance.h"
 #include "cpdomain/protocol.h"
@@ -47,7 +47,7 @@ static cpd_protocol *parse_ok(const char *text)
 
 static const cpd_balance_model models[3] = {CPD_BALANCE_DIFFERENTIAL, CPD_BALANCE_INTEGRAL, CPD_BALANCE_ELITE};
 
-/* METHODS.md §3 τ table, W′0 = 20 kJ, derived from the published equations: Skiba et al. 2012
+/* The τ table, W′0 = 20 kJ, derived from the published equations: Skiba et al. 2012
  * Med Sci Sports Exerc 44:1526 (546·e^(-0.01·D_CP) + 316), Skiba et al. 2015 Eur J Appl Physiol
  * 115:703 (W′0/D_CP), Bartram et al. 2018 Int J Sports Physiol Perform 13:724
  * (2287.2·D_CP^-0.688). The table prints one decimal, so each value must lie within 0.05 s. */
@@ -82,7 +82,8 @@ static void recovery_time_constants(void **state)
 static void model_names(void **state)
 {
     (void)state;
-    const char *names[3] = {"differential", "integral", "elite"};
+    /* issue 12: the trained-cyclist model is named after its authors (Bartram et al. 2018) */
+    const char *names[3] = {"differential", "integral", "bartram"};
     for (int i = 0; i < 3; i++) {
         cpd_balance_model m = (cpd_balance_model)99;
         assert_string_equal(cpd_balance_model_name(models[i]), names[i]);
@@ -90,12 +91,14 @@ static void model_names(void **state)
         assert_int_equal(m, models[i]);
     }
     cpd_balance_model m;
+    assert_int_equal(cpd_balance_model_parse("elite", &m), CPD_OK); /* its former name still reads */
+    assert_int_equal(m, CPD_BALANCE_BARTRAM);
     assert_int_equal(cpd_balance_model_parse("skiba", &m), CPD_EUSAGE);
     assert_int_equal(cpd_balance_model_parse(NULL, &m), CPD_EUSAGE);
     assert_null(cpd_balance_model_name((cpd_balance_model)7));
 }
 
-/* METHODS.md §9: at constant supra-CP power from a rested start the balance reaches zero at
+/* the 2-parameter identity: at constant supra-CP power from a rested start the balance reaches zero at
  * W′/(P - CP) in the differential model (no recovery term acts above CP, so elite too) and in
  * the integral model when no second is below CP. */
 static void constant_power_from_rest(void **state)
@@ -143,7 +146,7 @@ static void constant_power_from_rest(void **state)
 }
 
 /* A sub-CP warm-up leaves a rested athlete rested in the differential family, so failure comes
- * W′/(P - CP) after it; in the integral model it comes later (METHODS.md §9), because its decay
+ * W′/(P - CP) after it; in the integral model it comes later (the 2-parameter identity), because its decay
  * acts on expenditure above CP too. With D_CP fixed by the warm-up, the integral model's
  * expenditure after k seconds is r(1 - d^k)/(1 - d), d = exp(-1/τ): a derived closed form. */
 static void warm_up_then_constant_power(void **state)

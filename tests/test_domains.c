@@ -1,5 +1,5 @@
 /* test_domains.c: boundaries, targets and flags of the domains module on fits whose answers are
- * known in closed form (METHODS.md section 9 identities: P = CP + W'/t). */
+ * known in closed form (2-parameter identities: P = CP + W'/t). */
 #include "cpdomain/domains.h"
 #include "cpdomain/status.h"
 #include "cpdomain/units.h"
@@ -71,7 +71,8 @@ static void boundaries_follow_the_model(void **state)
     assert_near(d.range[CPD_DOM_HEAVY].hi, m->cp_ci95[0], 0);
     assert_near(d.range[CPD_DOM_HEAVY].lo, 182.5, 0);
     assert_near(d.range[CPD_DOM_MODERATE].hi_w_kg, 182.5 / 72.5, 1e-12);
-    assert_near(d.range[CPD_DOM_SEVERE].lo_pct_cp, 100, 1e-12);
+    /* severe targets start at CP's upper bound (issue 12: between the bounds the data cannot tell) */
+    assert_near(d.range[CPD_DOM_SEVERE].lo_pct_cp, 100 * m->cp_ci95[1] / m->cp, 1e-12);
     assert_near(d.range[CPD_DOM_HEAVY].hr_hi, 171, 0);
     /* severe efforts: P = CP + W'/t for 2, 3, 5, 8, 12 min */
     static const double ts[5] = {120, 180, 300, 480, 720};
@@ -167,12 +168,48 @@ static void two_trials_use_a_margin(void **state)
     free(r);
 }
 
+/* Issue 12: with a 150-s time to VO2max the 2-min effort (P = CP + W'/120) lies above the boundary
+ * (CP + W'/150) and is not listed; the band between CP's bounds is reported as uncertain and the
+ * severe targets start at CP's upper bound. */
+static void efforts_stay_in_the_severe_domain(void **state)
+{
+    (void)state;
+    cpd_pd_result *r = fit_exactish();
+    const cpd_pd_model_fit *m = &r->models[CPD_PD_LINEAR_TOTAL];
+    cpd_domains_input in;
+    input_for(&in, m);
+    in.has_tau = in.has_t_vo2max = 1;
+    in.tau_s = 34.5;
+    in.delay_s = 12.0;
+    in.t_vo2max_s = 150.0;
+    in.t_vo2max_se_s = 12.5;
+    cpd_domains_result d;
+    assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
+    const cpd_boundary *se = &d.b[CPD_BND_SEVERE_EXTREME];
+    assert_near(se->value, m->cp + m->w_prime / 150.0, 1e-9);
+    assert_true(d.effort[0].beyond_severe && !d.effort[0].valid);
+    for (int k = 1; k < CPD_DOMAINS_NEFFORTS; k++)
+        assert_true(d.effort[k].valid && d.effort[k].value <= se->value);
+    /* the interval combines the model's half-width and 1.96 W'/T^2 SE(T) in quadrature */
+    cpd_pd_pred p;
+    assert_int_equal(cpd_pd_predict_intensity(m, 150.0, &p), CPD_OK);
+    double hp = 0.5 * (p.ci95[1] - p.ci95[0]), hk = 1.96 * m->w_prime / (150.0 * 150.0) * 12.5;
+    assert_near(se->ci95[1] - se->value, sqrt(hp * hp + hk * hk), 1e-9);
+    assert_true(d.has_uncertain);
+    assert_near(d.uncertain.lo, m->cp_ci95[0], 1e-9);
+    assert_near(d.uncertain.hi, m->cp_ci95[1], 1e-9);
+    assert_near(d.range[CPD_DOM_SEVERE].lo, m->cp_ci95[1], 1e-9);
+    assert_near(d.range[CPD_DOM_HEAVY].hi, m->cp_ci95[0], 1e-9);
+    free(r);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(boundaries_follow_the_model),
         cmocka_unit_test(flags_and_staleness),
         cmocka_unit_test(two_trials_use_a_margin),
+        cmocka_unit_test(efforts_stay_in_the_severe_domain),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

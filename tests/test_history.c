@@ -1,5 +1,5 @@
 /* test_history.c: blocks of trials, fits per block and the verdict on changes, on data generated
- * from known CP and W' (the 2-parameter identity t = W'/(P - CP), METHODS.md section 9). */
+ * from known CP and W' (the 2-parameter identity t = W'/(P - CP), the 2-parameter identity (derived)). */
 #include "cpdomain/history.h"
 #include "cpdomain/status.h"
 
@@ -9,6 +9,7 @@
 #include <stdint.h>
 #include <cmocka.h>
 #include "near.h"
+#include <gsl/gsl_cdf.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
@@ -45,10 +46,16 @@ static void two_blocks_and_a_meaningful_change(void **state)
     const cpd_history_change *c = &h->block[1].d_cp;
     assert_true(c->valid);
     assert_near(c->delta, h->block[1].cp - h->block[0].cp, 1e-12);
-    /* the interval is +-1.96 times the combined standard error */
-    double se = hypot(h->block[0].cp_se, h->block[1].cp_se);
-    assert_near(c->ci95[1] - c->ci95[0], 2 * 1.959963984540054 * se, 1e-9);
-    assert_true(c->meaningful);
+    /* issue 12: Student's t with the Welch-Satterthwaite dof (Welch 1947) of the combined SE, the
+     * same model in both blocks */
+    double s1 = h->block[0].cp_se, s2 = h->block[1].cp_se, se = hypot(s1, s2);
+    double df = pow(s1 * s1 + s2 * s2, 2) / (pow(s1, 4) / 3 + pow(s2, 4) / 3); /* 5 trials - 2 parameters */
+    assert_near(c->df, df, 1e-9);
+    assert_true(c->df >= 3 && c->df <= 6);
+    assert_true(c->model_valid && c->model == CPD_PD_HYPERBOLIC);
+    assert_near(c->ci95[1] - c->ci95[0], 2 * gsl_cdf_tdist_Pinv(0.975, df) * se, 1e-9);
+    assert_near(c->swc, CPD_HISTORY_SWC_PCT / 100 * h->block[0].cp, 1e-9);
+    assert_true(c->meaningful && c->excludes_zero);
     assert_false(h->block[0].d_cp.valid); /* the first block has nothing to compare with */
 
     /* the same athlete twice: a change within the noise */
@@ -101,9 +108,39 @@ static void small_blocks_and_bad_input(void **state)
     free(h);
 }
 
+/* Issue 12: a change that excludes zero but not the smallest worthwhile change is not meaningful;
+ * without a model, both blocks are compared with the one model they share best. */
+static void worthwhile_and_like_with_like(void **state)
+{
+    (void)state;
+    static const double P[5] = {420, 370, 335, 310, 295};
+    int day[10];
+    double x[10], t[10];
+    make_block(250, 20000, P, 5, 20000, 0.002, day, x, t);
+    make_block(256.5, 20000, P, 5, 20070, 0.002, day + 5, x + 5, t + 5);
+    cpd_pd_ws *w = cpd_pd_alloc();
+    cpd_history *h = calloc(1, sizeof *h);
+    assert_int_equal(cpd_history_build(w, CPD_PD_POWER, day, x, t, 10, 0, 0, CPD_PD_HYPERBOLIC, h), CPD_OK);
+    const cpd_history_change *c = &h->block[1].d_cp;
+    assert_true(c->valid && c->model_valid);
+    /* the change is computed with one model for both blocks */
+    assert_near(c->delta, h->block[1].models[c->model].cp - h->block[0].models[c->model].cp, 1e-9);
+    /* +6.5 W is clear of zero with 0.2 % noise, but inside 4.6 % of 250 W = 11.5 W */
+    assert_true(c->excludes_zero);
+    assert_false(c->meaningful);
+    /* a smaller stated SWC (2 %: 5 W) makes it worthwhile */
+    h->swc_pct = 2.0;
+    cpd_history_changes(h);
+    assert_true(h->block[1].d_cp.meaningful);
+    assert_near(h->block[1].d_cp.swc, 0.02 * h->block[0].models[c->model].cp, 1e-9);
+    free(h);
+    cpd_pd_free(w);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(worthwhile_and_like_with_like),
         cmocka_unit_test(two_blocks_and_a_meaningful_change),
         cmocka_unit_test(small_blocks_and_bad_input),
     };

@@ -326,9 +326,9 @@ static void tau_ci_covers_in_single_bouts(void **state)
     cpd_kinetics_free(w);
 }
 
-/* Ensembles of 3 repeats averaged at 1 s. With the covariance counting breaths (METHODS 6.2) the
+/* Ensembles of 3 repeats averaged at 1 s. With the covariance counting breaths  the
  * CI covers in about 95 % (binomial(100, 0.95), SD 2.2: band 88..99 is -3.2 to +1.8 SD); the same
- * fit treating the 1-s points as independent covers far less (METHODS 6.2: about 70 % in
+ * fit treating the 1-s points as independent covers far less (about 70 % in
  * simulation), which is why the honest CI exists. */
 static void tau_ci_covers_in_ensembles(void **state)
 {
@@ -392,7 +392,7 @@ static void tau_ci_covers_in_ensembles(void **state)
 /* ---- the bi-exponential against scipy ---- */
 
 /* scipy.optimize.curve_fit (MINPACK lmder, analytic Jacobian) on the same breaths and start,
- * ftol = xtol = gtol = 1e-12 (METHODS 9): estimates and SEs (s^2 (J'J)^-1 by numpy at scipy's
+ * ftol = xtol = gtol = 1e-12 : estimates and SEs (s^2 (J'J)^-1 by numpy at scipy's
  * optimum) agree at 1e-6 relative. The unit step makes the residual kinked wherever a delay
  * crosses a breath time, and minima often sit on such a kink, where two optimisers may stop on
  * either side; the comparison is well posed only at a smooth optimum, which this seed has (both
@@ -549,7 +549,7 @@ static void heavy_bout_spec_keys(void **state)
     assert_near(res.end_minus_primary_ml_min, res.end_vo2_ml_min - (b[CPD_KIN_BASE] + b[CPD_KIN_A1]), 1e-9);
     assert_true(res.end_pct_valid);
     assert_near(res.end_pct_vo2peak, 100.0 * res.end_vo2_ml_min / 4650.0, 1e-9);
-    /* Fixed intervals under-estimate the slow component (METHODS 6.3: RBME, Bell 2001) */
+    /* Fixed intervals under-estimate the slow component (RBME, Bell 2001) */
     assert_true(res.delta_6_3_ml_min < res.slow.amplitude_ml_min);
     /* the slow component drags the whole-bout mono-exponential's tau far above the truth */
     assert_true(res.mono.b[CPD_KIN_TAU1] > 1.3 * p.tau1);
@@ -574,7 +574,7 @@ static void heavy_bout_spec_keys(void **state)
     cpd_gx_free(s);
 }
 
-/* A moderate bout against the typical values of METHODS 6.4: phase II tau 20-35 s (Burnley, Doust
+/* A moderate bout against the typical values published: phase II tau 20-35 s (Burnley, Doust
  * & Jones 2006 J Appl Physiol 101:1320; moderate cycling 25.7 +- 8.6 s, Roberts et al. 2005 Respir
  * Physiol Neurobiol 146:247) and gain about 10 mL/min/W (Hill, Poole & Smith 2002; 8.7-12.0, Keir
  * et al. 2016 J Appl Physiol 120:503). The generator uses 27.4 s and 10.2; recovery must land there. */
@@ -1041,10 +1041,30 @@ static void names_and_reasons(void **state)
     assert_string_equal(cpd_kinetics_reason_text(CPD_KIN_R_NREASON), "unknown reason");
 }
 
+/* Issue 12: a 6-min bout 3 % above CP that levelled off does not suggest CP is underestimated; a
+ * 12-min one does (the 10-min rule of cpd_kinetics_verify_bout). */
+static void short_bouts_do_not_overreach(void **state)
+{
+    (void)state;
+    cpd_kinetics_check c;
+    assert_int_equal(cpd_kinetics_verify_bout(CPD_KIN_HEAVY, 358.5, 257.5, 180.0, 250.0, &c), CPD_OK);
+    assert_int_equal(c.agreement, -1);
+    assert_non_null(strstr(c.message, "nothing to conclude about CP"));
+    assert_null(strstr(c.message, "underestimated"));
+    assert_int_equal(cpd_kinetics_verify_bout(CPD_KIN_HEAVY, 721.0, 257.5, 180.0, 250.0, &c), CPD_OK);
+    assert_int_equal(c.agreement, 0);
+    assert_non_null(strstr(c.message, "CP may be underestimated"));
+    /* the rule touches only that verdict: a severe response below CP still says so after 6 min */
+    assert_int_equal(cpd_kinetics_verify_bout(CPD_KIN_SEVERE, 358.5, 240.0, 180.0, 250.0, &c), CPD_OK);
+    assert_int_equal(c.agreement, 0);
+    assert_non_null(strstr(c.message, "CP may be overestimated"));
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(short_bouts_do_not_overreach),
         cmocka_unit_test(nist_misra1a),
         cmocka_unit_test(nist_boxbod),
         cmocka_unit_test(model_values_by_hand),

@@ -13,6 +13,7 @@
 #include <string.h>
 #include <cmocka.h>
 #include "near.h"
+#include "rng.h"
 
 
 /* Every double of a result is finite (the "never NaN" rule). */
@@ -256,10 +257,54 @@ static void bad_input_is_refused(void **state)
     assert_int_equal(r.obla.has_hr, 1);
 }
 
+/* Issue 12: the bootstrap intervals on 200 simulated step tests (8 stages of 25 W from 90 W, lactate
+ * 0.7 + 0.09 e^((P - 90)/38) mmol/L, noise SD 0.15 mmol/L; tests/rng.h).
+ * The truth of each method is its answer on the noise-free stages (what the method estimates). */
+static void thresholds_have_intervals(void **state)
+{
+    (void)state;
+    double x[8], y0[8], y[8];
+    for (int i = 0; i < 8; i++) {
+        x[i] = 90 + 25 * i;
+        y0[i] = 0.7 + 0.09 * exp((x[i] - 90) / 38);
+    }
+    cpd_lactate_result r0, r;
+    assert_int_equal(cpd_lactate_analyse(x, y0, NULL, 8, &r0, NULL), CPD_OK);
+    const cpd_lactate_value *t0[4] = {&r0.lt1, &r0.dmax, &r0.dmax_mod, &r0.obla};
+    rng g = {.s = 0x1ac7a7eull};
+    int hit[4] = {0}, n[4] = {0};
+    for (int k = 0; k < 200; k++) {
+        for (int i = 0; i < 8; i++)
+            y[i] = fmax(0.1, y0[i] + 0.15 * rng_normal(&g));
+        assert_int_equal(cpd_lactate_analyse(x, y, NULL, 8, &r, NULL), CPD_OK);
+        cpd_lactate_ci ci;
+        assert_int_equal(cpd_lactate_ci_compute(x, y, 8, &r, 200, (uint64_t)k, &ci), CPD_OK);
+        const cpd_lactate_value *e[4] = {&r.lt1, &r.dmax, &r.dmax_mod, &r.obla};
+        for (int q = 0; q < 4; q++) {
+            if (!ci.valid[q] || t0[q]->status != CPD_LACTATE_FOUND)
+                continue;
+            assert_true(ci.ci95[q][0] <= e[q]->intensity && e[q]->intensity <= ci.ci95[q][1]);
+            n[q]++;
+            hit[q] += ci.ci95[q][0] <= t0[q]->intensity && t0[q]->intensity <= ci.ci95[q][1];
+        }
+    }
+    static const char *const nm[4] = {"LT1 (log-log)", "Dmax", "modified Dmax", "4 mmol/L"};
+    for (int q = 0; q < 4; q++) {
+        printf("lactate %s: coverage %.1f %% (%d of %d simulated tests)\n", nm[q], n[q] ? 100.0 * hit[q] / n[q] : 0,
+               hit[q], n[q]);
+        assert_true(n[q] >= 150);
+        assert_true(hit[q] >= 0.85 * n[q]); /* reported; the target is 95 % */
+    }
+    cpd_lactate_ci ci;
+    assert_int_equal(cpd_lactate_ci_compute(NULL, y, 8, &r, 200, 1, &ci), CPD_EUSAGE);
+    assert_int_equal(cpd_lactate_ci_compute(x, y, 4, &r, 200, 1, &ci), CPD_ENODATA);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
     const struct CMUnitTest tests[] = {
+        cmocka_unit_test(thresholds_have_intervals),
         cmocka_unit_test(dmax_on_an_exact_cubic),
         cmocka_unit_test(loglog_and_obla_by_hand),
         cmocka_unit_test(obla_hr_and_numpy_dmax),

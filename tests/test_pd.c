@@ -1,5 +1,5 @@
 /* test_pd.c: the power-duration module against scipy/numpy computed at test time, the exact-data
- * identities of METHODS §9, hand-checked leave-one-out and prediction arithmetic, one test per
+ * identities of the 2-parameter identity, hand-checked leave-one-out and prediction arithmetic, one test per
  * quality flag, interval coverage on synthetic athletes, and every error path. */
 #include "cpdomain/pd.h"
 #include "cpdomain/status.h"
@@ -65,9 +65,9 @@ static void assert_all_finite(const cpd_pd_result *r)
     }
 }
 
-/* ---- METHODS §9 exact data ---------------------------------------------------------------- */
+/* ---- exact data of the 2-parameter identity ---------------------------------------------------------------- */
 
-/* CP 250 W, W′ 20 000 J, P = 400, 350, 310, 280 W: t = W′/(P − CP) exactly (METHODS §9,
+/* CP 250 W, W′ 20 000 J, P = 400, 350, 310, 280 W: t = W′/(P − CP) exactly (the 2-parameter identity,
  * derived identity). Every 2-parameter model must return the generating values; the tolerance
  * 1e-9 is rounding in t (stored to 17 digits) amplified by the fit's conditioning. */
 static void exact_data_identities(void **state)
@@ -126,7 +126,7 @@ typedef struct {
     double cv;    /* multiplicative noise on the duration */
 } synth;
 
-/* Invented but typical athletes (METHODS §1.3, §7 for the ranges): cyclists, runners, a swimmer;
+/* Invented but typical athletes (typical published ranges): cyclists, runners, a swimmer;
  * 2- and 3-parameter generators, 3 to 8 trials, 1.5-8 % noise on the durations. */
 static const synth sets[] = {
     {CPD_PD_POWER, 265.4, 18730, 0, 4, {134, 251, 413, 702}, 0.04},
@@ -455,7 +455,7 @@ static void flags_p_max_unidentifiable(void **state)
 {
     (void)state;
     /* a 3-parameter athlete tested only between 2.5 and 14 min: even if the fit converges, Pmax is
-     * extrapolated (METHODS §9 note), so it is flagged and never the best model */
+     * extrapolated (the design note in pd.c), so it is flagged and never the best model */
     const double cp = 251.7, w = 20480, pmax = 940, a = w / (pmax - cp);
     const double t0[5] = {151, 236, 372, 560, 842};
     double P[5], t[5];
@@ -677,7 +677,7 @@ static void model_names(void **state)
 
 /* ---- predictions ---------------------------------------------------------------------------- */
 
-/* METHODS §9: CP 250 W, W′ 20 kJ, P 400 W gives 133.3 s. */
+/* the 2-parameter identity: CP 250 W, W′ 20 kJ, P 400 W gives 133.3 s. */
 static void predictions_arithmetic(void **state)
 {
     (void)state;

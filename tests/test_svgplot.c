@@ -629,7 +629,7 @@ static void each_layer_type(void **state)
     cpd_svgplot_free(p);
 }
 
-/* The plots of the domain sheet, drawn with invented but typical values (METHODS.md ranges). */
+/* The plots of the domain sheet, drawn with invented but typical values. */
 static void sheet_plots(void **state)
 {
     (void)state;

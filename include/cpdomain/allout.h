@@ -58,6 +58,14 @@ typedef struct {
     size_t zero_s;           /* s: seconds of the test with zero power */
     unsigned flags;          /* CPD_ALLOUT_FLAG_* */
     int all_out;             /* 1 when no flag is raised */
+    /* Measurement precision (issue 12): the SE of a 30-s mean, SD (n - 1) / sqrt(30), and a t
+     * interval with 29 dof; the work above end power moves by -1 J per W of end power for every
+     * second above it, so its SE is that count x SE(end power). They say how precisely this test
+     * measured its end power, not how well end power estimates CP (see cpd_allout_caution). */
+    double end_power_se_w;   /* W */
+    double end_power_ci95[2];/* W */
+    double work_above_se_j;  /* J */
+    double work_above_ci95[2]; /* J */
 } cpd_allout_result;
 
 /* Analyses the test in power_w[start_s .. start_s + 179] (1-Hz power, W, finite and >= 0 there)

@@ -6,8 +6,9 @@
  *  - differential (Skiba et al. 2015 Eur J Appl Physiol 115:703): P > CP: B <- B - (P - CP)·1 s;
  *    P < CP: the exact solution over the second of dB/dt = (W′0 - B)·D_CP/W′0 with D_CP = CP - P,
  *    B <- W′0 - (W′0 - B)·exp(-D_CP/W′0); P = CP: unchanged.
- *  - elite (Bartram et al. 2018 Int J Sports Physiol Perform 13:724): as differential with the
- *    recovery time constant tau = 2287.2·D_CP^-0.688 s: B <- W′0 - (W′0 - B)·exp(-1 s/tau).
+ *  - bartram (Bartram et al. 2018 Int J Sports Physiol Perform 13:724, fitted on trained track
+ *    cyclists): as differential with the recovery time constant tau = 2287.2·D_CP^-0.688 s:
+ *    B <- W′0 - (W′0 - B)·exp(-1 s/tau). Named after its authors; "elite" is still read as an alias.
  *  - integral (Skiba et al. 2012 Med Sci Sports Exerc 44:1526): the expenditure of second k,
  *    e_k = max(P_k - CP, 0)·1 s, is placed at the end of that second, and
  *    B(t) = W′0 - sum_{k<=t} e_k·exp(-(t - k)/tau), tau = 546·exp(-0.01·D_CP) + 316 s with D_CP
@@ -16,8 +17,9 @@
  *    B(t) = W′0 - S_t. Against the continuous integral over piecewise-constant power each e_k
  *    lacks the factor tau·(1 - exp(-1/tau)), below 0.16 % for every tau >= 316 s.
  * The balance is not clamped: it goes below zero after failure and the computation continues.
- * For speed the same arithmetic runs with CS (m/s) and D′ (m). The integral and elite constants
- * were fitted on cycling power in W; with m/s they are used as they are and mean little. */
+ * For speed the same arithmetic runs with CS (m/s) and D′ (m). The integral and bartram constants
+ * were fitted on cycling power in W; with m/s they are used as they are and mean little (the
+ * reports mark them). */
 #ifndef CPDOMAIN_BALANCE_H
 #define CPDOMAIN_BALANCE_H
 
@@ -28,8 +30,9 @@
 typedef enum {
     CPD_BALANCE_DIFFERENTIAL, /* Skiba et al. 2015 (the default) */
     CPD_BALANCE_INTEGRAL,     /* Skiba et al. 2012 */
-    CPD_BALANCE_ELITE         /* differential form, Bartram et al. 2018 tau */
+    CPD_BALANCE_BARTRAM       /* differential form, Bartram et al. 2018 tau (trained cyclists) */
 } cpd_balance_model;
+#define CPD_BALANCE_ELITE CPD_BALANCE_BARTRAM /* the former name */
 
 typedef struct {
     cpd_balance_model model;
@@ -48,10 +51,11 @@ typedef struct {
     double tau_s;        /* integral: the recovery time constant used, s; valid when has_dcp */
 } cpd_balance_result;
 
-/* "differential", "integral", "elite"; NULL for an invalid model. */
+/* "differential", "integral", "bartram"; NULL for an invalid model. */
 const char *cpd_balance_model_name(cpd_balance_model m);
 
-/* Looks up a model by the name above. Returns CPD_OK or CPD_EUSAGE for an unknown name. */
+/* Looks up a model by the name above ("elite" is read as "bartram", its former name). Returns
+ * CPD_OK or CPD_EUSAGE for an unknown name. */
 int cpd_balance_model_parse(const char *name, cpd_balance_model *m);
 
 /* Recovery time constant of the integral model, tau = 546·exp(-0.01·D_CP) + 316 s (Skiba et al.

@@ -10,9 +10,9 @@
 #define CPD_DOMAINS_NEFFORTS 5   /* severe-domain target times to failure: 2, 3, 5, 8, 12 min */
 #define CPD_DOMAINS_NDELTA 3     /* 25, 50 and 75 %delta */
 #define CPD_DOMAINS_STALE_DAYS 56 /* default: a boundary resting on data older than 8 weeks is stale */
-/* Time to reach VO2max used when no VO2 kinetics are known, s: the minimum time to elicit VO2max
- * was 103 +- 7 s in runners (Hill, Glass & Vingren, cited in METHODS.md section 6.5) and 101 +- 39 s
- * in runners and active subjects; an approximation, stated with every use. */
+/* Time to reach VO2max used when no VO2 kinetics are known, s: about the shortest times to
+ * VO2max reported in runners and active subjects (from memory, about 100 s); an approximation,
+ * stated with every use, and without an interval. */
 #define CPD_DOMAINS_T_VO2MAX_DEFAULT_S 100.0
 
 typedef enum { CPD_DOM_MODERATE, CPD_DOM_HEAVY, CPD_DOM_SEVERE, CPD_DOM_EXTREME, CPD_DOM_N } cpd_domain;
@@ -33,6 +33,8 @@ typedef struct {
     char get_source[CPD_DOMAINS_TEXT]; /* e.g. "ramp 3" */
     int get_steps;                     /* 1 when the GET comes from a step test (its stage steady states) */
     char get_date[11];
+    int has_get_ci;                    /* 1 when the GET equivalent has a 95 % interval (cpd_ramp_ci_compute) */
+    double get_ci95[2];
     int has_hr_get, has_hr_rcp;        /* heart rates at the GET and the RCP on the ramp */
     double hr_get, hr_rcp;             /* beats/min */
     int has_peak;                      /* 1 when the ramp's peak constant-intensity equivalent is known */
@@ -45,6 +47,10 @@ typedef struct {
     double tau_s;                      /* s */
     char tau_source[CPD_DOMAINS_TEXT];
     char tau_date[11];
+    int has_t_vo2max;                  /* 1 when the bout gives the time to reach VO2max with its SE */
+    double delay_s;                    /* the bout's primary delay TD1, s */
+    double t_vo2max_s;                 /* TD1 + 4 tau1, s (cpd_kinetics_time_to_vo2max) */
+    double t_vo2max_se_s;              /* its standard error, s */
     int has_mass;
     double mass_kg;                    /* kg, for W/kg */
     int today;                         /* days since 1970-01-01 */
@@ -77,6 +83,7 @@ typedef struct {
 
 typedef struct {
     double duration_s;                 /* target time to task failure, s */
+    int beyond_severe;                 /* 1: the effort lies above the severe-extreme boundary (not listed) */
     int valid;
     double value;                      /* intensity that can be held for it */
     int has_ci;
@@ -96,8 +103,11 @@ enum {
 typedef struct {
     cpd_boundary b[CPD_BND_N];
     cpd_domain_range range[CPD_DOM_N];
+    int has_uncertain;                 /* 1 when CP has an interval: the band between heavy and severe */
+    cpd_domain_range uncertain;        /* CP's 95 % interval: heavy or severe, the data cannot tell */
     double heavy_ceiling;              /* highest intensity advised for heavy-domain work: CP's lower 95 % bound */
     double t_vo2max_s;                 /* time to reach VO2max used for the severe-extreme boundary, s */
+    double t_vo2max_se_s;              /* its standard error, s; 0 when assumed or unknown */
     cpd_domain_effort effort[CPD_DOMAINS_NEFFORTS];
     int has_delta;                     /* 1 when GET and peak give the %delta intensities */
     double delta_pct[CPD_DOMAINS_NDELTA];   /* 25, 50, 75 */
@@ -107,11 +117,16 @@ typedef struct {
 
 /* Computes the boundaries: moderate-heavy = the GET's constant-intensity equivalent (else LT1);
  * heavy-severe = CP (CS) of the fit with its 95 % interval; severe-extreme = the intensity whose
- * predicted time to task failure equals the time to reach VO2max, 4 tau of the severe-domain VO2
- * kinetics when known (the P_4tau shortcut of Ozkaya et al. 2025 J Sports Sci, to the boundary of
- * Hill, Poole & Smith 2002 J Appl Physiol) or CPD_DOMAINS_T_VO2MAX_DEFAULT_S; the ranges and
- * targets of each domain; severe efforts for 2, 3, 5, 8 and 12 min; 25/50/75 %delta between the
- * GET and the VO2peak equivalents (common practice). Staleness against today. Returns CPD_OK,
+ * predicted time to task failure equals the time to reach VO2max (the boundary of Hill, Poole &
+ * Smith 2002 Med Sci Sports Exerc 34:709), taken as TD1 + 4 tau1 of a severe-domain bout when
+ * known, else CPD_DOMAINS_T_VO2MAX_DEFAULT_S. Its 95 % interval combines in quadrature the
+ * model's half-width at that time (t quantile, the fit's dof) and 1.96 x W'/T^2 x SE(T) from the
+ * kinetics (delta method; the two come from independent tests). The ranges and targets of each
+ * domain: heavy up to CP's lower 95 % bound, severe from its upper bound, the band between them
+ * "heavy or severe: the data cannot tell"; severe efforts for 2, 3, 5, 8 and 12 min that lie
+ * inside the severe domain (those above the severe-extreme boundary are marked beyond_severe and
+ * not valid); 25/50/75 %delta between the GET and the VO2peak equivalents (common practice).
+ * Staleness against today. Returns CPD_OK,
  * CPD_EUSAGE for missing or unfitted fit or a bad date, CPD_ENODATA when CP or W' is not positive. */
 int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out);
 

@@ -14,13 +14,30 @@
  * coefficients of variation, common practice, from memory): VO2peak 3 %, GET 6 %. */
 #define CPD_HISTORY_CV_VO2PEAK 0.03
 #define CPD_HISTORY_CV_GET 0.06
+/* Default smallest worthwhile change, % of the earlier value: 0.2 x the between-athlete SD
+ * (Hopkins 2004 Sportscience 8:1), with the between-athlete SD of CP in Johnson et al. 2011 Med Sci
+ * Sports Exerc 43 (206 +- 47 W): 0.2 x 47 / 206 = 4.6 %. Settable (history --swc). */
+#define CPD_HISTORY_SWC_PCT 4.6
 
 typedef struct {
     int valid;          /* 1 when both blocks have the quantity */
     double delta;       /* later minus earlier, in the quantity's unit */
     double ci95[2];     /* 95 % interval of the change */
-    int meaningful;     /* 1 when the interval excludes zero */
+    int meaningful;     /* 1 when the interval lies wholly beyond the smallest worthwhile change (+-swc) */
+    double swc;         /* the smallest worthwhile change used, same unit (swc_pct of the earlier value) */
+    int excludes_zero;  /* 1 when the interval excludes zero (a change, worthwhile or not) */
+    double df;          /* Welch-Satterthwaite degrees of freedom of the t quantile; 0: normal quantile */
+    int model_valid;    /* CP and W': 1 when model holds the model both blocks were compared with */
+    cpd_pd_model model; /* the better of the models both blocks support (lowest summed %SEE) */
 } cpd_history_change;
+
+/* One model's estimates in a block (for comparing blocks with the same model). */
+typedef struct {
+    int ok, has_se;
+    double cp, cp_se, w_prime, w_prime_se; /* W or m/s; J or m */
+    size_t dof;
+    double see_sum;                        /* %SEE(CP) + %SEE(W'), % */
+} cpd_history_model;
 
 typedef struct {
     int from_day, to_day;          /* dates of the first and last trial (days since 1970) */
@@ -37,10 +54,12 @@ typedef struct {
     double tau_se;                 /* s, 0 when unknown */
     int test_day;                  /* date of the ramp the GET and VO2peak come from */
     cpd_history_change d_cp, d_w_prime, d_get, d_vo2peak, d_tau; /* against the previous block */
+    cpd_history_model models[CPD_PD_NMODELS]; /* every model's estimates (use_model: only that one) */
 } cpd_history_block;
 
 typedef struct {
     size_t nblocks;
+    double swc_pct;     /* smallest worthwhile change, % of the earlier value; 0 means CPD_HISTORY_SWC_PCT */
     cpd_history_block block[CPD_HISTORY_MAX_BLOCKS];
 } cpd_history;
 
@@ -63,8 +82,13 @@ void cpd_history_attach_ramp(cpd_history *h, int test_day, int has_get, double g
                              int window_days);
 void cpd_history_attach_tau(cpd_history *h, int test_day, double tau_s, double tau_se, int window_days);
 
-/* Recomputes every change against the previous block that has the quantity: CP and W' by their
- * SEs; GET and VO2peak by the typical errors above (CI +-1.96 sqrt(2) TE); tau by its SEs. */
+/* Recomputes every change against the previous block that has the quantity. CP and W' are compared
+ * with the same model in both blocks: the model both fitted with standard errors whose summed
+ * %SEE(CP) + %SEE(W') over the two blocks is lowest (stated in change.model); the interval is
+ * Student's t with the Welch-Satterthwaite degrees of freedom, df = (s1^2 + s2^2)^2 / (s1^4/df1 +
+ * s2^4/df2) (Welch 1947 Biometrika 34:28). GET and VO2peak by the typical errors above (CI +-1.96
+ * sqrt(2) TE); tau by its SEs. A change is meaningful when its interval lies wholly above +swc or
+ * below -swc, swc = swc_pct % of the earlier value (h->swc_pct, default CPD_HISTORY_SWC_PCT). */
 void cpd_history_changes(cpd_history *h);
 
 #endif

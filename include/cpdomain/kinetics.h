@@ -30,8 +30,8 @@ enum {
     CPD_KIN_BI = 2    /* all seven (Barstow & Mole 1991 J Appl Physiol 71:2099, independent delays) */
 };
 
-/* Intensity domains as judged from the response (Hill, Poole & Smith 2002; journal details from
- * memory: Med Sci Sports Exerc 34:709). */
+/* Intensity domains as judged from the response (Hill, Poole & Smith 2002 Med Sci Sports Exerc
+ * 34:709). */
 enum {
     CPD_KIN_UNDETERMINED = 0, /* the response does not decide it (bout too short) */
     CPD_KIN_MODERATE,         /* no slow component, steady by 3 min */
@@ -162,7 +162,7 @@ typedef struct {
  * - Baseline: mean of the breaths in the 60 s before the onset, at least 3 breaths, else "no
  *   baseline data". It is not fitted: after phase I with a free delay, base + A1 (1 - e^(-(t-TD)/tau))
  *   = (base + A1) - A1 e^(TD/tau) e^(-t/tau), so base, A1 and TD cannot all be told apart.
- * - Phase I: the first 20 s are excluded from every fit (METHODS 6.1; Bell et al. 2001 fitted from 20 s).
+ * - Phase I: the first 20 s are excluded from every fit (Bell et al. 2001 fitted from 20 s).
  * - Fits: mono-exponential phase I to end; mono-exponential phase I to 180 s; bi-exponential with
  *   independent delays over the whole bout (Barstow & Mole 1991) when it lasts 300 s; the windowed
  *   fit (cpd_kinetics_window). Bout marks allow CPD_KIN_END_TOL_S for the last breath.
@@ -307,7 +307,7 @@ double cpd_kinetics_eval(int model, const double *b, double t_s);
  * (cpd_nlfit_solve, analytic Jacobian), holding fixed parameters. Covariance: with no raw data
  * the points are independent breaths, s^2 (J'J)^-1 (Bates & Watts 1988, Wiley). With raw data the
  * points are averages (ensemble, bins): the noise variance comes from the raw breaths' residuals
- * and (J'J)^-1 is scaled by n / n_eff, n_eff = raw breaths in the window (METHODS 6.2).
+ * and (J'J)^-1 is scaled by n / n_eff, n_eff = raw breaths in the window.
  * Returns CPD_OK, CPD_EUSAGE (out->reason BAD_ARG), CPD_ENODATA (TOO_FEW_POINTS, START_OUTSIDE),
  * CPD_ENOCONV (NO_CONVERGENCE, also when tau runs off to 100 spans of the data: a straight line),
  * CPD_ENOMEM. On failure out->valid is 0 and no estimate is kept. */
@@ -364,5 +364,45 @@ const char *cpd_kinetics_domain_name(int domain);
 
 /* Short English text of a CPD_KIN_R_* reason; never NULL. */
 const char *cpd_kinetics_reason_text(int reason);
+
+/* Time to reach VO2max in a severe-domain bout, for the severe-extreme boundary: the phase-II delay
+ * plus 4 primary time constants, TD1 + 4 tau1 (98 % of the primary amplitude; arithmetic of the
+ * exponential), the boundary being the power whose time to task failure equals the time to reach
+ * VO2max (Hill, Poole & Smith 2002 Med Sci Sports Exerc 34:709). */
+#define CPD_KIN_TVO2MAX_BI_SE_FACTOR 1.5 /* the bi-exponential's asymptotic SE of TD1 + 4 tau1 is 1.2-1.6
+                                          * times too small in simulated severe bouts (the slow
+                                          * component's delay makes the least-squares surface rough);
+                                          * tests/test_honest.c measures the resulting coverage */
+typedef struct {
+    int valid;          /* 1 when the fields below hold */
+    const char *fit;    /* the fit behind it: "bi", "mono_end" or "mono" (static) */
+    double tau_s;       /* primary tau1, s */
+    double tau_se_s;    /* its standard error (inflated as the sum's), s */
+    double delay_s;     /* primary delay TD1, s */
+    double t_s;         /* TD1 + 4 tau1, s */
+    double se_s;        /* its standard error (delta method on the fit's covariance, x the factor above for bi), s */
+    size_t dof;         /* degrees of freedom of the fit */
+} cpd_kinetics_tvo2max;
+
+/* The rule for the primary component of a bout above CP: the bi-exponential's primary whenever it
+ * converged with standard errors and a slow-component delay after the primary one, whether or not
+ * the slow component passes the F-test (above CP a slow component is expected, and a whole-bout
+ * mono-exponential absorbs it into tau: 41 s instead of 33 s in a bout with a 300 mL/min slow
+ * component); otherwise the mono-exponential ending at primary_end_s (180 s), else the whole-bout
+ * mono-exponential. Returns CPD_OK, CPD_EUSAGE for NULL, CPD_ENODATA when no fit has SEs. */
+int cpd_kinetics_time_to_vo2max(const cpd_kinetics_result *r, cpd_kinetics_tvo2max *out);
+
+/* Shortest bout whose levelling off may suggest that CP is underestimated, s. Just above CP the
+ * VO2 slow component can take well over 10 min to drive VO2 to its maximum (Poole et al., as
+ * summarised by Hill, Poole & Smith 2002), so a shorter bout that "stabilised" cannot tell the
+ * heavy domain from the low severe one. 10 min is our rule, stated with every use. */
+#define CPD_KIN_VERIFY_LEVEL_S 600.0
+
+/* cpd_kinetics_verify_domain for a bout of end_s seconds of exercise: when the boundaries predict
+ * severe and the response levelled off (heavy) in a bout shorter than CPD_KIN_VERIFY_LEVEL_S, the
+ * verdict is "nothing to conclude" (agreement -1), not "CP may be underestimated". end_s <= 0
+ * means unknown (no rule applied). Return codes as cpd_kinetics_verify_domain. */
+int cpd_kinetics_verify_bout(int observed, double end_s, double power_w, double get_power_w, double cp_w,
+                             cpd_kinetics_check *out);
 
 #endif

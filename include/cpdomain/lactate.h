@@ -83,4 +83,26 @@ double cpd_lactate_stage_interp(const double *xs, const double *ys, size_t n, do
 /* Short static English text of a cpd_lactate_reason; never NULL. */
 const char *cpd_lactate_reason_text(int reason);
 
+/* ---- intervals (lactate_ci.c; issue 12) ---- */
+
+#include <stdint.h>
+
+enum { CPD_LACTATE_CI_LT1, CPD_LACTATE_CI_DMAX, CPD_LACTATE_CI_DMAX_MOD, CPD_LACTATE_CI_OBLA, CPD_LACTATE_NCI };
+
+typedef struct {
+    size_t n_boot;                     /* resamples asked for */
+    int valid[CPD_LACTATE_NCI];        /* 1 when the interval below holds (LT1, Dmax, modified Dmax, 4 mmol/L) */
+    double ci95[CPD_LACTATE_NCI][2];   /* W or m/s */
+    size_t n_used[CPD_LACTATE_NCI];    /* resamples in which the threshold was found */
+} cpd_lactate_ci;
+
+/* 95 % intervals of the thresholds of the analysis r of (intensity, lactate)[n]: a residual
+ * bootstrap about the least-squares cubic (residuals centred and scaled by sqrt(n / (n - 4))),
+ * each resample analysed by cpd_lactate_analyse; percentile interval (widened to include the
+ * estimate) when the threshold was found in at least half of the n_boot resamples (200 is plenty).
+ * seed makes the resamples reproducible. Needs r->has_cubic and n >= 5 (CPD_ENODATA otherwise).
+ * Returns CPD_OK, CPD_EUSAGE for NULL, CPD_ENODATA, CPD_ENOMEM. */
+int cpd_lactate_ci_compute(const double *intensity, const double *lactate, size_t n, const cpd_lactate_result *r,
+                           size_t n_boot, uint64_t seed, cpd_lactate_ci *out);
+
 #endif

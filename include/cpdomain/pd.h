@@ -226,4 +226,25 @@ int cpd_pd_predict_intensity(const cpd_pd_model_fit *m, double duration_s, cpd_p
  * Return codes as cpd_pd_predict_time, plus CPD_EUSAGE for a power model. */
 int cpd_pd_predict_distance_time(const cpd_pd_model_fit *m, double distance_m, cpd_pd_pred *out);
 
+/* Near CP: *inside = 1 when the intensity lies inside CP's 95 % interval, where the data cannot tell
+ * the heavy domain (no W'-limited failure) from the severe one; there the time to task failure has
+ * no upper bound and *t_lo receives a lower bound, W'/(intensity - CP_lo) (minus the
+ * three-parameter offset), s; 0 when the intensity is at CP_lo (no bound). The delta-method
+ * interval of cpd_pd_predict_time is meaningless there (it spans minutes to days). *inside = 0
+ * outside the interval or without standard errors. Returns CPD_OK, or CPD_EUSAGE for NULL
+ * pointers or an intensity that is not positive and finite. */
+int cpd_pd_time_near_cp(const cpd_pd_model_fit *m, double intensity, int *inside, double *t_lo);
+
+/* Time trials (distance fixed, time measured): the best model becomes the linear distance-time
+ * model D = CS·t + D′ (linear-total on speed: D = v·t), the published model for such data
+ * (swimming: Wakayoshi et al. 1992, from memory; the slope of the distance-time regression,
+ * Takahashi, Wakayoshi et al. 2002 Jpn J Biomech Sports Exerc 6:110; running: Smyth &
+ * Muniz-Pumares 2020 Med Sci Sports Exerc 52:2637). The other models regress on the mean speed
+ * D/t, which carries the timing error of t itself: the hyperbola's least squares on t then has its
+ * error on both sides and its interval is too narrow (on the demo swimmer it excluded the generating
+ * CS). Applies when that model qualifies (see cpd_pd_best_rule) and has standard errors. Returns
+ * CPD_OK, CPD_EUSAGE for NULL or a power fit, CPD_ENODATA when the model does not qualify (the
+ * best stays as it was). */
+int cpd_pd_best_for_time_trials(cpd_pd_result *res);
+
 #endif

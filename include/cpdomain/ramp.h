@@ -288,6 +288,11 @@ const cpd_gx_series *cpd_ramp_grid(const cpd_ramp_ws *w, const double **smoothed
  * owned by w and valid as above; NULL before any. */
 const cpd_gx_series *cpd_ramp_samples(const cpd_ramp_ws *w);
 
+/* The intensity (W or m/s) at t_s seconds from onset as the last analysis read it: the recorded
+ * intensity on the 1-s grid when r->intensity_recorded, else r->start_used + r->rate_used * t / 60.
+ * NaN before any successful analysis. */
+double cpd_ramp_intensity_at(const cpd_ramp_ws *w, const cpd_ramp_result *r, double t_s);
+
 /* Two-segment linear regression: x sorted ascending, every split with at least min_seg points on
  * each side, two OLS lines, the split with the least pooled RSS (first on ties); the method of the
  * V-slope (Beaver, Wasserman & Whipp 1986) and of the log-log lactate threshold (Beaver, Wasserman &
@@ -297,5 +302,42 @@ int cpd_ramp_twoseg_fit(const double *x, const double *y, size_t n, size_t min_s
 
 /* Short static English text of a cpd_ramp_reason; never NULL. */
 const char *cpd_ramp_reason_text(int reason);
+
+/* ---- intervals (ramp_ci.c; issue 12) ---- */
+
+#include <stdint.h>
+
+/* 95 % interval of a threshold (GET or RCP) and of what is derived from it. */
+typedef struct {
+    int valid;                 /* 1 when the fields below hold */
+    size_t n_used;             /* bootstrap resamples whose lines crossed inside the data */
+    double vo2_ci95[2];        /* mL/min */
+    double time_ci95_s[2];     /* s from onset, where the smoothed series reaches the bounds */
+    double ramp_ci95[2];       /* W or m/s on the ramp */
+    int has_equiv;             /* 1 when the threshold has a constant-intensity equivalent */
+    double equiv_ci95[2];      /* W or m/s: the ramp bounds minus the MRT shift, the MRT's SE added in quadrature */
+} cpd_ramp_thr_ci;
+
+typedef struct {
+    size_t n_boot;             /* bootstrap resamples asked for */
+    double noise_sd_ml_min;    /* breath-to-breath VO2 noise SD near the end of the ramp, mL/min */
+    size_t peak_breaths;       /* breaths in the VO2peak window */
+    int has_vo2peak_ci;        /* 1 when the VO2peak fields hold */
+    double vo2peak_se_ml_min;  /* SE of the 30-s mean: noise SD / sqrt(breaths in the window), mL/min */
+    double vo2peak_ci95[2];    /* VO2peak +- 1.96 SE, mL/min */
+    cpd_ramp_thr_ci get;       /* the automatic GET (a reviewer's GET has no interval) */
+    cpd_ramp_thr_ci rcp;       /* the automatic RCP */
+} cpd_ramp_ci;
+
+/* Intervals for the last analysis in w (its result r and options o): VO2peak +- 1.96 x the SE of a
+ * mean of the breaths in its window, the noise SD from successive differences of the breaths in the
+ * final 2 min (SD of a difference / sqrt 2); GET and RCP by a residual bootstrap of the two-segment
+ * fit behind each (n_boot resamples, 200 is plenty; percentile interval of the crossing), placed in
+ * time and carried to the ramp and constant-intensity equivalents as the estimates are. Only the
+ * automatic thresholds (status FOUND) get intervals. seed makes the resamples reproducible.
+ * Returns CPD_OK (fields with valid 0 where no interval exists), CPD_EUSAGE for NULL, CPD_ENODATA
+ * when w holds no analysis, CPD_ENOMEM. */
+int cpd_ramp_ci_compute(const cpd_ramp_ws *w, const cpd_ramp_result *r, const cpd_ramp_opts *o, size_t n_boot,
+                        uint64_t seed, cpd_ramp_ci *out);
 
 #endif

@@ -30,7 +30,11 @@ typedef struct {
 typedef struct {
     double intensity;            /* W or m/s, a round value */
     cpd_pd_pred pred;            /* predicted time to task failure, s, with its 95 % interval */
+    int near_cp;                 /* 1: inside CP's 95 % interval: heavy or severe, the data cannot tell
+                                  * (pred then not valid; cpd_pd_time_near_cp) */
+    double at_least_s;           /* then: the lower bound of the time to task failure, s (0: none) */
 } cpd_sheet_at_intensity;
+#define CPD_SHEET_CANNOT_TELL "heavy or severe: the data cannot tell"
 
 typedef struct {
     cpd_sheet_for_time for_time[CPD_SHEET_NTIMES];  /* 2, 3, 5, 8, 12, 20 min */
@@ -108,6 +112,8 @@ typedef struct {
     double vo2peak_ml_min;       /* mL/min, from the ramp */
     int has_vo2peak_rel;
     double vo2peak_ml_kg_min;    /* mL/kg/min */
+    int has_vo2peak_ci;          /* 1 when vo2peak_ci95 holds VO2peak's 95 % interval (cpd_ramp_ci_compute) */
+    double vo2peak_ci95[2];      /* mL/min */
     const char *ramp_label;      /* e.g. "ramp 1, 2026-09-29"; NULL without a ramp */
     const char *svg_pd;          /* power-duration plot (cpd_plot_pd), trusted markup */
     const char *svg_balance;     /* W' balance of the session (cpd_plot_balance) */

@@ -56,7 +56,7 @@ for file in $files; do
     case "$dom" in
     moderate)
         # Phase II tau 20-35 s (Burnley, Doust & Jones 2006 JAP 101:1320; Roberts, Wilkerson & Jones 2005
-        # Respir Physiol Neurobiol 146:247: moderate cycling 25.7 +- 8.6 s; METHODS 6.4)
+        # Respir Physiol Neurobiol 146:247: moderate cycling 25.7 +- 8.6 s)
         json_is '20 <= d["primary"]["tau_s"] <= 35' True "bout $i: moderate tau within the typical 20-35 s"
         # moderate gain ~10 mL/min/W (Hill, Poole & Smith 2002; common practice), 8-12 as in Keir et al. 2016
         json_is '8 <= d["primary"]["gain_ml_min_w"] <= 12' True "bout $i: moderate gain within 8-12 mL/min/W"

@@ -4,7 +4,7 @@
 
 expect 0 "init" init
 expect 0 "a cyclist" athlete add X1 --name "Exact Data" --mass 70
-# METHODS.md section 9 (derived identity, not published data): CP 250 W, W' 20 000 J,
+# the 2-parameter identity (derived) (derived identity, not published data): CP 250 W, W' 20 000 J,
 # P = 400, 350, 310, 280 W -> t = 133.333, 200, 333.333, 666.667 s
 printf 'athlete,date,power_w,duration_s\nX1,2026-09-01,400,133.33333333333334\nX1,2026-09-03,350,200\nX1,2026-09-05,310,333.3333333333333\nX1,2026-09-07,280,666.6666666666666\n' >"$TMP/exact.csv"
 expect 0 "import exact trials" trial import "$TMP/exact.csv"
@@ -27,7 +27,7 @@ expect 0 "human fit" fit X1
 out_has "hyperbolic" "human table lists the models"
 out_has "best:" "human output names the best model"
 
-# METHODS.md section 9: CP 250 W, W' 20 kJ, P 400 W -> 133.3 s
+# the 2-parameter identity (derived): CP 250 W, W' 20 kJ, P 400 W -> 133.3 s
 expect 0 "predict at 400 W" --json predict X1 --power 400
 json_is 'round(d["time_to_failure_s"], 3), d["domain"]' "(133.333, 'severe')" "t = W'/(P - CP) = 133.3 s at 400 W"
 json_is '"caution" in d and "screening" in d["caution"]' True "prediction carries the caution"
@@ -72,13 +72,14 @@ out_has "/km" "pace per km shown for a runner"
 
 # ---- W' balance through a protocol, and solve ----
 # X1 is exact: CP 250 W, W' 20000 J. Constant 400 W from rest fails at W'/(P - CP) = 133.3 s,
-# i.e. in second 134 (METHODS.md section 9: the balance reaches zero at W'/(P - CP)).
+# i.e. in second 134 (the 2-parameter identity (derived): the balance reaches zero at W'/(P - CP)).
 expect 0 "balance at constant power" --json predict X1 --protocol "3min@400W" --model linear-total
 json_is 'd["failure_at_s"], d["balance_model"], round(d["min_balance_j"], 6)' "(134, 'differential', -7000.0)" "failure in second 134; min = 20000 - 180*150"
 expect 0 "below CP no failure" --json predict X1 --protocol "20min@240W" --model linear-total
 json_is 'd["failure_at_s"], round(d["end_balance_j"], 6)' "(None, 20000.0)" "below CP from rest: no failure, full balance"
 expect 0 "percent of CP" --json predict X1 --protocol "2x(1min@160%CP, 2min@50%CP)" --model linear-total --balance-model elite --trace "$TMP/trace.csv"
-json_is 'd["balance_model"], d["duration_s"]' "('elite', 360)" "elite model over a %CP protocol"
+json_is 'd["balance_model"], d["duration_s"]' "('bartram', 360)" "the former name 'elite' reads as the bartram model over a %CP protocol"
+json_is '[(m["name"], m["chosen"]) for m in d["balance_models"]]' "[('differential', False), ('integral', False), ('bartram', True)]" "every recovery model side by side, the chosen one marked"
 lines=$(wc -l <"$TMP/trace.csv")
 [ "$lines" = 361 ] && pass "trace has a header and 360 seconds" || fail "trace lines: $lines"
 head -1 "$TMP/trace.csv" | grep -q '^time_s,power_w,balance_j$' && pass "trace header" || fail "trace header: $(head -1 "$TMP/trace.csv")"

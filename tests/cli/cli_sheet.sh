@@ -90,7 +90,7 @@ c01svg=$($PY "$CHECK" split "$TMP/s/C01.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 grep -q "VO2 kinetics of the newest bout" "$TMP/s/C01.html" && pass "C01's sheet shows the kinetics of its newest bout" || fail "no kinetics section"
 c02svg=$($PY "$CHECK" split "$TMP/s/C02.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 [ "$c02svg" -eq 4 ] && pass "C02's sheet has its four plots (with the season trend)" || fail "C02 has $c02svg plots"
-grep -q "The season" "$TMP/s/C02.html" && grep -q "meaningful" "$TMP/s/C02.html" && pass "C02's sheet shows the season and calls the CP change meaningful" || fail "no season section on C02"
+grep -q "The season" "$TMP/s/C02.html" && grep -q "not clearly worthwhile" "$TMP/s/C02.html" && grep -q "smallest worthwhile change" "$TMP/s/C02.html" && pass "C02's sheet shows the season and its verdict against the smallest worthwhile change" || fail "no season section on C02"
 grep -q "Field estimate from the best efforts" "$TMP/s/C02.html" && grep -q "The lab estimate from the trials" "$TMP/s/C02.html" \
     && pass "C02's sheet shows the field estimate from sessions beside the lab estimate" || fail "no field estimate on C02"
 grep -q "Field estimate from the best efforts" "$TMP/s/C05.html" && fail "C05 has no sessions but shows a field estimate" \
