@@ -78,11 +78,10 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         in->has_hr_get = g->has_hr;
         in->hr_get = g->hr_bpm;
         cpd_ramp_ci ci;
-        cpd_ramp_opts ro; /* the options cli_ramp_analyse used without command-line overrides */
+        cpd_ramp_opts ro; /* the default window and smoothing, as cli_ramp_analyse without overrides */
         cpd_ramp_opts_init(&ro);
-        ro.rate_per_min = t.rate_per_min;
-        ro.start = t.start;
-        if (g->status == CPD_THR_FOUND && cpd_ramp_ci_compute(w, r, &ro, 200, (uint64_t)id, &ci) == CPD_OK &&
+        if (g->status == CPD_THR_FOUND &&
+            cpd_ramp_ci_compute(w, r, &ro, CPD_RAMP_CI_BOOT, CPD_RAMP_CI_SEED, &ci) == CPD_OK &&
             ci.get.valid && ci.get.has_equiv) {
             in->has_get_ci = 1;
             in->get_ci95[0] = ci.get.equiv_ci95[0];

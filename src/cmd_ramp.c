@@ -588,9 +588,6 @@ static void print_record(const cpd_gx_test *t, const cpd_ramp_result *r)
 }
 
 /* Issue 12: the intervals of ramp_ci.c for a ramp analysed by cli_ramp_analyse (the same options). */
-#define RAMP_CI_BOOT 200
-/* One fixed seed: the same record gives the same interval whatever its id or layout. */
-#define RAMP_CI_SEED 20261130u
 #define RAMP_PLATEAU_NOTE "plateau not detected: a verification bout above the ramp's peak power confirms VO2max"
 #define RAMP_RCP_EQUIV_CAUTION                                                                                      \
     "the MRT shift assumes VO2 follows the ramp with one lag (lagged-linear model, Whipp et al. 1981 J Appl "        \
@@ -606,7 +603,7 @@ static void ramp_ci_of(const cpd_ramp_ws *w, const cpd_ramp_result *r, const cpd
     double v = 0;
     if (window && cli_ranged("--window", window, 5, 120, "s", 1, &v) == 0)
         ro.peak_window_s = v;
-    if (cpd_ramp_ci_compute(w, r, &ro, RAMP_CI_BOOT, RAMP_CI_SEED, ci) != CPD_OK)
+    if (cpd_ramp_ci_compute(w, r, &ro, CPD_RAMP_CI_BOOT, CPD_RAMP_CI_SEED, ci) != CPD_OK)
         memset(ci, 0, sizeof *ci);
 }
 
@@ -693,7 +690,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         threshold_json(rj, &r->rcp, &r->rcp_auto, spd);
         ci_json(rj, &ci.rcp, spd);
         cj_str(rj, "equivalent_caution", r->rcp.has_equiv ? RAMP_RCP_EQUIV_CAUTION : NULL);
-        cj_int(d, "bootstrap_resamples", RAMP_CI_BOOT);
+        cj_int(d, "bootstrap_resamples", CPD_RAMP_CI_BOOT);
         cli_json *vs = cj_add_obj(d, "vslope");
         cj_num(vs, "s1", r->has_vslope ? r->vslope.s1 : NAN);
         cj_num(vs, "s2", r->has_vslope ? r->vslope.s2 : NAN);

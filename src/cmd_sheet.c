@@ -138,12 +138,10 @@ static void add_ramp(cli_ctx *c, sheet_build *b)
     s->vo2peak_ml_min = r->vo2peak_ml_min;
     s->has_vo2peak_rel = r->has_relative;
     s->vo2peak_ml_kg_min = r->vo2peak_ml_kg_min;
-    cpd_ramp_opts ro; /* the options cli_ramp_analyse used */
+    cpd_ramp_opts ro; /* the default window and smoothing, as cli_ramp_analyse without overrides */
     cpd_ramp_opts_init(&ro);
-    ro.rate_per_min = t.rate_per_min;
-    ro.start = t.start;
     cpd_ramp_ci ci;
-    if (cpd_ramp_ci_compute(w, r, &ro, 200, (uint64_t)b->d.ramp_id, &ci) == CPD_OK && ci.has_vo2peak_ci) {
+    if (cpd_ramp_ci_compute(w, r, &ro, CPD_RAMP_CI_BOOT, CPD_RAMP_CI_SEED, &ci) == CPD_OK && ci.has_vo2peak_ci) {
         s->has_vo2peak_ci = 1;
         s->vo2peak_ci95[0] = ci.vo2peak_ci95[0];
         s->vo2peak_ci95[1] = ci.vo2peak_ci95[1];

@@ -334,9 +334,13 @@ typedef struct {
  * final 2 min (SD of a difference / sqrt 2); GET and RCP by a residual bootstrap of the two-segment
  * fit behind each (n_boot resamples, 200 is plenty; percentile interval of the crossing), placed in
  * time and carried to the ramp and constant-intensity equivalents as the estimates are. Only the
- * automatic thresholds (status FOUND) get intervals. seed makes the resamples reproducible.
+ * automatic thresholds (status FOUND) get intervals. seed makes the resamples reproducible; callers
+ * that want the same record to give the same interval everywhere pass CPD_RAMP_CI_SEED. Of o only
+ * the peak window and the smoothing are read (intensities come from the analysis in w and r).
  * Returns CPD_OK (fields with valid 0 where no interval exists), CPD_EUSAGE for NULL, CPD_ENODATA
  * when w holds no analysis, CPD_ENOMEM. */
+#define CPD_RAMP_CI_SEED 20261130u
+#define CPD_RAMP_CI_BOOT 200
 int cpd_ramp_ci_compute(const cpd_ramp_ws *w, const cpd_ramp_result *r, const cpd_ramp_opts *o, size_t n_boot,
                         uint64_t seed, cpd_ramp_ci *out);
 
