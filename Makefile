@@ -31,6 +31,7 @@ LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
 LIB_SRCS += src/sheet.c
+LIB_SRCS += src/safefile.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
@@ -54,6 +55,7 @@ TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
+TESTS += test_safefile
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
