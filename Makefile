@@ -32,6 +32,7 @@ LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
 LIB_SRCS += src/sheet.c
 LIB_SRCS += src/safefile.c
+LIB_SRCS += src/validate_records.c src/validate_dump.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \

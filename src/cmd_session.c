@@ -386,6 +386,11 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         snprintf(r.source_file, sizeof r.source_file, "%s", path);
         cpd_import_session_rec(&im, &r);
         int64_t id = 0;
+        const char *bad_field = NULL;
+        if (cpd_validate_session_rec(&r, c->today, &bad_field, msg)) { /* the record gate every path passes */
+            ex = cli_fail(c, CPD_EDATA, "%s: %s: %s", path, bad_field, msg);
+            goto done;
+        }
         if ((rc = cpd_store_session_add(c->store, &r, &im.samples, &im.curve, &id))) {
             ex = cli_store_fail(c, rc);
             goto done;
@@ -815,6 +820,11 @@ static int allout_add(cli_ctx *c, int argc, char **argv)
     snprintf(r.source_file, sizeof r.source_file, "%s", path);
     cpd_import_session_rec(&im, &r);
     int64_t id = 0;
+    const char *bad_field = NULL;
+    if (cpd_validate_session_rec(&r, c->today, &bad_field, msg)) { /* the record gate every path passes */
+        ex = cli_fail(c, CPD_EDATA, "%s: %s: %s", path, bad_field, msg);
+        goto done;
+    }
     if ((rc = cpd_store_begin(c->store)) || (rc = cpd_store_session_add(c->store, &r, &im.samples, NULL, &id)) ||
         (rc = cpd_store_commit(c->store))) {
         ex = cli_store_fail(c, rc);

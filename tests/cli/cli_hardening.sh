@@ -40,3 +40,49 @@ printf '{"old": 1}\n' >"$TMP/old.json"
 expect 0 "export -o replaces a regular file" export -o "$TMP/old.json"
 grep -q '"format": *"cpdomain-store"' "$TMP/old.json" && pass "the new document replaced the old" || fail "old.json: $(head -c 80 "$TMP/old.json")"
 expect 0 "-o /dev/null still works (a device is written in place)" export -o /dev/null
+
+# ---- import of an export document passes the same validators as every other path ----
+expect 0 "a ramp (sample blobs)" athlete add C01 --name "Ramp Rider" --mass 61
+expect 0 "ramp add" ramp add C01 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 3:00
+expect 0 "lactate add" lactate add C01 "$DEMO/lactate_C01.csv" --date 2026-10-01
+expect 0 "export" export -o "$TMP/good.json"
+NEW="$TMP/new.db"
+# edit NAME PYTHON: a copy of good.json changed by PYTHON (d is the document)
+edit() {
+    /usr/bin/python3 -c "import json; d = json.load(open('$TMP/good.json')); $2; json.dump(d, open('$TMP/$1', 'w'))"
+}
+refused() { # refused FILE MESSAGE WHAT
+    rm -f "$NEW"
+    "$BIN" --db "$NEW" init >/dev/null 2>&1
+    sqlite3 "$NEW" .dump >"$TMP/new.before"
+    "$BIN" --db "$NEW" import "$TMP/$1" >"$TMP/out" 2>"$TMP/err"; RC=$?
+    [ "$RC" = 65 ] && pass "$3 (exit 65)" || fail "$3: exit $RC, wanted 65" "$(cat "$TMP/err")"
+    err_has "$2" "$3: located"
+    n=$(sqlite3 "$NEW" "SELECT (SELECT count(*) FROM athlete) + (SELECT count(*) FROM trial) + (SELECT count(*) FROM gx_test)")
+    sqlite3 "$NEW" .dump | cmp -s - "$TMP/new.before" && [ "$n" = 0 ] && pass "$3: nothing imported" || fail "$3: rows imported ($n)"
+}
+code_at() { /usr/bin/python3 -c "import json; d = json.load(open('$TMP/good.json')); print(d['tables']['$1']['columns'].index('$2'))"; }
+CODE=$(code_at athlete code); DATE=$(code_at trial date); VAL=$(code_at trial value); RATE=$(code_at gx_test rate_per_min)
+LAC=$(code_at lactate_stage lactate_mmol_l); DATA=$(code_at gx_channel data); NOTE=$(code_at athlete notes)
+edit code.json "d['tables']['athlete']['rows'][1][$CODE] = '../../evil'"
+refused code.json "tables.athlete.rows[1][$CODE]: column 'code': athlete code '../../evil' may hold only" "an athlete code with a path in it"
+edit date.json "d['tables']['trial']['rows'][2][$DATE] = '0000-00-00'"
+refused date.json "tables.trial.rows[2][$DATE]: column 'date': '0000-00-00' is not a date" "a trial dated 0000-00-00"
+edit neg.json "d['tables']['trial']['rows'][0][$VAL] = -300.0"
+refused neg.json "tables.trial.rows[0][$VAL]: column 'value': " "a power of -300 W"
+edit huge.json "d['tables']['trial']['rows'][3][$VAL] = 1e300"
+refused huge.json "tables.trial.rows[3][$VAL]: column 'value': " "a power of 1e300 W"
+edit inf.json "d['tables']['trial']['rows'][3][$VAL] = {'real': 'inf'}"
+refused inf.json "tables.trial.rows[3][$VAL]: column 'value': inf is not a finite number" "an infinite power"
+edit future.json "d['tables']['trial']['rows'][1][$DATE] = '2027-01-01'"
+refused future.json "column 'date': date 2027-01-01 is in the future" "a trial dated after today"
+edit rate.json "d['tables']['gx_test']['rows'][0][$RATE] = 5000.0"
+refused rate.json "tables.gx_test.rows[0][$RATE]: column 'rate_per_min': ramp rate must be between 1 and 200 W/min" "a ramp rate 'ramp add' refuses"
+edit lac.json "d['tables']['lactate_stage']['rows'][2][$LAC] = 90.0"
+refused lac.json "tables.lactate_stage.rows[2][$LAC]: column 'lactate_mmol_l'" "a lactate of 90 mmol/L"
+edit blob.json "d['tables']['gx_channel']['rows'][0][$DATA]['base64'] = 'AAAAAAAAAAA='"
+refused blob.json "tables.gx_channel.rows[0][$DATA]: column 'data': 8 bytes, but its record states" "a sample blob of the wrong length"
+edit notes.json "d['tables']['athlete']['rows'][0][$NOTE] = 'x' * 1001"
+refused notes.json "column 'notes': the text is longer than 1000 bytes" "notes longer than 'athlete add' takes"
+rm -f "$NEW"; "$BIN" --db "$NEW" init >/dev/null 2>&1
+"$BIN" --db "$NEW" import "$TMP/good.json" 2>"$TMP/err" && pass "the untouched document imports" || fail "good.json refused" "$(cat "$TMP/err")"
