@@ -86,3 +86,19 @@ edit notes.json "d['tables']['athlete']['rows'][0][$NOTE] = 'x' * 1001"
 refused notes.json "column 'notes': the text is longer than 1000 bytes" "notes longer than 'athlete add' takes"
 rm -f "$NEW"; "$BIN" --db "$NEW" init >/dev/null 2>&1
 "$BIN" --db "$NEW" import "$TMP/good.json" 2>"$TMP/err" && pass "the untouched document imports" || fail "good.json refused" "$(cat "$TMP/err")"
+
+# ---- success is reported only after the commit ----
+# a file-size limit of 64 kB lets the store be read but makes the commit fail (its write-ahead log
+# would outgrow the limit): nothing is stored and nothing may be reported as stored
+DB="$TMP/commit.db"
+expect 0 "init a store for sessions" init
+expect 0 "a session athlete" athlete add C02 --name "Session Rider" --mass 70
+( trap '' XFSZ; ulimit -f 128; "$BIN" --db "$DB" session add C02 "$DEMO/session_C02_2026-08-30.csv" ) >"$TMP/out" 2>"$TMP/err"; RC=$?
+[ "$RC" = 74 ] && pass "session add whose commit fails: exit 74" || fail "session add under a file-size limit: exit $RC" "$(cat "$TMP/err")"
+n=$(sqlite3 "$DB" "SELECT count(*) FROM session")
+[ "$n" = 0 ] && pass "no session stored" || fail "$n sessions stored"
+grep -q "stored session" "$TMP/err" && fail "'stored session' printed although the commit failed" "$(cat "$TMP/err")" \
+    || pass "no 'stored session' message without a commit"
+expect 0 "the same session without the limit" session add C02 "$DEMO/session_C02_2026-08-30.csv"
+err_has "stored session 1 for C02" "after the commit, the message names the session"
+DB="$TMP/store.db"
