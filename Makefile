@@ -57,6 +57,7 @@ TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
 TESTS += test_safefile
+TESTS += test_csv_growth
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

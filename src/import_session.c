@@ -129,8 +129,8 @@ static void clean_error(const cpd_csv *c, const cpd_session *s, int speed, doubl
                      path, cpd_csv_line(c, n - 1));
         break;
     case CPD_SESSION_ERR_TOO_LONG:
-        snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: column 'time_s': the file spans %.0f s, more than the 7 days (604800 s) "
-                 "a session may last", path, line, span_s);
+        snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: column 'time_s': the file spans %.6g s (%.4g days), more than the 7 days "
+                 "(604800 s) a session may last", path, line, span_s, span_s / 86400);
         break;
     case CPD_SESSION_ERR_NO_DATA:
         snprintf(msg, CPD_MSG_MAX, "%s: every value is above the spike limit of %g %s: no clean second is left", path,

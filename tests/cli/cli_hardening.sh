@@ -102,3 +102,18 @@ grep -q "stored session" "$TMP/err" && fail "'stored session' printed although t
 expect 0 "the same session without the limit" session add C02 "$DEMO/session_C02_2026-08-30.csv"
 err_has "stored session 1 for C02" "after the commit, the message names the session"
 DB="$TMP/store.db"
+
+# ---- messages: a huge session span in a few digits; duplicate codes in one athletes file ----
+printf 'time_s,power_w\n0,200\n1e300,210\n' >"$TMP/huge_2026-10-20.csv"
+expect 65 "a session spanning 1e300 s" session add X1 "$TMP/huge_2026-10-20.csv"
+err_has "the file spans 1e+300 s (1.157e+295 days), more than the 7 days" "the span is written in a few digits"
+long=$(grep -Eo '[0-9]{30,}' "$TMP/err" | head -c 60)
+[ -z "$long" ] && pass "no number of 30 digits or more in the message" || fail "a long number in the message: $long..."
+printf 'code,name\nA1,First\nB2,Second\nA1,Again\nC3,Third\nB2,Twice\n' >"$TMP/dups.csv"
+snapshot
+expect 65 "an athletes file giving a code twice" athlete import "$TMP/dups.csv"
+err_has "dups.csv:4:1: column 'code': athlete code 'A1' is given twice in this file, on lines 2 and 4" "both lines are named"
+unchanged "duplicate codes in one file"
+printf 'code,name\nX1,Already here\nN1,New one\n' >"$TMP/known.csv"
+expect 0 "a code already in the store is still skipped, not an error" athlete import "$TMP/known.csv"
+err_has "1 athletes added, 1 already in the store" "the store's duplicate is counted as such"
