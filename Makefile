@@ -6,6 +6,10 @@ CFLAGS  ?= -O2 -g
 # -Wno-format-truncation: snprintf into a bounded message buffer truncates on purpose
 WARN     = -std=c17 -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
            -Wwrite-strings -Werror -Wno-format-truncation
+# clang (make CC=clang) has no -Wformat-truncation: drop the GCC-only flag so -Werror builds there too
+ifneq ($(findstring clang,$(shell $(CC) --version 2>/dev/null | head -n 1)),)
+WARN := $(filter-out -Wno-format-truncation,$(WARN))
+endif
 PKGS     = gsl sqlite3 libcjson
 # '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)

@@ -67,8 +67,14 @@ int cpd_import_athletes(const char *path, const char *map, cpd_athlete_batch *ou
     memset(out, 0, sizeof *out);
     cpd_csv *c = NULL;
     int rc = cpd_csv_read(path, &c, msg);
-    if (rc)
-        return rc;
+    return rc ? rc : cpd_import_athletes_csv(c, map, out, msg);
+}
+
+int cpd_import_athletes_csv(cpd_csv *c, const char *map, cpd_athlete_batch *out, char *msg)
+{
+    memset(out, 0, sizeof *out);
+    const char *path = cpd_csv_path(c);
+    int rc;
     if ((rc = cpd_csv_map(c, map, msg)))
         goto done;
     int code = cpd_csv_find(c, "code"), name = cpd_csv_find(c, "name");
