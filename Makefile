@@ -68,6 +68,13 @@ BENCHES += bench_pd
 BENCHES += bench_mmp
 BENCHES += bench_sessions
 
+# Fuzzing (tests/fuzz/README.md): libFuzzer harnesses built with clang, ASan and UBSan.
+FUZZERS  = trials gx lactate session protocol export restore
+FUZZ_SECONDS ?= 60
+FUZZ_DIR = build/fuzz
+FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer
+FUZZ_BINS = $(FUZZERS:%=$(FUZZ_DIR)/fuzz_%)
+
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 
 LIB_OBJS = $(LIB_SRCS:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/migrations.o
@@ -79,6 +86,7 @@ BENCH_BINS = $(BENCHES:%=$(BUILD)/bench/%)
 STAMP    = $(BUILD)/.deps-ok
 
 .PHONY: all test check valgrind bench demo deps install clean
+.PHONY: fuzz fuzz-smoke fuzz-lib
 all: $(BIN)
 
 deps:
@@ -129,6 +137,19 @@ valgrind: $(BIN) $(TEST_BINS)
 
 bench: $(BIN) $(BENCH_BINS)
 	@for b in $(BENCH_BINS); do echo "== $$b"; $$b || exit 1; done
+
+# make fuzz: every harness for FUZZ_SECONDS each (make fuzz FUZZ_SECONDS=600 FUZZERS=session);
+# make fuzz-smoke: 10 s each, as CI runs it.
+fuzz: $(FUZZ_BINS)
+	@sh tests/fuzz/run.sh $(FUZZ_SECONDS) $(FUZZ_DIR) $(FUZZERS)
+fuzz-smoke: $(FUZZ_BINS)
+	@sh tests/fuzz/run.sh 10 $(FUZZ_DIR) $(FUZZERS)
+fuzz-lib: | $(STAMP)
+	@$(MAKE) --no-print-directory CC=clang BUILD=$(FUZZ_DIR) CFLAGS="-O1 -g -fsanitize=fuzzer-no-link" \
+	  SANFLAGS="$(FUZZ_SAN)" $(FUZZ_DIR)/libcpdomain.a
+$(FUZZ_DIR)/fuzz_%: tests/fuzz/fuzz_%.c tests/fuzz/fuzz.h fuzz-lib
+	clang -std=c17 -Wall -Wextra -Werror -O1 -g -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc -Itests/fuzz $(PKG_CFLAGS) \
+	  -fsanitize=fuzzer $(FUZZ_SAN) $< $(FUZZ_DIR)/libcpdomain.a $(PKG_LIBS) -o $@
 
 demo: $(BIN)
 	@sh demo/run.sh $(BIN)
