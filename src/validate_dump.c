@@ -57,6 +57,13 @@ static int copy(const rowctx *r, const char *col, char *dst, size_t size)
     return CPD_OK;
 }
 
+/* The date and note columns every dated record has. */
+static int date_and_note(const rowctx *r, char *date, size_t date_n, char *note, size_t note_n)
+{
+    int rc = copy(r, "date", date, date_n);
+    return rc ? rc : copy(r, "note", note, note_n);
+}
+
 /* Column col as a number: 1 with *x set, 0 for NULL (or a missing column). */
 static int num(const rowctx *r, const char *col, double *x)
 {
@@ -140,8 +147,8 @@ static int gx_test_row(const rowctx *r, int today)
 {
     cpd_gx_test t;
     memset(&t, 0, sizeof t);
-    int rc;
-    if ((rc = copy(r, "date", t.date, sizeof t.date)) || (rc = copy(r, "note", t.note, sizeof t.note)))
+    int rc = date_and_note(r, t.date, sizeof t.date, t.note, sizeof t.note);
+    if (rc)
         return rc;
     t.kind = strcmp(text(r, "kind"), "bout") == 0 ? CPD_GXT_BOUT : CPD_GXT_RAMP;
     t.speed = strcmp(text(r, "modality"), "speed") == 0;
@@ -229,8 +236,8 @@ static int session_row(const rowctx *r, int today)
 {
     cpd_session_rec s;
     memset(&s, 0, sizeof s);
-    int rc;
-    if ((rc = copy(r, "date", s.date, sizeof s.date)) || (rc = copy(r, "note", s.note, sizeof s.note)))
+    int rc = date_and_note(r, s.date, sizeof s.date, s.note, sizeof s.note);
+    if (rc)
         return rc;
     s.speed = strcmp(text(r, "modality"), "speed") == 0;
     double n = 0;
@@ -279,9 +286,9 @@ static int any_row(const cpd_dump *d, const rowctx *r, int today)
     if (strcmp(name, "gx_channel") == 0)
         return channel_row(d, r, "gx_test", "test_id");
     if (strcmp(name, "lactate_test") == 0) {
-        int rc = check_date(r, "date", today);
-        char note[CPD_NOTE_MAX + 1];
-        return rc ? rc : copy(r, "note", note, sizeof note);
+        char date[11], note[CPD_NOTE_MAX + 1];
+        int rc = date_and_note(r, date, sizeof date, note, sizeof note);
+        return rc ? rc : check_date(r, "date", today);
     }
     if (strcmp(name, "lactate_stage") == 0)
         return lactate_stage_row(d, r);
