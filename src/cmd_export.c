@@ -2,7 +2,6 @@
  * a new store). The store reads and writes the rows, the export module renders and parses. */
 #include "commands.h"
 #include "cpdomain/export.h"
-#include "cpdomain/validate_dump.h"
 #include "cpdomain/store_dump.h"
 #include "cpdomain/version.h"
 
@@ -157,20 +156,11 @@ int cmd_import(cli_ctx *c, int argc, char **argv)
     if ((rc = cpd_store_dump_schema(c->store, &schema)))
         return cli_store_fail(c, rc);
     char msg[CPD_MSG_MAX];
-    rc = cpd_export_read(path, schema, &d, msg);
+    rc = cpd_export_read_checked(path, schema, c->today, &d, msg); /* the format, then the record gate */
     cpd_dump_free(schema);
     if (rc)
         return cli_fail(c, rc, "%s", rc == CPD_ENOMEM ? "out of memory while reading the document" : msg);
     int ex = 0;
-    /* the record gate: the checks every other path into the store applies; the first bad value
-     * rejects the whole document, located by its JSON path */
-    cpd_dump_at at;
-    if (cpd_validate_dump(d, c->today, &at, msg)) {
-        char where[CPD_MSG_MAX / 2];
-        cpd_export_row_path(d, at.table, at.row, where, sizeof where);
-        ex = cli_fail(c, CPD_EDATA, "%s: %s[%zu]: %s (nothing was imported)", path, where, at.col, msg);
-        goto done;
-    }
     size_t bad_table = 0, bad_row = 0;
     if ((rc = cpd_store_begin(c->store)) || (rc = cpd_store_restore(c->store, d, &bad_table, &bad_row)) ||
         (rc = cpd_store_commit(c->store))) {

@@ -84,6 +84,10 @@ edit blob.json "d['tables']['gx_channel']['rows'][0][$DATA]['base64'] = 'AAAAAAA
 refused blob.json "tables.gx_channel.rows[0][$DATA]: column 'data': 8 bytes, but its record states" "a sample blob of the wrong length"
 edit notes.json "d['tables']['athlete']['rows'][0][$NOTE] = 'x' * 1001"
 refused notes.json "column 'notes': the text is longer than 1000 bytes" "notes longer than 'athlete add' takes"
+# columns in another order: the path counts in the document's own order
+edit cols.json "t = d['tables']['athlete']; t['columns'].reverse(); [r.reverse() for r in t['rows']]; t['rows'][1][len(t['columns']) - 1 - $CODE] = 'a b'"
+RCODE=$(/usr/bin/python3 -c "import json; print(json.load(open('$TMP/cols.json'))['tables']['athlete']['columns'].index('code'))")
+refused cols.json "tables.athlete.rows[1][$RCODE]: column 'code': athlete code 'a b' may hold only" "columns in another order: the path follows the document"
 rm -f "$NEW"; "$BIN" --db "$NEW" init >/dev/null 2>&1
 "$BIN" --db "$NEW" import "$TMP/good.json" 2>"$TMP/err" && pass "the untouched document imports" || fail "good.json refused" "$(cat "$TMP/err")"
 

@@ -28,8 +28,11 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         FUZZ_CHECK(msg[0] != '\0');
         return 0;
     }
+    cpd_dump *checked = NULL; /* the record gate, as import runs it, must agree with cpd_validate_dump */
     cpd_dump_at at;
-    (void)cpd_validate_dump(d, fuzz_today(), &at, msg);
+    int gate = cpd_validate_dump(d, fuzz_today(), &at, msg);
+    FUZZ_CHECK(cpd_export_parse_checked((const char *)data, size, schema(), fuzz_today(), &checked, msg) == gate);
+    cpd_dump_free(checked);
     char *text = NULL;
     size_t len = 0;
     if (cpd_export_render(d, "fuzz", &text, &len, msg) == CPD_OK) {

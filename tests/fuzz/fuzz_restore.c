@@ -14,10 +14,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     if (!store && (cpd_store_open(":memory:", 1, &store, msg) || cpd_store_dump_schema(store, &sch)))
         abort();
     cpd_dump *d = NULL;
-    if (cpd_export_parse((const char *)data, size, sch, &d, msg) != CPD_OK)
-        return 0;
-    cpd_dump_at at;
-    if (cpd_validate_dump(d, fuzz_today(), &at, msg) == CPD_OK) {
+    if (cpd_export_parse_checked((const char *)data, size, sch, fuzz_today(), &d, msg) == CPD_OK) {
         size_t bt = 0, br = 0;
         FUZZ_CHECK(cpd_store_begin(store) == CPD_OK);
         int rc = cpd_store_restore(store, d, &bt, &br);
@@ -31,7 +28,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
         }
         cpd_store_rollback(store);
         FUZZ_CHECK(cpd_store_check_empty(store) == CPD_OK);
+        cpd_dump_free(d);
     }
-    cpd_dump_free(d);
     return 0;
 }
