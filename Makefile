@@ -6,6 +6,10 @@ CFLAGS  ?= -O2 -g
 # -Wno-format-truncation: snprintf into a bounded message buffer truncates on purpose
 WARN     = -std=c17 -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
            -Wwrite-strings -Werror -Wno-format-truncation
+# clang (make CC=clang) has no -Wformat-truncation: drop the GCC-only flag so -Werror builds there too
+ifneq ($(findstring clang,$(shell $(CC) --version 2>/dev/null | head -n 1)),)
+WARN := $(filter-out -Wno-format-truncation,$(WARN))
+endif
 PKGS     = gsl sqlite3 libcjson
 # '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
@@ -35,6 +39,8 @@ LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
 LIB_SRCS += src/sheet.c
 LIB_SRCS += src/energy.c
+LIB_SRCS += src/safefile.c
+LIB_SRCS += src/validate_records.c src/validate_dump.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
@@ -63,12 +69,21 @@ TESTS += test_sheet
 TESTS += test_energy
 TESTS += test_honest
 TESTS += test_ramp_ci
+TESTS += test_safefile
+TESTS += test_csv_growth
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
 BENCHES += bench_mmp
 BENCHES += bench_sessions
 BENCHES += bench_energy
+
+# Fuzzing (tests/fuzz/README.md): libFuzzer harnesses built with clang, ASan and UBSan.
+FUZZERS  = trials gx lactate session protocol export restore
+FUZZ_SECONDS ?= 60
+FUZZ_DIR = build/fuzz
+FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omit-frame-pointer
+FUZZ_BINS = $(FUZZERS:%=$(FUZZ_DIR)/fuzz_%)
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
 
@@ -81,6 +96,7 @@ BENCH_BINS = $(BENCHES:%=$(BUILD)/bench/%)
 STAMP    = $(BUILD)/.deps-ok
 
 .PHONY: all test check valgrind bench demo deps install clean
+.PHONY: fuzz fuzz-smoke fuzz-lib
 all: $(BIN)
 
 deps:
@@ -131,6 +147,19 @@ valgrind: $(BIN) $(TEST_BINS)
 
 bench: $(BIN) $(BENCH_BINS)
 	@for b in $(BENCH_BINS); do echo "== $$b"; $$b || exit 1; done
+
+# make fuzz: every harness for FUZZ_SECONDS each (make fuzz FUZZ_SECONDS=600 FUZZERS=session);
+# make fuzz-smoke: 10 s each, as CI runs it.
+fuzz: $(FUZZ_BINS)
+	@sh tests/fuzz/run.sh $(FUZZ_SECONDS) $(FUZZ_DIR) $(FUZZERS)
+fuzz-smoke: $(FUZZ_BINS)
+	@sh tests/fuzz/run.sh 10 $(FUZZ_DIR) $(FUZZERS)
+fuzz-lib: | $(STAMP)
+	@$(MAKE) --no-print-directory CC=clang BUILD=$(FUZZ_DIR) CFLAGS="-O1 -g -fsanitize=fuzzer-no-link" \
+	  SANFLAGS="$(FUZZ_SAN)" $(FUZZ_DIR)/libcpdomain.a
+$(FUZZ_DIR)/fuzz_%: tests/fuzz/fuzz_%.c tests/fuzz/fuzz.h fuzz-lib
+	clang -std=c17 -Wall -Wextra -Werror -O1 -g -D_POSIX_C_SOURCE=200809L -Iinclude -Isrc -Itests/fuzz $(PKG_CFLAGS) \
+	  -fsanitize=fuzzer $(FUZZ_SAN) $< $(FUZZ_DIR)/libcpdomain.a $(PKG_LIBS) -o $@
 
 demo: $(BIN)
 	@sh demo/run.sh $(BIN)

@@ -1,6 +1,7 @@
 /* cli_out.c: the CLI's shared plumbing: exit codes, messages, option parsing, tables, JSON.
  * The only CLI file that includes cJSON.h; it turns every non-finite number into null. */
 #include "cli.h"
+#include "cpdomain/safefile.h"
 #include "cpdomain/units.h"
 
 #include <cJSON.h>
@@ -10,7 +11,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <sysexits.h>
 
 int cli_exit_code(int rc)
@@ -175,26 +175,14 @@ int cli_ranged(const char *opt, const char *arg, double lo, double hi, const cha
     return 0;
 }
 
-/* Writes text to path. A failed write removes the partial file, if it is a regular file:
- * -o may name a device or a pipe (/dev/stdout), which must never be unlinked. */
+/* Writes text to path through cpd_safe_write: never through a symbolic link, and a failed write
+ * leaves the old file as it was. */
 int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len)
 {
-    FILE *f = fopen(path, "wb");
-    if (!f)
-        return cli_fail(c, CPD_ECREATE, "cannot create '%s': %s", path, strerror(errno));
-    struct stat sb;
-    int regular = fstat(fileno(f), &sb) == 0 && S_ISREG(sb.st_mode);
-    int ok = fwrite(text, 1, len, f) == len;
-    int err = errno;
-    if (fclose(f) != 0 && ok) {
-        ok = 0;
-        err = errno;
-    }
-    if (!ok) {
-        if (regular)
-            remove(path);
-        return cli_fail(c, CPD_ECREATE, "writing '%s' failed: %s", path, strerror(err));
-    }
+    char msg[CPD_MSG_MAX];
+    int rc = cpd_safe_write(path, text, len, msg);
+    if (rc)
+        return cli_fail(c, rc, "%s", rc == CPD_ENOMEM ? cpd_strerror(rc) : msg);
     return 0;
 }
 

@@ -199,6 +199,12 @@ static int bout_add(cli_ctx *c, int argc, char **argv)
         return ex;
     }
     int64_t id = 0;
+    t.n_samples = g->n;
+    const char *bad_field = NULL;
+    if (cpd_validate_gx_test(&t, c->today, &bad_field, msg)) { /* the record gate every path passes */
+        cpd_gx_free(g);
+        return cli_fail(c, CPD_EDATA, "%s: %s", bad_field, msg);
+    }
     rc = cpd_store_gx_add(c->store, &t, g, &id);
     size_t n = g->n;
     double after = g->t_s[n - 1] - t.onset_s;

@@ -156,7 +156,7 @@ int cmd_import(cli_ctx *c, int argc, char **argv)
     if ((rc = cpd_store_dump_schema(c->store, &schema)))
         return cli_store_fail(c, rc);
     char msg[CPD_MSG_MAX];
-    rc = cpd_export_read(path, schema, &d, msg);
+    rc = cpd_export_read_checked(path, schema, c->today, &d, msg); /* the format, then the record gate */
     cpd_dump_free(schema);
     if (rc)
         return cli_fail(c, rc, "%s", rc == CPD_ENOMEM ? "out of memory while reading the document" : msg);

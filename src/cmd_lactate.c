@@ -96,6 +96,12 @@ static int lactate_add(cli_ctx *c, int argc, char **argv)
     if (o.note)
         snprintf(t->note, sizeof t->note, "%s", o.note);
     int64_t id = 0;
+    const char *bad_field = NULL;
+    size_t bad_stage = 0;
+    if (cpd_validate_lactate(t, c->today, &bad_field, &bad_stage, msg)) { /* the record gate every path passes */
+        free(t);
+        return cli_fail(c, CPD_EDATA, "stage %zu, %s: %s", bad_stage + 1, bad_field, msg);
+    }
     rc = cpd_store_lactate_add(c->store, t, &id);
     size_t n = t->n;
     free(t);

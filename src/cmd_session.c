@@ -302,6 +302,9 @@ static int session_add(cli_ctx *c, int argc, char **argv)
     cpd_session_import_ws *w = NULL;
     cli_json *doc = NULL;
     char *dates = NULL;
+    FILE *notes = NULL;
+    char *notes_text = NULL;
+    size_t notes_len = 0;
     int ex = 0;
     for (int i = first + 1; i < argc && !ex; i++)
         ex = files_add(c, &files, argv[i]);
@@ -327,6 +330,13 @@ static int session_add(cli_ctx *c, int argc, char **argv)
     w = cpd_import_session_alloc();
     doc = c->json ? cj_obj() : NULL; /* the per-file record is kept only when it will be printed */
     if (!w || (c->json && !doc)) {
+        ex = cli_fail(c, CPD_ENOMEM, "out of memory");
+        goto done;
+    }
+    /* what each file became is said only after the commit: a kill or a busy store before it stores
+     * nothing, and nothing may have been reported as stored */
+    notes = open_memstream(&notes_text, &notes_len);
+    if (!notes) {
         ex = cli_fail(c, CPD_ENOMEM, "out of memory");
         goto done;
     }
@@ -366,7 +376,7 @@ static int session_add(cli_ctx *c, int argc, char **argv)
                 cj_push(skipped_arr, sk);
             }
             if (!progress)
-                cli_note(c, "skipped %s: the same file is stored as session %lld", path, (long long)dup);
+                fprintf(notes, "skipped %s: the same file is stored as session %lld\n", path, (long long)dup);
             continue;
         }
         int64_t elsewhere = 0;
@@ -387,6 +397,11 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         snprintf(r.source_file, sizeof r.source_file, "%s", path);
         cpd_import_session_rec(&im, &r);
         int64_t id = 0;
+        const char *bad_field = NULL;
+        if (cpd_validate_session_rec(&r, c->today, &bad_field, msg)) { /* the record gate every path passes */
+            ex = cli_fail(c, CPD_EDATA, "%s: %s: %s", path, bad_field, msg);
+            goto done;
+        }
         if ((rc = cpd_store_session_add(c->store, &r, &im.samples, &im.curve, &id))) {
             ex = cli_store_fail(c, rc);
             goto done;
@@ -420,13 +435,16 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         if (!progress) {
             char d[256];
             describe(&r, d, sizeof d);
-            cli_note(c, "stored session %lld for %s, %s: %s", (long long)id, a.code, r.date, d);
+            fprintf(notes, "stored session %lld for %s, %s: %s\n", (long long)id, a.code, r.date, d);
         }
     }
     if ((rc = cpd_store_commit(c->store))) {
         ex = cli_store_fail(c, rc);
         goto done;
     }
+    if (fclose(notes) == 0 && notes_len && !c->quiet)
+        fputs(notes_text, stderr);
+    notes = NULL;
     if (progress)
         fputc('\n', stderr);
     if (added != 1 || skipped)
@@ -444,6 +462,9 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         doc = NULL;
     }
 done:
+    if (notes)
+        fclose(notes);
+    free(notes_text);
     cj_free(doc);
     cpd_import_session_free(w);
     free(dates);
@@ -816,6 +837,11 @@ static int allout_add(cli_ctx *c, int argc, char **argv)
     snprintf(r.source_file, sizeof r.source_file, "%s", path);
     cpd_import_session_rec(&im, &r);
     int64_t id = 0;
+    const char *bad_field = NULL;
+    if (cpd_validate_session_rec(&r, c->today, &bad_field, msg)) { /* the record gate every path passes */
+        ex = cli_fail(c, CPD_EDATA, "%s: %s: %s", path, bad_field, msg);
+        goto done;
+    }
     if ((rc = cpd_store_begin(c->store)) || (rc = cpd_store_session_add(c->store, &r, &im.samples, NULL, &id)) ||
         (rc = cpd_store_commit(c->store))) {
         ex = cli_store_fail(c, rc);

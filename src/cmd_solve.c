@@ -44,15 +44,22 @@ static int load_protocol(cli_ctx *c, const cli_pd_fit *f, const char *text, cpd_
 
 static int write_trace(cli_ctx *c, const char *path, const double *x, const double *trace, size_t n, int spd)
 {
-    FILE *o = fopen(path, "w");
+    char *text = NULL;
+    size_t len = 0;
+    FILE *o = open_memstream(&text, &len);
     if (!o)
-        return cli_fail(c, CPD_ECREATE, "--trace: cannot create '%s'", path);
+        return cli_fail(c, CPD_ENOMEM, "--trace: %s", cpd_strerror(CPD_ENOMEM));
     fprintf(o, "time_s,%s,%s\n", spd ? "speed_m_s" : "power_w", spd ? "balance_m" : "balance_j");
     for (size_t i = 0; i < n; i++)
         fprintf(o, "%zu,%.6g,%.6f\n", i + 1, x[i], trace[i]);
-    if (fclose(o) != 0)
-        return cli_fail(c, CPD_ECREATE, "--trace: writing '%s' failed", path);
-    return 0;
+    int bad = ferror(o);
+    if (fclose(o) != 0 || bad) {
+        free(text);
+        return cli_fail(c, CPD_ENOMEM, "--trace: %s", cpd_strerror(CPD_ENOMEM));
+    }
+    int ex = cli_write_file(c, path, text, len);
+    free(text);
+    return ex;
 }
 
 int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,

@@ -28,7 +28,20 @@ struct cpd_csv {
     long open_line;   /* line where the current record opened; 0 before its first field */
     size_t cur_n;     /* fields so far in the current record */
     int oom;
+    size_t grows;     /* growths of libcsv's field buffer (cpd_csv_parser_grows) */
 };
+
+/* libcsv grows its field buffer by a fixed block (128 bytes by default), which makes a long field
+ * quadratic. Before each line the block is set to the larger of the line and the buffer, so the
+ * buffer at least doubles at each growth and a field of n bytes costs O(n). The growths are
+ * counted through libcsv's realloc hook (which takes no user data: a thread-local counter). */
+static _Thread_local size_t parser_grows;
+
+static void *counting_realloc(void *p, size_t n)
+{
+    parser_grows++;
+    return realloc(p, n);
+}
 
 static int grow(void **p, size_t *cap, size_t need, size_t elem)
 {
@@ -134,20 +147,11 @@ int cpd_csv_read(const char *path, cpd_csv **out, char *msg)
     msg[0] = '\0';
     int rc = CPD_OK;
     char *buf = NULL;
-    struct csv_parser p;
-    int parser_ready = 0;
-    cpd_csv *c = calloc(1, sizeof *c);
     FILE *f = fopen(path, "rb");
-    if (!c) {
-        rc = CPD_ENOMEM;
-        goto done;
-    }
     if (!f) {
         snprintf(msg, CPD_MSG_MAX, "%s: cannot open: %s", path, strerror(errno));
-        rc = CPD_EIO;
-        goto done;
+        return CPD_EIO;
     }
-    c->path = strdup(path);
     size_t cap = 0, len = 0;
     for (;;) {
         if (grow((void **)&buf, &cap, len + 65536, 1)) {
@@ -164,11 +168,26 @@ int cpd_csv_read(const char *path, cpd_csv **out, char *msg)
         rc = CPD_EIO;
         goto done;
     }
-    if (!c->path) {
+    rc = cpd_csv_parse(path, buf, len, out, msg);
+done:
+    fclose(f);
+    free(buf);
+    return rc;
+}
+
+int cpd_csv_parse(const char *path, const char *buf, size_t len, cpd_csv **out, char *msg)
+{
+    *out = NULL;
+    msg[0] = '\0';
+    int rc = CPD_OK;
+    struct csv_parser p;
+    int parser_ready = 0;
+    cpd_csv *c = calloc(1, sizeof *c);
+    if (!c || !(c->path = strdup(path))) {
         rc = CPD_ENOMEM;
         goto done;
     }
-    if (memchr(buf, '\0', len)) {
+    if (len && memchr(buf, '\0', len)) {
         snprintf(msg, CPD_MSG_MAX, "%s: not a text file (it contains NUL bytes)", path);
         rc = CPD_EDATA;
         goto done;
@@ -185,10 +204,14 @@ int cpd_csv_read(const char *path, cpd_csv **out, char *msg)
     csv_set_delim(&p, delim);
     if (delim == '\t') /* a tab separates: only spaces are blanks */
         csv_set_space_func(&p, space_only);
+    csv_set_realloc_func(&p, counting_realloc);
+    parser_grows = 0;
     c->line = 1;
     while (pos < len) {
         const char *nl = memchr(buf + pos, '\n', len - pos);
         size_t chunk = nl ? (size_t)(nl - (buf + pos)) + 1 : len - pos;
+        size_t blk = p.entry_size > chunk ? p.entry_size : chunk;
+        csv_set_blk_size(&p, blk > 128 ? blk : 128);
         if (csv_parse(&p, buf + pos, chunk, on_field, on_record, c) != chunk) {
             snprintf(msg, CPD_MSG_MAX, "%s:%ld:%zu: malformed CSV: %s (quote a field that contains a quote, "
                      "a comma or a line break, and double the quotes inside it)",
@@ -248,9 +271,8 @@ int cpd_csv_read(const char *path, cpd_csv **out, char *msg)
 done:
     if (parser_ready)
         csv_free(&p);
-    if (f)
-        fclose(f);
-    free(buf);
+    if (c)
+        c->grows = parser_grows;
     if (rc) {
         cpd_csv_free(c);
         return rc;
@@ -285,6 +307,11 @@ const char *cpd_csv_get(const cpd_csv *c, size_t row, size_t col)
     if (r >= c->nrec || col >= c->rec[r].n)
         return "";
     return c->pool + c->field[c->rec[r].first + col];
+}
+
+size_t cpd_csv_parser_grows(const cpd_csv *c)
+{
+    return c->grows;
 }
 
 long cpd_csv_line(const cpd_csv *c, size_t row)

@@ -2,6 +2,7 @@
  * store and parsing one back, checked against the store's schema. cJSON builds and parses each
  * value; numbers are printed here, because cJSON's own printing does not promise exact reals. */
 #include "cpdomain/export.h"
+#include "cpdomain/validate_dump.h"
 #include "cpdomain/status.h"
 
 #include <cJSON.h>
@@ -651,7 +652,40 @@ static int only_space(const char *s, size_t n)
     return 1;
 }
 
+/* The record gate (validate_dump.h) on a parsed document, whose JSON tree root is still at hand to
+ * turn the column at fault into its place in the document's own column order. */
+static int check_records(const cJSON *root, const cpd_dump *d, int today_days, char *msg)
+{
+    cpd_dump_at at;
+    char why[CPD_MSG_MAX];
+    if (cpd_validate_dump(d, today_days, &at, why) == CPD_OK)
+        return CPD_OK;
+    const cpd_dump_table *t = &d->table[at.table];
+    const cJSON *cols = cJSON_GetObjectItemCaseSensitive(cJSON_GetObjectItemCaseSensitive(
+                                                             cJSON_GetObjectItemCaseSensitive(root, "tables"), t->name),
+                                                         "columns");
+    size_t k = 0, doc_col = at.col;
+    for (const cJSON *c = cols ? cols->child : NULL; c; c = c->next, k++)
+        if (cJSON_IsString(c) && strcmp(c->valuestring, t->col[at.col].name) == 0)
+            doc_col = k;
+    return fail(msg, "tables.%s.rows[%zu][%zu]: %s", t->name, at.row, doc_col, why);
+}
+
+static int parse_doc(const char *text, size_t len, const cpd_dump *schema, int today_days, cpd_dump **out, char *msg);
+
 int cpd_export_parse(const char *text, size_t len, const cpd_dump *schema, cpd_dump **out, char *msg)
+{
+    return parse_doc(text, len, schema, -1, out, msg);
+}
+
+int cpd_export_parse_checked(const char *text, size_t len, const cpd_dump *schema, int today_days, cpd_dump **out,
+                             char *msg)
+{
+    return parse_doc(text, len, schema, today_days < 0 ? 0 : today_days, out, msg);
+}
+
+/* today_days < 0: the format only, no record gate. */
+static int parse_doc(const char *text, size_t len, const cpd_dump *schema, int today_days, cpd_dump **out, char *msg)
 {
     *out = NULL;
     msg[0] = '\0';
@@ -684,6 +718,8 @@ int cpd_export_parse(const char *text, size_t len, const cpd_dump *schema, cpd_d
     if ((rc = copy_schema(schema, &d)))
         goto done;
     rc = parse_root(root, schema, d, msg);
+    if (rc == CPD_OK && today_days >= 0)
+        rc = check_records(root, d, today_days, msg);
 done:
     cJSON_Delete(root);
     if (rc)
@@ -693,7 +729,19 @@ done:
     return rc;
 }
 
+static int read_doc(const char *path, const cpd_dump *schema, int today_days, cpd_dump **out, char *msg);
+
 int cpd_export_read(const char *path, const cpd_dump *schema, cpd_dump **out, char *msg)
+{
+    return read_doc(path, schema, -1, out, msg);
+}
+
+int cpd_export_read_checked(const char *path, const cpd_dump *schema, int today_days, cpd_dump **out, char *msg)
+{
+    return read_doc(path, schema, today_days < 0 ? 0 : today_days, out, msg);
+}
+
+static int read_doc(const char *path, const cpd_dump *schema, int today_days, cpd_dump **out, char *msg)
 {
     *out = NULL;
     msg[0] = '\0';
@@ -728,7 +776,7 @@ int cpd_export_read(const char *path, const cpd_dump *schema, cpd_dump **out, ch
         goto done;
     }
     char inner[CPD_MSG_MAX];
-    rc = cpd_export_parse(buf, len, schema, out, inner);
+    rc = parse_doc(buf, len, schema, today_days, out, inner);
     if (rc)
         snprintf(msg, CPD_MSG_MAX, "%s: %s", is_stdin ? "standard input" : path, inner);
 done:

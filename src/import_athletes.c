@@ -5,6 +5,7 @@
 #include "cpdomain/units.h"
 #include "cpdomain/validate.h"
 
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -20,13 +21,60 @@ void cpd_athlete_batch_free(cpd_athlete_batch *b)
     b->n = 0;
 }
 
+/* A row's code and index, sorted by code then row to find codes given twice. */
+typedef struct {
+    const char *code;
+    size_t row;
+} code_row;
+
+static int by_code(const void *a, const void *b)
+{
+    const code_row *x = a, *y = b;
+    int k = strcmp(x->code, y->code);
+    return k ? k : (x->row > y->row) - (x->row < y->row);
+}
+
+/* The earliest row whose code an earlier row already has: CPD_EDATA with both lines in msg. */
+static int duplicate_codes(const cpd_csv *c, const cpd_athlete_batch *b, size_t n, int code_col, char *msg)
+{
+    code_row *ix = malloc((n ? n : 1) * sizeof *ix);
+    if (!ix)
+        return CPD_ENOMEM;
+    for (size_t r = 0; r < n; r++)
+        ix[r] = (code_row){b->athlete[r].code, r};
+    qsort(ix, n, sizeof *ix, by_code);
+    size_t first = 0, second = SIZE_MAX, k0 = 0;
+    for (size_t k = 1; k < n; k++) {
+        if (strcmp(ix[k].code, ix[k0].code) != 0)
+            k0 = k; /* ix[k0] is the first row of the run of equal codes */
+        else if (ix[k].row < second) {
+            first = ix[k0].row;
+            second = ix[k].row;
+        }
+    }
+    free(ix);
+    if (second == SIZE_MAX)
+        return CPD_OK;
+    char where[CPD_MSG_MAX / 2];
+    cpd_csv_where(c, second, code_col, where, sizeof where);
+    snprintf(msg, CPD_MSG_MAX, "%s: athlete code '%s' is given twice in this file, on lines %ld and %ld: give each athlete one row",
+             where, b->athlete[second].code, b->line[first], b->line[second]);
+    return CPD_EDATA;
+}
+
 int cpd_import_athletes(const char *path, const char *map, cpd_athlete_batch *out, char *msg)
 {
     memset(out, 0, sizeof *out);
     cpd_csv *c = NULL;
     int rc = cpd_csv_read(path, &c, msg);
-    if (rc)
-        return rc;
+    return rc ? rc : cpd_import_athletes_csv(c, map, out, msg);
+}
+
+int cpd_import_athletes_csv(cpd_csv *c, const char *map, cpd_athlete_batch *out, char *msg)
+{
+    memset(out, 0, sizeof *out);
+    const char *path = cpd_csv_path(c);
+    int rc;
     if ((rc = cpd_csv_map(c, map, msg)))
         goto done;
     int code = cpd_csv_find(c, "code"), name = cpd_csv_find(c, "name");
@@ -92,6 +140,8 @@ int cpd_import_athletes(const char *path, const char *map, cpd_athlete_batch *ou
         rc = CPD_EDATA;
         goto done;
     }
+    if ((rc = duplicate_codes(c, out, n, code, msg)))
+        goto done;
     out->n = n;
 done:
     cpd_csv_free(c);

@@ -98,10 +98,16 @@ int cpd_import_gx_report(const char *path, const char *map, size_t min_rows, cpd
         rep = &own;
     memset(rep, 0, sizeof *rep);
     cpd_csv *c = NULL;
-    cpd_gx_series *g = NULL;
     int rc = cpd_csv_read(path, &c, msg);
-    if (rc)
-        return rc;
+    return rc ? rc : cpd_import_gx_csv(c, map, min_rows, out, msg);
+}
+
+int cpd_import_gx_csv(cpd_csv *c, const char *map, size_t min_rows, cpd_gx_series **out, char *msg)
+{
+    *out = NULL;
+    cpd_gx_series *g = NULL;
+    const char *path = cpd_csv_path(c);
+    int rc;
     if ((rc = cpd_csv_map(c, map, msg)))
         goto done;
     int col[NCOL];
@@ -232,8 +238,13 @@ int cpd_import_lactate(const char *path, const char *map, cpd_lactate_test *t, c
 {
     cpd_csv *c = NULL;
     int rc = cpd_csv_read(path, &c, msg);
-    if (rc)
-        return rc;
+    return rc ? rc : cpd_import_lactate_csv(c, map, t, msg);
+}
+
+int cpd_import_lactate_csv(cpd_csv *c, const char *map, cpd_lactate_test *t, char *msg)
+{
+    const char *path = cpd_csv_path(c);
+    int rc;
     if ((rc = cpd_csv_map(c, map, msg)))
         goto done;
     int lac = cpd_csv_find(c, "lactate_mmol_l"), pw = cpd_csv_find(c, "power_w"), sp = cpd_csv_find(c, "speed_m_s");

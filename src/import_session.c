@@ -129,8 +129,8 @@ static void clean_error(const cpd_csv *c, const cpd_session *s, int speed, doubl
                      path, cpd_csv_line(c, n - 1));
         break;
     case CPD_SESSION_ERR_TOO_LONG:
-        snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: column 'time_s': the file spans %.0f s, more than the 7 days (604800 s) "
-                 "a session may last", path, line, span_s);
+        snprintf(msg, CPD_MSG_MAX, "%s:%ld:1: column 'time_s': the file spans %.6g s (%.4g days), more than the 7 days "
+                 "(604800 s) a session may last", path, line, span_s, span_s / 86400);
         break;
     case CPD_SESSION_ERR_NO_DATA:
         snprintf(msg, CPD_MSG_MAX, "%s: every value is above the spike limit of %g %s: no clean second is left", path,
@@ -142,6 +142,9 @@ static void clean_error(const cpd_csv *c, const cpd_session *s, int speed, doubl
     }
 }
 
+static int session_from_csv(cpd_session_import_ws *w, cpd_csv *c, const cpd_session_import_opts *opts,
+                            cpd_session_import *out, char *msg);
+
 int cpd_import_session(cpd_session_import_ws *w, const char *path, const cpd_session_import_opts *opts,
                        cpd_session_import *out, char *msg)
 {
@@ -152,6 +155,25 @@ int cpd_import_session(cpd_session_import_ws *w, const char *path, const cpd_ses
         return rc;
     if ((rc = cpd_csv_read(path, &c, msg)))
         return rc;
+    return session_from_csv(w, c, opts, out, msg);
+}
+
+int cpd_import_session_mem(cpd_session_import_ws *w, const char *name, const char *buf, size_t len,
+                           const cpd_session_import_opts *opts, cpd_session_import *out, char *msg)
+{
+    memset(out, 0, sizeof *out);
+    out->hash = cpd_session_hash(CPD_SESSION_HASH_INIT, buf, len);
+    cpd_csv *c = NULL;
+    int rc = cpd_csv_parse(name, buf, len, &c, msg);
+    return rc ? rc : session_from_csv(w, c, opts, out, msg);
+}
+
+/* Reads the parsed file c (freed here) into out, whose hash is set. */
+static int session_from_csv(cpd_session_import_ws *w, cpd_csv *c, const cpd_session_import_opts *opts,
+                            cpd_session_import *out, char *msg)
+{
+    const char *path = cpd_csv_path(c);
+    int rc;
     if ((rc = cpd_csv_map(c, opts->map, msg)))
         goto done;
     int col[NCOL];

@@ -34,8 +34,14 @@ int cpd_import_trials(const char *path, const char *map, int today_days, cpd_tri
     memset(out, 0, sizeof *out);
     cpd_csv *c = NULL;
     int rc = cpd_csv_read(path, &c, msg);
-    if (rc)
-        return rc;
+    return rc ? rc : cpd_import_trials_csv(c, map, today_days, out, msg);
+}
+
+int cpd_import_trials_csv(cpd_csv *c, const char *map, int today_days, cpd_trial_batch *out, char *msg)
+{
+    memset(out, 0, sizeof *out);
+    const char *path = cpd_csv_path(c);
+    int rc;
     if ((rc = cpd_csv_map(c, map, msg)))
         goto done;
 

@@ -3,6 +3,7 @@
 #include "cpdomain/units.h"
 #include "cpdomain/version.h"
 
+#include <errno.h>
 #include <gsl/gsl_errno.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -33,7 +34,7 @@ static const cli_command commands[] = {
 
 static void usage(FILE *out)
 {
-    fputs("usage: cpdomain [--db FILE] [--json] [--quiet] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
+    fputs("usage: cpdomain [--db FILE] [--json] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
           "Critical power, W' and the intensity domains from an athlete's tests.\n\ncommands:\n",
           out);
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
@@ -42,10 +43,27 @@ static void usage(FILE *out)
           "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
           "  --json     machine-readable output: one JSON document on stdout\n"
           "  --quiet    no informational messages on stderr\n"
+          "  --busy-timeout MS\n"
+          "             how long to wait for another process that is writing to the store, in\n"
+          "             milliseconds (default: $CPDOMAIN_BUSY_TIMEOUT, else 5000); then fail\n"
           "  --help     this text; 'cpdomain COMMAND --help' for a command\n"
           "  --version  the version\n\n"
           "example:\n  cpdomain --db lab.db init\n  cpdomain --db lab.db athlete add R07 --name \"Ines Varga\" --mass 64.5\n",
           out);
+}
+
+/* --busy-timeout or $CPDOMAIN_BUSY_TIMEOUT: whole milliseconds, 0 to 3 600 000. */
+static int busy_timeout(const char *what, const char *arg)
+{
+    char *e = NULL;
+    errno = 0;
+    long v = strtol(arg, &e, 10);
+    if (!*arg || *e || errno || v < 0 || v > 3600000) {
+        fprintf(stderr, "cpdomain: %s must be a whole number of milliseconds from 0 to 3600000 (got '%s')\n", what, arg);
+        return EX_USAGE;
+    }
+    cpd_store_set_busy_timeout((int)v);
+    return 0;
 }
 
 /* Today's local date, or $CPDOMAIN_TODAY (YYYY-MM-DD) for reproducible reports and tests. */
@@ -107,8 +125,12 @@ int main(int argc, char **argv)
 
     static const struct option opts[] = {
         {"db", required_argument, NULL, 'd'}, {"json", no_argument, NULL, 'j'},    {"quiet", no_argument, NULL, 'q'},
-        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'}, {NULL, 0, NULL, 0},
+        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'},
+        {"busy-timeout", required_argument, NULL, 'b'}, {NULL, 0, NULL, 0},
     };
+    const char *env_busy = getenv("CPDOMAIN_BUSY_TIMEOUT");
+    if (env_busy && *env_busy && busy_timeout("CPDOMAIN_BUSY_TIMEOUT", env_busy))
+        return EX_USAGE;
     opterr = 0;
     int o;
     while ((o = getopt_long(argc, argv, "+", opts, NULL)) != -1) {
@@ -125,6 +147,10 @@ int main(int argc, char **argv)
         case 'h':
             usage(stdout);
             return EX_OK;
+        case 'b':
+            if (busy_timeout("--busy-timeout", optarg))
+                return EX_USAGE;
+            break;
         case 'V':
             printf("cpdomain %s\n", CPDOMAIN_VERSION);
             return EX_OK;

@@ -132,7 +132,7 @@ static int check(const double *time_s, const double *value, size_t n, cpd_sessio
     if (time_s[n - 1] - time_s[0] <= CPD_SESSION_TIME_TOL_S)
         return fail(s, CPD_ENODATA, CPD_SESSION_ERR_ONE_SAMPLE, 0, msg, "");
     if (!(time_s[n - 1] - time_s[0] <= CPD_SESSION_MAX_SPAN_S)) {
-        snprintf(d, sizeof d, " (%.0f s)", time_s[n - 1] - time_s[0]);
+        snprintf(d, sizeof d, " (%.6g s)", time_s[n - 1] - time_s[0]); /* %g: a huge span in a few digits */
         return fail(s, CPD_EDATA, CPD_SESSION_ERR_TOO_LONG, n - 1, msg, d);
     }
     return CPD_OK;

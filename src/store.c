@@ -17,8 +17,31 @@ int cpd_st_err(cpd_store *s, int rc, const char *fmt, ...)
     return rc;
 }
 
+static int busy_ms = 5000; /* cpd_store_set_busy_timeout */
+
+void cpd_store_set_busy_timeout(int ms)
+{
+    busy_ms = ms > 0 ? ms : 0;
+}
+
+int cpd_store_busy_timeout(void)
+{
+    return busy_ms;
+}
+
+/* The message of a lock another process kept past the busy timeout. */
+static int busy_err(cpd_store *s, const char *what)
+{
+    return cpd_st_err(s, CPD_ESTORE,
+                      "%s: another process holds the store (its write lock was not released within %g s): try "
+                      "again when it has finished, or wait longer with --busy-timeout MS",
+                      what, busy_ms / 1000.0);
+}
+
 int cpd_st_fail(cpd_store *s, const char *what)
 {
+    if ((sqlite3_errcode(s->db) & 0xff) == SQLITE_BUSY)
+        return busy_err(s, what);
     return cpd_st_err(s, CPD_ESTORE, "%s: %s", what, sqlite3_errmsg(s->db));
 }
 
@@ -237,12 +260,15 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
         rc = CPD_ESTORE;
         goto done;
     }
-    sqlite3_busy_timeout(s->db, 5000);
+    sqlite3_busy_timeout(s->db, busy_ms);
     sqlite3_extended_result_codes(s->db, 1);
     /* A file that is not SQLite fails here, at the first read. */
     if (sqlite3_exec(s->db, "PRAGMA foreign_keys = ON; PRAGMA journal_mode = WAL; PRAGMA synchronous = NORMAL",
                      NULL, NULL, NULL) != SQLITE_OK) {
-        snprintf(msg, CPD_MSG_MAX, "'%s' is not a cpdomain store: %s", path, sqlite3_errmsg(s->db));
+        if ((sqlite3_errcode(s->db) & 0xff) == SQLITE_BUSY)
+            snprintf(msg, CPD_MSG_MAX, "%s", (busy_err(s, path), s->err));
+        else
+            snprintf(msg, CPD_MSG_MAX, "'%s' is not a cpdomain store: %s", path, sqlite3_errmsg(s->db));
         rc = CPD_ESTORE;
         goto done;
     }

@@ -37,19 +37,35 @@ int cpd_validate_sport(const char *sport, char *msg)
 
 int cpd_validate_athlete(const cpd_athlete *a, char *msg)
 {
+    const char *field = NULL;
+    return cpd_validate_athlete_field(a, &field, msg);
+}
+
+int cpd_validate_athlete_field(const cpd_athlete *a, const char **field, char *msg)
+{
+    *field = "code";
     int rc = cpd_validate_code(a->code, msg);
     if (rc)
         return rc;
+    *field = "name";
     if (!a->name[0] || strlen(a->name) > CPD_NAME_MAX) {
         snprintf(msg, CPD_MSG_MAX, "name must have 1 to %d bytes", CPD_NAME_MAX);
         return CPD_EDATA;
     }
+    *field = "sport";
     if ((rc = cpd_validate_sport(a->sport, msg)))
         return rc;
+    *field = "mass_kg";
     if (a->has_mass && !cpd_in_range(&CPD_RANGE_MASS, a->mass_kg)) {
         cpd_range_msg(&CPD_RANGE_MASS, a->mass_kg, msg, CPD_MSG_MAX);
         return CPD_EDATA;
     }
+    *field = "notes";
+    if (strlen(a->notes) > CPD_NOTE_MAX) {
+        snprintf(msg, CPD_MSG_MAX, "notes are longer than %d bytes", CPD_NOTE_MAX);
+        return CPD_EDATA;
+    }
+    *field = NULL;
     return CPD_OK;
 }
 

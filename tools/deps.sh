@@ -19,6 +19,9 @@ need libxml2-utils    command -v xmllint
 need sqlite3          command -v sqlite3
 # the sheet's browser test renders a page in headless Chromium (tests only)
 need chromium         test -x /usr/bin/chromium
+# the clang build of CI and make fuzz: Debian's clang and its libFuzzer and sanitizer runtimes
+need clang            command -v clang
+need libclang-rt-14-dev sh -c 'ls /usr/lib/llvm-*/lib/clang/*/lib/linux/libclang_rt.fuzzer-x86_64.a'
 [ -z "$missing" ] && exit 0
 if [ "$(id -u)" = 0 ] && command -v apt-get >/dev/null 2>&1; then
     echo "deps: installing$missing" >&2

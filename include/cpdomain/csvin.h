@@ -16,6 +16,12 @@ typedef struct cpd_csv cpd_csv;
  * a bad quoted field at the line where it opened), CPD_ENOMEM. msg has CPD_MSG_MAX bytes.
  * The caller frees *out with cpd_csv_free. */
 int cpd_csv_read(const char *path, cpd_csv **out, char *msg);
+/* The same from len bytes in memory (which may hold anything, NUL bytes too: they are refused);
+ * path only names the text in messages. */
+int cpd_csv_parse(const char *path, const char *buf, size_t len, cpd_csv **out, char *msg);
+/* How many times libcsv's field buffer grew while reading c: the buffer at least doubles each
+ * time, so a field of n bytes costs O(log n) growths (a check for tests). */
+size_t cpd_csv_parser_grows(const cpd_csv *c);
 void cpd_csv_free(cpd_csv *c);
 
 size_t cpd_csv_nrows(const cpd_csv *c); /* data rows, header excluded */

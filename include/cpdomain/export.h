@@ -34,6 +34,13 @@ int cpd_export_parse(const char *text, size_t len, const cpd_dump *schema, cpd_d
  * "path: ". CPD_EIO when the file cannot be opened or read; otherwise as cpd_export_parse. */
 int cpd_export_read(const char *path, const cpd_dump *schema, cpd_dump **out, char *msg);
 
+/* The same, then every row through the record gate (cpd_validate_dump, dates not after
+ * today_days): the first bad value is CPD_EDATA with its JSON path in the document's own column
+ * order ("tables.athlete.rows[3][1]: column 'code': ..."). What import uses. */
+int cpd_export_parse_checked(const char *text, size_t len, const cpd_dump *schema, int today_days, cpd_dump **out,
+                             char *msg);
+int cpd_export_read_checked(const char *path, const cpd_dump *schema, int today_days, cpd_dump **out, char *msg);
+
 /* The JSON path of row `row` of table `table` of d ("tables.trial.rows[3]"; "tables.trial" for row
  * SIZE_MAX), for messages about a row the store refused (cpd_store_restore). */
 void cpd_export_row_path(const cpd_dump *d, size_t table, size_t row, char *buf, size_t n);

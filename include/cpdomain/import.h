@@ -3,6 +3,7 @@
 #ifndef CPDOMAIN_IMPORT_H
 #define CPDOMAIN_IMPORT_H
 
+#include "cpdomain/csvin.h"
 #include "cpdomain/gx.h"
 #include "cpdomain/store.h"
 
@@ -22,6 +23,9 @@ typedef struct {
  * CPD_ENOMEM. The caller frees the batch with cpd_trial_batch_free. */
 int cpd_import_trials(const char *path, const char *map, int today_days, cpd_trial_batch *out, char *msg);
 void cpd_trial_batch_free(cpd_trial_batch *b);
+/* The same from a table already read (cpd_csv_read or, from memory, cpd_csv_parse), which this
+ * function frees; messages name cpd_csv_path(c). So are the *_csv functions below. */
+int cpd_import_trials_csv(cpd_csv *c, const char *map, int today_days, cpd_trial_batch *out, char *msg);
 
 typedef struct {
     cpd_athlete *athlete; /* n validated athletes */
@@ -34,6 +38,7 @@ typedef struct {
  * cpd_import_trials. The caller frees the batch with cpd_athlete_batch_free. */
 int cpd_import_athletes(const char *path, const char *map, cpd_athlete_batch *out, char *msg);
 void cpd_athlete_batch_free(cpd_athlete_batch *b);
+int cpd_import_athletes_csv(cpd_csv *c, const char *map, cpd_athlete_batch *out, char *msg);
 
 /* Reads a gas-exchange CSV (SPEC.md: time_s and vo2_ml_min (or vo2_l_min) required; optional
  * vco2_ml_min (or vco2_l_min), ve_l_min, hr_bpm, power_w, speed_m_s, peto2_mmhg, petco2_mmhg) into a
@@ -41,6 +46,7 @@ void cpd_athlete_batch_free(cpd_athlete_batch *b);
  * the onset) or h:mm:ss and may not run backwards; each value must lie in its range; at least min_rows rows. Return codes as
  * cpd_import_trials. The caller frees *out with cpd_gx_free. */
 int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_series **out, char *msg);
+int cpd_import_gx_csv(cpd_csv *c, const char *map, size_t min_rows, cpd_gx_series **out, char *msg);
 
 /* What cpd_import_gx_report dropped from a file instead of rejecting it. */
 typedef struct {
@@ -63,6 +69,7 @@ int cpd_import_gx_report(const char *path, const char *map, size_t min_rows, cpd
  * Stages must rise in intensity; 3 to CPD_LACTATE_STAGES_MAX of them. Return codes as
  * cpd_import_trials. */
 int cpd_import_lactate(const char *path, const char *map, cpd_lactate_test *t, char *msg);
+int cpd_import_lactate_csv(cpd_csv *c, const char *map, cpd_lactate_test *t, char *msg);
 
 /* ---- recorded sessions and 3-minute all-out tests ---- */
 #include "cpdomain/session.h"
@@ -105,6 +112,9 @@ void cpd_import_session_free(cpd_session_import_ws *w);
  * a bad map; CPD_ENOMEM. */
 int cpd_import_session(cpd_session_import_ws *w, const char *path, const cpd_session_import_opts *opts,
                        cpd_session_import *out, char *msg);
+/* The same from len bytes in memory named name (hash of those bytes, cpd_csv_parse). */
+int cpd_import_session_mem(cpd_session_import_ws *w, const char *name, const char *buf, size_t len,
+                           const cpd_session_import_opts *opts, cpd_session_import *out, char *msg);
 
 /* Fills the cleaning report, modality, hash, sample count and mean/max of r from a read file
  * (the caller sets athlete, date, allout, note and source_file). */
