@@ -93,18 +93,19 @@ int cpd_import_gx_report(const char *path, const char *map, size_t min_rows, cpd
                          cpd_gx_import_report *rep, char *msg)
 {
     *out = NULL;
+    cpd_csv *c = NULL;
+    int rc = cpd_csv_read(path, &c, msg);
+    return rc ? rc : cpd_import_gx_csv(c, map, min_rows, out, rep, msg);
+}
+
+int cpd_import_gx_csv(cpd_csv *c, const char *map, size_t min_rows, cpd_gx_series **out, cpd_gx_import_report *rep,
+                      char *msg)
+{
+    *out = NULL;
     cpd_gx_import_report own;
     if (!rep)
         rep = &own;
     memset(rep, 0, sizeof *rep);
-    cpd_csv *c = NULL;
-    int rc = cpd_csv_read(path, &c, msg);
-    return rc ? rc : cpd_import_gx_csv(c, map, min_rows, out, msg);
-}
-
-int cpd_import_gx_csv(cpd_csv *c, const char *map, size_t min_rows, cpd_gx_series **out, char *msg)
-{
-    *out = NULL;
     cpd_gx_series *g = NULL;
     const char *path = cpd_csv_path(c);
     int rc;

@@ -153,8 +153,11 @@ static int gx_test_row(const rowctx *r, int today)
     t.kind = strcmp(text(r, "kind"), "bout") == 0 ? CPD_GXT_BOUT : CPD_GXT_RAMP;
     t.speed = strcmp(text(r, "modality"), "speed") == 0;
     double n = 0;
-    num(r, "rate_per_min", &t.rate_per_min);
-    num(r, "start", &t.start);
+    t.has_rate = num(r, "rate_per_min", &t.rate_per_min);
+    t.has_start = num(r, "start", &t.start);
+    t.has_end = num(r, "end_s", &t.end_s);
+    t.has_get_intensity = num(r, "get_intensity_manual", &t.get_intensity_manual);
+    t.has_rcp_intensity = num(r, "rcp_intensity_manual", &t.rcp_intensity_manual);
     num(r, "intensity", &t.intensity);
     num(r, "onset_s", &t.onset_s);
     num(r, "n_samples", &n);

@@ -44,9 +44,15 @@ int cpd_validate_gx_test(const cpd_gx_test *t, int today_days, const char **fiel
     if ((*field = "date", cpd_validate_date(t->date, today_days, msg)))
         return CPD_EDATA;
     if (t->kind == CPD_GXT_RAMP) {
-        if ((*field = "rate_per_min", ranged(t->rate_per_min, t->speed ? 0.005 : 1, t->speed ? 2 : 200, "ramp rate",
-                                             t->speed ? "(m/s)/min" : "W/min", msg)) ||
-            (*field = "start", ranged(t->start, 0, maxi, "ramp start", u, msg)) ||
+        /* the nominal rate and start are optional when the file records the intensity (issue 11) */
+        int rate_given = t->has_rate || t->rate_per_min != 0, start_given = t->has_start || t->start != 0;
+        if ((*field = "rate_per_min", rate_given && ranged(t->rate_per_min, t->speed ? 0.005 : 1, t->speed ? 2 : 200,
+                                                           "ramp rate", t->speed ? "(m/s)/min" : "W/min", msg)) ||
+            (*field = "start", start_given && ranged(t->start, 0, maxi, "ramp start", u, msg)) ||
+            (*field = "get_intensity_manual", t->has_get_intensity && ranged(t->get_intensity_manual, 0, maxi,
+                                                                             "GET intensity", u, msg)) ||
+            (*field = "rcp_intensity_manual", t->has_rcp_intensity && ranged(t->rcp_intensity_manual, 0, maxi,
+                                                                             "RCP intensity", u, msg)) ||
             (*field = "mrt_s", t->has_mrt && ranged(t->mrt_s, 0, 300, "MRT", "s", msg)) ||
             (*field = "get_vo2_manual", t->has_get_manual && in_range(&CPD_RANGE_VO2, t->get_vo2_manual, msg)) ||
             (*field = "rcp_vo2_manual", t->has_rcp_manual && in_range(&CPD_RANGE_VO2, t->rcp_vo2_manual, msg)) ||
@@ -62,7 +68,8 @@ int cpd_validate_gx_test(const cpd_gx_test *t, int today_days, const char **fiel
             return CPD_EDATA;
         }
     }
-    if ((*field = "onset_s", ranged(t->onset_s, 0, 7200, "onset", "s", msg)))
+    if ((*field = "onset_s", ranged(t->onset_s, 0, 7200, "onset", "s", msg)) ||
+        (*field = "end_s", t->has_end && ranged(t->end_s, -7200, 86400, "end of exercise", "s", msg)))
         return CPD_EDATA;
     *field = "n_samples";
     if (t->n_samples < 2) {

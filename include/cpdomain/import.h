@@ -46,7 +46,6 @@ int cpd_import_athletes_csv(cpd_csv *c, const char *map, cpd_athlete_batch *out,
  * the onset) or h:mm:ss and may not run backwards; each value must lie in its range; at least min_rows rows. Return codes as
  * cpd_import_trials. The caller frees *out with cpd_gx_free. */
 int cpd_import_gx(const char *path, const char *map, size_t min_rows, cpd_gx_series **out, char *msg);
-int cpd_import_gx_csv(cpd_csv *c, const char *map, size_t min_rows, cpd_gx_series **out, char *msg);
 
 /* What cpd_import_gx_report dropped from a file instead of rejecting it. */
 typedef struct {
@@ -63,6 +62,9 @@ typedef struct {
  * a decimal comma and a header read as one column are named in the message with what to do. */
 int cpd_import_gx_report(const char *path, const char *map, size_t min_rows, cpd_gx_series **out,
                          cpd_gx_import_report *rep, char *msg);
+/* The same from a CSV already read (cpd_csv_read or cpd_csv_parse); c is freed in every case. */
+int cpd_import_gx_csv(cpd_csv *c, const char *map, size_t min_rows, cpd_gx_series **out, cpd_gx_import_report *rep,
+                      char *msg);
 
 /* Reads a lactate step test (lactate_mmol_l and one of power_w, speed_m_s; optional hr_bpm,
  * stage_s) into t (its stages, speed flag and source_file; the caller sets athlete and date).

@@ -12,7 +12,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
     if (cpd_csv_parse("fuzz.csv", (const char *)data, size, &c, msg) != CPD_OK)
         return 0;
     cpd_gx_series *g = NULL;
-    if (cpd_import_gx_csv(c, NULL, 2, &g, msg) == CPD_OK) {
+    if (cpd_import_gx_csv(c, NULL, 2, &g, NULL, msg) == CPD_OK) {
         FUZZ_CHECK(g->n >= 2);
         for (size_t i = 0; i < g->n; i++) {
             FUZZ_CHECK(isfinite(g->t_s[i]));
