@@ -6,7 +6,7 @@ CFLAGS  ?= -O2 -g
 # -Wno-format-truncation: snprintf into a bounded message buffer truncates on purpose
 WARN     = -std=c17 -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes -Wmissing-prototypes \
            -Wwrite-strings -Werror -Wno-format-truncation
-PKGS     = gsl sqlite3 libcjson
+PKGS     = gsl sqlite3 libcjson libzstd
 # '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   = $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lcsv -lm
@@ -42,6 +42,7 @@ CLI_SRCS += src/cmd_export.c
 CLI_SRCS += src/cmd_bout.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 LIB_SRCS += src/store_session.c src/import_session.c
+LIB_SRCS += src/store_codec.c
 CLI_SRCS += src/cmd_session.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
@@ -56,6 +57,7 @@ TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
+TESTS += test_store_codec
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

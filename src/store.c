@@ -205,6 +205,11 @@ static int migrate(cpd_store *s)
             sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
             return CPD_ESTORE;
         }
+        /* 007 adds the compact encoding; the samples already stored are re-encoded now */
+        if (strstr(cpd_store_migration_files[k], "007_") && cpd_st_session_pack(s)) {
+            sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+            return CPD_ESTORE;
+        }
     }
     char sql[64];
     snprintf(sql, sizeof sql, "PRAGMA user_version = %d", cpd_store_migration_count);
@@ -246,6 +251,10 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
         rc = CPD_ESTORE;
         goto done;
     }
+    /* A command does not checkpoint the WAL when it closes: the write-ahead log is copied into the
+     * database by SQLite's automatic checkpoint once it holds wal_autocheckpoint pages (README,
+     * "Durability"), not rewritten by every small command. */
+    sqlite3_db_config(s->db, SQLITE_DBCONFIG_NO_CKPT_ON_CLOSE, 1, NULL);
     rc = migrate(s);
     if (rc)
         snprintf(msg, CPD_MSG_MAX, "%s", s->err);

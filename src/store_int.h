@@ -49,4 +49,8 @@ int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
 void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out);
 void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v);
 
+/* The upgrade that comes with db/007_compact_samples.sql: re-encodes every session channel and
+ * curve still in the binary64 layout of 004 (store_codec.h), inside the upgrade's transaction. */
+int cpd_st_session_pack(cpd_store *s);
+
 #endif

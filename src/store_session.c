@@ -1,6 +1,7 @@
 /* store_session.c: recorded sessions and 3-minute all-out tests: the file's samples as one BLOB
  * per channel, the cleaning report as columns, and each session's mean-maximal curve as BLOBs. */
 #include "cpdomain/units.h"
+#include "store_codec.h"
 #include "store_int.h"
 
 #include <stdio.h>
@@ -38,14 +39,44 @@ static double **channel_slot(cpd_session_samples *x, size_t k)
     return v[k];
 }
 
+/* Encodes n values (weights w or NULL, store_codec.h) into buf (cpd_codec_bound(n) bytes) and
+ * binds them as a BLOB at idx. */
+static int bind_packed(cpd_store *s, sqlite3_stmt *st, int idx, const double *v, const double *w, size_t n,
+                       unsigned char *buf)
+{
+    size_t len = 0;
+    int rc = cpd_codec_encode(v, w, n, buf, cpd_codec_bound(n), &len);
+    if (rc)
+        return cpd_st_err(s, rc, "encoding %zu values for the store: %s", n, cpd_strerror(rc));
+    sqlite3_bind_blob(st, idx, buf, (int)len, SQLITE_STATIC);
+    return CPD_OK;
+}
+
+/* Reads BLOB column col as n values into out: the packed encoding (weights w or NULL) or, from
+ * a store written before 007, n binary64 values. */
+static int column_series(sqlite3_stmt *st, int col, int packed, const double *w, size_t n, double *out)
+{
+    const void *blob = sqlite3_column_blob(st, col);
+    size_t bytes = (size_t)sqlite3_column_bytes(st, col);
+    if (!packed) {
+        if (bytes != 8 * n)
+            return CPD_EDATA;
+        if (n)
+            cpd_st_decode_f64(blob, n, out);
+        return CPD_OK;
+    }
+    return n ? cpd_codec_decode(blob, bytes, w, n, out) : (bytes == 0 ? CPD_OK : CPD_EDATA);
+}
+
 static int put_blob(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
                     unsigned char *buf)
 {
-    cpd_st_encode_f64(v, n, buf);
     sqlite3_reset(st);
     sqlite3_bind_int64(st, 1, id);
     sqlite3_bind_text(st, 2, name, -1, SQLITE_STATIC);
-    sqlite3_bind_blob(st, 3, buf, (int)(8 * n), SQLITE_STATIC);
+    int rc = bind_packed(s, st, 3, v, NULL, n, buf);
+    if (rc)
+        return rc;
     if (sqlite3_step(st) != SQLITE_DONE)
         return cpd_st_fail(s, "storing session samples");
     return CPD_OK;
@@ -77,7 +108,8 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     if (dup)
         return cpd_st_err(s, CPD_EEXIST, "the same file is stored as %s %lld", r->allout ? "all-out test" : "session",
                           (long long)dup);
-    unsigned char *buf = malloc(8 * x->n);
+    size_t most = x->n > (curve ? curve->n : 0) ? x->n : curve->n;
+    unsigned char *buf = malloc(cpd_codec_bound(most));
     if (!buf)
         return CPD_ENOMEM;
     sqlite3_stmt *st = NULL;
@@ -125,7 +157,7 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     *id = sqlite3_last_insert_rowid(s->db);
     sqlite3_finalize(st);
     st = NULL;
-    if ((rc = cpd_st_prepare(s, "INSERT INTO session_channel (session_id, channel, data) VALUES (?1, ?2, ?3)", &st)))
+    if ((rc = cpd_st_prepare(s, "INSERT INTO session_channel (session_id, channel, data, packed) VALUES (?1, ?2, ?3, 1)", &st)))
         goto done;
     for (size_t k = 0; k < NCHAN; k++)
         if (channel_data(x, k) && (rc = put_blob(s, st, *id, channel_name(k, r->speed), channel_data(x, k), x->n, buf)))
@@ -135,26 +167,24 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     if (!curve || curve->n == 0)
         goto done;
     if ((rc = cpd_st_prepare(s,
-                             "INSERT INTO session_curve (session_id, n_points, fine_s, step_s, value, start_s) "
-                             "VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+                             "INSERT INTO session_curve (session_id, n_points, fine_s, step_s, value, start_s, packed) "
+                             "VALUES (?1, ?2, ?3, ?4, ?5, ?6, 1)",
                              &st)))
         goto done;
-    unsigned char *vb = malloc(16 * curve->n);
-    if (!vb) {
-        rc = CPD_ENOMEM;
-        goto done;
-    }
-    cpd_st_encode_f64(curve->value, curve->n, vb);
-    cpd_st_encode_f64(curve->start_s, curve->n, vb + 8 * curve->n);
     sqlite3_bind_int64(st, 1, *id);
     sqlite3_bind_int64(st, 2, (sqlite3_int64)curve->n);
     sqlite3_bind_int(st, 3, CPD_MMP_FINE_S);
     sqlite3_bind_int(st, 4, CPD_MMP_COARSE_STEP_S);
-    sqlite3_bind_blob(st, 5, vb, (int)(8 * curve->n), SQLITE_STATIC);
-    sqlite3_bind_blob(st, 6, vb + 8 * curve->n, (int)(8 * curve->n), SQLITE_STATIC);
-    if (sqlite3_step(st) != SQLITE_DONE)
+    unsigned char *sb = malloc(cpd_codec_bound(curve->n));
+    if (!sb) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    /* the values weighted by their durations: a mean of whole watts is kept as its whole sum */
+    if (!(rc = bind_packed(s, st, 5, curve->value, curve->duration_s, curve->n, buf)) &&
+        !(rc = bind_packed(s, st, 6, curve->start_s, NULL, curve->n, sb)) && sqlite3_step(st) != SQLITE_DONE)
         rc = cpd_st_fail(s, "storing a session's curve");
-    free(vb);
+    free(sb);
 done:
     sqlite3_finalize(st);
     free(buf);
@@ -247,29 +277,27 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
         return CPD_ENOMEM;
     x->n = r->n_samples;
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT channel, data FROM session_channel WHERE session_id = ?1", &st);
+    int rc = cpd_st_prepare(s, "SELECT channel, data, packed FROM session_channel WHERE session_id = ?1", &st);
     if (rc)
         goto done;
     sqlite3_bind_int64(st, 1, r->id);
     int q;
     while ((q = sqlite3_step(st)) == SQLITE_ROW) {
         const char *name = (const char *)sqlite3_column_text(st, 0);
-        const void *blob = sqlite3_column_blob(st, 1);
-        size_t bytes = (size_t)sqlite3_column_bytes(st, 1);
         for (size_t k = 0; name && k < NCHAN; k++) {
             if (strcmp(name, channel_name(k, r->speed)) != 0)
                 continue;
-            if (bytes != 8 * x->n || *channel_slot(x, k)) {
-                rc = cpd_st_err(s, CPD_ESTORE, "session %lld: channel %s has %zu bytes, expected %zu",
-                                (long long)r->id, name, bytes, 8 * x->n);
-                goto done;
-            }
-            double *d = malloc(bytes);
-            if (!d) {
+            double *d = *channel_slot(x, k) ? NULL : malloc(x->n * sizeof *d);
+            if (!*channel_slot(x, k) && !d) {
                 rc = CPD_ENOMEM;
                 goto done;
             }
-            cpd_st_decode_f64(blob, x->n, d);
+            if (!d || (rc = column_series(st, 1, sqlite3_column_int(st, 2), NULL, x->n, d))) {
+                free(d);
+                rc = cpd_st_err(s, rc == CPD_ENOMEM ? rc : CPD_ESTORE, "session %lld: channel %s is damaged: it "
+                                "does not hold %zu samples", (long long)r->id, name, x->n);
+                goto done;
+            }
             *channel_slot(x, k) = d;
         }
     }
@@ -341,25 +369,21 @@ int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_sessi
     return rc;
 }
 
-/* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s) and
- * decodes it into buf (3 × n_points doubles: durations, values, starts). */
+/* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s,
+ * packed) and decodes it into buf (3 × n_points doubles: durations, values, starts). */
 static int decode_curve(cpd_store *s, sqlite3_stmt *st, int col, int64_t id, double *buf, cpd_mmp_curve *c)
 {
     sqlite3_int64 n = sqlite3_column_int64(st, col);
     int fine = sqlite3_column_int(st, col + 1), step = sqlite3_column_int(st, col + 2);
-    size_t vb = (size_t)sqlite3_column_bytes(st, col + 3), sb = (size_t)sqlite3_column_bytes(st, col + 4);
-    if (n < 0 || n > (sqlite3_int64)CPD_MMP_NMAX || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
-        vb != 8 * (size_t)n || sb != 8 * (size_t)n)
+    int packed = sqlite3_column_int(st, col + 5);
+    size_t m = n >= 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 0;
+    for (size_t i = 0; i < m; i++)
+        buf[i] = (double)cpd_mmp_duration_s(i);
+    if ((size_t)n != m || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
+        column_series(st, col + 3, packed, buf, m, buf + m) || column_series(st, col + 4, packed, NULL, m, buf + 2 * m))
         return cpd_st_err(s, CPD_ESTORE, "session %lld: its stored curve is damaged or on another grid "
                                          "(%lld points, grid %d s/%d s)",
                           (long long)id, (long long)n, fine, step);
-    size_t m = (size_t)n;
-    for (size_t i = 0; i < m; i++)
-        buf[i] = (double)cpd_mmp_duration_s(i);
-    if (m) {
-        cpd_st_decode_f64(sqlite3_column_blob(st, col + 3), m, buf + m);
-        cpd_st_decode_f64(sqlite3_column_blob(st, col + 4), m, buf + 2 * m);
-    }
     c->n = m;
     c->duration_s = buf;
     c->value = buf + m;
@@ -372,7 +396,8 @@ int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curv
     *buf = NULL;
     memset(c, 0, sizeof *c);
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT n_points, fine_s, step_s, value, start_s FROM session_curve WHERE session_id = ?1",
+    int rc = cpd_st_prepare(s, "SELECT n_points, fine_s, step_s, value, start_s, packed FROM session_curve "
+                            "WHERE session_id = ?1",
                             &st);
     if (rc)
         return rc;
@@ -407,7 +432,7 @@ int cpd_store_session_season(cpd_store *s, const char *code, int speed, const ch
         return CPD_ENOMEM;
     sqlite3_stmt *st = NULL;
     rc = cpd_st_prepare(s,
-                        "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s FROM session s "
+                        "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s, c.packed FROM session s "
                         "JOIN session_curve c ON c.session_id = s.id WHERE s.athlete_id = ?1 AND s.kind = 'session' "
                         "AND s.modality = ?2 AND (?3 IS NULL OR s.date >= ?3) AND (?4 IS NULL OR s.date <= ?4) "
                         "ORDER BY s.date, s.id",
@@ -459,4 +484,105 @@ int cpd_store_session_remove(cpd_store *s, int64_t id, int allout)
         rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
     sqlite3_finalize(st);
     return rc;
+}
+
+/* ---- the upgrade to 007: the 004 binary64 rows re-encoded in place ---- */
+
+/* Re-encodes every unpacked row of one table: rows are listed first (their keys), then each is
+ * read, encoded and rewritten, so no statement reads a table while it is being changed. */
+static int pack_rows(cpd_store *s, int curves)
+{
+    const char *list = curves ? "SELECT session_id, '' FROM session_curve WHERE packed = 0"
+                              : "SELECT session_id, channel FROM session_channel WHERE packed = 0";
+    const char *get = curves ? "SELECT c.n_points, c.value, c.start_s FROM session_curve c WHERE c.session_id = ?1"
+                             : "SELECT s.n_samples, c.data FROM session_channel c JOIN session s ON s.id = c.session_id "
+                               "WHERE c.session_id = ?1 AND c.channel = ?2";
+    const char *put = curves ? "UPDATE session_curve SET value = ?3, start_s = ?4, packed = 1 WHERE session_id = ?1"
+                             : "UPDATE session_channel SET data = ?3, packed = 1 WHERE session_id = ?1 AND channel = ?2";
+    sqlite3_stmt *ls = NULL, *gs = NULL, *ps = NULL;
+    double *v = NULL;
+    unsigned char *b1 = NULL, *b2 = NULL;
+    int rc, q;
+    if ((rc = cpd_st_prepare(s, list, &ls)) || (rc = cpd_st_prepare(s, get, &gs)) || (rc = cpd_st_prepare(s, put, &ps)))
+        goto done;
+    /* keys first: a session id and a channel name of at most 15 bytes each row */
+    size_t n_keys = 0, cap = 0;
+    struct key { int64_t id; char ch[16]; } *keys = NULL;
+    while ((q = sqlite3_step(ls)) == SQLITE_ROW) {
+        if (n_keys == cap) {
+            cap = cap ? 2 * cap : 64;
+            struct key *k2 = realloc(keys, cap * sizeof *k2);
+            if (!k2) {
+                free(keys);
+                rc = CPD_ENOMEM;
+                goto done;
+            }
+            keys = k2;
+        }
+        keys[n_keys].id = sqlite3_column_int64(ls, 0);
+        cpd_st_text(ls, 1, keys[n_keys].ch, sizeof keys[n_keys].ch);
+        n_keys++;
+    }
+    if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing the rows to re-encode");
+    for (size_t k = 0; k < n_keys && !rc; k++) {
+        sqlite3_reset(gs);
+        sqlite3_reset(ps);
+        sqlite3_bind_int64(gs, 1, keys[k].id);
+        sqlite3_bind_int64(ps, 1, keys[k].id);
+        if (!curves) {
+            sqlite3_bind_text(gs, 2, keys[k].ch, -1, SQLITE_STATIC);
+            sqlite3_bind_text(ps, 2, keys[k].ch, -1, SQLITE_STATIC);
+        }
+        if (sqlite3_step(gs) != SQLITE_ROW) {
+            rc = cpd_st_fail(s, "reading a row to re-encode");
+            break;
+        }
+        sqlite3_int64 n = sqlite3_column_int64(gs, 0);
+        int blobs = curves ? 2 : 1;
+        if (n < 1 || n > 50000000) {
+            rc = cpd_st_err(s, CPD_ESTORE, "session %lld: %lld values cannot be right", (long long)keys[k].id, (long long)n);
+            break;
+        }
+        size_t m = (size_t)n;
+        double *v2 = realloc(v, 3 * m * sizeof *v2);
+        unsigned char *c1 = realloc(b1, cpd_codec_bound(m)), *c2 = c1 ? realloc(b2, cpd_codec_bound(m)) : NULL;
+        if (v2)
+            v = v2;
+        if (c1)
+            b1 = c1;
+        if (c2)
+            b2 = c2;
+        if (!v2 || !c1 || !c2) {
+            rc = CPD_ENOMEM;
+            break;
+        }
+        for (size_t i = 0; i < m; i++)
+            v[2 * m + i] = (double)cpd_mmp_duration_s(i);
+        for (int j = 0; j < blobs && !rc; j++) {
+            if (column_series(gs, 1 + j, 0, NULL, m, v + j * m)) {
+                rc = cpd_st_err(s, CPD_ESTORE, "session %lld: a stored series is damaged (%s)", (long long)keys[k].id,
+                                curves ? "curve" : keys[k].ch);
+                break;
+            }
+            rc = bind_packed(s, ps, 3 + j, v + j * m, curves && j == 0 ? v + 2 * m : NULL, m, j ? b2 : b1);
+        }
+        if (!rc && sqlite3_step(ps) != SQLITE_DONE)
+            rc = cpd_st_fail(s, "rewriting a row in the compact encoding");
+    }
+    free(keys);
+done:
+    sqlite3_finalize(ls);
+    sqlite3_finalize(gs);
+    sqlite3_finalize(ps);
+    free(v);
+    free(b1);
+    free(b2);
+    return rc;
+}
+
+int cpd_st_session_pack(cpd_store *s)
+{
+    int rc = pack_rows(s, 0);
+    return rc ? rc : pack_rows(s, 1);
 }

@@ -1,0 +1,148 @@
+/* store_codec.c: the compact, lossless encoding of the store's series (format in store_codec.h):
+ * integer counts at the series' own resolution, delta + zigzag varints + zstd; raw doubles
+ * otherwise. Every encoding is checked value by value, so decoding gives back the same bits. */
+#include "store_codec.h"
+#include "cpdomain/status.h"
+
+#include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+#include <zstd.h>
+
+static const double SCALES[] = {1, 10, 100, 1000, 60, 600, 6000, 60000, 1e4, 1e5, 1e6};
+#define NSCALES (sizeof SCALES / sizeof SCALES[0])
+#define HEAD 2
+#define LEVEL 3 /* zstd's default level: most of the size for little time */
+#define COUNT_MAX 9007199254740992.0 /* 2^53 */
+
+size_t cpd_codec_bound(size_t n)
+{
+    return HEAD + ZSTD_compressBound(8 * n + 16);
+}
+
+static int same_bits(double a, double b)
+{
+    return memcmp(&a, &b, sizeof a) == 0;
+}
+
+/* The index of the first scale at which every value is a count, or -1. */
+static int find_scale(const double *v, const double *weight, size_t n)
+{
+    for (size_t k = 0; k < NSCALES; k++) {
+        size_t i = 0;
+        for (; i < n; i++) {
+            double m = weight ? SCALES[k] * weight[i] : SCALES[k];
+            double q = nearbyint(v[i] * m);
+            if (!(fabs(q) < COUNT_MAX) || !same_bits(q / m, v[i]))
+                break;
+        }
+        if (i == n)
+            return (int)k;
+    }
+    return -1;
+}
+
+static size_t put_varint(unsigned char *p, uint64_t x)
+{
+    size_t k = 0;
+    while (x >= 0x80) {
+        p[k++] = (unsigned char)(x | 0x80);
+        x >>= 7;
+    }
+    p[k++] = (unsigned char)x;
+    return k;
+}
+
+int cpd_codec_encode(const double *v, const double *weight, size_t n, unsigned char *out, size_t cap, size_t *len)
+{
+    *len = 0;
+    if (n == 0 || cap < cpd_codec_bound(n))
+        return CPD_EUSAGE;
+    int sc = find_scale(v, weight, n);
+    /* counts take at most 10 bytes each as varints; doubles exactly 8 */
+    unsigned char *raw = malloc(10 * n);
+    if (!raw)
+        return CPD_ENOMEM;
+    size_t rl = 0;
+    if (sc >= 0) {
+        int64_t prev = 0;
+        for (size_t i = 0; i < n; i++) {
+            double m = weight ? SCALES[sc] * weight[i] : SCALES[sc];
+            int64_t q = (int64_t)nearbyint(v[i] * m), d = q - prev;
+            rl += put_varint(raw + rl, ((uint64_t)d << 1) ^ (uint64_t)(d >> 63));
+            prev = q;
+        }
+    } else {
+        for (size_t i = 0; i < n; i++) {
+            uint64_t b;
+            memcpy(&b, &v[i], 8);
+            for (size_t k = 0; k < 8; k++)
+                raw[k * n + i] = (unsigned char)(b >> (8 * k));
+        }
+        rl = 8 * n;
+    }
+    out[0] = sc >= 0 ? 'Q' : 'F';
+    out[1] = (unsigned char)(sc >= 0 ? sc : 0);
+    size_t z = ZSTD_compress(out + HEAD, cap - HEAD, raw, rl, LEVEL);
+    free(raw);
+    if (ZSTD_isError(z))
+        return CPD_ENOMEM; /* with cap >= the bound, only an allocation inside zstd can fail */
+    *len = HEAD + z;
+    return CPD_OK;
+}
+
+int cpd_codec_decode(const void *in, size_t len, const double *weight, size_t n, double *out)
+{
+    const unsigned char *p = in;
+    if (len < HEAD || n == 0 || (p[0] != 'Q' && p[0] != 'F') || (p[0] == 'Q' && p[1] >= NSCALES) ||
+        (p[0] == 'F' && p[1] != 0))
+        return CPD_EDATA;
+    unsigned long long rl = ZSTD_getFrameContentSize(p + HEAD, len - HEAD);
+    if (rl == ZSTD_CONTENTSIZE_ERROR || rl == ZSTD_CONTENTSIZE_UNKNOWN || rl > 10ull * n ||
+        (p[0] == 'F' && rl != 8ull * n))
+        return CPD_EDATA;
+    unsigned char *raw = malloc(rl ? (size_t)rl : 1);
+    if (!raw)
+        return CPD_ENOMEM;
+    int rc = CPD_OK;
+    size_t got = ZSTD_decompress(raw, (size_t)rl, p + HEAD, len - HEAD);
+    if (ZSTD_isError(got) || got != rl) {
+        rc = CPD_EDATA;
+        goto done;
+    }
+    if (p[0] == 'F') {
+        for (size_t i = 0; i < n; i++) {
+            uint64_t b = 0;
+            for (size_t k = 0; k < 8; k++)
+                b |= (uint64_t)raw[k * n + i] << (8 * k);
+            memcpy(&out[i], &b, 8);
+        }
+        goto done;
+    }
+    double sc = SCALES[p[1]];
+    size_t at = 0;
+    int64_t q = 0;
+    for (size_t i = 0; i < n; i++) {
+        uint64_t x = 0;
+        for (unsigned sh = 0;; sh += 7) {
+            if (at == got || sh > 63) {
+                rc = CPD_EDATA;
+                goto done;
+            }
+            unsigned char b = raw[at++];
+            x |= (uint64_t)(b & 0x7f) << sh;
+            if (!(b & 0x80))
+                break;
+        }
+        /* unsigned: damaged bytes wrap instead of overflowing */
+        q = (int64_t)((uint64_t)q + ((x >> 1) ^ (0 - (x & 1))));
+        double m = weight ? sc * weight[i] : sc;
+        out[i] = (double)q / m;
+    }
+    if (at != got)
+        rc = CPD_EDATA;
+done:
+    free(raw);
+    return rc;
+}
