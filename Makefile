@@ -43,6 +43,7 @@ CLI_SRCS += src/cmd_bout.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 LIB_SRCS += src/store_session.c src/import_session.c
 LIB_SRCS += src/store_codec.c
+LIB_SRCS += src/csvfast.c
 CLI_SRCS += src/cmd_session.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
@@ -57,7 +58,7 @@ TESTS += test_kinetics
 TESTS += test_session test_mmp test_allout
 TESTS += test_export test_store_dump
 TESTS += test_sheet
-TESTS += test_store_codec
+TESTS += test_store_codec test_csvfast
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

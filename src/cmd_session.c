@@ -346,7 +346,7 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         if (progress)
             fprintf(stderr, "\rsession add: file %zu of %zu", i + 1, files.n);
         uint64_t h = 0;
-        if ((rc = cpd_import_file_hash(path, &h, msg))) {
+        if ((rc = cpd_import_session_load(w, path, &h, msg))) {
             ex = reject(c, "session add", rc, msg);
             goto done;
         }
@@ -774,24 +774,29 @@ static int allout_add(cli_ctx *c, int argc, char **argv)
         return rc;
     char msg[CPD_MSG_MAX];
     uint64_t h = 0;
-    if ((rc = cpd_import_file_hash(path, &h, msg)))
-        return cli_fail(c, rc, "%s", msg);
-    int64_t dup = 0;
-    if ((rc = cpd_store_session_find(c->store, a.code, 1, h, &dup, NULL)))
-        return cli_store_fail(c, rc);
-    if (dup) {
-        cli_note(c, "skipped %s: the same file is stored as all-out test %lld", path, (long long)dup);
-        if (!c->json)
-            return 0;
-        cli_json *d = cj_obj();
-        cj_int(d, "id", dup);
-        cj_bool(d, "duplicate", 1);
-        return cj_print(d);
-    }
     cpd_session_import_ws *w = cpd_import_session_alloc();
     if (!w)
         return cli_fail(c, CPD_ENOMEM, "out of memory");
     int ex = 0;
+    int64_t dup = 0;
+    if ((rc = cpd_import_session_load(w, path, &h, msg))) {
+        ex = cli_fail(c, rc, "%s", msg);
+        goto done;
+    }
+    if ((rc = cpd_store_session_find(c->store, a.code, 1, h, &dup, NULL))) {
+        ex = cli_store_fail(c, rc);
+        goto done;
+    }
+    if (dup) {
+        cli_note(c, "skipped %s: the same file is stored as all-out test %lld", path, (long long)dup);
+        if (c->json) {
+            cli_json *d = cj_obj();
+            cj_int(d, "id", dup);
+            cj_bool(d, "duplicate", 1);
+            ex = cj_print(d);
+        }
+        goto done;
+    }
     cpd_session_import im;
     cpd_allout_result res;
     if ((rc = cpd_import_session(w, path, &io, &im, msg))) {
