@@ -455,30 +455,51 @@ void cpd_mmp_season_reset(cpd_mmp_season *s)
     s->n = 0;
 }
 
-int cpd_mmp_season_add(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days)
+/* The checks of a curve before it joins a season. */
+static int curve_ok(const cpd_mmp_season *s, const cpd_mmp_curve *c)
 {
     if (!s || !c || c->n > CPD_MMP_NMAX || (c->n > 0 && (!c->duration_s || !c->value || !c->start_s)))
-        return CPD_EUSAGE;
+        return 0;
     for (size_t i = 0; i < c->n; i++)
         if (c->duration_s[i] != (double)cpd_mmp_duration_s(i) || !isfinite(c->value[i]) || c->value[i] < 0 ||
             !isfinite(c->start_s[i]) || c->start_s[i] < 0)
-            return CPD_EUSAGE;
+            return 0;
+    return 1;
+}
+
+/* Point i of the season becomes c's. */
+static void take(cpd_mmp_season *s, const cpd_mmp_curve *c, size_t i, int64_t session, int date_days)
+{
+    s->duration_s[i] = c->duration_s[i];
+    s->value[i] = c->value[i];
+    s->start_s[i] = c->start_s[i];
+    s->session[i] = session;
+    s->date_days[i] = date_days;
+}
+
+static int add(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days, int by_date)
+{
+    if (!curve_ok(s, c))
+        return CPD_EUSAGE;
     size_t common = c->n < s->n ? c->n : s->n;
     for (size_t i = 0; i < common; i++)
-        if (c->value[i] > s->value[i]) {
-            s->value[i] = c->value[i];
-            s->start_s[i] = c->start_s[i];
-            s->session[i] = session;
-            s->date_days[i] = date_days;
-        }
-    for (size_t i = common; i < c->n; i++) {
-        s->duration_s[i] = c->duration_s[i];
-        s->value[i] = c->value[i];
-        s->start_s[i] = c->start_s[i];
-        s->session[i] = session;
-        s->date_days[i] = date_days;
-    }
+        if (c->value[i] > s->value[i] ||
+            (by_date && c->value[i] == s->value[i] &&
+             (date_days < s->date_days[i] || (date_days == s->date_days[i] && session < s->session[i]))))
+            take(s, c, i, session, date_days);
+    for (size_t i = common; i < c->n; i++)
+        take(s, c, i, session, date_days);
     if (c->n > s->n)
         s->n = c->n;
     return CPD_OK;
+}
+
+int cpd_mmp_season_add(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days)
+{
+    return add(s, c, session, date_days, 0);
+}
+
+int cpd_mmp_season_merge(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days)
+{
+    return add(s, c, session, date_days, 1);
 }

@@ -252,8 +252,8 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
         goto done;
     }
     /* A command does not checkpoint the WAL when it closes: the write-ahead log is copied into the
-     * database by SQLite's automatic checkpoint once it holds wal_autocheckpoint pages (README,
-     * "Durability"), not rewritten by every small command. */
+     * database once it holds more than WAL_KEEP_BYTES (cpd_store_close; README, "Durability and
+     * storage size"), not rewritten by every small command. */
     sqlite3_db_config(s->db, SQLITE_DBCONFIG_NO_CKPT_ON_CLOSE, 1, NULL);
     rc = migrate(s);
     if (rc)
@@ -267,10 +267,18 @@ done:
     return CPD_OK;
 }
 
+/* The write-ahead log a command leaves behind, bytes: the next process reads it whole when it
+ * opens the store, so a longer one is copied into the database and emptied at close. */
+#define WAL_KEEP_BYTES (1 << 20)
+
 void cpd_store_close(cpd_store *s)
 {
     if (!s)
         return;
+    const char *wal = s->db ? sqlite3_filename_wal(sqlite3_db_filename(s->db, "main")) : NULL;
+    struct stat sb;
+    if (wal && *wal && stat(wal, &sb) == 0 && sb.st_size > WAL_KEEP_BYTES)
+        sqlite3_wal_checkpoint_v2(s->db, NULL, SQLITE_CHECKPOINT_TRUNCATE, NULL, NULL); /* best effort */
     sqlite3_close(s->db); /* every statement is finalized by its owner before this */
     free(s);
 }

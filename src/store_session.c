@@ -4,6 +4,7 @@
 #include "store_codec.h"
 #include "store_int.h"
 
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -67,6 +68,8 @@ static int column_series(sqlite3_stmt *st, int col, int packed, const double *w,
     }
     return n ? cpd_codec_decode(blob, bytes, w, n, out) : (bytes == 0 ? CPD_OK : CPD_EDATA);
 }
+
+static int season_join(cpd_store *s, int64_t aid, int speed, const cpd_mmp_curve *c, int64_t id, const char *date);
 
 static int put_blob(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
                     unsigned char *buf)
@@ -185,6 +188,8 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
         !(rc = bind_packed(s, st, 6, curve->start_s, NULL, curve->n, sb)) && sqlite3_step(st) != SQLITE_DONE)
         rc = cpd_st_fail(s, "storing a session's curve");
     free(sb);
+    if (!rc && !r->allout)
+        rc = season_join(s, aid, r->speed, curve, *id, r->date);
 done:
     sqlite3_finalize(st);
     free(buf);
@@ -369,6 +374,31 @@ int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_sessi
     return rc;
 }
 
+int cpd_store_session_count(cpd_store *s, const char *code, const char *from, const char *to, size_t *n_power,
+                            size_t *n_speed)
+{
+    *n_power = *n_speed = 0;
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, code, &aid);
+    sqlite3_stmt *st = NULL;
+    if (rc || (rc = cpd_st_prepare(s,
+                                   "SELECT modality = 'speed', count(*) FROM session WHERE athlete_id = ?1 AND "
+                                   "kind = 'session' AND (?2 IS NULL OR date >= ?2) AND (?3 IS NULL OR date <= ?3) "
+                                   "GROUP BY 1",
+                                   &st)))
+        return rc;
+    sqlite3_bind_int64(st, 1, aid);
+    cpd_st_bind_text(st, 2, from, 0);
+    cpd_st_bind_text(st, 3, to, 0);
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW)
+        *(sqlite3_column_int(st, 0) ? n_speed : n_power) = (size_t)sqlite3_column_int64(st, 1);
+    if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "counting sessions");
+    sqlite3_finalize(st);
+    return rc;
+}
+
 /* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s,
  * packed) and decodes it into buf (3 × n_points doubles: durations, values, starts). */
 static int decode_curve(cpd_store *s, sqlite3_stmt *st, int col, int64_t id, double *buf, cpd_mmp_curve *c)
@@ -418,20 +448,18 @@ int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curv
     return rc;
 }
 
-int cpd_store_session_season(cpd_store *s, const char *code, int speed, const char *from, const char *to,
-                             cpd_mmp_season *season, size_t *n_sessions)
+/* The season curve from every stored curve of the athlete (aid) in one modality dated from/to
+ * (NULL: open), added in date order. */
+static int season_scan(cpd_store *s, int64_t aid, int speed, const char *from, const char *to, cpd_mmp_season *season,
+                       size_t *n_sessions)
 {
     *n_sessions = 0;
     cpd_mmp_season_reset(season);
-    int64_t aid = 0;
-    int rc = cpd_st_athlete_id(s, code, &aid);
-    if (rc)
-        return rc;
     double *buf = malloc(3 * CPD_MMP_NMAX * sizeof *buf);
     if (!buf)
         return CPD_ENOMEM;
     sqlite3_stmt *st = NULL;
-    rc = cpd_st_prepare(s,
+    int rc = cpd_st_prepare(s,
                         "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s, c.packed FROM session s "
                         "JOIN session_curve c ON c.session_id = s.id WHERE s.athlete_id = ?1 AND s.kind = 'session' "
                         "AND s.modality = ?2 AND (?3 IS NULL OR s.date >= ?3) AND (?4 IS NULL OR s.date <= ?4) "
@@ -470,20 +498,195 @@ done:
     return rc;
 }
 
+/* ---- the season cache (session_season, db/007_compact_samples.sql) ---- */
+
+/* The cached season of the athlete (aid) in one modality into season; *found 0 when there is no
+ * row. A damaged row is an error. */
+static int season_get(cpd_store *s, int64_t aid, int speed, cpd_mmp_season *season, size_t *n_sessions, int *found)
+{
+    *found = 0;
+    *n_sessions = 0;
+    cpd_mmp_season_reset(season);
+    sqlite3_stmt *st = NULL;
+    double *tmp = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT n_sessions, n_points, value, start_s, session, date_days FROM session_season "
+                            "WHERE athlete_id = ?1 AND modality = ?2",
+                            &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+    int q = sqlite3_step(st);
+    if (q == SQLITE_DONE)
+        goto done;
+    if (q != SQLITE_ROW) {
+        rc = cpd_st_fail(s, "reading the season curve");
+        goto done;
+    }
+    sqlite3_int64 ns = sqlite3_column_int64(st, 0), n = sqlite3_column_int64(st, 1);
+    size_t m = n > 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 0;
+    tmp = malloc(2 * CPD_MMP_NMAX * sizeof *tmp);
+    if (!tmp) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t i = 0; i < m; i++)
+        season->duration_s[i] = (double)cpd_mmp_duration_s(i);
+    int bad = ns < 1 || m == 0 || column_series(st, 2, 1, season->duration_s, m, season->value) ||
+              column_series(st, 3, 1, NULL, m, season->start_s) || column_series(st, 4, 1, NULL, m, tmp) ||
+              column_series(st, 5, 1, NULL, m, tmp + m);
+    for (size_t i = 0; i < m && !bad; i++) {
+        bad = !(season->value[i] >= 0 && season->start_s[i] >= 0 && tmp[i] >= 1 && tmp[i] < 9e15 &&
+                fabs(tmp[m + i]) < 1e7);
+        season->session[i] = (int64_t)tmp[i];
+        season->date_days[i] = (int)tmp[m + i];
+    }
+    if (bad) {
+        rc = cpd_st_err(s, CPD_ESTORE, "the stored season curve of athlete %lld is damaged", (long long)aid);
+        goto done;
+    }
+    season->n = m;
+    *n_sessions = (size_t)ns;
+    *found = 1;
+done:
+    sqlite3_finalize(st);
+    free(tmp);
+    if (rc || !*found)
+        cpd_mmp_season_reset(season);
+    return rc;
+}
+
+/* Stores season (over n_sessions sessions) as the athlete's cached season in one modality, or
+ * removes the row when there is no session. */
+static int season_put(cpd_store *s, int64_t aid, int speed, const cpd_mmp_season *season, size_t n_sessions)
+{
+    sqlite3_stmt *st = NULL;
+    int rc;
+    if (n_sessions == 0 || season->n == 0) {
+        if ((rc = cpd_st_prepare(s, "DELETE FROM session_season WHERE athlete_id = ?1 AND modality = ?2", &st)))
+            return rc;
+        sqlite3_bind_int64(st, 1, aid);
+        sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+        if (sqlite3_step(st) != SQLITE_DONE)
+            rc = cpd_st_fail(s, "clearing the season curve");
+        sqlite3_finalize(st);
+        return rc;
+    }
+    size_t m = season->n, cap = cpd_codec_bound(m);
+    double *tmp = malloc(2 * m * sizeof *tmp);
+    unsigned char *buf = malloc(4 * cap);
+    if (!tmp || !buf) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t i = 0; i < m; i++) {
+        tmp[i] = (double)season->session[i];
+        tmp[m + i] = season->date_days[i];
+    }
+    if ((rc = cpd_st_prepare(s,
+                             "INSERT OR REPLACE INTO session_season (athlete_id, modality, n_sessions, n_points, value, "
+                             "start_s, session, date_days) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+                             &st)))
+        goto done;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+    sqlite3_bind_int64(st, 3, (sqlite3_int64)n_sessions);
+    sqlite3_bind_int64(st, 4, (sqlite3_int64)m);
+    if (!(rc = bind_packed(s, st, 5, season->value, season->duration_s, m, buf)) &&
+        !(rc = bind_packed(s, st, 6, season->start_s, NULL, m, buf + cap)) &&
+        !(rc = bind_packed(s, st, 7, tmp, NULL, m, buf + 2 * cap)) &&
+        !(rc = bind_packed(s, st, 8, tmp + m, NULL, m, buf + 3 * cap)) && sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "storing the season curve");
+done:
+    sqlite3_finalize(st);
+    free(tmp);
+    free(buf);
+    return rc;
+}
+
+/* Recomputes the athlete's cached season in one modality from every stored curve. */
+static int season_refresh(cpd_store *s, int64_t aid, int speed)
+{
+    cpd_mmp_season *se = cpd_mmp_season_alloc();
+    if (!se)
+        return CPD_ENOMEM;
+    size_t ns = 0;
+    int rc = season_scan(s, aid, speed, NULL, NULL, se, &ns);
+    if (!rc)
+        rc = season_put(s, aid, speed, se, ns);
+    cpd_mmp_season_free(se);
+    return rc;
+}
+
+/* A new session's curve joins the athlete's cached season (or the season is computed when there
+ * is none yet). */
+static int season_join(cpd_store *s, int64_t aid, int speed, const cpd_mmp_curve *c, int64_t id, const char *date)
+{
+    int days = 0;
+    if (cpd_parse_date(date, &days))
+        return cpd_st_err(s, CPD_EUSAGE, "'%s' is not a date", date);
+    cpd_mmp_season *se = cpd_mmp_season_alloc();
+    if (!se)
+        return CPD_ENOMEM;
+    size_t ns = 0;
+    int found = 0, rc = season_get(s, aid, speed, se, &ns, &found);
+    if (!rc && !found)
+        rc = season_refresh(s, aid, speed);
+    else if (!rc && cpd_mmp_season_merge(se, c, id, days) != CPD_OK)
+        rc = cpd_st_err(s, CPD_EUSAGE, "a curve holds values that are not finite and >= 0");
+    else if (!rc)
+        rc = season_put(s, aid, speed, se, ns + 1);
+    cpd_mmp_season_free(se);
+    return rc;
+}
+
+int cpd_store_session_season(cpd_store *s, const char *code, int speed, const char *from, const char *to,
+                             cpd_mmp_season *season, size_t *n_sessions)
+{
+    *n_sessions = 0;
+    cpd_mmp_season_reset(season);
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, code, &aid);
+    if (rc)
+        return rc;
+    if (!from && !to) {
+        int found = 0;
+        if ((rc = season_get(s, aid, speed, season, n_sessions, &found)) || found)
+            return rc;
+    }
+    return season_scan(s, aid, speed, from, to, season, n_sessions);
+}
+
 int cpd_store_session_remove(cpd_store *s, int64_t id, int allout)
 {
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "DELETE FROM session WHERE id = ?1 AND kind = ?2", &st);
+    int rc = cpd_st_prepare(s, "SELECT athlete_id, modality = 'speed' FROM session WHERE id = ?1 AND kind = ?2", &st);
     if (rc)
         return rc;
     sqlite3_bind_int64(st, 1, id);
     sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
-    if (sqlite3_step(st) != SQLITE_DONE)
-        rc = cpd_st_fail(s, "removing a session");
-    else if (sqlite3_changes(s->db) == 0)
+    int q = sqlite3_step(st);
+    int64_t aid = q == SQLITE_ROW ? sqlite3_column_int64(st, 0) : 0;
+    int speed = q == SQLITE_ROW ? sqlite3_column_int(st, 1) : 0;
+    if (q != SQLITE_ROW && q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "looking up a session");
+    else if (q == SQLITE_DONE)
         rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
     sqlite3_finalize(st);
-    return rc;
+    st = NULL;
+    if (rc || (rc = cpd_st_savepoint(s)))
+        return rc;
+    if ((rc = cpd_st_prepare(s, "DELETE FROM session WHERE id = ?1 AND kind = ?2", &st)))
+        return cpd_st_release(s, rc);
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "removing a session");
+    sqlite3_finalize(st);
+    if (!rc && !allout)
+        rc = season_refresh(s, aid, speed);
+    return cpd_st_release(s, rc);
 }
 
 /* ---- the upgrade to 007: the 004 binary64 rows re-encoded in place ---- */
@@ -584,5 +787,33 @@ done:
 int cpd_st_session_pack(cpd_store *s)
 {
     int rc = pack_rows(s, 0);
-    return rc ? rc : pack_rows(s, 1);
+    if (!rc)
+        rc = pack_rows(s, 1);
+    sqlite3_stmt *st = NULL;
+    if (rc || (rc = cpd_st_prepare(s, "SELECT DISTINCT athlete_id, modality = 'speed' FROM session WHERE kind = 'session'",
+                                   &st)))
+        return rc;
+    /* two modalities of a few hundred athletes: the list fits in memory before any write */
+    size_t n = 0, cap = 0;
+    int64_t *who = NULL;
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
+        if (n == cap) {
+            cap = cap ? 2 * cap : 32;
+            int64_t *w2 = realloc(who, cap * sizeof *w2);
+            if (!w2) {
+                rc = CPD_ENOMEM;
+                break;
+            }
+            who = w2;
+        }
+        who[n++] = 2 * sqlite3_column_int64(st, 0) + sqlite3_column_int(st, 1);
+    }
+    if (!rc && q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing the athletes with sessions");
+    sqlite3_finalize(st);
+    for (size_t k = 0; k < n && !rc; k++)
+        rc = season_refresh(s, who[k] / 2, (int)(who[k] % 2));
+    free(who);
+    return rc;
 }

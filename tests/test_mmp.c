@@ -417,6 +417,54 @@ static void season_rules(void **state)
     cpd_mmp_season_free(NULL);
 }
 
+static void merge_in_any_order(void **state)
+{
+    (void)state;
+    /* five curves with many equal points, dates out of id order: merged in every rotation of the
+     * order they equal the season added in date (then id) order */
+    enum { K = 5, P = 40 };
+    double d[P], v[K][P], st[K][P];
+    const int64_t id[K] = {14, 11, 12, 15, 13};
+    const int date[K] = {20105, 20101, 20101, 20099, 20110};
+    rng r = {0x3e46e};
+    for (int i = 0; i < P; i++)
+        d[i] = i + 1;
+    for (int k = 0; k < K; k++)
+        for (int i = 0; i < P; i++) {
+            v[k][i] = 200 + (int)(3 * rng_uniform(&r)); /* few values: ties everywhere */
+            st[k][i] = k * 100 + i;
+        }
+    const size_t n[K] = {P, P - 7, P, P - 3, P - 12};
+    const int order[K] = {3, 1, 2, 0, 4}; /* by date, then id */
+    cpd_mmp_season *want = cpd_mmp_season_alloc(), *got = cpd_mmp_season_alloc();
+    assert_non_null(want);
+    assert_non_null(got);
+    for (int j = 0; j < K; j++) {
+        int k = order[j];
+        cpd_mmp_curve c = {n[k], d, v[k], st[k]};
+        assert_int_equal(cpd_mmp_season_add(want, &c, id[k], date[k]), CPD_OK);
+    }
+    for (int rot = 0; rot < K; rot++) {
+        cpd_mmp_season_reset(got);
+        for (int j = 0; j < K; j++) {
+            int k = (j + rot) % K;
+            cpd_mmp_curve c = {n[k], d, v[k], st[k]};
+            assert_int_equal(cpd_mmp_season_merge(got, &c, id[k], date[k]), CPD_OK);
+        }
+        assert_int_equal(got->n, want->n);
+        for (size_t i = 0; i < got->n; i++) {
+            assert_true(got->value[i] == want->value[i]);
+            assert_true(got->session[i] == want->session[i]);
+            assert_true(got->date_days[i] == want->date_days[i]);
+            assert_true(got->start_s[i] == want->start_s[i]);
+        }
+    }
+    cpd_mmp_curve bad = {2, d, (const double[]){1, NAN}, st[0]};
+    assert_int_equal(cpd_mmp_season_merge(got, &bad, 1, 1), CPD_EUSAGE);
+    cpd_mmp_season_free(want);
+    cpd_mmp_season_free(got);
+}
+
 static void refusals(void **state)
 {
     (void)state;
@@ -465,6 +513,7 @@ int main(void)
         cmocka_unit_test(against_numpy),
         cmocka_unit_test(workspace_reuse),
         cmocka_unit_test(season_rules),
+        cmocka_unit_test(merge_in_any_order),
         cmocka_unit_test(refusals),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -98,4 +98,10 @@ void cpd_mmp_season_reset(cpd_mmp_season *s);
  * was. Returns CPD_OK or CPD_EUSAGE. Allocates nothing. */
 int cpd_mmp_season_add(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days);
 
+/* Merges curve c of session 'session' dated date_days into s in any order: a point is taken when
+ * strictly higher, or equal and from an earlier date (then a lower session id), so merging the
+ * sessions one by one in any order gives the season cpd_mmp_season_add gives in date order.
+ * Same checks, returns and allocation as cpd_mmp_season_add. */
+int cpd_mmp_season_merge(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days);
+
 #endif

@@ -48,4 +48,24 @@ json_is 'd["samples"], d["segments"], d["dropouts"]' "(1500, 2, 2)" "and holds t
 DB=$DB0
 if [ "$(sqlite3 "$DB" "SELECT DISTINCT packed FROM session_channel WHERE session_id = $id")" = "1" ]; then
     pass "its channels are packed"; else fail "unpacked channels"; fi
+# ---- the season cache (session_season): the same curve as computed from every session's curve
+# (--from forces that), after an add and after a remove ----
+same_season() {
+    cpd --json curve M1
+    cp "$TMP/out" "$TMP/cached.json"
+    cpd --json curve M1 --from 1970-01-01
+    if /usr/bin/python3 -c "import json,sys; a=json.load(open(sys.argv[1])); b=json.load(open(sys.argv[2])); sys.exit(a['points'] != b['points'] or a['sessions'] != b['sessions'])" \
+        "$TMP/cached.json" "$TMP/out"; then pass "$1: the stored season curve equals the one computed from the sessions"
+    else fail "$1: the stored season curve differs"; fi
+}
+same_season "after the upgrade and a new session"
+awk 'BEGIN { print "time_s,power_w"; srand(9); for (k = 0; k < 900; k++) printf "%d,%d\n", k, 300 + int(200 * rand()) }' \
+    >"$TMP/hard_2026-02-01.csv"
+expect 0 "an earlier, harder session" --json session add M1 "$TMP/hard_2026-02-01.csv"
+hard=$(json 'd["id"]')
+same_season "after an earlier session"
+expect 0 "remove it" session remove "$hard"
+same_season "after removing it"
+expect 0 "remove the new one too" session remove "$id"
+same_season "after removing another"
 exit 0
