@@ -1,5 +1,6 @@
 /* store.c: opening the store, migrations, transactions and shared statement helpers.
  * Every SQL statement of cpdomain lives in store*.c and is prepared with bound parameters. */
+#include "store_codec.h"
 #include "store_int.h"
 
 #include <stdarg.h>
@@ -280,6 +281,7 @@ void cpd_store_close(cpd_store *s)
     if (wal && *wal && stat(wal, &sb) == 0 && sb.st_size > WAL_KEEP_BYTES)
         sqlite3_wal_checkpoint_v2(s->db, NULL, SQLITE_CHECKPOINT_TRUNCATE, NULL, NULL); /* best effort */
     sqlite3_close(s->db); /* every statement is finalized by its owner before this */
+    cpd_codec_free(s->codec);
     free(s);
 }
 

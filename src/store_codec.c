@@ -16,6 +16,49 @@ static const double SCALES[] = {1, 10, 100, 1000, 60, 600, 6000, 60000, 1e4, 1e5
 #define LEVEL 3 /* zstd's default level: most of the size for little time */
 #define COUNT_MAX 9007199254740992.0 /* 2^53 */
 
+struct cpd_codec {
+    ZSTD_CCtx *cc;
+    ZSTD_DCtx *dc;
+    unsigned char *raw; /* the payload before compression or after decompression */
+    size_t cap;
+};
+
+cpd_codec *cpd_codec_alloc(void)
+{
+    cpd_codec *z = calloc(1, sizeof *z);
+    if (!z)
+        return NULL;
+    z->cc = ZSTD_createCCtx();
+    z->dc = ZSTD_createDCtx();
+    if (!z->cc || !z->dc) {
+        cpd_codec_free(z);
+        return NULL;
+    }
+    return z;
+}
+
+void cpd_codec_free(cpd_codec *z)
+{
+    if (!z)
+        return;
+    ZSTD_freeCCtx(z->cc);
+    ZSTD_freeDCtx(z->dc);
+    free(z->raw);
+    free(z);
+}
+
+static unsigned char *scratch(cpd_codec *z, size_t need)
+{
+    if (need > z->cap) {
+        unsigned char *p = realloc(z->raw, need);
+        if (!p)
+            return NULL;
+        z->raw = p;
+        z->cap = need;
+    }
+    return z->raw;
+}
+
 size_t cpd_codec_bound(size_t n)
 {
     return HEAD + ZSTD_compressBound(8 * n + 16);
@@ -34,7 +77,7 @@ static int find_scale(const double *v, const double *weight, size_t n)
         for (; i < n; i++) {
             double m = weight ? SCALES[k] * weight[i] : SCALES[k];
             double q = nearbyint(v[i] * m);
-            if (!(fabs(q) < COUNT_MAX) || !same_bits(q / m, v[i]))
+            if (!(fabs(q) < COUNT_MAX) || !same_bits(m == 1 ? q : q / m, v[i]))
                 break;
         }
         if (i == n)
@@ -54,14 +97,15 @@ static size_t put_varint(unsigned char *p, uint64_t x)
     return k;
 }
 
-int cpd_codec_encode(const double *v, const double *weight, size_t n, unsigned char *out, size_t cap, size_t *len)
+int cpd_codec_encode(cpd_codec *z, const double *v, const double *weight, size_t n, unsigned char *out, size_t cap,
+                     size_t *len)
 {
     *len = 0;
     if (n == 0 || cap < cpd_codec_bound(n))
         return CPD_EUSAGE;
     int sc = find_scale(v, weight, n);
     /* counts take at most 10 bytes each as varints; doubles exactly 8 */
-    unsigned char *raw = malloc(10 * n);
+    unsigned char *raw = scratch(z, 10 * n);
     if (!raw)
         return CPD_ENOMEM;
     size_t rl = 0;
@@ -84,15 +128,14 @@ int cpd_codec_encode(const double *v, const double *weight, size_t n, unsigned c
     }
     out[0] = sc >= 0 ? 'Q' : 'F';
     out[1] = (unsigned char)(sc >= 0 ? sc : 0);
-    size_t z = ZSTD_compress(out + HEAD, cap - HEAD, raw, rl, LEVEL);
-    free(raw);
-    if (ZSTD_isError(z))
+    size_t got = ZSTD_compressCCtx(z->cc, out + HEAD, cap - HEAD, raw, rl, LEVEL);
+    if (ZSTD_isError(got))
         return CPD_ENOMEM; /* with cap >= the bound, only an allocation inside zstd can fail */
-    *len = HEAD + z;
+    *len = HEAD + got;
     return CPD_OK;
 }
 
-int cpd_codec_decode(const void *in, size_t len, const double *weight, size_t n, double *out)
+int cpd_codec_decode(cpd_codec *z, const void *in, size_t len, const double *weight, size_t n, double *out)
 {
     const unsigned char *p = in;
     if (len < HEAD || n == 0 || (p[0] != 'Q' && p[0] != 'F') || (p[0] == 'Q' && p[1] >= NSCALES) ||
@@ -102,11 +145,11 @@ int cpd_codec_decode(const void *in, size_t len, const double *weight, size_t n,
     if (rl == ZSTD_CONTENTSIZE_ERROR || rl == ZSTD_CONTENTSIZE_UNKNOWN || rl > 10ull * n ||
         (p[0] == 'F' && rl != 8ull * n))
         return CPD_EDATA;
-    unsigned char *raw = malloc(rl ? (size_t)rl : 1);
+    unsigned char *raw = scratch(z, rl ? (size_t)rl : 1);
     if (!raw)
         return CPD_ENOMEM;
     int rc = CPD_OK;
-    size_t got = ZSTD_decompress(raw, (size_t)rl, p + HEAD, len - HEAD);
+    size_t got = ZSTD_decompressDCtx(z->dc, raw, (size_t)rl, p + HEAD, len - HEAD);
     if (ZSTD_isError(got) || got != rl) {
         rc = CPD_EDATA;
         goto done;
@@ -143,6 +186,5 @@ int cpd_codec_decode(const void *in, size_t len, const double *weight, size_t n,
     if (at != got)
         rc = CPD_EDATA;
 done:
-    free(raw);
     return rc;
 }

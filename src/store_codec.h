@@ -16,16 +16,24 @@
 
 #include <stddef.h>
 
+/* A codec workspace: zstd's contexts and the scratch of the payload, reused from call to call
+ * (a fresh zstd context per call would cost more than compressing a channel). NULL when out of
+ * memory; the caller frees it with cpd_codec_free (NULL accepted). */
+typedef struct cpd_codec cpd_codec;
+cpd_codec *cpd_codec_alloc(void);
+void cpd_codec_free(cpd_codec *z);
+
 /* The most bytes cpd_codec_encode writes for n values. */
 size_t cpd_codec_bound(size_t n);
 
 /* Encodes n values (weight: n positive whole numbers or NULL) into out (cap bytes, at least
  * cpd_codec_bound(n)); *len receives the bytes written. Returns CPD_OK, CPD_EUSAGE when cap is too
  * small or n is 0, CPD_ENOMEM. */
-int cpd_codec_encode(const double *v, const double *weight, size_t n, unsigned char *out, size_t cap, size_t *len);
+int cpd_codec_encode(cpd_codec *z, const double *v, const double *weight, size_t n, unsigned char *out, size_t cap,
+                     size_t *len);
 
 /* Decodes len bytes into exactly n values (with the weights used to encode them, or NULL).
  * Returns CPD_OK, CPD_EDATA when the bytes are not such an encoding of n values, CPD_ENOMEM. */
-int cpd_codec_decode(const void *in, size_t len, const double *weight, size_t n, double *out);
+int cpd_codec_decode(cpd_codec *z, const void *in, size_t len, const double *weight, size_t n, double *out);
 
 #endif

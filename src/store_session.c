@@ -46,7 +46,8 @@ static int bind_packed(cpd_store *s, sqlite3_stmt *st, int idx, const double *v,
                        unsigned char *buf)
 {
     size_t len = 0;
-    int rc = cpd_codec_encode(v, w, n, buf, cpd_codec_bound(n), &len);
+    cpd_codec *z = cpd_st_codec(s);
+    int rc = z ? cpd_codec_encode(z, v, w, n, buf, cpd_codec_bound(n), &len) : CPD_ENOMEM;
     if (rc)
         return cpd_st_err(s, rc, "encoding %zu values for the store: %s", n, cpd_strerror(rc));
     sqlite3_bind_blob(st, idx, buf, (int)len, SQLITE_STATIC);
@@ -55,7 +56,7 @@ static int bind_packed(cpd_store *s, sqlite3_stmt *st, int idx, const double *v,
 
 /* Reads BLOB column col as n values into out: the packed encoding (weights w or NULL) or, from
  * a store written before 007, n binary64 values. */
-static int column_series(sqlite3_stmt *st, int col, int packed, const double *w, size_t n, double *out)
+static int column_series(cpd_store *s, sqlite3_stmt *st, int col, int packed, const double *w, size_t n, double *out)
 {
     const void *blob = sqlite3_column_blob(st, col);
     size_t bytes = (size_t)sqlite3_column_bytes(st, col);
@@ -66,7 +67,10 @@ static int column_series(sqlite3_stmt *st, int col, int packed, const double *w,
             cpd_st_decode_f64(blob, n, out);
         return CPD_OK;
     }
-    return n ? cpd_codec_decode(blob, bytes, w, n, out) : (bytes == 0 ? CPD_OK : CPD_EDATA);
+    cpd_codec *z = cpd_st_codec(s);
+    if (!z)
+        return CPD_ENOMEM;
+    return n ? cpd_codec_decode(z, blob, bytes, w, n, out) : (bytes == 0 ? CPD_OK : CPD_EDATA);
 }
 
 static int season_join(cpd_store *s, int64_t aid, int speed, const cpd_mmp_curve *c, int64_t id, const char *date);
@@ -297,7 +301,7 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
                 rc = CPD_ENOMEM;
                 goto done;
             }
-            if (!d || (rc = column_series(st, 1, sqlite3_column_int(st, 2), NULL, x->n, d))) {
+            if (!d || (rc = column_series(s, st, 1, sqlite3_column_int(st, 2), NULL, x->n, d))) {
                 free(d);
                 rc = cpd_st_err(s, rc == CPD_ENOMEM ? rc : CPD_ESTORE, "session %lld: channel %s is damaged: it "
                                 "does not hold %zu samples", (long long)r->id, name, x->n);
@@ -410,7 +414,7 @@ static int decode_curve(cpd_store *s, sqlite3_stmt *st, int col, int64_t id, dou
     for (size_t i = 0; i < m; i++)
         buf[i] = (double)cpd_mmp_duration_s(i);
     if ((size_t)n != m || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
-        column_series(st, col + 3, packed, buf, m, buf + m) || column_series(st, col + 4, packed, NULL, m, buf + 2 * m))
+        column_series(s, st, col + 3, packed, buf, m, buf + m) || column_series(s, st, col + 4, packed, NULL, m, buf + 2 * m))
         return cpd_st_err(s, CPD_ESTORE, "session %lld: its stored curve is damaged or on another grid "
                                          "(%lld points, grid %d s/%d s)",
                           (long long)id, (long long)n, fine, step);
@@ -533,9 +537,9 @@ static int season_get(cpd_store *s, int64_t aid, int speed, cpd_mmp_season *seas
     }
     for (size_t i = 0; i < m; i++)
         season->duration_s[i] = (double)cpd_mmp_duration_s(i);
-    int bad = ns < 1 || m == 0 || column_series(st, 2, 1, season->duration_s, m, season->value) ||
-              column_series(st, 3, 1, NULL, m, season->start_s) || column_series(st, 4, 1, NULL, m, tmp) ||
-              column_series(st, 5, 1, NULL, m, tmp + m);
+    int bad = ns < 1 || m == 0 || column_series(s, st, 2, 1, season->duration_s, m, season->value) ||
+              column_series(s, st, 3, 1, NULL, m, season->start_s) || column_series(s, st, 4, 1, NULL, m, tmp) ||
+              column_series(s, st, 5, 1, NULL, m, tmp + m);
     for (size_t i = 0; i < m && !bad; i++) {
         bad = !(season->value[i] >= 0 && season->start_s[i] >= 0 && tmp[i] >= 1 && tmp[i] < 9e15 &&
                 fabs(tmp[m + i]) < 1e7);
@@ -763,7 +767,7 @@ static int pack_rows(cpd_store *s, int curves)
         for (size_t i = 0; i < m; i++)
             v[2 * m + i] = (double)cpd_mmp_duration_s(i);
         for (int j = 0; j < blobs && !rc; j++) {
-            if (column_series(gs, 1 + j, 0, NULL, m, v + j * m)) {
+            if (column_series(s, gs, 1 + j, 0, NULL, m, v + j * m)) {
                 rc = cpd_st_err(s, CPD_ESTORE, "session %lld: a stored series is damaged (%s)", (long long)keys[k].id,
                                 curves ? "curve" : keys[k].ch);
                 break;
@@ -816,4 +820,11 @@ int cpd_st_session_pack(cpd_store *s)
         rc = season_refresh(s, who[k] / 2, (int)(who[k] % 2));
     free(who);
     return rc;
+}
+
+cpd_codec *cpd_st_codec(cpd_store *s)
+{
+    if (!s->codec)
+        s->codec = cpd_codec_alloc();
+    return s->codec;
 }

@@ -24,20 +24,23 @@ enum { N = 7200 };
 /* Encodes v, decodes it and checks every bit; returns the encoded size. */
 static size_t round_trip(const double *v, const double *w, size_t n)
 {
+    cpd_codec *z = cpd_codec_alloc();
+    assert_non_null(z);
     size_t cap = cpd_codec_bound(n), len = 0;
     unsigned char *buf = malloc(cap);
     double *back = malloc(n * sizeof *back);
     assert_non_null(buf);
     assert_non_null(back);
-    assert_int_equal(cpd_codec_encode(v, w, n, buf, cap, &len), CPD_OK);
+    assert_int_equal(cpd_codec_encode(z, v, w, n, buf, cap, &len), CPD_OK);
     assert_true(len > 2 && len <= cap);
-    assert_int_equal(cpd_codec_decode(buf, len, w, n, back), CPD_OK);
+    assert_int_equal(cpd_codec_decode(z, buf, len, w, n, back), CPD_OK);
     assert_memory_equal(back, v, n * sizeof *v);
     /* the count must match: one value more or fewer is damage */
     if (n > 1)
-        assert_int_equal(cpd_codec_decode(buf, len, w, n - 1, back), CPD_EDATA);
+        assert_int_equal(cpd_codec_decode(z, buf, len, w, n - 1, back), CPD_EDATA);
     free(back);
     free(buf);
+    cpd_codec_free(z);
     return len;
 }
 
@@ -95,32 +98,36 @@ static void damage(void **state)
 {
     (void)state;
     double v[64], back[64];
+    cpd_codec *z = cpd_codec_alloc();
+    assert_non_null(z);
     for (int i = 0; i < 64; i++)
         v[i] = 100 + i % 7;
     unsigned char buf[1024];
     size_t len = 0;
     assert_true(cpd_codec_bound(64) <= sizeof buf);
-    assert_int_equal(cpd_codec_encode(v, NULL, 64, buf, sizeof buf, &len), CPD_OK);
+    assert_int_equal(cpd_codec_encode(z, v, NULL, 64, buf, sizeof buf, &len), CPD_OK);
     /* truncated, a bad tag, a bad scale, nothing at all, a cap too small, no values */
-    assert_int_equal(cpd_codec_decode(buf, len - 1, NULL, 64, back), CPD_EDATA);
+    assert_int_equal(cpd_codec_decode(z, buf, len - 1, NULL, 64, back), CPD_EDATA);
     unsigned char bad[1024];
     memcpy(bad, buf, len);
     bad[0] = 'X';
-    assert_int_equal(cpd_codec_decode(bad, len, NULL, 64, back), CPD_EDATA);
+    assert_int_equal(cpd_codec_decode(z, bad, len, NULL, 64, back), CPD_EDATA);
     memcpy(bad, buf, len);
     bad[1] = 200;
-    assert_int_equal(cpd_codec_decode(bad, len, NULL, 64, back), CPD_EDATA);
-    assert_int_equal(cpd_codec_decode(buf, 1, NULL, 64, back), CPD_EDATA);
-    assert_int_equal(cpd_codec_encode(v, NULL, 64, buf, 10, &len), CPD_EUSAGE);
-    assert_int_equal(cpd_codec_encode(v, NULL, 0, buf, sizeof buf, &len), CPD_EUSAGE);
+    assert_int_equal(cpd_codec_decode(z, bad, len, NULL, 64, back), CPD_EDATA);
+    assert_int_equal(cpd_codec_decode(z, buf, 1, NULL, 64, back), CPD_EDATA);
+    assert_int_equal(cpd_codec_encode(z, v, NULL, 64, buf, 10, &len), CPD_EUSAGE);
+    assert_int_equal(cpd_codec_encode(z, v, NULL, 0, buf, sizeof buf, &len), CPD_EUSAGE);
     /* every single flipped byte is refused or decodes to some values, never crashes */
-    assert_int_equal(cpd_codec_encode(v, NULL, 64, buf, sizeof buf, &len), CPD_OK);
+    assert_int_equal(cpd_codec_encode(z, v, NULL, 64, buf, sizeof buf, &len), CPD_OK);
     for (size_t i = 2; i < len; i++) {
         memcpy(bad, buf, len);
         bad[i] ^= 0x5a;
-        int rc = cpd_codec_decode(bad, len, NULL, 64, back);
+        int rc = cpd_codec_decode(z, bad, len, NULL, 64, back);
         assert_true(rc == CPD_OK || rc == CPD_EDATA);
     }
+    cpd_codec_free(z);
+    cpd_codec_free(NULL);
 }
 
 static void through_the_store(void **state)
