@@ -17,6 +17,7 @@
 #include <string.h>
 #include <sys/resource.h>
 #include <sys/stat.h>
+#include <sys/utsname.h>
 #include <sys/wait.h>
 #include <time.h>
 #include <unistd.h>
@@ -105,6 +106,27 @@ static double median(double *v, int n)
     return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
 }
 
+/* The first line of /proc/loadavg into buf ("?" when unreadable). */
+static const char *loadavg(char *buf, size_t n)
+{
+    FILE *f = fopen("/proc/loadavg", "r");
+    if (!f || !fgets(buf, (int)n, f))
+        snprintf(buf, n, "?");
+    if (f)
+        fclose(f);
+    buf[strcspn(buf, "\n")] = '\0';
+    return buf;
+}
+
+/* CPU seconds (user + system) of the children waited for so far. */
+static double children_cpu_s(void)
+{
+    struct rusage u;
+    getrusage(RUSAGE_CHILDREN, &u);
+    return (double)u.ru_utime.tv_sec + 1e-6 * (double)u.ru_utime.tv_usec + (double)u.ru_stime.tv_sec +
+           1e-6 * (double)u.ru_stime.tv_usec;
+}
+
 static long file_size(const char *path)
 {
     struct stat sb;
@@ -149,6 +171,7 @@ static int side_by_side(const char *bin, const char *dir, const char *rides)
             return -1;
     }
     double t_np[REPS], t_np_proc[REPS], t_dir[REPS], t_each[REPS], t_floor[REPS];
+    double c_np[REPS], c_dir[REPS], c_each[REPS], c_floor[REPS]; /* CPU seconds */
     const char *curve[] = {bin, "--db", db, "--json", "curve", "B01", NULL};
     const char *add_dir[] = {bin, "--db", db, "--quiet", "session", "add", "B01", s40, NULL};
     const char *bare[] = {bin, "--version", NULL};
@@ -156,7 +179,7 @@ static int side_by_side(const char *bin, const char *dir, const char *rides)
     for (int rep = 0; rep < REPS; rep++) {
         double a = now_s();
         FILE *p = popen(cmd, "r");
-        if (!p || fscanf(p, "%lf", &t_np[rep]) != 1 || pclose(p) != 0) {
+        if (!p || fscanf(p, "%lf %lf", &t_np[rep], &c_np[rep]) != 2 || pclose(p) != 0) {
             fprintf(stderr, "bench_sessions: the numpy script failed (is python3-numpy installed?)\n");
             return -1;
         }
@@ -164,12 +187,15 @@ static int side_by_side(const char *bin, const char *dir, const char *rides)
         if (fresh_store(bin, db))
             return -1;
         a = now_s();
+        double c = children_cpu_s();
         if (run(add_dir) || run(curve))
             return -1;
         t_dir[rep] = now_s() - a;
+        c_dir[rep] = children_cpu_s() - c;
         if (fresh_store(bin, db))
             return -1;
         a = now_s();
+        c = children_cpu_s();
         for (int k = 0; k < SEASON; k++) {
             const char *one[] = {bin, "--db", db, "--quiet", "session", "add", "B01", files[k], NULL};
             if (run(one))
@@ -178,11 +204,14 @@ static int side_by_side(const char *bin, const char *dir, const char *rides)
         if (run(curve))
             return -1;
         t_each[rep] = now_s() - a;
+        c_each[rep] = children_cpu_s() - c;
         a = now_s();
+        c = children_cpu_s();
         for (int k = 0; k < SEASON; k++)
             if (run(bare))
                 return -1;
         t_floor[rep] = now_s() - a;
+        c_floor[rep] = children_cpu_s() - c;
     }
     /* the same curve: numpy's against the store's, point by point */
     char msg[CPD_MSG_MAX];
@@ -215,15 +244,18 @@ static int side_by_side(const char *bin, const char *dir, const char *rides)
     long bytes = system(cmd) == 0 ? file_size(db) : 0;
     double np = median(t_np, REPS), npp = median(t_np_proc, REPS), dirt = median(t_dir, REPS);
     double each = median(t_each, REPS), floor40 = median(t_floor, REPS);
-    printf("\nside by side with numpy on the same %d two-hour 1-Hz files (median of %d; the machine is shared,\n"
-           "so absolute times vary with the load; the ratios are the figures):\n", SEASON, REPS);
-    printf("  numpy script (tests/season_numpy.py): %.3f s of work, %.3f s as a whole process\n", np, npp);
-    printf("  'session add FOLDER' + 'curve':       %.3f s   -> %.1fx numpy's work   (goal: >= 10x)\n", dirt,
-           np / dirt);
-    printf("  %d x 'session add FILE' + 'curve':    %.3f s   -> %.1fx numpy's work   (goal: > 1x)\n", SEASON, each,
-           np / each);
-    printf("    floor: %d bare starts of the binary (--version) %.3f s, %.2f ms each\n", SEASON, floor40,
-           1e3 * floor40 / SEASON);
+    double cnp = median(c_np, REPS), cdir = median(c_dir, REPS), ceach = median(c_each, REPS),
+           cfloor = median(c_floor, REPS);
+    printf("\nside by side with numpy on the same %d two-hour 1-Hz files (median of %d runs; wall clock, and CPU\n"
+           "time, which a shared machine disturbs less; the ratios are the figures):\n", SEASON, REPS);
+    printf("  numpy script (tests/season_numpy.py): %.3f s wall (%.3f s CPU) of work; %.3f s as a whole process\n", np,
+           cnp, npp);
+    printf("  'session add FOLDER' + 'curve':       %.3f s wall (%.3f s CPU) -> %.1fx numpy wall, %.1fx CPU   "
+           "(goal: >= 10x)\n", dirt, cdir, np / dirt, cnp / cdir);
+    printf("  %d x 'session add FILE' + 'curve':    %.3f s wall (%.3f s CPU) -> %.1fx numpy wall, %.1fx CPU   "
+           "(goal: > 1x)\n", SEASON, each, ceach, np / each, cnp / ceach);
+    printf("    floor: %d bare starts of the binary (--version) %.3f s wall (%.3f s CPU), %.2f ms each\n", SEASON,
+           floor40, cfloor, 1e3 * floor40 / SEASON);
     if (worst >= 0)
         printf("  the same curve: %zu points, largest difference from numpy's %.3g W\n", npts, worst);
     else
@@ -401,6 +433,10 @@ int main(int argc, char **argv)
                "  'curve B01' over the %d stored sessions as a whole process: median of 5 %.1f ms (exit %d)   "
                "(goal: <= 10 ms)\n", SESSIONS, t_cli, e, rss_cli, SESSIONS, 1e3 * median(t_curve, 5), e2);
         printf("  curve scan kernel: %s (bench_mmp times it per ride)\n", cpd_mmp_kernel());
+        struct utsname un;
+        if (uname(&un) == 0)
+            printf("  machine: %s %s %s %s, %ld processors online, load average now: %s\n", un.sysname, un.release,
+                   un.version, un.machine, sysconf(_SC_NPROCESSORS_ONLN), loadavg(msg, sizeof msg));
         if (side_by_side(bin, dir, rides)) {
             fprintf(stderr, "bench_sessions: the side-by-side run failed\n");
             goto done;

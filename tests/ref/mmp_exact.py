@@ -9,15 +9,7 @@ Among segments the earlier keeps an equal mean. Output: "N" then N lines "durati
 import sys
 
 import numpy as np
-
-
-def grid(longest):
-    d = list(range(1, min(longest, 3600) + 1))
-    k = 3660
-    while k <= longest:
-        d.append(k)
-        k += 60
-    return d
+from mmp_grid import grid
 
 
 def main():
