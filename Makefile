@@ -30,7 +30,7 @@ LIB_SRCS += src/domains.c
 LIB_SRCS += src/history.c
 LIB_SRCS += src/kinetics.c
 LIB_SRCS += src/session.c src/mmp.c src/allout.c
-# The curve scan alone: vectorised, with one clone per vector width (mmp.c, target_clones).
+# The curve scan alone: vectorised, with an AVX2 clone beside the portable code (mmp.c, target_clones).
 $(BUILD)/obj/mmp.o: ALL_CFLAGS += -O3 -fopenmp-simd
 LIB_SRCS += src/sheet.c
 # The CLI: main and one file per command family.

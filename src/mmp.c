@@ -1,7 +1,7 @@
 /* mmp.c: exact mean-maximal curves by scanning every window of every segment (method in mmp.h),
  * and the season curve as a pointwise maximum over stored curves. The scan is the hot loop of
  * every import: it is written as blocked maxima the compiler vectorises, and built (this file
- * only, see the Makefile) with -O3 -fopenmp-simd and one clone per vector width. */
+ * only, see the Makefile) with -O3 -fopenmp-simd and an AVX2 clone beside the portable code. */
 #include "cpdomain/mmp.h"
 #include "cpdomain/status.h"
 
@@ -10,12 +10,14 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* One clone of each scan per vector width, chosen once at load time by the processor (GCC's
- * function multiversioning, glibc's ifunc); the binary itself stays portable x86-64. */
+/* One clone of each scan for AVX2 (x86-64-v3) beside the portable one, chosen once at load time
+ * by the processor (GCC's function multiversioning, glibc's ifunc); the binary itself stays
+ * portable x86-64. An AVX-512 (x86-64-v4) clone measured slower than the AVX2 one on the AMD
+ * processor of the benchmarks (0.90 against 0.78 ms per two-hour ride), so there is none. */
 #if defined(__x86_64__) && defined(__GNUC__) && defined(__has_attribute)
 #if __has_attribute(target_clones) && !defined(CPD_MMP_NO_CLONES)
 #define CPD_MMP_CLONES 1
-#define CLONES __attribute__((target_clones("arch=x86-64-v4", "arch=x86-64-v3", "default")))
+#define CLONES __attribute__((target_clones("arch=x86-64-v3", "default")))
 #endif
 #endif
 #ifndef CLONES
@@ -24,6 +26,8 @@
 
 /* Windows per block of the scan: long enough for the vector loop, short enough to rescan. */
 #define BLK 256
+/* Windows per block of the pruned scan: short, so that a block's bound is close to its windows. */
+#define PBLK 128
 
 /* Scales tried, in order, to read every value as an integer count of 1/scale: whole numbers,
  * decimals, and the sixtieths that the linear fill of a gap of 2 to 6 s produces from whole
@@ -39,6 +43,7 @@ struct cpd_mmp_ws {
     double *lo;      /* cap_len + 1 compensated prefix sums: accumulated rounding error */
     int32_t *p32;    /* cap_len + 1 exact integer prefix sums when they fit 32 bits */
     double *bm;      /* cap_len / BLK + 2 block maxima of a double scan */
+    int32_t *bi;     /* cap_len / PBLK + 2 block maxima of a pruned integer scan */
     size_t cap_pts;  /* room for this many curve points */
     double *dur;
     double *val;
@@ -64,8 +69,6 @@ const char *cpd_mmp_kernel(void)
 {
 #ifdef CPD_MMP_CLONES
     __builtin_cpu_init();
-    if (__builtin_cpu_supports("x86-64-v4"))
-        return "x86-64-v4 (AVX-512)";
     if (__builtin_cpu_supports("x86-64-v3"))
         return "x86-64-v3 (AVX2)";
     return "x86-64 baseline (sse2)";
@@ -88,7 +91,7 @@ static int reserve(cpd_mmp_ws *w, size_t len, size_t pts)
     if (len > w->cap_len) {
         if (grow((void **)&w->c, len + 1, sizeof *w->c) || grow((void **)&w->hi, len + 1, sizeof *w->hi) ||
             grow((void **)&w->lo, len + 1, sizeof *w->lo) || grow((void **)&w->p32, len + 1, sizeof *w->p32) ||
-            grow((void **)&w->bm, len / BLK + 2, sizeof *w->bm))
+            grow((void **)&w->bm, len / BLK + 2, sizeof *w->bm) || grow((void **)&w->bi, 4 * (len / PBLK + 2), sizeof *w->bi))
             return CPD_ENOMEM;
         w->cap_len = len;
     }
@@ -126,6 +129,7 @@ void cpd_mmp_free(cpd_mmp_ws *w)
     free(w->lo);
     free(w->p32);
     free(w->bm);
+    free(w->bi);
     free(w->dur);
     free(w->val);
     free(w->start);
@@ -134,42 +138,67 @@ void cpd_mmp_free(cpd_mmp_ws *w)
 
 /* ---- the scans: the largest window sum of length d and its first start ---- */
 
-/* Exact 32-bit prefix sums: returns the first start of the largest window. Blocks keep the inner
- * loop a plain max-reduction; only the first block holding the maximum is scanned again. */
-CLONES static size_t scan_i32(const int32_t *p, size_t m, size_t d)
+/* The first start of the largest window of length d over exact 32-bit prefix sums p (m windows).
+ * Values are >= 0, so the prefix sums never fall and no window starting
+ * in block [s, e) sums to more than p[e - 1 + d] - p[s]. A block whose bound does not exceed the
+ * best sum known (at first the window at seed, the previous duration's answer) is skipped; the
+ * maximum found, the first window that reaches it is looked for in the blocks that can hold it
+ * (bi: each block's maximum, or a mark for a skipped block whose bound equalled the best then). */
+CLONES static size_t scan_pruned(const int32_t *p, size_t m, size_t d, size_t seed, int32_t *bi)
 {
     const int32_t *a = p, *b = p + d;
-    int32_t best = INT32_MIN;
-    size_t blk = 0;
-    for (size_t s = 0; s < m; s += BLK) {
-        size_t e = s + BLK < m ? s + BLK : m;
+    const int32_t TIE = -1; /* a skipped block that might hold a window equal to the maximum */
+    if (seed >= m)
+        seed = m - 1;
+    int32_t best = b[seed] - a[seed];
+    size_t nb = (m + PBLK - 1) / PBLK;
+    for (size_t k = 0; k < nb; k++) {
+        size_t s = k * PBLK, e = s + PBLK < m ? s + PBLK : m;
+        int32_t bound = b[e - 1] - a[s];
+        if (bound <= best) {
+            bi[k] = bound == best ? TIE : INT32_MIN;
+            continue;
+        }
         int32_t mx = INT32_MIN;
 #pragma omp simd reduction(max : mx)
         for (size_t i = s; i < e; i++) {
             int32_t x = b[i] - a[i];
             mx = x > mx ? x : mx;
         }
-        if (mx > best) {
-            best = mx;
-            blk = s;
-        }
+        bi[k] = mx;
+        best = mx > best ? mx : best;
     }
-    size_t i = blk;
-    while (b[i] - a[i] != best)
-        i++;
-    return i;
+    for (size_t k = 0; k < nb; k++) {
+        if (bi[k] != best && bi[k] != TIE)
+            continue;
+        size_t e = k * PBLK + PBLK < m ? k * PBLK + PBLK : m;
+        for (size_t i = k * PBLK; i < e; i++)
+            if (b[i] - a[i] == best)
+                return i;
+    }
+    return seed; /* not reached: the seed's own block holds the maximum when nothing beat it */
 }
 
-/* scan_i32 for the four durations d .. d + 3 (L >= d + 3) in one pass: each prefix sum loaded
- * once serves four windows. at[k] receives the first start of the largest window of d + k. */
-CLONES static void scan4_i32(const int32_t *p, size_t L, size_t d, size_t at[4])
+/* scan_pruned for the four durations d .. d + 3 in one pass (L >= d + 3), seeded by seed[k];
+ * bi holds 4 (L / PBLK + 2) block maxima. at[k] receives the answer for d + k. */
+CLONES static void scan4_pruned(const int32_t *p, size_t L, size_t d, const size_t seed[4], int32_t *bi, size_t at[4])
 {
+    const int32_t TIE = -1;
     const int32_t *b0 = p + d, *b1 = p + d + 1, *b2 = p + d + 2, *b3 = p + d + 3;
-    size_t m = L - d - 2; /* windows every one of the four durations has */
-    int32_t best[4] = {INT32_MIN, INT32_MIN, INT32_MIN, INT32_MIN};
-    size_t blk[4] = {0, 0, 0, 0};
-    for (size_t s = 0; s < m; s += BLK) {
-        size_t e = s + BLK < m ? s + BLK : m;
+    size_t m = L - d - 2, nb = (m + PBLK - 1) / PBLK, stride = L / PBLK + 2;
+    int32_t best[4];
+    for (size_t k = 0; k < 4; k++) {
+        size_t s = seed[k] < m ? seed[k] : m - 1;
+        best[k] = p[s + d + k] - p[s];
+    }
+    for (size_t j = 0; j < nb; j++) {
+        size_t s = j * PBLK, e = s + PBLK < m ? s + PBLK : m;
+        int32_t bound[4] = {b0[e - 1] - p[s], b1[e - 1] - p[s], b2[e - 1] - p[s], b3[e - 1] - p[s]};
+        if (bound[0] <= best[0] && bound[1] <= best[1] && bound[2] <= best[2] && bound[3] <= best[3]) {
+            for (size_t k = 0; k < 4; k++)
+                bi[k * stride + j] = bound[k] == best[k] ? TIE : INT32_MIN;
+            continue;
+        }
         int32_t m0 = INT32_MIN, m1 = INT32_MIN, m2 = INT32_MIN, m3 = INT32_MIN;
 #pragma omp simd reduction(max : m0, m1, m2, m3)
         for (size_t i = s; i < e; i++) {
@@ -180,25 +209,30 @@ CLONES static void scan4_i32(const int32_t *p, size_t L, size_t d, size_t at[4])
             m3 = x3 > m3 ? x3 : m3;
         }
         const int32_t mk[4] = {m0, m1, m2, m3};
-        for (int k = 0; k < 4; k++)
-            if (mk[k] > best[k]) {
-                best[k] = mk[k];
-                blk[k] = s;
-            }
+        for (size_t k = 0; k < 4; k++) {
+            bi[k * stride + j] = mk[k];
+            best[k] = mk[k] > best[k] ? mk[k] : best[k];
+        }
     }
     for (size_t k = 0; k < 4; k++) {
-        const int32_t *b = p + d + k;
-        size_t i = blk[k];
-        while (b[i] - p[i] != best[k])
-            i++;
-        at[k] = i;
-        /* the shorter durations' last windows, after the common ones: only a strictly larger
-         * one displaces the earlier maximum */
+        const int32_t *b = p + d + k, *bk = bi + k * stride;
+        at[k] = SIZE_MAX;
+        for (size_t j = 0; j < nb && at[k] == SIZE_MAX; j++) {
+            if (bk[j] != best[k] && bk[j] != TIE)
+                continue;
+            size_t e = j * PBLK + PBLK < m ? j * PBLK + PBLK : m;
+            for (size_t i = j * PBLK; i < e; i++)
+                if (b[i] - p[i] == best[k]) {
+                    at[k] = i;
+                    break;
+                }
+        }
+        if (at[k] == SIZE_MAX) /* the seed itself was the first maximum, in no block that was scanned */
+            at[k] = seed[k] < m ? seed[k] : m - 1;
+        /* the shorter durations' last windows, after the common ones */
         for (size_t j = m; j + d + k <= L; j++)
-            if (b[j] - p[j] > best[k]) {
-                best[k] = b[j] - p[j];
+            if (b[j] - p[j] > b[at[k]] - p[at[k]])
                 at[k] = j;
-            }
     }
 }
 
@@ -372,17 +406,19 @@ int cpd_mmp_segments(cpd_mmp_ws *w, const cpd_session_segment *seg, size_t n_seg
         size_t npk = cpd_mmp_points(L), s0 = seg[k].start_s;
         if (sc > 0 && prefix_counts(w, seg[k].value, L, sc)) {
             const int32_t *q = w->p32;
-            size_t p = 0;
-            /* the fine grid four durations at a time, then one at a time */
+            size_t p = 0, at[4] = {0, 0, 0, 0};
+            /* the fine grid four durations at a time, each seeded by the answer four seconds shorter */
             for (; p + 4 <= npk && p + 4 <= CPD_MMP_FINE_S; p += 4) {
-                size_t d = p + 1, at[4];
-                scan4_i32(q, L, d, at);
+                size_t d = p + 1, seed[4] = {at[0], at[1], at[2], at[3]};
+                scan4_pruned(q, L, d, seed, w->bi, at);
                 for (size_t j = 0; j < 4; j++)
                     put(w, p + j, (double)(q[at[j] + d + j] - q[at[j]]) / (sc * (double)(d + j)), s0 + at[j]);
             }
+            size_t a1 = at[3];
             for (; p < npk; p++) {
-                size_t d = cpd_mmp_duration_s(p), at = scan_i32(q, L - d + 1, d);
-                put(w, p, (double)(q[at + d] - q[at]) / (sc * (double)d), s0 + at);
+                size_t d = cpd_mmp_duration_s(p);
+                a1 = scan_pruned(q, L - d + 1, d, a1, w->bi);
+                put(w, p, (double)(q[a1 + d] - q[a1]) / (sc * (double)d), s0 + a1);
             }
         } else if (sc > 0) {
             for (size_t p = 0; p < npk; p++) {

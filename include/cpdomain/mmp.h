@@ -15,7 +15,9 @@
  *    for the first scale of 1, 60, 10, 100, 1000, 600, 6000, 60000, 10000 at which q / scale
  *    equals the value to the last bit. Window sums of counts are exact integers (32-bit when they
  *    fit, else doubles below 2^53), so the maximum and its first start are exact, and the value
- *    is the exact mean correctly rounded (one division).
+ *    is the exact mean correctly rounded (one division). Values are >= 0, so a block of starts
+ *    whose span (first start to last end) sums to no more than the best window already found
+ *    cannot hold a better one and is skipped: exact pruning, not an approximation.
  *  - Other values: prefix sums of the values minus the segment mean find every window within the
  *    scan's rounding bound of the largest; those are compared by compensated (double-double,
  *    Knuth's TwoSum) prefix sums, so the value reported is the window's mean to about 1e-15
