@@ -14,7 +14,7 @@ static const double SCALES[] = {1, 10, 100, 1000, 60, 600, 6000, 60000, 1e4, 1e5
 #define NSCALES (sizeof SCALES / sizeof SCALES[0])
 #define HEAD 2
 #define LEVEL 3 /* zstd's default level: most of the size for little time */
-#define COUNT_MAX 9007199254740992.0 /* 2^53 */
+#define COUNT_MAX 2251799813685248.0 /* 2^51: counts stay below this */
 
 struct cpd_codec {
     ZSTD_CCtx *cc;
@@ -64,26 +64,22 @@ size_t cpd_codec_bound(size_t n)
     return HEAD + ZSTD_compressBound(8 * n + 16);
 }
 
-static int same_bits(double a, double b)
+static uint64_t bits(double a)
 {
-    return memcmp(&a, &b, sizeof a) == 0;
+    uint64_t u;
+    memcpy(&u, &a, sizeof u);
+    return u;
 }
 
-/* The index of the first scale at which every value is a count, or -1. */
-static int find_scale(const double *v, const double *weight, size_t n)
+/* x rounded to the nearest integer, ties to even, for |x| < 2^51 (the caller checks): adding and
+ * taking away 1.5·2^52 leaves no fraction in round-to-nearest, without a call to nearbyint. C17
+ * evaluates double sums in double on x86-64 and elsewhere with FLT_EVAL_METHOD 0, and the
+ * compiler may not fold (x + c) - c without -ffast-math, which this project never uses. */
+static double round_int(double x)
 {
-    for (size_t k = 0; k < NSCALES; k++) {
-        size_t i = 0;
-        for (; i < n; i++) {
-            double m = weight ? SCALES[k] * weight[i] : SCALES[k];
-            double q = nearbyint(v[i] * m);
-            if (!(fabs(q) < COUNT_MAX) || !same_bits(m == 1 ? q : q / m, v[i]))
-                break;
-        }
-        if (i == n)
-            return (int)k;
-    }
-    return -1;
+    const double big = 6755399441055744.0;
+    double y = x + big;
+    return y - big;
 }
 
 static size_t put_varint(unsigned char *p, uint64_t x)
@@ -97,30 +93,45 @@ static size_t put_varint(unsigned char *p, uint64_t x)
     return k;
 }
 
+/* The counts of v at scale sc (with the weights) as zigzag varints of their differences into raw;
+ * returns the bytes written, or 0 when some value is no count at this scale. One pass: the check
+ * and the encoding together. */
+static size_t counts(const double *v, const double *weight, size_t n, double sc, unsigned char *raw)
+{
+    size_t rl = 0;
+    int64_t prev = 0;
+    for (size_t i = 0; i < n; i++) {
+        double m = weight ? sc * weight[i] : sc, x = v[i] * m;
+        if (!(fabs(x) < COUNT_MAX))
+            return 0;
+        double q = round_int(x);
+        if (bits(m == 1 ? q : q / m) != bits(v[i]))
+            return 0;
+        int64_t iq = (int64_t)q, d = iq - prev;
+        rl += put_varint(raw + rl, ((uint64_t)d << 1) ^ (uint64_t)(d >> 63));
+        prev = iq;
+    }
+    return rl;
+}
+
 int cpd_codec_encode(cpd_codec *z, const double *v, const double *weight, size_t n, unsigned char *out, size_t cap,
                      size_t *len)
 {
     *len = 0;
     if (n == 0 || cap < cpd_codec_bound(n))
         return CPD_EUSAGE;
-    int sc = find_scale(v, weight, n);
     /* counts take at most 10 bytes each as varints; doubles exactly 8 */
     unsigned char *raw = scratch(z, 10 * n);
     if (!raw)
         return CPD_ENOMEM;
     size_t rl = 0;
-    if (sc >= 0) {
-        int64_t prev = 0;
+    int sc = 0;
+    for (; sc < (int)NSCALES && !(rl = counts(v, weight, n, SCALES[sc], raw)); sc++)
+        ;
+    if (sc == (int)NSCALES) {
+        sc = -1;
         for (size_t i = 0; i < n; i++) {
-            double m = weight ? SCALES[sc] * weight[i] : SCALES[sc];
-            int64_t q = (int64_t)nearbyint(v[i] * m), d = q - prev;
-            rl += put_varint(raw + rl, ((uint64_t)d << 1) ^ (uint64_t)(d >> 63));
-            prev = q;
-        }
-    } else {
-        for (size_t i = 0; i < n; i++) {
-            uint64_t b;
-            memcpy(&b, &v[i], 8);
+            uint64_t b = bits(v[i]);
             for (size_t k = 0; k < 8; k++)
                 raw[k * n + i] = (unsigned char)(b >> (8 * k));
         }

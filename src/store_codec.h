@@ -3,7 +3,7 @@
  *
  * A series whose every value v_i, for one scale s of 1, 10, 100, 1000, 60, 600, 6000, 60000,
  * 10^4, 10^5, 10^6 and the caller's weights w_i (1 without), is to the last bit the double
- * q_i / (s·w_i) of an integer count q_i (|q_i| < 2^53) is kept as those counts: the differences of
+ * q_i / (s·w_i) of an integer count q_i (|q_i| < 2^51) is kept as those counts: the differences of
  * consecutive counts as zigzag LEB128 varints, compressed by zstd (Facebook's Zstandard, RFC 8878).
  * A 1-Hz time channel thereby becomes a run of ones with its gaps as the exceptions, which zstd
  * stores in a few bytes. Any other series is kept as its IEEE-754 binary64 bytes, regrouped by byte
