@@ -8,6 +8,7 @@
 
 #include <getopt.h>
 #include <stddef.h>
+#include <stdio.h>
 
 typedef struct {
     const char *db_path; /* --db, $CPDOMAIN_DB or cpdomain.db */
@@ -91,5 +92,11 @@ void cj_free(cli_json *doc);
  * cj_render_free. NULL when out of memory. */
 char *cj_render(const cli_json *doc);
 void cj_render_free(char *s);
+/* Streaming for long documents (no nodes built): a number or a string written to f exactly as
+ * cj_print writes it, so a streamed document reads byte for byte like one built with cj_*.
+ * Numbers: non-finite as null, whole numbers in int range as integers, others with 15
+ * significant digits when they read back within cJSON's tolerance, else 17. NULL s: null. */
+void cj_write_num(FILE *f, double v);
+void cj_write_str(FILE *f, const char *s);
 
 #endif

@@ -6,6 +6,8 @@
 
 #include <cJSON.h>
 #include <errno.h>
+#include <float.h>
+#include <limits.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -385,4 +387,81 @@ char *cj_render(const cli_json *doc)
 void cj_render_free(char *s)
 {
     cJSON_free(s);
+}
+
+/* Digits of x (< 10^16) into the end of buf; returns where they start. */
+static char *digits(unsigned long long x, char *end)
+{
+    do
+        *--end = (char)('0' + x % 10);
+    while (x /= 10);
+    return end;
+}
+
+void cj_write_num(FILE *f, double v)
+{
+    if (!isfinite(v)) {
+        fputs("null", f);
+        return;
+    }
+    char b[40];
+    /* cJSON keeps (int)v clamped to the int range beside each number and prints it when equal */
+    int vi = v >= INT_MAX ? INT_MAX : v <= INT_MIN ? INT_MIN : (int)v;
+    if (v == (double)vi) {
+        char *e = b + sizeof b, *p = digits((unsigned long long)(vi < 0 ? -(long long)vi : vi), e);
+        if (vi < 0)
+            *--p = '-';
+        fwrite(p, 1, (size_t)(e - p), f);
+        return;
+    }
+    /* a value that is the double nearest a decimal of at most 6 places and 15 digits prints as that
+     * decimal under %1.15g (the double is far closer to it than half a unit of the 15th digit) */
+    double a = fabs(v);
+    if (a >= 1e-4 && a < 1e9) {
+        double sc = 10;
+        for (int k = 1; k <= 6; k++, sc *= 10) {
+            double q = nearbyint(a * sc);
+            if (q / sc != a)
+                continue;
+            unsigned long long u = (unsigned long long)q, ip = u / (unsigned long long)sc,
+                               fp = u % (unsigned long long)sc;
+            int places = k;
+            for (; fp % 10 == 0; fp /= 10)
+                places--;
+            char *e = b + sizeof b, *p = digits(fp, e);
+            while (e - p < places)
+                *--p = '0';
+            *--p = '.';
+            p = digits(ip, p);
+            if (v < 0)
+                *--p = '-';
+            fwrite(p, 1, (size_t)(e - p), f);
+            return;
+        }
+    }
+    snprintf(b, sizeof b, "%1.15g", v);
+    double back = strtod(b, NULL), most = fabs(back) > fabs(v) ? fabs(back) : fabs(v);
+    if (!(fabs(back - v) <= most * DBL_EPSILON))
+        snprintf(b, sizeof b, "%1.17g", v);
+    fputs(b, f);
+}
+
+void cj_write_str(FILE *f, const char *s)
+{
+    if (!s) {
+        fputs("null", f);
+        return;
+    }
+    putc('"', f);
+    for (const unsigned char *p = (const unsigned char *)s; *p; p++) {
+        static const char esc[] = {'\b', 'b', '\f', 'f', '\n', 'n', '\r', 'r', '\t', 't', '"', '"', '\\', '\\'};
+        const char *hit = *p < 32 || *p == '"' || *p == '\\' ? memchr(esc, *p, sizeof esc) : NULL;
+        if (hit && (hit - esc) % 2 == 0)
+            fprintf(f, "\\%c", hit[1]);
+        else if (*p < 32)
+            fprintf(f, "\\u%04x", *p);
+        else
+            putc(*p, f);
+    }
+    putc('"', f);
 }

@@ -357,7 +357,7 @@ static int session_add(cli_ctx *c, int argc, char **argv)
         if (progress)
             fprintf(stderr, "\rsession add: file %zu of %zu", i + 1, files.n);
         uint64_t h = 0;
-        if ((rc = cpd_import_file_hash(path, &h, msg))) {
+        if ((rc = cpd_import_session_load(w, path, &h, msg))) {
             ex = reject(c, "session add", rc, msg);
             goto done;
         }
@@ -796,24 +796,29 @@ static int allout_add(cli_ctx *c, int argc, char **argv)
         return rc;
     char msg[CPD_MSG_MAX];
     uint64_t h = 0;
-    if ((rc = cpd_import_file_hash(path, &h, msg)))
-        return cli_fail(c, rc, "%s", msg);
-    int64_t dup = 0;
-    if ((rc = cpd_store_session_find(c->store, a.code, 1, h, &dup, NULL)))
-        return cli_store_fail(c, rc);
-    if (dup) {
-        cli_note(c, "skipped %s: the same file is stored as all-out test %lld", path, (long long)dup);
-        if (!c->json)
-            return 0;
-        cli_json *d = cj_obj();
-        cj_int(d, "id", dup);
-        cj_bool(d, "duplicate", 1);
-        return cj_print(d);
-    }
     cpd_session_import_ws *w = cpd_import_session_alloc();
     if (!w)
         return cli_fail(c, CPD_ENOMEM, "out of memory");
     int ex = 0;
+    int64_t dup = 0;
+    if ((rc = cpd_import_session_load(w, path, &h, msg))) {
+        ex = cli_fail(c, rc, "%s", msg);
+        goto done;
+    }
+    if ((rc = cpd_store_session_find(c->store, a.code, 1, h, &dup, NULL))) {
+        ex = cli_store_fail(c, rc);
+        goto done;
+    }
+    if (dup) {
+        cli_note(c, "skipped %s: the same file is stored as all-out test %lld", path, (long long)dup);
+        if (c->json) {
+            cli_json *d = cj_obj();
+            cj_int(d, "id", dup);
+            cj_bool(d, "duplicate", 1);
+            ex = cj_print(d);
+        }
+        goto done;
+    }
     cpd_session_import im;
     cpd_allout_result res;
     if ((rc = cpd_import_session(w, path, &io, &im, msg))) {
@@ -961,20 +966,10 @@ done:
 static int curve_modality(cli_ctx *c, const cpd_athlete *a, const char *from, const char *to, const char *modality,
                           int *speed, size_t *n_other)
 {
-    cpd_session_rec *v = NULL;
-    size_t n = 0, np = 0, ns = 0;
-    int rc = cpd_store_session_list(c->store, a->code, 0, &v, &n);
+    size_t np = 0, ns = 0;
+    int rc = cpd_store_session_count(c->store, a->code, from, to, &np, &ns);
     if (rc)
         return cli_store_fail(c, rc);
-    for (size_t i = 0; i < n; i++) {
-        if ((from && strcmp(v[i].date, from) < 0) || (to && strcmp(v[i].date, to) > 0))
-            continue;
-        if (v[i].speed)
-            ns++;
-        else
-            np++;
-    }
-    free(v);
     if (modality)
         *speed = strcmp(modality, "speed") == 0;
     else
@@ -1009,6 +1004,39 @@ static int season_curve(cli_ctx *c, const cpd_athlete *a, const char *from, cons
     return 0;
 }
 
+/* The season curve as JSON, streamed: thousands of points are written without building a node
+ * for each number, in the layout cj_print gives. Returns 0 or 74 when stdout fails. */
+static int curve_json(const cpd_athlete *a, int spd, const sess_opts *o, size_t ns, const cpd_mmp_season *se)
+{
+    FILE *f = stdout;
+    fputs("{\n\t\"athlete\":\t", f);
+    cj_write_str(f, a->code);
+    fprintf(f, ",\n\t\"modality\":\t\"%s\",\n\t\"from\":\t", spd ? "speed" : "power");
+    cj_write_str(f, o->from);
+    fputs(",\n\t\"to\":\t", f);
+    cj_write_str(f, o->to);
+    fputs(",\n\t\"sessions\":\t", f);
+    cj_write_num(f, (double)ns);
+    fputs(",\n\t\"points\":\t[", f);
+    char date[11];
+    for (size_t i = 0; i < se->n; i++) {
+        fputs(i ? "}, {\n\t\t\t\"duration_s\":\t" : "{\n\t\t\t\"duration_s\":\t", f);
+        cj_write_num(f, se->duration_s[i]);
+        fputs(spd ? ",\n\t\t\t\"speed_m_s\":\t" : ",\n\t\t\t\"power_w\":\t", f);
+        cj_write_num(f, se->value[i]);
+        fputs(",\n\t\t\t\"session\":\t", f);
+        cj_write_num(f, (double)se->session[i]);
+        cpd_format_date(se->date_days[i], date);
+        fputs(",\n\t\t\t\"date\":\t\"", f);
+        fputs(date, f);
+        fputs("\",\n\t\t\t\"start_s\":\t", f);
+        cj_write_num(f, se->start_s[i]);
+        fputs("\n\t\t", f);
+    }
+    fputs(se->n ? "}]\n}\n" : "]\n}\n", f);
+    return ferror(f) ? EX_IOERR : 0;
+}
+
 static int cmd_curve_run(cli_ctx *c, int argc, char **argv)
 {
     sess_opts o;
@@ -1028,28 +1056,11 @@ static int cmd_curve_run(cli_ctx *c, int argc, char **argv)
     cpd_mmp_season *se = NULL;
     if ((rc = season_curve(c, &a, o.from, o.to, o.modality, &spd, &se, &ns)))
         return rc;
-    const char *key = vkey(spd, "power_w", "speed_m_s");
     char date[11];
     if (c->json) {
-        cli_json *d = cj_obj();
-        cj_str(d, "athlete", a.code);
-        cj_str(d, "modality", spd ? "speed" : "power");
-        cj_str(d, "from", o.from);
-        cj_str(d, "to", o.to);
-        cj_int(d, "sessions", (long long)ns);
-        cli_json *arr = cj_add_arr(d, "points");
-        for (size_t i = 0; i < se->n; i++) {
-            cli_json *p = cj_obj();
-            cj_num(p, "duration_s", se->duration_s[i]);
-            cj_num(p, key, se->value[i]);
-            cj_int(p, "session", se->session[i]);
-            cpd_format_date(se->date_days[i], date);
-            cj_str(p, "date", date);
-            cj_num(p, "start_s", se->start_s[i]);
-            cj_push(arr, p);
-        }
+        rc = curve_json(&a, spd, &o, ns, se);
         cpd_mmp_season_free(se);
-        return cj_print(d);
+        return rc;
     }
     static const size_t std_d[] = {1,    5,    10,   15,   30,   60,   120,  180,  300,   480,   600,   720,  900,
                                    1200, 1800, 2400, 3600, 5400, 7200, 10800, 14400, 21600, 28800, 43200, 86400};

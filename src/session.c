@@ -198,7 +198,9 @@ static void emit_run(cpd_session_ws *w, size_t a, size_t b, cpd_session *s, size
             continue;
         }
         double dt = w->t[j + 1] - w->t[j];
-        out[i] = w->v[j] + (w->v[j + 1] - w->v[j]) * ((k - w->t[j]) / dt);
+        /* one division last: from whole numbers at whole seconds this is the exact fraction
+         * correctly rounded, which the curve scan reads back exactly (mmp.h) */
+        out[i] = (w->v[j] * dt + (w->v[j + 1] - w->v[j]) * (k - w->t[j])) / dt;
         if (dt > CPD_SESSION_DROPOUT_S)
             s->filled_s++;
         else

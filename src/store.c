@@ -1,5 +1,6 @@
 /* store.c: opening the store, migrations, transactions and shared statement helpers.
  * Every SQL statement of cpdomain lives in store*.c and is prepared with bound parameters. */
+#include "store_codec.h"
 #include "store_int.h"
 
 #include <stdarg.h>
@@ -228,6 +229,11 @@ static int migrate(cpd_store *s)
             sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
             return CPD_ESTORE;
         }
+        /* 007 adds the compact encoding; the samples already stored are re-encoded now */
+        if (strstr(cpd_store_migration_files[k], "007_") && cpd_st_session_pack(s)) {
+            sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+            return CPD_ESTORE;
+        }
     }
     char sql[64];
     snprintf(sql, sizeof sql, "PRAGMA user_version = %d", cpd_store_migration_count);
@@ -272,6 +278,10 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
         rc = CPD_ESTORE;
         goto done;
     }
+    /* A command does not checkpoint the WAL when it closes: the write-ahead log is copied into the
+     * database once it holds more than WAL_KEEP_BYTES (cpd_store_close; README, "Durability and
+     * storage size"), not rewritten by every small command. */
+    sqlite3_db_config(s->db, SQLITE_DBCONFIG_NO_CKPT_ON_CLOSE, 1, NULL);
     rc = migrate(s);
     if (rc)
         snprintf(msg, CPD_MSG_MAX, "%s", s->err);
@@ -284,11 +294,20 @@ done:
     return CPD_OK;
 }
 
+/* The write-ahead log a command leaves behind, bytes: the next process reads it whole when it
+ * opens the store, so a longer one is copied into the database and emptied at close. */
+#define WAL_KEEP_BYTES (1 << 20)
+
 void cpd_store_close(cpd_store *s)
 {
     if (!s)
         return;
+    const char *wal = s->db ? sqlite3_filename_wal(sqlite3_db_filename(s->db, "main")) : NULL;
+    struct stat sb;
+    if (wal && *wal && stat(wal, &sb) == 0 && sb.st_size > WAL_KEEP_BYTES)
+        sqlite3_wal_checkpoint_v2(s->db, NULL, SQLITE_CHECKPOINT_TRUNCATE, NULL, NULL); /* best effort */
     sqlite3_close(s->db); /* every statement is finalized by its owner before this */
+    cpd_codec_free(s->codec);
     free(s);
 }
 

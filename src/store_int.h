@@ -15,6 +15,7 @@ extern const int cpd_store_migration_count;
 
 struct cpd_store {
     sqlite3 *db;
+    struct cpd_codec *codec; /* the sample codec's workspace (store_codec.h), made at first use */
     char err[CPD_MSG_MAX]; /* detail of the last failure */
 };
 
@@ -48,5 +49,11 @@ int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
  * from 8n bytes (store_session.c; store_gx.c keeps its own static copy). */
 void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out);
 void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v);
+
+/* The upgrade that comes with db/007_compact_samples.sql: re-encodes every session channel and
+ * curve still in the binary64 layout of 004 (store_codec.h), inside the upgrade's transaction. */
+int cpd_st_session_pack(cpd_store *s);
+/* The store's codec workspace, made at first use; NULL when out of memory. */
+struct cpd_codec *cpd_st_codec(cpd_store *s);
 
 #endif

@@ -1,8 +1,10 @@
 /* store_session.c: recorded sessions and 3-minute all-out tests: the file's samples as one BLOB
  * per channel, the cleaning report as columns, and each session's mean-maximal curve as BLOBs. */
 #include "cpdomain/units.h"
+#include "store_codec.h"
 #include "store_int.h"
 
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -38,14 +40,50 @@ static double **channel_slot(cpd_session_samples *x, size_t k)
     return v[k];
 }
 
+/* Encodes n values (weights w or NULL, store_codec.h) into buf (cpd_codec_bound(n) bytes) and
+ * binds them as a BLOB at idx. */
+static int bind_packed(cpd_store *s, sqlite3_stmt *st, int idx, const double *v, const double *w, size_t n,
+                       unsigned char *buf)
+{
+    size_t len = 0;
+    cpd_codec *z = cpd_st_codec(s);
+    int rc = z ? cpd_codec_encode(z, v, w, n, buf, cpd_codec_bound(n), &len) : CPD_ENOMEM;
+    if (rc)
+        return cpd_st_err(s, rc, "encoding %zu values for the store: %s", n, cpd_strerror(rc));
+    sqlite3_bind_blob(st, idx, buf, (int)len, SQLITE_STATIC);
+    return CPD_OK;
+}
+
+/* Reads BLOB column col as n values into out: the packed encoding (weights w or NULL) or, from
+ * a store written before 007, n binary64 values. */
+static int column_series(cpd_store *s, sqlite3_stmt *st, int col, int packed, const double *w, size_t n, double *out)
+{
+    const void *blob = sqlite3_column_blob(st, col);
+    size_t bytes = (size_t)sqlite3_column_bytes(st, col);
+    if (!packed) {
+        if (bytes != 8 * n)
+            return CPD_EDATA;
+        if (n)
+            cpd_st_decode_f64(blob, n, out);
+        return CPD_OK;
+    }
+    cpd_codec *z = cpd_st_codec(s);
+    if (!z)
+        return CPD_ENOMEM;
+    return n ? cpd_codec_decode(z, blob, bytes, w, n, out) : (bytes == 0 ? CPD_OK : CPD_EDATA);
+}
+
+static int season_join(cpd_store *s, int64_t aid, int speed, const cpd_mmp_curve *c, int64_t id, const char *date);
+
 static int put_blob(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
                     unsigned char *buf)
 {
-    cpd_st_encode_f64(v, n, buf);
     sqlite3_reset(st);
     sqlite3_bind_int64(st, 1, id);
     sqlite3_bind_text(st, 2, name, -1, SQLITE_STATIC);
-    sqlite3_bind_blob(st, 3, buf, (int)(8 * n), SQLITE_STATIC);
+    int rc = bind_packed(s, st, 3, v, NULL, n, buf);
+    if (rc)
+        return rc;
     if (sqlite3_step(st) != SQLITE_DONE)
         return cpd_st_fail(s, "storing session samples");
     return CPD_OK;
@@ -77,7 +115,8 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     if (dup)
         return cpd_st_err(s, CPD_EEXIST, "the same file is stored as %s %lld", r->allout ? "all-out test" : "session",
                           (long long)dup);
-    unsigned char *buf = malloc(8 * x->n);
+    size_t most = x->n > (curve ? curve->n : 0) ? x->n : curve->n;
+    unsigned char *buf = malloc(cpd_codec_bound(most));
     if (!buf)
         return CPD_ENOMEM;
     sqlite3_stmt *st = NULL;
@@ -125,7 +164,7 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     *id = sqlite3_last_insert_rowid(s->db);
     sqlite3_finalize(st);
     st = NULL;
-    if ((rc = cpd_st_prepare(s, "INSERT INTO session_channel (session_id, channel, data) VALUES (?1, ?2, ?3)", &st)))
+    if ((rc = cpd_st_prepare(s, "INSERT INTO session_channel (session_id, channel, data, packed) VALUES (?1, ?2, ?3, 1)", &st)))
         goto done;
     for (size_t k = 0; k < NCHAN; k++)
         if (channel_data(x, k) && (rc = put_blob(s, st, *id, channel_name(k, r->speed), channel_data(x, k), x->n, buf)))
@@ -135,26 +174,26 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     if (!curve || curve->n == 0)
         goto done;
     if ((rc = cpd_st_prepare(s,
-                             "INSERT INTO session_curve (session_id, n_points, fine_s, step_s, value, start_s) "
-                             "VALUES (?1, ?2, ?3, ?4, ?5, ?6)",
+                             "INSERT INTO session_curve (session_id, n_points, fine_s, step_s, value, start_s, packed) "
+                             "VALUES (?1, ?2, ?3, ?4, ?5, ?6, 1)",
                              &st)))
         goto done;
-    unsigned char *vb = malloc(16 * curve->n);
-    if (!vb) {
-        rc = CPD_ENOMEM;
-        goto done;
-    }
-    cpd_st_encode_f64(curve->value, curve->n, vb);
-    cpd_st_encode_f64(curve->start_s, curve->n, vb + 8 * curve->n);
     sqlite3_bind_int64(st, 1, *id);
     sqlite3_bind_int64(st, 2, (sqlite3_int64)curve->n);
     sqlite3_bind_int(st, 3, CPD_MMP_FINE_S);
     sqlite3_bind_int(st, 4, CPD_MMP_COARSE_STEP_S);
-    sqlite3_bind_blob(st, 5, vb, (int)(8 * curve->n), SQLITE_STATIC);
-    sqlite3_bind_blob(st, 6, vb + 8 * curve->n, (int)(8 * curve->n), SQLITE_STATIC);
-    if (sqlite3_step(st) != SQLITE_DONE)
+    unsigned char *sb = malloc(cpd_codec_bound(curve->n));
+    if (!sb) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    /* the values weighted by their durations: a mean of whole watts is kept as its whole sum */
+    if (!(rc = bind_packed(s, st, 5, curve->value, curve->duration_s, curve->n, buf)) &&
+        !(rc = bind_packed(s, st, 6, curve->start_s, NULL, curve->n, sb)) && sqlite3_step(st) != SQLITE_DONE)
         rc = cpd_st_fail(s, "storing a session's curve");
-    free(vb);
+    free(sb);
+    if (!rc && !r->allout)
+        rc = season_join(s, aid, r->speed, curve, *id, r->date);
 done:
     sqlite3_finalize(st);
     free(buf);
@@ -247,29 +286,27 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
         return CPD_ENOMEM;
     x->n = r->n_samples;
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT channel, data FROM session_channel WHERE session_id = ?1", &st);
+    int rc = cpd_st_prepare(s, "SELECT channel, data, packed FROM session_channel WHERE session_id = ?1", &st);
     if (rc)
         goto done;
     sqlite3_bind_int64(st, 1, r->id);
     int q;
     while ((q = sqlite3_step(st)) == SQLITE_ROW) {
         const char *name = (const char *)sqlite3_column_text(st, 0);
-        const void *blob = sqlite3_column_blob(st, 1);
-        size_t bytes = (size_t)sqlite3_column_bytes(st, 1);
         for (size_t k = 0; name && k < NCHAN; k++) {
             if (strcmp(name, channel_name(k, r->speed)) != 0)
                 continue;
-            if (bytes != 8 * x->n || *channel_slot(x, k)) {
-                rc = cpd_st_err(s, CPD_ESTORE, "session %lld: channel %s has %zu bytes, expected %zu",
-                                (long long)r->id, name, bytes, 8 * x->n);
-                goto done;
-            }
-            double *d = malloc(bytes);
-            if (!d) {
+            double *d = *channel_slot(x, k) ? NULL : malloc(x->n * sizeof *d);
+            if (!*channel_slot(x, k) && !d) {
                 rc = CPD_ENOMEM;
                 goto done;
             }
-            cpd_st_decode_f64(blob, x->n, d);
+            if (!d || (rc = column_series(s, st, 1, sqlite3_column_int(st, 2), NULL, x->n, d))) {
+                free(d);
+                rc = cpd_st_err(s, rc == CPD_ENOMEM ? rc : CPD_ESTORE, "session %lld: channel %s is damaged: it "
+                                "does not hold %zu samples", (long long)r->id, name, x->n);
+                goto done;
+            }
             *channel_slot(x, k) = d;
         }
     }
@@ -341,25 +378,46 @@ int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_sessi
     return rc;
 }
 
-/* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s) and
- * decodes it into buf (3 × n_points doubles: durations, values, starts). */
+int cpd_store_session_count(cpd_store *s, const char *code, const char *from, const char *to, size_t *n_power,
+                            size_t *n_speed)
+{
+    *n_power = *n_speed = 0;
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, code, &aid);
+    sqlite3_stmt *st = NULL;
+    if (rc || (rc = cpd_st_prepare(s,
+                                   "SELECT modality = 'speed', count(*) FROM session WHERE athlete_id = ?1 AND "
+                                   "kind = 'session' AND (?2 IS NULL OR date >= ?2) AND (?3 IS NULL OR date <= ?3) "
+                                   "GROUP BY 1",
+                                   &st)))
+        return rc;
+    sqlite3_bind_int64(st, 1, aid);
+    cpd_st_bind_text(st, 2, from, 0);
+    cpd_st_bind_text(st, 3, to, 0);
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW)
+        *(sqlite3_column_int(st, 0) ? n_speed : n_power) = (size_t)sqlite3_column_int64(st, 1);
+    if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "counting sessions");
+    sqlite3_finalize(st);
+    return rc;
+}
+
+/* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s,
+ * packed) and decodes it into buf (3 × n_points doubles: durations, values, starts). */
 static int decode_curve(cpd_store *s, sqlite3_stmt *st, int col, int64_t id, double *buf, cpd_mmp_curve *c)
 {
     sqlite3_int64 n = sqlite3_column_int64(st, col);
     int fine = sqlite3_column_int(st, col + 1), step = sqlite3_column_int(st, col + 2);
-    size_t vb = (size_t)sqlite3_column_bytes(st, col + 3), sb = (size_t)sqlite3_column_bytes(st, col + 4);
-    if (n < 0 || n > (sqlite3_int64)CPD_MMP_NMAX || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
-        vb != 8 * (size_t)n || sb != 8 * (size_t)n)
+    int packed = sqlite3_column_int(st, col + 5);
+    size_t m = n >= 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 0;
+    for (size_t i = 0; i < m; i++)
+        buf[i] = (double)cpd_mmp_duration_s(i);
+    if ((size_t)n != m || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
+        column_series(s, st, col + 3, packed, buf, m, buf + m) || column_series(s, st, col + 4, packed, NULL, m, buf + 2 * m))
         return cpd_st_err(s, CPD_ESTORE, "session %lld: its stored curve is damaged or on another grid "
                                          "(%lld points, grid %d s/%d s)",
                           (long long)id, (long long)n, fine, step);
-    size_t m = (size_t)n;
-    for (size_t i = 0; i < m; i++)
-        buf[i] = (double)cpd_mmp_duration_s(i);
-    if (m) {
-        cpd_st_decode_f64(sqlite3_column_blob(st, col + 3), m, buf + m);
-        cpd_st_decode_f64(sqlite3_column_blob(st, col + 4), m, buf + 2 * m);
-    }
     c->n = m;
     c->duration_s = buf;
     c->value = buf + m;
@@ -372,7 +430,8 @@ int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curv
     *buf = NULL;
     memset(c, 0, sizeof *c);
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT n_points, fine_s, step_s, value, start_s FROM session_curve WHERE session_id = ?1",
+    int rc = cpd_st_prepare(s, "SELECT n_points, fine_s, step_s, value, start_s, packed FROM session_curve "
+                            "WHERE session_id = ?1",
                             &st);
     if (rc)
         return rc;
@@ -393,21 +452,19 @@ int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curv
     return rc;
 }
 
-int cpd_store_session_season(cpd_store *s, const char *code, int speed, const char *from, const char *to,
-                             cpd_mmp_season *season, size_t *n_sessions)
+/* The season curve from every stored curve of the athlete (aid) in one modality dated from/to
+ * (NULL: open), added in date order. */
+static int season_scan(cpd_store *s, int64_t aid, int speed, const char *from, const char *to, cpd_mmp_season *season,
+                       size_t *n_sessions)
 {
     *n_sessions = 0;
     cpd_mmp_season_reset(season);
-    int64_t aid = 0;
-    int rc = cpd_st_athlete_id(s, code, &aid);
-    if (rc)
-        return rc;
     double *buf = malloc(3 * CPD_MMP_NMAX * sizeof *buf);
     if (!buf)
         return CPD_ENOMEM;
     sqlite3_stmt *st = NULL;
-    rc = cpd_st_prepare(s,
-                        "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s FROM session s "
+    int rc = cpd_st_prepare(s,
+                        "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s, c.packed FROM session s "
                         "JOIN session_curve c ON c.session_id = s.id WHERE s.athlete_id = ?1 AND s.kind = 'session' "
                         "AND s.modality = ?2 AND (?3 IS NULL OR s.date >= ?3) AND (?4 IS NULL OR s.date <= ?4) "
                         "ORDER BY s.date, s.id",
@@ -445,18 +502,329 @@ done:
     return rc;
 }
 
+/* ---- the season cache (session_season, db/007_compact_samples.sql) ---- */
+
+/* The cached season of the athlete (aid) in one modality into season; *found 0 when there is no
+ * row. A damaged row is an error. */
+static int season_get(cpd_store *s, int64_t aid, int speed, cpd_mmp_season *season, size_t *n_sessions, int *found)
+{
+    *found = 0;
+    *n_sessions = 0;
+    cpd_mmp_season_reset(season);
+    sqlite3_stmt *st = NULL;
+    double *tmp = NULL;
+    int rc = cpd_st_prepare(s,
+                            "SELECT n_sessions, n_points, value, start_s, session, date_days FROM session_season "
+                            "WHERE athlete_id = ?1 AND modality = ?2",
+                            &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+    int q = sqlite3_step(st);
+    if (q == SQLITE_DONE)
+        goto done;
+    if (q != SQLITE_ROW) {
+        rc = cpd_st_fail(s, "reading the season curve");
+        goto done;
+    }
+    sqlite3_int64 ns = sqlite3_column_int64(st, 0), n = sqlite3_column_int64(st, 1);
+    size_t m = n > 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 0;
+    tmp = malloc(2 * CPD_MMP_NMAX * sizeof *tmp);
+    if (!tmp) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t i = 0; i < m; i++)
+        season->duration_s[i] = (double)cpd_mmp_duration_s(i);
+    int bad = ns < 1 || m == 0 || column_series(s, st, 2, 1, season->duration_s, m, season->value) ||
+              column_series(s, st, 3, 1, NULL, m, season->start_s) || column_series(s, st, 4, 1, NULL, m, tmp) ||
+              column_series(s, st, 5, 1, NULL, m, tmp + m);
+    for (size_t i = 0; i < m && !bad; i++) {
+        bad = !(season->value[i] >= 0 && season->start_s[i] >= 0 && tmp[i] >= 1 && tmp[i] < 9e15 &&
+                fabs(tmp[m + i]) < 1e7);
+        season->session[i] = (int64_t)tmp[i];
+        season->date_days[i] = (int)tmp[m + i];
+    }
+    if (bad) {
+        rc = cpd_st_err(s, CPD_ESTORE, "the stored season curve of athlete %lld is damaged", (long long)aid);
+        goto done;
+    }
+    season->n = m;
+    *n_sessions = (size_t)ns;
+    *found = 1;
+done:
+    sqlite3_finalize(st);
+    free(tmp);
+    if (rc || !*found)
+        cpd_mmp_season_reset(season);
+    return rc;
+}
+
+/* Stores season (over n_sessions sessions) as the athlete's cached season in one modality, or
+ * removes the row when there is no session. */
+static int season_put(cpd_store *s, int64_t aid, int speed, const cpd_mmp_season *season, size_t n_sessions)
+{
+    sqlite3_stmt *st = NULL;
+    int rc;
+    if (n_sessions == 0 || season->n == 0) {
+        if ((rc = cpd_st_prepare(s, "DELETE FROM session_season WHERE athlete_id = ?1 AND modality = ?2", &st)))
+            return rc;
+        sqlite3_bind_int64(st, 1, aid);
+        sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+        if (sqlite3_step(st) != SQLITE_DONE)
+            rc = cpd_st_fail(s, "clearing the season curve");
+        sqlite3_finalize(st);
+        return rc;
+    }
+    size_t m = season->n, cap = cpd_codec_bound(m);
+    double *tmp = malloc(2 * m * sizeof *tmp);
+    unsigned char *buf = malloc(4 * cap);
+    if (!tmp || !buf) {
+        rc = CPD_ENOMEM;
+        goto done;
+    }
+    for (size_t i = 0; i < m; i++) {
+        tmp[i] = (double)season->session[i];
+        tmp[m + i] = season->date_days[i];
+    }
+    if ((rc = cpd_st_prepare(s,
+                             "INSERT OR REPLACE INTO session_season (athlete_id, modality, n_sessions, n_points, value, "
+                             "start_s, session, date_days) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+                             &st)))
+        goto done;
+    sqlite3_bind_int64(st, 1, aid);
+    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+    sqlite3_bind_int64(st, 3, (sqlite3_int64)n_sessions);
+    sqlite3_bind_int64(st, 4, (sqlite3_int64)m);
+    if (!(rc = bind_packed(s, st, 5, season->value, season->duration_s, m, buf)) &&
+        !(rc = bind_packed(s, st, 6, season->start_s, NULL, m, buf + cap)) &&
+        !(rc = bind_packed(s, st, 7, tmp, NULL, m, buf + 2 * cap)) &&
+        !(rc = bind_packed(s, st, 8, tmp + m, NULL, m, buf + 3 * cap)) && sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "storing the season curve");
+done:
+    sqlite3_finalize(st);
+    free(tmp);
+    free(buf);
+    return rc;
+}
+
+/* Recomputes the athlete's cached season in one modality from every stored curve. */
+static int season_refresh(cpd_store *s, int64_t aid, int speed)
+{
+    cpd_mmp_season *se = cpd_mmp_season_alloc();
+    if (!se)
+        return CPD_ENOMEM;
+    size_t ns = 0;
+    int rc = season_scan(s, aid, speed, NULL, NULL, se, &ns);
+    if (!rc)
+        rc = season_put(s, aid, speed, se, ns);
+    cpd_mmp_season_free(se);
+    return rc;
+}
+
+/* A new session's curve joins the athlete's cached season (or the season is computed when there
+ * is none yet). */
+static int season_join(cpd_store *s, int64_t aid, int speed, const cpd_mmp_curve *c, int64_t id, const char *date)
+{
+    int days = 0;
+    if (cpd_parse_date(date, &days))
+        return cpd_st_err(s, CPD_EUSAGE, "'%s' is not a date", date);
+    cpd_mmp_season *se = cpd_mmp_season_alloc();
+    if (!se)
+        return CPD_ENOMEM;
+    size_t ns = 0;
+    int found = 0, rc = season_get(s, aid, speed, se, &ns, &found);
+    if (!rc && !found)
+        rc = season_refresh(s, aid, speed);
+    else if (!rc && cpd_mmp_season_merge(se, c, id, days) != CPD_OK)
+        rc = cpd_st_err(s, CPD_EUSAGE, "a curve holds values that are not finite and >= 0");
+    else if (!rc)
+        rc = season_put(s, aid, speed, se, ns + 1);
+    cpd_mmp_season_free(se);
+    return rc;
+}
+
+int cpd_store_session_season(cpd_store *s, const char *code, int speed, const char *from, const char *to,
+                             cpd_mmp_season *season, size_t *n_sessions)
+{
+    *n_sessions = 0;
+    cpd_mmp_season_reset(season);
+    int64_t aid = 0;
+    int rc = cpd_st_athlete_id(s, code, &aid);
+    if (rc)
+        return rc;
+    if (!from && !to) {
+        int found = 0;
+        if ((rc = season_get(s, aid, speed, season, n_sessions, &found)) || found)
+            return rc;
+    }
+    return season_scan(s, aid, speed, from, to, season, n_sessions);
+}
+
 int cpd_store_session_remove(cpd_store *s, int64_t id, int allout)
 {
     sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "DELETE FROM session WHERE id = ?1 AND kind = ?2", &st);
+    int rc = cpd_st_prepare(s, "SELECT athlete_id, modality = 'speed' FROM session WHERE id = ?1 AND kind = ?2", &st);
     if (rc)
         return rc;
     sqlite3_bind_int64(st, 1, id);
     sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
-    if (sqlite3_step(st) != SQLITE_DONE)
-        rc = cpd_st_fail(s, "removing a session");
-    else if (sqlite3_changes(s->db) == 0)
+    int q = sqlite3_step(st);
+    int64_t aid = q == SQLITE_ROW ? sqlite3_column_int64(st, 0) : 0;
+    int speed = q == SQLITE_ROW ? sqlite3_column_int(st, 1) : 0;
+    if (q != SQLITE_ROW && q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "looking up a session");
+    else if (q == SQLITE_DONE)
         rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
     sqlite3_finalize(st);
+    st = NULL;
+    if (rc || (rc = cpd_st_savepoint(s)))
+        return rc;
+    if ((rc = cpd_st_prepare(s, "DELETE FROM session WHERE id = ?1 AND kind = ?2", &st)))
+        return cpd_st_release(s, rc);
+    sqlite3_bind_int64(st, 1, id);
+    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    if (sqlite3_step(st) != SQLITE_DONE)
+        rc = cpd_st_fail(s, "removing a session");
+    sqlite3_finalize(st);
+    if (!rc && !allout)
+        rc = season_refresh(s, aid, speed);
+    return cpd_st_release(s, rc);
+}
+
+/* ---- the upgrade to 007: the 004 binary64 rows re-encoded in place ---- */
+
+/* Re-encodes every unpacked row of one table: rows are listed first (their keys), then each is
+ * read, encoded and rewritten, so no statement reads a table while it is being changed. */
+static int pack_rows(cpd_store *s, int curves)
+{
+    const char *list = curves ? "SELECT session_id, '' FROM session_curve WHERE packed = 0"
+                              : "SELECT session_id, channel FROM session_channel WHERE packed = 0";
+    const char *get = curves ? "SELECT c.n_points, c.value, c.start_s FROM session_curve c WHERE c.session_id = ?1"
+                             : "SELECT s.n_samples, c.data FROM session_channel c JOIN session s ON s.id = c.session_id "
+                               "WHERE c.session_id = ?1 AND c.channel = ?2";
+    const char *put = curves ? "UPDATE session_curve SET value = ?3, start_s = ?4, packed = 1 WHERE session_id = ?1"
+                             : "UPDATE session_channel SET data = ?3, packed = 1 WHERE session_id = ?1 AND channel = ?2";
+    sqlite3_stmt *ls = NULL, *gs = NULL, *ps = NULL;
+    double *v = NULL;
+    unsigned char *b1 = NULL, *b2 = NULL;
+    int rc, q;
+    if ((rc = cpd_st_prepare(s, list, &ls)) || (rc = cpd_st_prepare(s, get, &gs)) || (rc = cpd_st_prepare(s, put, &ps)))
+        goto done;
+    /* keys first: a session id and a channel name of at most 15 bytes each row */
+    size_t n_keys = 0, cap = 0;
+    struct key { int64_t id; char ch[16]; } *keys = NULL;
+    while ((q = sqlite3_step(ls)) == SQLITE_ROW) {
+        if (n_keys == cap) {
+            cap = cap ? 2 * cap : 64;
+            struct key *k2 = realloc(keys, cap * sizeof *k2);
+            if (!k2) {
+                free(keys);
+                rc = CPD_ENOMEM;
+                goto done;
+            }
+            keys = k2;
+        }
+        keys[n_keys].id = sqlite3_column_int64(ls, 0);
+        cpd_st_text(ls, 1, keys[n_keys].ch, sizeof keys[n_keys].ch);
+        n_keys++;
+    }
+    if (q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing the rows to re-encode");
+    for (size_t k = 0; k < n_keys && !rc; k++) {
+        sqlite3_reset(gs);
+        sqlite3_reset(ps);
+        sqlite3_bind_int64(gs, 1, keys[k].id);
+        sqlite3_bind_int64(ps, 1, keys[k].id);
+        if (!curves) {
+            sqlite3_bind_text(gs, 2, keys[k].ch, -1, SQLITE_STATIC);
+            sqlite3_bind_text(ps, 2, keys[k].ch, -1, SQLITE_STATIC);
+        }
+        if (sqlite3_step(gs) != SQLITE_ROW) {
+            rc = cpd_st_fail(s, "reading a row to re-encode");
+            break;
+        }
+        sqlite3_int64 n = sqlite3_column_int64(gs, 0);
+        int blobs = curves ? 2 : 1;
+        if (n < 1 || n > 50000000) {
+            rc = cpd_st_err(s, CPD_ESTORE, "session %lld: %lld values cannot be right", (long long)keys[k].id, (long long)n);
+            break;
+        }
+        size_t m = (size_t)n;
+        double *v2 = realloc(v, 3 * m * sizeof *v2);
+        unsigned char *c1 = realloc(b1, cpd_codec_bound(m)), *c2 = c1 ? realloc(b2, cpd_codec_bound(m)) : NULL;
+        if (v2)
+            v = v2;
+        if (c1)
+            b1 = c1;
+        if (c2)
+            b2 = c2;
+        if (!v2 || !c1 || !c2) {
+            rc = CPD_ENOMEM;
+            break;
+        }
+        for (size_t i = 0; i < m; i++)
+            v[2 * m + i] = (double)cpd_mmp_duration_s(i);
+        for (int j = 0; j < blobs && !rc; j++) {
+            if (column_series(s, gs, 1 + j, 0, NULL, m, v + j * m)) {
+                rc = cpd_st_err(s, CPD_ESTORE, "session %lld: a stored series is damaged (%s)", (long long)keys[k].id,
+                                curves ? "curve" : keys[k].ch);
+                break;
+            }
+            rc = bind_packed(s, ps, 3 + j, v + j * m, curves && j == 0 ? v + 2 * m : NULL, m, j ? b2 : b1);
+        }
+        if (!rc && sqlite3_step(ps) != SQLITE_DONE)
+            rc = cpd_st_fail(s, "rewriting a row in the compact encoding");
+    }
+    free(keys);
+done:
+    sqlite3_finalize(ls);
+    sqlite3_finalize(gs);
+    sqlite3_finalize(ps);
+    free(v);
+    free(b1);
+    free(b2);
     return rc;
+}
+
+int cpd_st_session_pack(cpd_store *s)
+{
+    int rc = pack_rows(s, 0);
+    if (!rc)
+        rc = pack_rows(s, 1);
+    sqlite3_stmt *st = NULL;
+    if (rc || (rc = cpd_st_prepare(s, "SELECT DISTINCT athlete_id, modality = 'speed' FROM session WHERE kind = 'session'",
+                                   &st)))
+        return rc;
+    /* two modalities of a few hundred athletes: the list fits in memory before any write */
+    size_t n = 0, cap = 0;
+    int64_t *who = NULL;
+    int q;
+    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
+        if (n == cap) {
+            cap = cap ? 2 * cap : 32;
+            int64_t *w2 = realloc(who, cap * sizeof *w2);
+            if (!w2) {
+                rc = CPD_ENOMEM;
+                break;
+            }
+            who = w2;
+        }
+        who[n++] = 2 * sqlite3_column_int64(st, 0) + sqlite3_column_int(st, 1);
+    }
+    if (!rc && q != SQLITE_DONE)
+        rc = cpd_st_fail(s, "listing the athletes with sessions");
+    sqlite3_finalize(st);
+    for (size_t k = 0; k < n && !rc; k++)
+        rc = season_refresh(s, who[k] / 2, (int)(who[k] % 2));
+    free(who);
+    return rc;
+}
+
+cpd_codec *cpd_st_codec(cpd_store *s)
+{
+    if (!s->codec)
+        s->codec = cpd_codec_alloc();
+    return s->codec;
 }

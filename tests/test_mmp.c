@@ -123,6 +123,83 @@ static void ties_take_the_earliest(void **state)
     cpd_mmp_free(w);
 }
 
+/* Runs tests/ref/mmp_exact.py on n_seg segments of integer counts q (value q / scale) and checks
+ * the curve point by point: the same value to the last bit and the same start. */
+static void exact_against_numpy(const size_t *start, const size_t *len, const int32_t *const *q, size_t n_seg,
+                                int scale)
+{
+    size_t total = 0, longest = 0;
+    for (size_t g = 0; g < n_seg; g++) {
+        total += len[g];
+        longest = len[g] > longest ? len[g] : longest;
+    }
+    size_t cap = 32 * (total + n_seg) + 64, used = 0;
+    char *text = malloc(cap);
+    double *vals = malloc(total * sizeof *vals);
+    int maxout = 3 * (int)cpd_mmp_points(longest) + 1;
+    double *ref = malloc((size_t)maxout * sizeof *ref);
+    cpd_session_segment *gs = malloc(n_seg * sizeof *gs);
+    assert_non_null(text);
+    assert_non_null(vals);
+    assert_non_null(ref);
+    assert_non_null(gs);
+    for (size_t g = 0, o = 0; g < n_seg; g++) {
+        used += (size_t)snprintf(text + used, cap - used, "segment %zu %d\n", start[g], scale);
+        gs[g] = seg(start[g], vals + o, len[g]);
+        for (size_t i = 0; i < len[g]; i++, o++) {
+            used += (size_t)snprintf(text + used, cap - used, "%d\n", (int)q[g][i]);
+            vals[o] = (double)q[g][i] / scale; /* what a file's "4.37" parses to */
+        }
+    }
+    /* numpy int64 brute force, run now (tests/ref/mmp_exact.py, numpy 1.24) */
+    int got = pyref_run("mmp_exact.py", text, ref, maxout, -1);
+    assert_int_equal(got, maxout);
+    cpd_mmp_ws *w = cpd_mmp_alloc(0);
+    cpd_mmp_curve c;
+    assert_int_equal(cpd_mmp_segments(w, gs, n_seg, &c), CPD_OK);
+    assert_int_equal(c.n, (size_t)ref[0]);
+    size_t wrong_value = 0, wrong_start = 0;
+    for (size_t i = 0; i < c.n; i++) {
+        assert_true(c.duration_s[i] == ref[1 + 3 * i]);
+        wrong_value += c.value[i] != ref[2 + 3 * i];
+        wrong_start += c.start_s[i] != ref[3 + 3 * i];
+    }
+    /* 0 W difference and the earliest start at every point */
+    assert_int_equal(wrong_value, 0);
+    assert_int_equal(wrong_start, 0);
+    cpd_mmp_free(w);
+    free(gs);
+    free(ref);
+    free(vals);
+    free(text);
+}
+
+static void exact_and_earliest(void **state)
+{
+    (void)state;
+    /* whole watts over a narrow range, so that many windows tie: the earliest start among equal
+     * windows is the rule of mmp.h (the scan before this test returned a later one at some
+     * points); two segments, the second longer than an hour (coarse grid) */
+    enum { A = 1900, B = 3790 };
+    int32_t *a = malloc(A * sizeof *a), *b = malloc(B * sizeof *b);
+    assert_non_null(a);
+    assert_non_null(b);
+    rng r = {0x71e5};
+    for (int i = 0; i < A; i++)
+        a[i] = 231 + (int32_t)(4 * rng_uniform(&r));
+    for (int i = 0; i < B; i++)
+        b[i] = 229 + (int32_t)(5 * rng_uniform(&r)) + (i % 600 < 20 ? 150 : 0);
+    const size_t st[2] = {3, A + 40}, ln[2] = {A, B};
+    const int32_t *const q[2] = {a, b};
+    exact_against_numpy(st, ln, q, 2, 1);
+    /* speeds to 0.01 m/s (scale 100), values 4.12 to 4.15 m/s */
+    for (int i = 0; i < A; i++)
+        a[i] = 412 + (int32_t)(4 * rng_uniform(&r));
+    exact_against_numpy(st, ln, q, 1, 100);
+    free(a);
+    free(b);
+}
+
 static void all_zero(void **state)
 {
     (void)state;
@@ -340,6 +417,54 @@ static void season_rules(void **state)
     cpd_mmp_season_free(NULL);
 }
 
+static void merge_in_any_order(void **state)
+{
+    (void)state;
+    /* five curves with many equal points, dates out of id order: merged in every rotation of the
+     * order they equal the season added in date (then id) order */
+    enum { K = 5, P = 40 };
+    double d[P], v[K][P], st[K][P];
+    const int64_t id[K] = {14, 11, 12, 15, 13};
+    const int date[K] = {20105, 20101, 20101, 20099, 20110};
+    rng r = {0x3e46e};
+    for (int i = 0; i < P; i++)
+        d[i] = i + 1;
+    for (int k = 0; k < K; k++)
+        for (int i = 0; i < P; i++) {
+            v[k][i] = 200 + (int)(3 * rng_uniform(&r)); /* few values: ties everywhere */
+            st[k][i] = k * 100 + i;
+        }
+    const size_t n[K] = {P, P - 7, P, P - 3, P - 12};
+    const int order[K] = {3, 1, 2, 0, 4}; /* by date, then id */
+    cpd_mmp_season *want = cpd_mmp_season_alloc(), *got = cpd_mmp_season_alloc();
+    assert_non_null(want);
+    assert_non_null(got);
+    for (int j = 0; j < K; j++) {
+        int k = order[j];
+        cpd_mmp_curve c = {n[k], d, v[k], st[k]};
+        assert_int_equal(cpd_mmp_season_add(want, &c, id[k], date[k]), CPD_OK);
+    }
+    for (int rot = 0; rot < K; rot++) {
+        cpd_mmp_season_reset(got);
+        for (int j = 0; j < K; j++) {
+            int k = (j + rot) % K;
+            cpd_mmp_curve c = {n[k], d, v[k], st[k]};
+            assert_int_equal(cpd_mmp_season_merge(got, &c, id[k], date[k]), CPD_OK);
+        }
+        assert_int_equal(got->n, want->n);
+        for (size_t i = 0; i < got->n; i++) {
+            assert_true(got->value[i] == want->value[i]);
+            assert_true(got->session[i] == want->session[i]);
+            assert_true(got->date_days[i] == want->date_days[i]);
+            assert_true(got->start_s[i] == want->start_s[i]);
+        }
+    }
+    cpd_mmp_curve bad = {2, d, (const double[]){1, NAN}, st[0]};
+    assert_int_equal(cpd_mmp_season_merge(got, &bad, 1, 1), CPD_EUSAGE);
+    cpd_mmp_season_free(want);
+    cpd_mmp_season_free(got);
+}
+
 static void refusals(void **state)
 {
     (void)state;
@@ -383,10 +508,12 @@ int main(void)
         cmocka_unit_test(hand_computed),
         cmocka_unit_test(no_effort_spans_a_split),
         cmocka_unit_test(ties_take_the_earliest),
+        cmocka_unit_test(exact_and_earliest),
         cmocka_unit_test(all_zero),
         cmocka_unit_test(against_numpy),
         cmocka_unit_test(workspace_reuse),
         cmocka_unit_test(season_rules),
+        cmocka_unit_test(merge_in_any_order),
         cmocka_unit_test(refusals),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);

@@ -12,6 +12,7 @@ need libgsl-dev       pkg-config --exists gsl
 need libsqlite3-dev   pkg-config --exists sqlite3
 need libcjson-dev     pkg-config --exists libcjson
 need libcmocka-dev    pkg-config --exists cmocka
+need libzstd-dev      pkg-config --exists libzstd
 need libcsv-dev       test -f /usr/include/csv.h
 need python3-numpy    /usr/bin/python3 -c 'import numpy'
 need python3-scipy    /usr/bin/python3 -c 'import scipy.optimize'

@@ -118,6 +118,14 @@ int cpd_import_session(cpd_session_import_ws *w, const char *path, const cpd_ses
 int cpd_import_session_mem(cpd_session_import_ws *w, const char *name, const char *buf, size_t len,
                            const cpd_session_import_opts *opts, cpd_session_import *out, char *msg);
 
+/* Reads the file at path whole into w and hashes its bytes (cpd_session_hash) into *hash, so a
+ * caller can check for a stored duplicate first: the next cpd_import_session of the same path
+ * parses these bytes instead of reading the file again. A plain numeric file (a header, then
+ * rows of numbers) is parsed straight from them into the channel arrays; any other file (quotes,
+ * --map, h:mm:ss times, a bad value) goes through the full CSV parser, which words every error.
+ * CPD_OK, CPD_EIO with msg, CPD_ENOMEM. */
+int cpd_import_session_load(cpd_session_import_ws *w, const char *path, uint64_t *hash, char *msg);
+
 /* Fills the cleaning report, modality, hash, sample count and mean/max of r from a read file
  * (the caller sets athlete, date, allout, note and source_file). */
 void cpd_import_session_rec(const cpd_session_import *in, cpd_session_rec *r);

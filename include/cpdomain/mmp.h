@@ -9,10 +9,20 @@
  *
  * Every point is exact: the best mean over every start of every segment (an effort never spans a
  * split). Per segment of L s and duration d all L - d + 1 windows are scanned with prefix sums,
- * O(L·D) for D grid durations: a 2-h ride is about 19 million window comparisons. The scan uses
- * prefix sums of the values minus the segment mean (small numbers, small rounding); the winning
- * window's mean is then recomputed from compensated (double-double, Knuth's TwoSum) prefix sums,
- * so the value reported is the window's mean to about 1e-15 relative. Ties: the earliest start. */
+ * O(L·D) for D grid durations: a 2-h ride is about 19 million window comparisons.
+ *  - Values recorded at a resolution (whole watts, 0.01 m/s, and the sixtieths the linear fill of
+ *    a short gap makes of whole numbers): each value is read as the integer count q of 1/scale
+ *    for the first scale of 1, 60, 10, 100, 1000, 600, 6000, 60000, 10000 at which q / scale
+ *    equals the value to the last bit. Window sums of counts are exact integers (32-bit when they
+ *    fit, else doubles below 2^53), so the maximum and its first start are exact, and the value
+ *    is the exact mean correctly rounded (one division). Values are >= 0, so a block of starts
+ *    whose span (first start to last end) sums to no more than the best window already found
+ *    cannot hold a better one and is skipped: exact pruning, not an approximation.
+ *  - Other values: prefix sums of the values minus the segment mean find every window within the
+ *    scan's rounding bound of the largest; those are compared by compensated (double-double,
+ *    Knuth's TwoSum) prefix sums, so the value reported is the window's mean to about 1e-15
+ *    relative.
+ * Ties: the earliest start (within a segment, then the earlier segment). */
 #ifndef CPDOMAIN_MMP_H
 #define CPDOMAIN_MMP_H
 
@@ -37,6 +47,10 @@ typedef struct {
 
 /* Duration of grid point i, s (i < CPD_MMP_NMAX). */
 size_t cpd_mmp_duration_s(size_t i);
+
+/* The name of the scan kernel this processor runs (the widest vector clone it supports, e.g.
+ * "avx2"); a static string. For benchmarks and bug reports. */
+const char *cpd_mmp_kernel(void);
 
 /* Number of grid points with duration <= longest_s (0 for longest_s == 0), at most CPD_MMP_NMAX. */
 size_t cpd_mmp_points(size_t longest_s);
@@ -85,5 +99,11 @@ void cpd_mmp_season_reset(cpd_mmp_season *s);
  * values and starts finite and >= 0), so a damaged stored curve is refused and s is left as it
  * was. Returns CPD_OK or CPD_EUSAGE. Allocates nothing. */
 int cpd_mmp_season_add(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days);
+
+/* Merges curve c of session 'session' dated date_days into s in any order: a point is taken when
+ * strictly higher, or equal and from an earlier date (then a lower session id), so merging the
+ * sessions one by one in any order gives the season cpd_mmp_season_add gives in date order.
+ * Same checks, returns and allocation as cpd_mmp_season_add. */
+int cpd_mmp_season_merge(cpd_mmp_season *s, const cpd_mmp_curve *c, int64_t session, int date_days);
 
 #endif

@@ -253,6 +253,10 @@ int cpd_store_session_get(cpd_store *s, int64_t id, int allout, cpd_session_rec 
 void cpd_store_samples_free(cpd_session_samples *x);
 /* The athlete's sessions or all-out tests, oldest first (code NULL: everyone's). The caller frees *out. */
 int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_session_rec **out, size_t *n);
+/* The number of the athlete's sessions (not all-out tests) dated from/to (NULL: open) of each
+ * modality. CPD_ENOENT for an unknown athlete. */
+int cpd_store_session_count(cpd_store *s, const char *code, const char *from, const char *to, size_t *n_power,
+                            size_t *n_speed);
 /* The stored curve of session id into *c, whose arrays live in *buf (the caller frees it);
  * c->n is 0 when the session has no curve. CPD_ESTORE for a damaged curve. */
 int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curve *c);

@@ -39,7 +39,8 @@ json_is() {
     if [ "$got" = "$2" ]; then pass "$3"; else fail "$3: $1 is '$got', wanted '$2'"; fi
 }
 # snapshot / unchanged: the store file is byte-for-byte what it was, and so is its SQL dump.
-snapshot() { sha256sum "$DB" | cut -d' ' -f1 >"$TMP/db.sha"; sqlite3 "$DB" .dump >"$TMP/db.dump"; }
+# The dump comes first: sqlite3, the last connection, checkpoints the WAL that cpdomain leaves.
+snapshot() { sqlite3 "$DB" .dump >"$TMP/db.dump"; sha256sum "$DB" | cut -d' ' -f1 >"$TMP/db.sha"; }
 unchanged() {
     if [ "$(sha256sum "$DB" | cut -d' ' -f1)" = "$(cat "$TMP/db.sha")" ] && sqlite3 "$DB" .dump | cmp -s - "$TMP/db.dump"
     then pass "$1: store unchanged byte for byte"

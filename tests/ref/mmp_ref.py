@@ -11,15 +11,7 @@ Output: per session "N" then N lines "duration value start"; then the season: "N
 import sys
 
 import numpy as np
-
-
-def grid(longest):
-    d = list(range(1, min(longest, 3600) + 1))
-    k = 3660
-    while k <= longest:
-        d.append(k)
-        k += 60
-    return d
+from mmp_grid import grid
 
 
 def segments(t, v, limit):
