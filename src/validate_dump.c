@@ -4,9 +4,14 @@
 #include "cpdomain/validate_dump.h"
 #include "cpdomain/status.h"
 #include "cpdomain/validate.h"
+#include "store_codec.h"
+
+/* The most values one stored series may hold: a week at 1 Hz with room to spare. */
+#define CPD_DUMP_MAX_SAMPLES 1e8
 
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 typedef struct {
@@ -170,12 +175,46 @@ static int gx_test_row(const rowctx *r, int today)
     return cpd_validate_gx_test(&t, today, &field, r->msg) ? bad(r, field) : CPD_OK;
 }
 
-/* A BLOB of samples: exactly want binary64 values, all finite. */
+/* A packed BLOB (store_codec.h, db/007): it must decode to exactly want values, all finite. The
+ * weights some series were packed with change the values, not whether they decode, so none are
+ * given here. */
+static int packed_blob(const rowctx *r, const char *col, const cpd_value *v, double want)
+{
+    if (!(want >= 1 && want <= CPD_DUMP_MAX_SAMPLES)) {
+        snprintf(r->msg, CPD_MSG_MAX, "its record states %.0f values (1 to %.0f)", want, (double)CPD_DUMP_MAX_SAMPLES);
+        return bad(r, col);
+    }
+    size_t n = (size_t)want;
+    double *x = malloc(n * sizeof *x);
+    cpd_codec *z = cpd_codec_alloc();
+    int rc = x && z ? cpd_codec_decode(z, v->p, v->n, NULL, n, x) : CPD_ENOMEM;
+    size_t i = 0;
+    while (rc == CPD_OK && i < n && isfinite(x[i]))
+        i++;
+    free(x);
+    cpd_codec_free(z);
+    if (rc == CPD_ENOMEM) {
+        snprintf(r->msg, CPD_MSG_MAX, "out of memory");
+        return CPD_ENOMEM;
+    }
+    if (rc == CPD_OK && i == n)
+        return CPD_OK;
+    if (rc)
+        snprintf(r->msg, CPD_MSG_MAX, "%zu bytes that are not a packed series of %zu values", v->n, n);
+    else
+        snprintf(r->msg, CPD_MSG_MAX, "value %zu is not a finite number", i);
+    return bad(r, col);
+}
+
+/* A BLOB of samples: exactly want binary64 values, all finite, or (packed = 1) their packed form. */
 static int samples_blob(const rowctx *r, const char *col, double want)
 {
     const cpd_value *v = val(r, col);
     if (!v || v->type != CPD_VAL_BLOB)
         return CPD_OK; /* the parser has already required a blob where the column is NOT NULL */
+    double packed = 0;
+    if (num(r, "packed", &packed) && packed == 1)
+        return packed_blob(r, col, v, want);
     if ((double)v->n != want * 8) {
         snprintf(r->msg, CPD_MSG_MAX, "%zu bytes, but its record states %.0f values of 8 bytes", v->n, want);
         return bad(r, col);
@@ -266,6 +305,21 @@ static int curve_row(const rowctx *r)
     return rc ? rc : samples_blob(r, "start_s", n);
 }
 
+/* The season curve (db/007): four packed series of n_points values. */
+static int season_row(const rowctx *r)
+{
+    double n = 0;
+    num(r, "n_points", &n);
+    static const char *const col[] = {"value", "start_s", "session", "date_days"};
+    for (size_t k = 0; k < sizeof col / sizeof col[0]; k++) {
+        const cpd_value *v = val(r, col[k]);
+        int rc = v && v->type == CPD_VAL_BLOB ? packed_blob(r, col[k], v, n) : CPD_OK;
+        if (rc)
+            return rc;
+    }
+    return CPD_OK;
+}
+
 static int any_row(const cpd_dump *d, const rowctx *r, int today)
 {
     const char *name = r->t->name;
@@ -301,6 +355,8 @@ static int any_row(const cpd_dump *d, const rowctx *r, int today)
         return channel_row(d, r, "session", "session_id");
     if (strcmp(name, "session_curve") == 0)
         return curve_row(r);
+    if (strcmp(name, "session_season") == 0)
+        return season_row(r);
     return CPD_OK;
 }
 
