@@ -8,6 +8,7 @@
 #include "cpdomain/domains.h"
 #include "cpdomain/energy.h"
 #include "cpdomain/kinetics.h"
+#include "cpdomain/ramp.h"
 
 #define CLI_ENERGY_STEADY_MIN_S 180.0 /* shortest bout with a steady state: 4 tau of a 30-s primary + 1 min */
 #define CLI_ENERGY_SUPRA 1.05        /* a bout is supra-maximal when its demand is >= 105 % of VO2peak [chosen] */
@@ -95,5 +96,13 @@ int cli_energy_fuel_text(cli_ctx *c, const char *code, const cpd_domains_result 
 void cli_energy_bout_report(cli_ctx *c, const char *code, long long bout_id, const cpd_gx_series *const *g,
                             const double *onset_s, size_t m, int speed, double power_w, double baseline_w,
                             const cpd_kinetics_result *k, double vo2peak_ml_min, cli_json *json);
+
+/* The energy part of 'ramp show' for a step test t analysed as r (protocol steps; nothing for a ramp):
+ * energy and substrate use of each stage from its steady-state means (equation set named; 'not valid'
+ * above RER 1.00 or when the stage is not stable), and peak fat oxidation from the stages
+ * (cpd_energy_pfo_steps, 1000 bootstrap resamples seeded with the test id). Adds "substrate" and
+ * "peak_fat_oxidation" to json when it is not NULL, else prints text. A VO2-only test, or too few
+ * stages, is said in words, with no number. */
+void cli_energy_steps_report(const cpd_gx_test *t, const cpd_ramp_result *r, cli_json *json);
 
 #endif

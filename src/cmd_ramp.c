@@ -1,4 +1,5 @@
 /* cmd_ramp.c: 'ramp add|list|show|set|plot|remove' and 'lactate add|list|show|plot'. */
+#include "cli_energy.h"
 #include "cli_gx.h"
 #include "commands.h"
 #include "cpdomain/import.h"
@@ -650,6 +651,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cj_int(d, "samples", (long long)r->n_samples);
         cj_int(d, "outliers_removed", (long long)r->n_outliers);
         record_json(d, &t, r);
+        cli_energy_steps_report(&t, r, d);
         rc = cj_print(d);
     } else {
         char n1[32], n2[32], tm[24], st[24];
@@ -691,6 +693,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
             printf("MRT      %.0f s (%s)\n", r->mrt_s, r->mrt_status == CPD_THR_MANUAL ? "given" : "estimated, lagged-linear model");
         printf("samples  %zu, %zu outlier breaths removed\n", r->n_samples, r->n_outliers);
         print_record(&t, r);
+        cli_energy_steps_report(&t, r, NULL);
     }
     if (r->has_nominal && r->nominal_mismatch)
         cli_note(c, "warning: ramp %lld: the nominal %s (%g %s/min) disagrees with the recorded intensity (%.3g %s/min, "
