@@ -57,6 +57,42 @@ static void gather_ramp(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
     free(rr);
 }
 
+/* The newest power step test on or before to_date (none that old: the oldest), its stages kept. */
+static void gather_steps(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
+{
+    cpd_gx_test *v = NULL;
+    size_t n = 0;
+    if (cpd_store_gx_list(c->store, A->a.code, CPD_GXT_RAMP, &v, &n))
+        return;
+    cpd_ramp_result *rr = calloc(1, sizeof *rr);
+    for (int pass = 0; rr && pass < 2 && !A->has_steps; pass++)
+        for (size_t i = n; i-- > 0 && !A->has_steps;) { /* first pass newest first, second oldest first */
+            size_t j = pass ? n - 1 - i : i;
+            if (v[j].speed || v[j].protocol == 1 || (!pass && to_date && strcmp(v[j].date, to_date) > 0))
+                continue;
+            cpd_gx_test t;
+            cpd_athlete a;
+            cpd_ramp_ws *w = NULL;
+            if (cli_ramp_analyse(c, v[j].id, NULL, NULL, NULL, &t, &a, &w, rr) == 0 &&
+                rr->protocol == CPD_RAMP_PROTO_STEPS && rr->steps.n > 0) {
+                A->has_steps = 1;
+                A->steps_id = v[j].id;
+                snprintf(A->steps_date, sizeof A->steps_date, "%s", t.date);
+                A->ns = rr->steps.n;
+                for (size_t k = 0; k < A->ns; k++) {
+                    const cpd_steps_stage *st = &rr->steps.stage[k];
+                    A->st_w[k] = st->intensity;
+                    A->st_vo2[k] = st->vo2_ml_min;
+                    A->st_rer[k] = st->has_vco2 ? st->vco2_ml_min / st->vo2_ml_min : 0.0;
+                    A->st_steady[k] = st->complete && st->stable == 1;
+                }
+            }
+            cpd_ramp_free(w);
+        }
+    free(rr);
+    free(v);
+}
+
 static void gather_domains(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
 {
     cli_domains d;
@@ -171,6 +207,7 @@ int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, const cha
     }
     free(v);
     gather_ramp(c, A, to_date);
+    gather_steps(c, A, to_date);
     gather_domains(c, A, to_date);
     c->mute--;
     c->quiet = quiet;
@@ -190,6 +227,19 @@ int cli_energy_line(const cli_energy_athlete *A, cpd_energy_line *L, double *max
 {
     double p[64], v[64];
     size_t k = 0, nm = 0;
+    *max_p = 0;
+    for (size_t i = 0; A->has_steps && A->has_get && i < A->ns && k < 64; i++)
+        if (A->st_steady[i] && A->st_w[i] < A->get_w) {
+            p[k] = A->st_w[i];
+            v[k++] = A->st_vo2[i];
+            *max_p = fmax(*max_p, A->st_w[i]);
+        }
+    if (k >= 3 && cpd_energy_line_fit(p, v, k, L) == CPD_OK) {
+        snprintf(src, n, "step test %lld (%s): %zu stable stages below the GET (final 30 s)", A->steps_id, A->steps_date,
+                 k);
+        return 0;
+    }
+    k = 0;
     *max_p = 0;
     for (size_t i = 0; i < A->nb && k + 2 <= 64; i++) {
         const cli_energy_bout *b = &A->b[i];
@@ -349,13 +399,28 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
         set(&P[CLI_EN_SCDEL], 100.0, 30.0, 1, "105 +- 46 s (Barstow & Mole 1991 J Appl Physiol 71:2099)%s", NULL);
     }
 
-    /* RER of each domain: the athlete's steady-state bouts, else typical */
+    /* RER of each domain: the step test's steady stages, else the athlete's steady-state bouts, else typical */
     static const double RER_TYP[3] = {0.85, 0.93, 1.00}, RER_TSD[3] = {0.04, 0.03, 0.02};
     for (int d = 0; d < 3; d++) {
         double s = 0;
         size_t k = 0;
         off = 0;
         ids[0] = '\0';
+        for (size_t i = 0; d < 2 && A->has_steps && i < A->ns; i++) {
+            double w = A->st_w[i], r = A->st_rer[i];
+            int in = d == 0 ? w < A->get_w : A->has_cp && w >= A->get_w && w < A->cp_w;
+            if (in && A->st_steady[i] && r >= CPD_ENERGY_RER_MIN && r <= CPD_ENERGY_RER_MAX) {
+                s += r;
+                off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%.0f", k ? ", " : "", w);
+                k++;
+            }
+        }
+        if (k) {
+            snprintf(buf, sizeof buf, "step test %lld (%s): stable stage%s at %s W (%s); SD 0.02 [chosen]", A->steps_id,
+                     A->steps_date, k > 1 ? "s" : "", ids, d == 0 ? "below the GET" : "GET to CP");
+            set(&P[CLI_EN_RER_M + d], s / (double)k, 0.02, 0, "%s", buf);
+            continue;
+        }
         for (size_t i = 0; d < 2 && i < A->nb; i++)
             if (A->b[i].has_rer && A->b[i].res.domain == d + 1) {
                 s += A->b[i].rer;
@@ -663,8 +728,9 @@ static void steps_substrate(const cpd_gx_test *t, const cpd_ramp_result *r, int 
         arr = cj_add_arr(o, "stages");
     } else {
         printf("\nsubstrate use per stage (final 30 s of each stage; energy by Weir 1949; CHO and fat by %s)\n", e->name);
-        static const char *const head[] = {"stage", "intensity", "RER", "kcal/min", "kJ/min", "CHO g/min", "fat g/min"};
-        tb = cli_table_new(7, head, "rrrrrrr");
+        static const char *const head[] = {"stage", "intensity", "RER", "kcal/min", "kJ/min", "CHO g/min", "fat g/min",
+                                           "note"};
+        tb = cli_table_new(8, head, "rrrrrrrl");
     }
     for (size_t k = 0; k < r->steps.n; k++) {
         const cpd_steps_stage *st = &r->steps.stage[k];
@@ -685,7 +751,7 @@ static void steps_substrate(const cpd_gx_test *t, const cpd_ramp_result *r, int 
             cj_push(arr, o);
             continue;
         }
-        char sn[8], in[40], rer[16], kc[16], kj[16], cho[24], fat[200];
+        char sn[8], in[40], rer[16], kc[16], kj[16], cho[24], fat[24], note[200] = "";
         snprintf(sn, sizeof sn, "%zu", k + 1);
         snprintf(in, sizeof in, "%s %s%s", cli_num(n1, sizeof n1, st->intensity, dec), u, st->complete ? "" : "*");
         if (rc) {
@@ -693,7 +759,8 @@ static void steps_substrate(const cpd_gx_test *t, const cpd_ramp_result *r, int 
             snprintf(kc, sizeof kc, "-");
             snprintf(kj, sizeof kj, "-");
             snprintf(cho, sizeof cho, "-");
-            snprintf(fat, sizeof fat, "(%s)", msg);
+            snprintf(fat, sizeof fat, "-");
+            snprintf(note, sizeof note, "%s", msg);
         } else {
             snprintf(rer, sizeof rer, "%.2f", s.rer);
             snprintf(kc, sizeof kc, "%.1f", s.ee_kcal_min);
@@ -703,12 +770,13 @@ static void steps_substrate(const cpd_gx_test *t, const cpd_ramp_result *r, int 
                 snprintf(fat, sizeof fat, "%.2f", s.fat_g_min);
             } else {
                 snprintf(cho, sizeof cho, "-");
-                snprintf(fat, sizeof fat, "%s", s.reason == CPD_ENERGY_R_RER_HIGH ? "not valid (RER > 1.00)"
-                                                : s.reason == CPD_ENERGY_R_NOT_STEADY ? "not valid (not stable)"
-                                                                                      : "not valid (RER < 0.70)");
+                snprintf(fat, sizeof fat, "-");
+                snprintf(note, sizeof note, "%s", s.reason == CPD_ENERGY_R_RER_HIGH ? "not valid: RER above 1.00"
+                                                  : s.reason == CPD_ENERGY_R_NOT_STEADY ? "not valid: not stable"
+                                                                                        : "not valid: RER below 0.70");
             }
         }
-        const char *row[] = {sn, in, rer, kc, kj, cho, fat};
+        const char *row[] = {sn, in, rer, kc, kj, cho, fat, note};
         cli_table_row(tb, row);
     }
     if (tb) {
@@ -723,7 +791,7 @@ static void steps_pfo(const cpd_gx_test *t, const cpd_ramp_result *r, int eq, cl
     cpd_pfo_result p;
     int used[CPD_STEPS_MAX];
     char msg[CPD_MSG_MAX], txt[CPD_MSG_MAX + 64];
-    if (cpd_energy_pfo_steps(&r->steps, r->vo2peak_ml_min, eq, CPD_PFO_BOOT_DEFAULT, (uint64_t)t->id, &p, used, msg)) {
+    if (cpd_energy_pfo_steps(&r->steps, r->vo2peak_ml_min, eq, CPD_PFO_BOOT_DEFAULT, CLI_ENERGY_PFO_SEED, &p, used, msg)) {
         snprintf(txt, sizeof txt, "not computed: %s", msg);
         line_out(json, "peak_fat_oxidation", "PFO", txt);
         return;
