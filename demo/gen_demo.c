@@ -1505,6 +1505,10 @@ int main(int argc, char **argv)
 
     gen_sessions(&g);
     gen_session_c01(&g);
+    /* step tests with VCO2 for substrate use and peak fat oxidation: generated last so every file and
+     * store id above stays as it was, and dated before the athletes' ramps, which stay the newest */
+    gen_steps(&g, "C01", "steps_C01.csv", "2026-09-22", &PH_C01, &(steps_proto){20, 60, 25, 180, 180, 40, 120});
+    gen_steps(&g, "C05", "steps_C05.csv", "2026-09-17", &PH_C05, &(steps_proto){20, 95, 35, 180, 180, 50, 120});
 
     xclose(g.manifest, "manifest.csv");
     xclose(g.truth, "truth.csv");
