@@ -534,6 +534,9 @@ static void gen_steps(gen *g, const char *code, const char *fname, const char *d
     truth(g, fname, "get_vo2_ml_min", p->get, "mL/min");
     truth(g, fname, "get_intensity_constant", x_get(p), "W");
     truth(g, fname, "gain_below_get", p->gain, "mL/min/W");
+    truth(g, fname, "rer_at_ref", p->rer0, "");
+    truth(g, fname, "vco2_vo2_slope_below_get", p->s1, "");
+    truth(g, fname, "vco2_vo2_slope_above_get", p->s2, "");
     g->t_shift = sp->pre_s;
     write_breaths(g, fname, p, &tr, 0, 3, sp->pre_s);
     g->t_shift = 0;
