@@ -24,18 +24,23 @@
  * Jeukendrup & Wallis 2005 Int J Sports Med 26 S1:S28 (50-75 %): CHO 4.210 * 1.8 - 2.962 * 2 = 1.654,
  *   fat 1.695 * 2 - 1.701 * 1.8 = 0.3282 g/min; (40-50 %): CHO 4.344 * 1.8 - 3.061 * 2 = 1.6972.
  * Frayn 1983 J Appl Physiol 55:628: CHO 4.55 * 1.8 - 3.21 * 2 = 1.77, fat 1.67 * 0.2 = 0.334 g/min. */
+static void assert_worked_jw_high(const cpd_energy_substrate *s)
+{
+    assert_near(s->rer, 0.9, 1e-15);
+    assert_near(s->ee_kcal_min, 9.8728, 1e-12);
+    assert_near(s->ee_kj_min, 41.3077952, 1e-9);
+    assert_true(s->rates_valid);
+    assert_near(s->cho_g_min, 1.654, 1e-12);
+    assert_near(s->fat_g_min, 0.3282, 1e-12);
+}
+
 static void test_worked_values(void **state)
 {
     (void)state;
     cpd_energy_substrate s;
     char msg[CPD_MSG_MAX];
     assert_int_equal(cpd_energy_substrate_calc(2000, 1800, 1, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
-    assert_near(s.rer, 0.9, 1e-15);
-    assert_near(s.ee_kcal_min, 9.8728, 1e-12);
-    assert_near(s.ee_kj_min, 41.3077952, 1e-9);
-    assert_true(s.rates_valid);
-    assert_near(s.cho_g_min, 1.654, 1e-12);
-    assert_near(s.fat_g_min, 0.3282, 1e-12);
+    assert_worked_jw_high(&s);
     assert_int_equal(cpd_energy_substrate_calc(2000, 1800, 1, CPD_ENERGY_EQ_JW_LOW, &s, msg), CPD_OK);
     assert_near(s.cho_g_min, 1.6972, 1e-12);
     assert_near(s.fat_g_min, 0.3282, 1e-12);
@@ -144,12 +149,8 @@ static void test_pfo_numpy(void **state)
     assert_int_equal(cpd_energy_pfo(&in, &r, msg), CPD_EUSAGE);
 }
 
-/* A step test's stages (steps.h) into substrate use and peak fat oxidation. Worked values from the
- * published coefficients, by hand: VO2 2.000, VCO2 1.800 L/min (RER 0.90):
- *   Weir 1949: 3.941 x 2.000 + 1.106 x 1.800 = 9.8728 kcal/min = 41.3078 kJ/min (x 4.184);
- *   Jeukendrup & Wallis 2005 (50-75 %): CHO 4.210 x 1.800 - 2.962 x 2.000 = 1.654 g/min,
- *                                       fat 1.695 x 2.000 - 1.701 x 1.800 = 0.3282 g/min;
- *   Frayn 1983: CHO 4.55 x 1.800 - 3.21 x 2.000 = 1.770 g/min, fat 1.67 x 0.200 = 0.334 g/min. */
+/* A step test's stages (steps.h) into substrate use and peak fat oxidation: a stage at VO2 2.000,
+ * VCO2 1.800 L/min gives the worked values above (Weir 1949, Jeukendrup & Wallis 2005, Frayn 1983). */
 static void test_steps_stages(void **state)
 {
     (void)state;
@@ -163,15 +164,10 @@ static void test_steps_stages(void **state)
     cpd_energy_substrate s;
     char msg[CPD_MSG_MAX];
     assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
-    assert_near(s.rer, 0.9, 1e-12);
-    assert_near(s.ee_kcal_min, 9.8728, 1e-9);
-    assert_near(s.ee_kj_min, 41.3078, 1e-4);
-    assert_true(s.rates_valid);
-    assert_near(s.cho_g_min, 1.654, 1e-9);
-    assert_near(s.fat_g_min, 0.3282, 1e-9);
+    assert_worked_jw_high(&s);
     assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_FRAYN, &s, msg), CPD_OK);
-    assert_near(s.cho_g_min, 1.770, 1e-9);
-    assert_near(s.fat_g_min, 0.334, 1e-9);
+    assert_near(s.cho_g_min, 1.770, 1e-12);
+    assert_near(s.fat_g_min, 0.334, 1e-12);
     /* a drifting stage, or one too short to judge, is no steady state: energy yes, rates not valid */
     st.stable = 0;
     assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
