@@ -47,6 +47,10 @@ static const char HELP_SHOW[] =
     "cannot be found is reported as not found, with the reason. A step test shows its stages: the\n"
     "steady state of each (mean of the final 30 s, SD, stable or not), the gain from the stage means\n"
     "and each threshold's steady-state power; VO2peak covers the whole exercise, the last stage too.\n"
+    "With VCO2 a step test also shows each stage's RER, energy (Weir 1949) and carbohydrate and fat\n"
+    "oxidation (Jeukendrup & Wallis 2005; 'not valid' above RER 1.00 or when the stage is not stable),\n"
+    "and the peak fat oxidation (Achten et al. 2002 cubic against %VO2peak, bootstrap intervals over\n"
+    "stages, the range within 10 % of the peak; at least 5 complete stages).\n"
     "A VO2-only file gives VO2peak, peak power, the gain and (a ramp) the MRT.\n\n"
     "examples:\n  cpdomain ramp show 3\n  cpdomain --json ramp show 3 --window 20\n";
 static const char HELP_SET[] =

@@ -172,4 +172,8 @@ for what, g in ok:
     print(("ok " if g else "FAIL ") + what)
 EOF
 while read -r st what; do [ "$st" = ok ] && pass "$what" || fail "$what" "$(head -c 400 "$TMP/cmp")"; done <"$TMP/cmp"
+expect 0 "ramp show --help" ramp show --help
+out_has "peak fat oxidation (Achten et al. 2002" "ramp show --help names the substrate table and PFO"
+expect 0 "energy --help" energy --help
+out_has "stable stages of the athlete's step test" "energy --help names the step test as the RER's first source"
 echo "# $N checks"
