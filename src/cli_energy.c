@@ -65,10 +65,11 @@ static void gather_steps(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
     if (cpd_store_gx_list(c->store, A->a.code, CPD_GXT_RAMP, &v, &n))
         return;
     cpd_ramp_result *rr = calloc(1, sizeof *rr);
-    for (int pass = 0; rr && pass < 2 && !A->has_steps; pass++)
+    for (int pass = 0; rr && pass < (to_date ? 2 : 1) && !A->has_steps; pass++)
         for (size_t i = n; i-- > 0 && !A->has_steps;) { /* first pass newest first, second oldest first */
             size_t j = pass ? n - 1 - i : i;
-            if (v[j].speed || v[j].protocol == 1 || (!pass && to_date && strcmp(v[j].date, to_date) > 0))
+            int later = to_date && strcmp(v[j].date, to_date) > 0; /* the second pass tries only these */
+            if (v[j].speed || v[j].protocol == 1 || later != pass)
                 continue;
             cpd_gx_test t;
             cpd_athlete a;
