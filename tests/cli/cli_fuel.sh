@@ -172,6 +172,16 @@ for what, g in ok:
     print(("ok " if g else "FAIL ") + what)
 EOF
 while read -r st what; do [ "$st" = ok ] && pass "$what" || fail "$what" "$(head -c 400 "$TMP/cmp")"; done <"$TMP/cmp"
+# the step test chosen by date as the ramp is: the newest on or before the session, a later one only
+# when none is that old
+expect 0 "a later step test (after the session)" --json ramp add C01 "$DEMO/steps_C01.csv" --date 2026-12-01
+later=$(json 'd["id"]')
+expect 0 "energy: the step test dated before the session" --json energy "$sid" --draws 20
+json_is "'step test $stid (2026-09-22)' in d['parameters']['rer_moderate']['source']" True "the newest step test on or before the session's date"
+expect 0 "remove the earlier step test" ramp remove "$stid"
+expect 0 "energy: only a later step test" --json energy "$sid" --draws 20
+json_is "'step test $later (2026-12-01)' in d['parameters']['rer_moderate']['source']" True "none that old: the later one"
+
 expect 0 "ramp show --help" ramp show --help
 out_has "peak fat oxidation (Achten et al. 2002" "ramp show --help names the substrate table and PFO"
 expect 0 "energy --help" energy --help
