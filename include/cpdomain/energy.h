@@ -112,7 +112,7 @@ const char *cpd_energy_reason_text(int reason);
 typedef struct {
     size_t n;                  /* stages, 5 .. CPD_PFO_MAX_STAGES */
     const double *power_w;     /* stage power, W (or m/s), increasing */
-    const double *vo2_ml_min;  /* mean VO2 of the stage's last minute(s), mL/min */
+    const double *vo2_ml_min;  /* mean VO2 of the stage's steady state (final 30 s, steps.h, or last minute), mL/min */
     const double *vco2_ml_min; /* mean VCO2, mL/min */
     const double *hr_bpm;      /* mean HR, or NULL */
     double vo2peak_ml_min;     /* the athlete's VO2peak, mL/min */
