@@ -534,6 +534,9 @@ static void gen_steps(gen *g, const char *code, const char *fname, const char *d
     truth(g, fname, "get_vo2_ml_min", p->get, "mL/min");
     truth(g, fname, "get_intensity_constant", x_get(p), "W");
     truth(g, fname, "gain_below_get", p->gain, "mL/min/W");
+    truth(g, fname, "rer_at_ref", p->rer0, "");
+    truth(g, fname, "vco2_vo2_slope_below_get", p->s1, "");
+    truth(g, fname, "vco2_vo2_slope_above_get", p->s2, "");
     g->t_shift = sp->pre_s;
     write_breaths(g, fname, p, &tr, 0, 3, sp->pre_s);
     g->t_shift = 0;
@@ -1505,6 +1508,16 @@ int main(int argc, char **argv)
 
     gen_sessions(&g);
     gen_session_c01(&g);
+    /* step tests with VCO2 for substrate use and peak fat oxidation: generated last so every file and
+     * store id above stays as it was, and dated before the athletes' ramps, which stay the newest */
+    /* morning tests after an overnight fast: more fat, so a lower RER below the GET (VCO2 anchored at
+     * RER 0.80-0.81 at 20 W and a shallower VCO2-VO2 slope, 0.92) that rises steeply above it (1.45),
+     * crossing 1.00 between the GET and CP: fat oxidation peaks near the GET and falls to 0 */
+    phys c01f = PH_C01, c05f = PH_C05;
+    c01f.rer0 = 0.80, c01f.s1 = 0.92, c01f.s2 = 1.45;
+    c05f.rer0 = 0.81, c05f.s1 = 0.92, c05f.s2 = 1.45;
+    gen_steps(&g, "C01", "steps_C01.csv", "2026-09-22", &c01f, &(steps_proto){20, 60, 25, 180, 180, 40, 120});
+    gen_steps(&g, "C05", "steps_C05.csv", "2026-09-17", &c05f, &(steps_proto){20, 95, 35, 180, 180, 50, 120});
 
     xclose(g.manifest, "manifest.csv");
     xclose(g.truth, "truth.csv");

@@ -57,6 +57,43 @@ static void gather_ramp(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
     free(rr);
 }
 
+/* The newest power step test on or before to_date (none that old: the oldest), its stages kept. */
+static void gather_steps(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
+{
+    cpd_gx_test *v = NULL;
+    size_t n = 0;
+    if (cpd_store_gx_list(c->store, A->a.code, CPD_GXT_RAMP, &v, &n))
+        return;
+    cpd_ramp_result *rr = calloc(1, sizeof *rr);
+    for (int pass = 0; rr && pass < (to_date ? 2 : 1) && !A->has_steps; pass++)
+        for (size_t i = n; i-- > 0 && !A->has_steps;) { /* first pass newest first, second oldest first */
+            size_t j = pass ? n - 1 - i : i;
+            int later = to_date && strcmp(v[j].date, to_date) > 0; /* the second pass tries only these */
+            if (v[j].speed || v[j].protocol == 1 || later != pass)
+                continue;
+            cpd_gx_test t;
+            cpd_athlete a;
+            cpd_ramp_ws *w = NULL;
+            if (cli_ramp_analyse(c, v[j].id, NULL, NULL, NULL, &t, &a, &w, rr) == 0 &&
+                rr->protocol == CPD_RAMP_PROTO_STEPS && rr->steps.n > 0) {
+                A->has_steps = 1;
+                A->steps_id = v[j].id;
+                snprintf(A->steps_date, sizeof A->steps_date, "%s", t.date);
+                A->ns = rr->steps.n;
+                for (size_t k = 0; k < A->ns; k++) {
+                    const cpd_steps_stage *st = &rr->steps.stage[k];
+                    A->st_w[k] = st->intensity;
+                    A->st_vo2[k] = st->vo2_ml_min;
+                    A->st_rer[k] = st->has_vco2 ? st->vco2_ml_min / st->vo2_ml_min : 0.0;
+                    A->st_steady[k] = st->complete && st->stable == 1;
+                }
+            }
+            cpd_ramp_free(w);
+        }
+    free(rr);
+    free(v);
+}
+
 static void gather_domains(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
 {
     cli_domains d;
@@ -171,6 +208,7 @@ int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, const cha
     }
     free(v);
     gather_ramp(c, A, to_date);
+    gather_steps(c, A, to_date);
     gather_domains(c, A, to_date);
     c->mute--;
     c->quiet = quiet;
@@ -190,6 +228,19 @@ int cli_energy_line(const cli_energy_athlete *A, cpd_energy_line *L, double *max
 {
     double p[64], v[64];
     size_t k = 0, nm = 0;
+    *max_p = 0;
+    for (size_t i = 0; A->has_steps && A->has_get && i < A->ns && k < 64; i++)
+        if (A->st_steady[i] && A->st_w[i] < A->get_w) {
+            p[k] = A->st_w[i];
+            v[k++] = A->st_vo2[i];
+            *max_p = fmax(*max_p, A->st_w[i]);
+        }
+    if (k >= 3 && cpd_energy_line_fit(p, v, k, L) == CPD_OK) {
+        snprintf(src, n, "step test %lld (%s): %zu stable stages below the GET (final 30 s)", A->steps_id, A->steps_date,
+                 k);
+        return 0;
+    }
+    k = 0;
     *max_p = 0;
     for (size_t i = 0; i < A->nb && k + 2 <= 64; i++) {
         const cli_energy_bout *b = &A->b[i];
@@ -349,13 +400,28 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
         set(&P[CLI_EN_SCDEL], 100.0, 30.0, 1, "105 +- 46 s (Barstow & Mole 1991 J Appl Physiol 71:2099)%s", NULL);
     }
 
-    /* RER of each domain: the athlete's steady-state bouts, else typical */
+    /* RER of each domain: the step test's steady stages, else the athlete's steady-state bouts, else typical */
     static const double RER_TYP[3] = {0.85, 0.93, 1.00}, RER_TSD[3] = {0.04, 0.03, 0.02};
     for (int d = 0; d < 3; d++) {
         double s = 0;
         size_t k = 0;
         off = 0;
         ids[0] = '\0';
+        for (size_t i = 0; d < 2 && A->has_steps && i < A->ns; i++) {
+            double w = A->st_w[i], r = A->st_rer[i];
+            int in = d == 0 ? w < A->get_w : A->has_cp && w >= A->get_w && w < A->cp_w;
+            if (in && A->st_steady[i] && r >= CPD_ENERGY_RER_MIN && r <= CPD_ENERGY_RER_MAX) {
+                s += r;
+                off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%.0f", k ? ", " : "", w);
+                k++;
+            }
+        }
+        if (k) {
+            snprintf(buf, sizeof buf, "step test %lld (%s): stable stage%s at %s W (%s); SD 0.02 [chosen]", A->steps_id,
+                     A->steps_date, k > 1 ? "s" : "", ids, d == 0 ? "below the GET" : "GET to CP");
+            set(&P[CLI_EN_RER_M + d], s / (double)k, 0.02, 0, "%s", buf);
+            continue;
+        }
         for (size_t i = 0; d < 2 && i < A->nb; i++)
             if (A->b[i].has_rer && A->b[i].res.domain == d + 1) {
                 s += A->b[i].rer;
@@ -634,4 +700,174 @@ void cli_energy_bout_report(cli_ctx *c, const char *code, long long bout_id, con
         report_aod(c, code, bout_id, g[0], onset_s[0], power_w, k, vo2peak_ml_min, json);
     else if (json)
         cj_null(json, "aod");
+}
+
+/* ---- a step test's stages ('ramp show') ---- */
+
+static const char STEPS_CAUTION[] = "estimates for sport science, not nutrition advice: fuelling plans belong to a "
+                                    "registered dietitian or sports nutritionist";
+
+static void steps_substrate(const cpd_gx_test *t, const cpd_ramp_result *r, int eq, cli_json *json)
+{
+    const cpd_energy_eqset *e = cpd_energy_eqset_get(eq);
+    const char *u = t->speed ? "m/s" : "W";
+    int dec = t->speed ? 2 : 0;
+    if (!r->steps.n || !r->steps.stage[0].has_vco2) {
+        line_out(json, "substrate", "substrate", "no substrate use per stage: the test has no VCO2 column "
+                 "(vco2_ml_min); carbohydrate and fat oxidation need VCO2 as well as VO2");
+        return;
+    }
+    cli_json *arr = NULL;
+    cli_table *tb = NULL;
+    if (json) {
+        cli_json *o = cj_add_obj(json, "substrate");
+        cj_bool(o, "valid", 1);
+        cj_str(o, "equations", e->name);
+        cj_str(o, "energy_equation", "Weir 1949");
+        cj_str(o, "window", "final 30 s of each stage (its steady state)");
+        cj_str(o, "caution", STEPS_CAUTION);
+        arr = cj_add_arr(o, "stages");
+    } else {
+        printf("\nsubstrate use per stage (final 30 s of each stage; energy by Weir 1949; CHO and fat by %s)\n", e->name);
+        static const char *const head[] = {"stage", "intensity", "RER", "kcal/min", "kJ/min", "CHO g/min", "fat g/min",
+                                           "note"};
+        tb = cli_table_new(8, head, "rrrrrrrl");
+    }
+    for (size_t k = 0; k < r->steps.n; k++) {
+        const cpd_steps_stage *st = &r->steps.stage[k];
+        cpd_energy_substrate s;
+        char msg[CPD_MSG_MAX], n1[32];
+        int rc = cpd_energy_stage_substrate(st, eq, &s, msg);
+        if (json) {
+            cli_json *o = cj_obj();
+            cj_int(o, "stage", (long long)k + 1);
+            cj_num(o, t->speed ? "speed_m_s" : "power_w", st->intensity);
+            cj_num(o, "rer", rc ? NAN : s.rer);
+            cj_num(o, "energy_kcal_min", rc ? NAN : s.ee_kcal_min);
+            cj_num(o, "energy_kj_min", rc ? NAN : s.ee_kj_min);
+            cj_bool(o, "valid", !rc && s.rates_valid);
+            cj_num(o, "cho_g_min", !rc && s.rates_valid ? s.cho_g_min : NAN);
+            cj_num(o, "fat_g_min", !rc && s.rates_valid ? s.fat_g_min : NAN);
+            cj_str(o, "note", rc ? msg : s.rates_valid ? NULL : cpd_energy_reason_text(s.reason));
+            cj_push(arr, o);
+            continue;
+        }
+        char sn[8], in[40], rer[16], kc[16], kj[16], cho[24], fat[24], note[200] = "";
+        snprintf(sn, sizeof sn, "%zu", k + 1);
+        snprintf(in, sizeof in, "%s %s%s", cli_num(n1, sizeof n1, st->intensity, dec), u, st->complete ? "" : "*");
+        if (rc) {
+            snprintf(rer, sizeof rer, "-");
+            snprintf(kc, sizeof kc, "-");
+            snprintf(kj, sizeof kj, "-");
+            snprintf(cho, sizeof cho, "-");
+            snprintf(fat, sizeof fat, "-");
+            snprintf(note, sizeof note, "%s", msg);
+        } else {
+            snprintf(rer, sizeof rer, "%.2f", s.rer);
+            snprintf(kc, sizeof kc, "%.1f", s.ee_kcal_min);
+            snprintf(kj, sizeof kj, "%.1f", s.ee_kj_min);
+            if (s.rates_valid) {
+                snprintf(cho, sizeof cho, "%.2f", s.cho_g_min);
+                snprintf(fat, sizeof fat, "%.2f", s.fat_g_min);
+            } else {
+                snprintf(cho, sizeof cho, "-");
+                snprintf(fat, sizeof fat, "-");
+                snprintf(note, sizeof note, "%s", s.reason == CPD_ENERGY_R_RER_HIGH ? "not valid: RER above 1.00"
+                                                  : s.reason == CPD_ENERGY_R_NOT_STEADY ? "not valid: not stable"
+                                                                                        : "not valid: RER below 0.70");
+            }
+        }
+        const char *row[] = {sn, in, rer, kc, kj, cho, fat, note};
+        cli_table_row(tb, row);
+    }
+    if (tb) {
+        cli_table_print(tb);
+        printf("(rates only at a steady state with RER 0.70-1.00: above 1.00 buffering CO2 inflates VCO2; %s)\n",
+               STEPS_CAUTION);
+    }
+}
+
+static void steps_pfo(const cpd_gx_test *t, const cpd_ramp_result *r, int eq, cli_json *json)
+{
+    cpd_pfo_result p;
+    int used[CPD_STEPS_MAX];
+    char msg[CPD_MSG_MAX], txt[CPD_MSG_MAX + 64];
+    if (cpd_energy_pfo_steps(&r->steps, r->vo2peak_ml_min, eq, CPD_PFO_BOOT_DEFAULT, CLI_ENERGY_PFO_SEED, &p, used, msg)) {
+        snprintf(txt, sizeof txt, "not computed: %s", msg);
+        line_out(json, "peak_fat_oxidation", "PFO", txt);
+        return;
+    }
+    const char *u = t->speed ? "m/s" : "W";
+    int dec = t->speed ? 2 : 0;
+    int ci = p.n_boot > 0;
+    if (json) {
+        cli_json *o = cj_add_obj(json, "peak_fat_oxidation");
+        cj_bool(o, "valid", 1);
+        cj_str(o, "method", "third-order polynomial of fat oxidation against %VO2peak (Achten, Gleeson & Jeukendrup 2002)");
+        cj_str(o, "equations", cpd_energy_eqset_get(eq)->name);
+        cli_json *st = cj_add_arr(o, "stages_used");
+        for (size_t k = 0; k < r->steps.n; k++)
+            if (used[k])
+                cj_push_num(st, (double)(k + 1));
+        cj_int(o, "stages_rer_above_1", (long long)p.n_rer_above);
+        cj_num(o, "vo2peak_ml_min", r->vo2peak_ml_min);
+        cj_num(o, "pfo_g_min", p.peak_g_min);
+        cj_num(o, "measured_peak_g_min", p.measured_peak_g_min);
+        cj_num(o, "at_pct_vo2peak", p.peak_pct);
+        cj_num(o, t->speed ? "at_speed_m_s" : "at_power_w", p.peak_power_w);
+        cj_num(o, "at_hr_bpm", p.has_hr ? p.peak_hr_bpm : NAN);
+        cj_int(o, "bootstrap_resamples", (long long)p.n_boot);
+        if (ci) {
+            cj_pair(o, "pfo_ci95_g_min", p.peak_ci95[0], p.peak_ci95[1]);
+            cj_pair(o, "pct_ci95", p.pct_ci95[0], p.pct_ci95[1]);
+            cj_pair(o, t->speed ? "speed_ci95_m_s" : "power_ci95_w", p.power_ci95[0], p.power_ci95[1]);
+            if (p.has_hr)
+                cj_pair(o, "hr_ci95_bpm", p.hr_ci95[0], p.hr_ci95[1]);
+            else
+                cj_null(o, "hr_ci95_bpm");
+        } else {
+            cj_null(o, "pfo_ci95_g_min");
+            cj_null(o, "pct_ci95");
+            cj_null(o, t->speed ? "speed_ci95_m_s" : "power_ci95_w");
+            cj_null(o, "hr_ci95_bpm");
+        }
+        cj_pair(o, "zone_pct_vo2peak", p.zone_pct[0], p.zone_pct[1]);
+        cj_pair(o, t->speed ? "zone_m_s" : "zone_w", p.zone_power_w[0], p.zone_power_w[1]);
+        cli_json *cf = cj_add_arr(o, "coefficients");
+        for (int k = 0; k < 4; k++)
+            cj_push_num(cf, p.coef[k]);
+        cj_str(o, "caution", STEPS_CAUTION);
+        return;
+    }
+    char a[32], b[32], c2[32];
+    printf("\npeak fat oxidation (Achten, Gleeson & Jeukendrup 2002: third-order fit against %%VO2peak, %zu stages)\n", p.n);
+    printf("PFO      %.2f g/min", p.peak_g_min);
+    if (ci)
+        printf(" (95 %% CI %.2f to %.2f)", p.peak_ci95[0], p.peak_ci95[1]);
+    printf("; highest stage %.2f g/min\n", p.measured_peak_g_min);
+    printf("at       %.0f %% VO2peak", p.peak_pct);
+    if (ci)
+        printf(" (%.0f to %.0f)", p.pct_ci95[0], p.pct_ci95[1]);
+    printf(", %s %s", cli_num(a, sizeof a, p.peak_power_w, dec), u);
+    if (ci)
+        printf(" (%s to %s)", cli_num(b, sizeof b, p.power_ci95[0], dec), cli_num(c2, sizeof c2, p.power_ci95[1], dec));
+    if (p.has_hr) {
+        printf(", HR %.0f", p.peak_hr_bpm);
+        if (ci)
+            printf(" (%.0f to %.0f)", p.hr_ci95[0], p.hr_ci95[1]);
+    }
+    putchar('\n');
+    printf("zone     within 10 %% of the peak: %.0f-%.0f %% VO2peak, %s-%s %s\n", p.zone_pct[0], p.zone_pct[1],
+           cli_num(a, sizeof a, p.zone_power_w[0], dec), cli_num(b, sizeof b, p.zone_power_w[1], dec), u);
+    printf("         intervals: percentile bootstrap over stages, %zu resamples; %zu stage%s above RER 1.00 entered at 0 g/min\n",
+           p.n_boot, p.n_rer_above, p.n_rer_above == 1 ? "" : "s");
+}
+
+void cli_energy_steps_report(const cpd_gx_test *t, const cpd_ramp_result *r, cli_json *json)
+{
+    if (r->protocol != CPD_RAMP_PROTO_STEPS)
+        return;
+    int eq = CPD_ENERGY_EQ_JW_HIGH;
+    steps_substrate(t, r, eq, json);
+    steps_pfo(t, r, eq, json);
 }

@@ -8,9 +8,11 @@
 #include "cpdomain/domains.h"
 #include "cpdomain/energy.h"
 #include "cpdomain/kinetics.h"
+#include "cpdomain/ramp.h"
 
 #define CLI_ENERGY_STEADY_MIN_S 180.0 /* shortest bout with a steady state: 4 tau of a 30-s primary + 1 min */
 #define CLI_ENERGY_SUPRA 1.05        /* a bout is supra-maximal when its demand is >= 105 % of VO2peak [chosen] */
+#define CLI_ENERGY_PFO_SEED 20261202u /* the bootstrap seed of peak fat oxidation (any fixed value) */
 #define CLI_ENERGY_STEADY_WIN_S 60.0  /* the steady state is the mean of the last minute of exercise */
 
 /* One of the athlete's power bouts, analysed as 'bout show' does by default. */
@@ -42,6 +44,15 @@ typedef struct {
     double get_w, get_sd_w;     /* GET as constant power and an SD for it, W */
     double cp_w, cp_sd_w;       /* CP and its SD, W */
     char get_source[200], cp_source[200];
+    /* the newest power step test (chosen by date as the ramp is): its stages' steady states */
+    int has_steps;
+    long long steps_id;
+    char steps_date[11];
+    size_t ns;                                  /* stages */
+    double st_w[CPD_STEPS_MAX];                 /* stage power, W */
+    double st_vo2[CPD_STEPS_MAX];               /* final-30-s VO2, mL/min */
+    double st_rer[CPD_STEPS_MAX];               /* final-30-s RER; 0 when the test has no VCO2 */
+    int st_steady[CPD_STEPS_MAX];               /* 1 when the stage is complete and stable */
 } cli_energy_athlete;
 
 /* Gathers athlete code's power bouts (all but skip_id; 0 skips none), the newest power ramp dated on
@@ -51,8 +62,9 @@ typedef struct {
 int cli_energy_gather(cli_ctx *c, const char *code, long long skip_id, const char *to_date, cli_energy_athlete *A);
 void cli_energy_free(cli_energy_athlete *A);
 
-/* The athlete's steady-state VO2-power line: the moderate bouts' baseline and end-exercise points
- * when there are two distinct powers, else the ramp's gain through its baseline (slope SE only).
+/* The athlete's steady-state VO2-power line: the step test's steady stages below the GET when there
+ * are at least 3, else the moderate bouts' baseline and end-exercise points when there are two
+ * distinct powers, else the ramp's gain through its baseline (slope SE only).
  * src receives where it came from; *max_p the highest power behind it. Returns 0, or CPD_ENODATA. */
 int cli_energy_line(const cli_energy_athlete *A, cpd_energy_line *L, double *max_p, char *src, size_t n);
 
@@ -72,8 +84,9 @@ typedef struct {
 
 /* The parameters from the athlete's tests: gain, baseline, tau and delay from the moderate bouts
  * (else the ramp's gain, typical kinetics), GET and CP, the slow component per W above the GET from
- * the heavy bouts (its asymptote above the steady-state line), VO2peak, the RER of each domain from
- * steady-state bouts; typical values, flagged, for the rest. P has CLI_EN_N entries. Returns 0, or
+ * the heavy bouts (its asymptote above the steady-state line), VO2peak, the RER of each domain from the
+ * step test's steady stages (below the GET: moderate; GET to CP: heavy), else from steady-state
+ * bouts; typical values, flagged, for the rest. P has CLI_EN_N entries. Returns 0, or
  * 69 after saying what is missing (no ramp with VO2peak, no GET, no steady-state line). */
 int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P);
 
@@ -95,5 +108,13 @@ int cli_energy_fuel_text(cli_ctx *c, const char *code, const cpd_domains_result 
 void cli_energy_bout_report(cli_ctx *c, const char *code, long long bout_id, const cpd_gx_series *const *g,
                             const double *onset_s, size_t m, int speed, double power_w, double baseline_w,
                             const cpd_kinetics_result *k, double vo2peak_ml_min, cli_json *json);
+
+/* The energy part of 'ramp show' for a step test t analysed as r (protocol steps; nothing for a ramp):
+ * energy and substrate use of each stage from its steady-state means (equation set named; 'not valid'
+ * above RER 1.00 or when the stage is not stable), and peak fat oxidation from the stages
+ * (cpd_energy_pfo_steps, 1000 bootstrap resamples, fixed seed: the same data give the same interval). Adds "substrate" and
+ * "peak_fat_oxidation" to json when it is not NULL, else prints text. A VO2-only test, or too few
+ * stages, is said in words, with no number. */
+void cli_energy_steps_report(const cpd_gx_test *t, const cpd_ramp_result *r, cli_json *json);
 
 #endif

@@ -1,4 +1,5 @@
 /* cmd_ramp.c: 'ramp add|list|show|set|plot|remove' and 'lactate add|list|show|plot'. */
+#include "cli_energy.h"
 #include "cli_gx.h"
 #include "commands.h"
 #include "cpdomain/import.h"
@@ -46,6 +47,10 @@ static const char HELP_SHOW[] =
     "cannot be found is reported as not found, with the reason. A step test shows its stages: the\n"
     "steady state of each (mean of the final 30 s, SD, stable or not), the gain from the stage means\n"
     "and each threshold's steady-state power; VO2peak covers the whole exercise, the last stage too.\n"
+    "With VCO2 a step test also shows each stage's RER, energy (Weir 1949) and carbohydrate and fat\n"
+    "oxidation (Jeukendrup & Wallis 2005; 'not valid' above RER 1.00 or when the stage is not stable),\n"
+    "and the peak fat oxidation (Achten et al. 2002 cubic against %VO2peak, bootstrap intervals over\n"
+    "stages, the range within 10 % of the peak; at least 5 complete stages).\n"
     "A VO2-only file gives VO2peak, peak power, the gain and (a ramp) the MRT.\n\n"
     "examples:\n  cpdomain ramp show 3\n  cpdomain --json ramp show 3 --window 20\n";
 static const char HELP_SET[] =
@@ -711,6 +716,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cj_int(d, "samples", (long long)r->n_samples);
         cj_int(d, "outliers_removed", (long long)r->n_outliers);
         record_json(d, &t, r);
+        cli_energy_steps_report(&t, r, d);
         rc = cj_print(d);
     } else {
         char n1[32], n2[32], tm[24], st[24];
@@ -769,6 +775,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
             printf("MRT      %.0f s (%s)\n", r->mrt_s, r->mrt_status == CPD_THR_MANUAL ? "given" : "estimated, lagged-linear model");
         printf("samples  %zu, %zu outlier breaths removed\n", r->n_samples, r->n_outliers);
         print_record(&t, r);
+        cli_energy_steps_report(&t, r, NULL);
     }
     if (r->has_nominal && r->nominal_mismatch)
         cli_note(c, "warning: ramp %lld: the nominal %s (%g %s/min) disagrees with the recorded intensity (%.3g %s/min, "

@@ -311,6 +311,59 @@ int cpd_energy_pfo(const cpd_pfo_input *in, cpd_pfo_result *out, char *msg)
     return CPD_OK;
 }
 
+/* ---- a step test's stages ---- */
+
+int cpd_energy_stage_substrate(const cpd_steps_stage *st, int eq, cpd_energy_substrate *out, char *msg)
+{
+    if (!st->has_vco2) {
+        memset(out, 0, sizeof *out);
+        say(msg, "the test has no VCO2: substrate use needs VCO2 as well as VO2");
+        return CPD_EDATA;
+    }
+    return cpd_energy_substrate_calc(st->vo2_ml_min, st->vco2_ml_min, st->stable == 1, eq, out, msg);
+}
+
+int cpd_energy_pfo_stage_ok(const cpd_steps_stage *st)
+{
+    if (!st->complete || !st->has_vco2 || !(st->vo2_ml_min > 0))
+        return 0;
+    return st->stable == 1 || st->vco2_ml_min / st->vo2_ml_min > CPD_ENERGY_RER_VALID_HI;
+}
+
+int cpd_energy_pfo_steps(const cpd_steps_result *s, double vo2peak_ml_min, int eq, size_t n_boot, uint64_t seed,
+                         cpd_pfo_result *out, int *used, char *msg)
+{
+    memset(out, 0, sizeof *out);
+    double p[CPD_PFO_MAX_STAGES], v[CPD_PFO_MAX_STAGES], c[CPD_PFO_MAX_STAGES], h[CPD_PFO_MAX_STAGES];
+    size_t n = 0, n_vco2 = 0, n_hr = 0;
+    for (size_t i = 0; i < s->n && i < CPD_STEPS_MAX; i++) {
+        const cpd_steps_stage *st = &s->stage[i];
+        n_vco2 += st->has_vco2 != 0;
+        int ok = n < CPD_PFO_MAX_STAGES && cpd_energy_pfo_stage_ok(st);
+        if (used)
+            used[i] = ok;
+        if (!ok)
+            continue;
+        p[n] = st->intensity;
+        v[n] = st->vo2_ml_min;
+        c[n] = st->vco2_ml_min;
+        h[n] = st->hr_bpm;
+        n_hr += st->has_hr != 0;
+        n++;
+    }
+    if (n_vco2 == 0) {
+        say(msg, "the test has no VCO2: fat oxidation needs VCO2 as well as VO2");
+        return CPD_ENODATA;
+    }
+    if (n < 5) {
+        say(msg, "%zu of %zu stages are complete and at a steady state (or above RER 1.00): peak fat oxidation needs "
+            "at least 5 for a third-order fit", n, s->n);
+        return CPD_ENODATA;
+    }
+    cpd_pfo_input in = {n, p, v, c, n_hr == n ? h : NULL, vo2peak_ml_min, eq, n_boot, seed};
+    return cpd_energy_pfo(&in, out, msg);
+}
+
 /* ---- oxygen deficit ---- */
 
 typedef struct {

@@ -24,18 +24,23 @@
  * Jeukendrup & Wallis 2005 Int J Sports Med 26 S1:S28 (50-75 %): CHO 4.210 * 1.8 - 2.962 * 2 = 1.654,
  *   fat 1.695 * 2 - 1.701 * 1.8 = 0.3282 g/min; (40-50 %): CHO 4.344 * 1.8 - 3.061 * 2 = 1.6972.
  * Frayn 1983 J Appl Physiol 55:628: CHO 4.55 * 1.8 - 3.21 * 2 = 1.77, fat 1.67 * 0.2 = 0.334 g/min. */
+static void assert_worked_jw_high(const cpd_energy_substrate *s)
+{
+    assert_near(s->rer, 0.9, 1e-15);
+    assert_near(s->ee_kcal_min, 9.8728, 1e-12);
+    assert_near(s->ee_kj_min, 41.3077952, 1e-9);
+    assert_true(s->rates_valid);
+    assert_near(s->cho_g_min, 1.654, 1e-12);
+    assert_near(s->fat_g_min, 0.3282, 1e-12);
+}
+
 static void test_worked_values(void **state)
 {
     (void)state;
     cpd_energy_substrate s;
     char msg[CPD_MSG_MAX];
     assert_int_equal(cpd_energy_substrate_calc(2000, 1800, 1, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
-    assert_near(s.rer, 0.9, 1e-15);
-    assert_near(s.ee_kcal_min, 9.8728, 1e-12);
-    assert_near(s.ee_kj_min, 41.3077952, 1e-9);
-    assert_true(s.rates_valid);
-    assert_near(s.cho_g_min, 1.654, 1e-12);
-    assert_near(s.fat_g_min, 0.3282, 1e-12);
+    assert_worked_jw_high(&s);
     assert_int_equal(cpd_energy_substrate_calc(2000, 1800, 1, CPD_ENERGY_EQ_JW_LOW, &s, msg), CPD_OK);
     assert_near(s.cho_g_min, 1.6972, 1e-12);
     assert_near(s.fat_g_min, 0.3282, 1e-12);
@@ -142,6 +147,116 @@ static void test_pfo_numpy(void **state)
     in.vco2_ml_min = vco2;
     in.vo2peak_ml_min = 0;
     assert_int_equal(cpd_energy_pfo(&in, &r, msg), CPD_EUSAGE);
+}
+
+/* A step test's stages (steps.h) into substrate use and peak fat oxidation: a stage at VO2 2.000,
+ * VCO2 1.800 L/min gives the worked values above (Weir 1949, Jeukendrup & Wallis 2005, Frayn 1983). */
+static void test_steps_stages(void **state)
+{
+    (void)state;
+    cpd_steps_stage st;
+    memset(&st, 0, sizeof st);
+    st.complete = 1;
+    st.stable = 1;
+    st.has_vco2 = 1;
+    st.vo2_ml_min = 2000;
+    st.vco2_ml_min = 1800;
+    cpd_energy_substrate s;
+    char msg[CPD_MSG_MAX];
+    assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
+    assert_worked_jw_high(&s);
+    assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_FRAYN, &s, msg), CPD_OK);
+    assert_near(s.cho_g_min, 1.770, 1e-12);
+    assert_near(s.fat_g_min, 0.334, 1e-12);
+    /* a drifting stage, or one too short to judge, is no steady state: energy yes, rates not valid */
+    st.stable = 0;
+    assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
+    assert_false(s.rates_valid);
+    assert_int_equal(s.reason, CPD_ENERGY_R_NOT_STEADY);
+    assert_near(s.ee_kcal_min, 9.8728, 1e-9);
+    st.stable = -1;
+    assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
+    assert_false(s.rates_valid);
+    /* above RER 1.00: not valid, never negative fat */
+    st.stable = 1;
+    st.vco2_ml_min = 2100;
+    assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_OK);
+    assert_false(s.rates_valid);
+    assert_int_equal(s.reason, CPD_ENERGY_R_RER_HIGH);
+    assert_true(cpd_energy_pfo_stage_ok(&st)); /* enters PFO at 0 g/min even when not stable */
+    st.stable = 0;
+    assert_true(cpd_energy_pfo_stage_ok(&st));
+    st.vco2_ml_min = 1800;
+    assert_false(cpd_energy_pfo_stage_ok(&st)); /* drifting below RER 1.00: left out */
+    st.stable = 1;
+    st.complete = 0;
+    assert_false(cpd_energy_pfo_stage_ok(&st)); /* cut short: left out */
+    st.complete = 1;
+    /* a VO2-only test */
+    st.has_vco2 = 0;
+    assert_int_equal(cpd_energy_stage_substrate(&st, CPD_ENERGY_EQ_JW_HIGH, &s, msg), CPD_EDATA);
+    assert_non_null(strstr(msg, "needs VCO2"));
+    assert_false(cpd_energy_pfo_stage_ok(&st));
+
+    /* peak fat oxidation from stages = cpd_energy_pfo on the stages that qualify: the nine stages
+     * above, a tenth cut short and an unstable one below RER 1.00 inserted (both left out) */
+    cpd_steps_result r;
+    memset(&r, 0, sizeof r);
+    size_t k = 0;
+    for (int i = 0; i < 9; i++) {
+        cpd_steps_stage *g = &r.stage[k++];
+        g->complete = 1;
+        g->stable = 1;
+        g->has_vco2 = g->has_hr = 1;
+        g->intensity = PW[i];
+        g->vo2_ml_min = VO2[i];
+        g->vco2_ml_min = VO2[i] * RERS[i];
+        g->hr_bpm = HR[i];
+        if (i == 2) { /* an unstable stage between 120 and 150 W */
+            cpd_steps_stage *u = &r.stage[k++];
+            *u = *g;
+            u->intensity = 135;
+            u->vo2_ml_min = 2230;
+            u->vco2_ml_min = 2230 * 0.80;
+            u->stable = 0;
+        }
+    }
+    r.stage[k] = r.stage[k - 1];
+    r.stage[k].intensity = 330;
+    r.stage[k].complete = 0;
+    r.n = k + 1;
+    double vco2[9];
+    for (int i = 0; i < 9; i++)
+        vco2[i] = VO2[i] * RERS[i];
+    cpd_pfo_input in = {9, PW, VO2, vco2, HR, 4250, CPD_ENERGY_EQ_JW_HIGH, 200, 7};
+    cpd_pfo_result a, b;
+    int used[CPD_STEPS_MAX];
+    assert_int_equal(cpd_energy_pfo(&in, &a, msg), CPD_OK);
+    assert_int_equal(cpd_energy_pfo_steps(&r, 4250, CPD_ENERGY_EQ_JW_HIGH, 200, 7, &b, used, msg), CPD_OK);
+    assert_int_equal(b.n, 9);
+    assert_int_equal(used[3], 0);  /* the unstable stage */
+    assert_int_equal(used[10], 0); /* the stage cut short */
+    assert_int_equal(used[0] + used[1] + used[2] + used[4] + used[9], 5);
+    assert_near(b.peak_g_min, a.peak_g_min, 0);
+    assert_near(b.peak_pct, a.peak_pct, 0);
+    assert_near(b.peak_hr_bpm, a.peak_hr_bpm, 0);
+    assert_near(b.peak_ci95[0], a.peak_ci95[0], 0);
+    /* one stage without HR: no HR for the peak */
+    r.stage[0].has_hr = 0;
+    assert_int_equal(cpd_energy_pfo_steps(&r, 4250, CPD_ENERGY_EQ_JW_HIGH, 0, 7, &b, NULL, msg), CPD_OK);
+    assert_false(b.has_hr);
+    /* too few: four stages qualify */
+    for (size_t i = 4; i < r.n; i++) {
+        r.stage[i].stable = 0;
+        r.stage[i].vco2_ml_min = r.stage[i].vo2_ml_min * 0.95;
+    }
+    assert_int_equal(cpd_energy_pfo_steps(&r, 4250, CPD_ENERGY_EQ_JW_HIGH, 0, 7, &b, NULL, msg), CPD_ENODATA);
+    assert_non_null(strstr(msg, "at least 5"));
+    /* VO2 only */
+    for (size_t i = 0; i < r.n; i++)
+        r.stage[i].has_vco2 = 0;
+    assert_int_equal(cpd_energy_pfo_steps(&r, 4250, CPD_ENERGY_EQ_JW_HIGH, 0, 7, &b, NULL, msg), CPD_ENODATA);
+    assert_non_null(strstr(msg, "no VCO2"));
 }
 
 /* Oxygen deficit against the closed forms of the exponential model:
@@ -411,6 +526,7 @@ int main(void)
         cmocka_unit_test(test_worked_values),
         cmocka_unit_test(test_validity),
         cmocka_unit_test(test_pfo_numpy),
+        cmocka_unit_test(test_steps_stages),
         cmocka_unit_test(test_deficit_closed_form),
         cmocka_unit_test(test_aod),
         cmocka_unit_test(test_accumulate),

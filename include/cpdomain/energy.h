@@ -39,6 +39,7 @@
 #include <stdint.h>
 
 #include "cpdomain/status.h"
+#include "cpdomain/steps.h"
 
 #define CPD_ENERGY_WEIR_O2 3.941     /* kcal per L O2 (Weir 1949) */
 #define CPD_ENERGY_WEIR_CO2 1.106    /* kcal per L CO2 (Weir 1949) */
@@ -111,7 +112,7 @@ const char *cpd_energy_reason_text(int reason);
 typedef struct {
     size_t n;                  /* stages, 5 .. CPD_PFO_MAX_STAGES */
     const double *power_w;     /* stage power, W (or m/s), increasing */
-    const double *vo2_ml_min;  /* mean VO2 of the stage's last minute(s), mL/min */
+    const double *vo2_ml_min;  /* mean VO2 of the stage's steady state (final 30 s, steps.h, or last minute), mL/min */
     const double *vco2_ml_min; /* mean VCO2, mL/min */
     const double *hr_bpm;      /* mean HR, or NULL */
     double vo2peak_ml_min;     /* the athlete's VO2peak, mL/min */
@@ -150,6 +151,30 @@ typedef struct {
  * Returns CPD_OK, CPD_EUSAGE (bad n or eq), CPD_EDATA (a stage value bad or RER outside the plausible
  * range; msg names the stage), CPD_ENODATA (fewer than 5 stages, or the fit has no peak above 0). */
 int cpd_energy_pfo(const cpd_pfo_input *in, cpd_pfo_result *out, char *msg);
+
+/* ---- a step test's stages (steps.h) ---- */
+
+#define CPD_PFO_BOOT_DEFAULT 1000 /* bootstrap resamples the CLI asks for */
+
+/* Energy and substrate use of one stage of a step test from its steady-state means (the final
+ * CPD_STEPS_SS_WIN_S of the stage, steps.h): cpd_energy_substrate_calc with steady = the stage's
+ * stability flag (1 only when st->stable == 1: a drifting stage or one too short to judge is not a
+ * steady state, so its rates are 'not valid'). Returns as cpd_energy_substrate_calc; CPD_EDATA with
+ * msg when the stage has no VCO2 (a VO2-only file). */
+int cpd_energy_stage_substrate(const cpd_steps_stage *st, int eq, cpd_energy_substrate *out, char *msg);
+
+/* Which stages of a step test enter peak fat oxidation: complete stages with VCO2 that are stable,
+ * and complete stages with RER above 1.00 whatever their stability (they enter with fat 0, see
+ * cpd_energy_pfo). A stage cut short (the last, at exhaustion) never enters. 1 or 0. */
+int cpd_energy_pfo_stage_ok(const cpd_steps_stage *st);
+
+/* Peak fat oxidation of a step test: fills a cpd_pfo_input from the stages that pass
+ * cpd_energy_pfo_stage_ok (intensity, VO2, VCO2, and HR when every one has it) with the test's
+ * VO2peak and runs cpd_energy_pfo. used[] (CPD_STEPS_MAX, may be NULL) receives 1 for each stage
+ * that entered. Returns as cpd_energy_pfo; CPD_ENODATA with msg when the test has no VCO2 or fewer
+ * than 5 stages qualify (msg says how many and why). */
+int cpd_energy_pfo_steps(const cpd_steps_result *s, double vo2peak_ml_min, int eq, size_t n_boot, uint64_t seed,
+                         cpd_pfo_result *out, int *used, char *msg);
 
 /* ---- oxygen deficit ---- */
 
