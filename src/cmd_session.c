@@ -39,7 +39,10 @@ static const char HELP_SLIST[] = "usage: cpdomain session list CODE\n\nLists the
 static const char HELP_SSHOW[] =
     "usage: cpdomain session show ID\n\n"
     "One stored session: its duration, the clean segments, dropouts and spikes, the mean and highest\n"
-    "clean second, and its mean-maximal curve at 5 s, 1, 5, 20 and 60 min.\n\n"
+    "clean second, and its mean-maximal curve at durations chosen from this tool's own science:\n"
+    "2 min, the usual severe-extreme limit and the shortest effort of the CP window; 3 min, the\n"
+    "3-minute all-out test; 15 min, the longest effort of the CP window; 30 and 60 min, efforts\n"
+    "near and below CP (heavy domain).\n\n"
     "example:\n  cpdomain session show 12\n";
 static const char HELP_SREMOVE[] = "usage: cpdomain session remove ID\n\nDeletes a stored session with its samples.\n\n"
                                    "example:\n  cpdomain session remove 12\n";
@@ -572,8 +575,11 @@ static int load_clean(cli_ctx *c, long long id, int allout, cpd_session_rec *r, 
     return 0;
 }
 
-/* The durations session show reports. */
-static const size_t SHOW_DURATIONS[] = {5, 60, 300, 1200, 3600};
+/* The durations session show reports, from the tool's own science (stated in HELP_SSHOW): the
+ * shortest trial of the CP window and usual severe-extreme limit (2 min), the 3-minute all-out test,
+ * the longest trial of the CP window (15 min; the 2-15 min window is common practice), and 30 and
+ * 60 min, efforts near and below CP. */
+static const size_t SHOW_DURATIONS[] = {120, 180, 900, 1800, 3600};
 #define N_SHOW (sizeof SHOW_DURATIONS / sizeof SHOW_DURATIONS[0])
 
 /* Grid index of duration d (s) on the grid of mmp.h, or (size_t)-1 when d is not on it. */

@@ -27,7 +27,7 @@ static const char HELP_IMPORT[] =
     "unless --create-athletes (they are then added with their code as name).\n\n"
     "examples:\n"
     "  cpdomain trial import trials.csv\n"
-    "  cpdomain trial import lab.csv --map athlete=Subject,power_w=Watts,duration_s=TTE\n";
+    "  cpdomain trial import lab.csv --map athlete=Subject,power_w=Watts,duration_s=Tlim\n";
 static const char HELP_EXCLUDE[] = "usage: cpdomain trial exclude ID --reason TEXT\n\n"
                                    "Leaves a trial out of fits, with the reason kept beside it.\n\n"
                                    "example:\n  cpdomain trial exclude 12 --reason \"stopped by a chain drop\"\n";
