@@ -305,6 +305,12 @@ done:
 }
 
 /* ---- the domain sheet's plots (power-duration relationship, W' balance) ---- */
+int cpd_plot_domain_color(int domain)
+{
+    static const int ramp[CPD_DOM_N] = {CPD_SVGPLOT_RAMP1, CPD_SVGPLOT_RAMP2, CPD_SVGPLOT_RAMP3, CPD_SVGPLOT_RAMP4};
+    return domain >= 0 && domain < CPD_DOM_N ? ramp[domain] : -1;
+}
+
 int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double *duration_s, size_t n,
                 const cpd_domains_result *d, char **svg)
 {
@@ -363,7 +369,6 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
         double e[4] = {-INFINITY, b[CPD_BND_MOD_HEAVY].valid ? b[CPD_BND_MOD_HEAVY].value : NAN,
                        b[CPD_BND_HEAVY_SEVERE].valid ? b[CPD_BND_HEAVY_SEVERE].value : NAN,
                        b[CPD_BND_SEVERE_EXTREME].valid ? b[CPD_BND_SEVERE_EXTREME].value : NAN};
-        static const int color[CPD_DOM_N] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
         for (int k = 0; k < CPD_DOM_N; k++) {
             double y0 = k == 0 ? -INFINITY : e[k], y1 = k == CPD_DOM_N - 1 ? INFINITY : e[k + 1];
             const char *label = cpd_domain_name((cpd_domain)k);
@@ -376,9 +381,9 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
             }
             if (isnan(y0) || isnan(y1) || !(y1 > y0))
                 continue;
-            cpd_svgplot_style_init(&st, color[k]);
+            cpd_svgplot_style_init(&st, cpd_plot_domain_color(k));
             st.stroke_px = 0;
-            st.fill_opacity = k < 2 ? 0.28 : 0.18;
+            st.fill_opacity = 1; /* opaque: the band is exactly the sheet's swatch of the domain */
             cpd_svgplot_hregion(p, y0, y1, &st, label);
         }
     }

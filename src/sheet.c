@@ -2,6 +2,7 @@
  * Key rule: every user text goes through esc() (HTML) or csv_cell() (CSV); every number through
  * fmt() or csv_num(), which never write NaN or infinity. */
 #include "cpdomain/sheet.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/protocol.h"
 #include "cpdomain/status.h"
 #include "cpdomain/svgplot.h"
@@ -334,8 +335,6 @@ static const char *const DOMAIN_WORDS_SPEED[CPD_DOM_N] = {
     "above it: task failure comes before VO2 can reach its maximum",
 };
 
-/* Palette colours of the domain bands, as in cpd_plot_pd (svgplot.h suggests them). */
-static const int DOMAIN_COLOR[CPD_DOM_N] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
 
 /* "173 W to 220 W", "below 173 W", "above 391 W" */
 static const char *range_words(double lo, int has_lo, double hi, int has_hi, char *buf, size_t n,
@@ -451,7 +450,7 @@ static void css(sb *b)
                ".sw{display:inline-block;width:.85em;height:.85em;border-radius:2px;margin-right:.4em;vertical-align:-.08em;"
                "border:1px solid rgba(0,0,0,.25)}\n");
     for (int k = 0; k < CPD_DOM_N; k++)
-        sb_printf(b, ".d%d{background:%s}\n", k, cpd_svgplot_color_hex(DOMAIN_COLOR[k]));
+        sb_printf(b, ".d%d{background:%s}\n", k, cpd_svgplot_color_hex(cpd_plot_domain_color(k)));
     sb_puts(b, ".keep{break-inside:avoid;page-break-inside:avoid}\n"
                ".plot{margin:.6rem 0 1rem;break-inside:avoid;page-break-inside:avoid}\n"
                ".plot svg{display:block;width:100%;max-width:42rem;height:auto;margin:0 auto}\n"

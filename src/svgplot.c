@@ -30,6 +30,7 @@
 
 static const char *const palette[CPD_SVGPLOT_NCOLORS] = {
     "#1b5e9e", "#cf6a0e", "#1a9477", "#a8281c", "#c76fb8", "#3d3d3d", "#5fb3e3", "#e5c440",
+    "#f2effe", "#d4ceec", "#b4abd6", "#9489c1",
 };
 /* Default colours of series added without a style: the line colours only. */
 #define NLINECOLORS 6

@@ -14,7 +14,10 @@ typedef struct cpd_svgplot cpd_svgplot;
  * protanopia, deuteranopia and tritanopia (Machado, Oliveira & Fernandes 2009, IEEE Trans Vis Comput
  * Graph 15:1291, severity 1). Some pairs share a lightness (BLUE/RED, ORANGE/GREEN): in greyscale,
  * tell series apart by dash and marker. SKY and YELLOW are light: meant for fills.
- * Suggested intensity-domain bands: moderate SKY, heavy YELLOW, severe ORANGE, extreme RED. */
+ * RAMP1..RAMP4 are the intensity-domain ramp (cpd_plot_domain_color picks them; nothing else should):
+ * one hue (CIELAB h = 300 degrees, a heather violet) at L* 95, 84, 72, 60, lightest for the moderate
+ * domain, so the order of the domains reads as lightness alone: in greyscale print and for every
+ * colour-vision type, since a dichromat simulation keeps lightness steps (tests/ref/palette_cvd.py). */
 enum {
     CPD_SVGPLOT_BLUE,   /* #1b5e9e */
     CPD_SVGPLOT_ORANGE, /* #cf6a0e */
@@ -24,6 +27,10 @@ enum {
     CPD_SVGPLOT_GREY,   /* #3d3d3d, near black */
     CPD_SVGPLOT_SKY,    /* #5fb3e3, fills only */
     CPD_SVGPLOT_YELLOW, /* #e5c440, fills only */
+    CPD_SVGPLOT_RAMP1,  /* #f2effe, domain ramp, lightest: fills only */
+    CPD_SVGPLOT_RAMP2,  /* #d4ceec */
+    CPD_SVGPLOT_RAMP3,  /* #b4abd6 */
+    CPD_SVGPLOT_RAMP4,  /* #9489c1, domain ramp, darkest */
     CPD_SVGPLOT_NCOLORS
 };
 
@@ -57,7 +64,7 @@ enum {
 /* How a layer is drawn. Fill it with cpd_svgplot_style_init, then change what you need (a zeroed
  * struct is rejected: y_axis 0 is the x axis). */
 typedef struct {
-    int color;           /* palette index, CPD_SVGPLOT_BLUE .. CPD_SVGPLOT_YELLOW */
+    int color;           /* palette index, CPD_SVGPLOT_BLUE .. CPD_SVGPLOT_RAMP4 */
     double stroke_px;    /* line, marker outline and error-bar width, px, 0..20 */
     int dash;            /* CPD_SVGPLOT_SOLID .. CPD_SVGPLOT_DASHDOT (lines, steps, reference lines) */
     double fill_opacity; /* 0..1: bands, regions and marker interiors */

@@ -95,6 +95,16 @@ grep -q "Field estimate from the best efforts" "$TMP/s/C02.html" && grep -q "The
     && pass "C02's sheet shows the field estimate from sessions beside the lab estimate" || fail "no field estimate on C02"
 grep -q "Field estimate from the best efforts" "$TMP/s/C01.html" && fail "C01 has no sessions but shows a field estimate" \
     || pass "no field estimate without sessions"
+# the domains wear one set of colours: the page's swatches are the power-duration plot's bands
+for code in $codes; do
+    dc=$($PY "$CHECK" domaincolours "$TMP/s/$code.html")
+    css=$(echo "$dc" | sed -n 1p); bands=$(echo "$dc" | sed -n 2p)
+    case " $css " in
+    *" $bands "*) [ -n "$bands" ] && pass "$code: the plot's domain bands wear the sheet's domain colours" ||
+        fail "$code: no domain bands in the plot" ;;
+    *) fail "$code: plot bands '$bands' are not the sheet's colours '$css'" ;;
+    esac
+done
 s01svg=$($PY "$CHECK" split "$TMP/s/S01.html" "$(mktemp -d "$TMP/c.XXXXXX")")
 [ "$s01svg" -eq 2 ] && pass "S01 (no ramp) has two plots" || fail "S01 has $s01svg plots"
 

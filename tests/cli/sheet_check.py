@@ -9,6 +9,8 @@
   compare CSV JSON        the same CP, W' and boundaries in the sheet's CSV and JSON; prints problems
   nonfinite FILE...       prints every 'nan' or 'inf' word found (printf's spellings of NaN and infinity)
   png FILE                prints "WIDTH HEIGHT COLOURS" of a PNG (decoded with zlib)
+  domaincolours FILE      prints the page's domain swatch colours (.d0 .. .d3) on one line and the
+                          fills of the opaque domain bands of its power-duration plot on the next
 """
 import csv
 import html.parser
@@ -248,11 +250,21 @@ def cmd_png(path):
     print(w, h, len(colours))
 
 
+def cmd_domaincolours(path):
+    with open(path, encoding="utf-8") as fh:
+        text = fh.read()
+    css = [re.search(r"\.d%d\{background:(#[0-9a-f]{6})\}" % k, text) for k in range(4)]
+    print(" ".join(m.group(1) if m else "none" for m in css))
+    svg = next((s for s in top_level_svgs(text) if "duration relationship" in s), "")
+    fills = re.findall(r'<rect [^>]*fill="(#[0-9a-f]{6})" fill-opacity="1"', svg)
+    print(" ".join(fills))
+
+
 def main():
     cmd, args = sys.argv[1], sys.argv[2:]
     {"html": lambda: cmd_html(args), "split": lambda: cmd_split(*args), "links": lambda: cmd_links(*args),
      "compare": lambda: cmd_compare(*args), "nonfinite": lambda: cmd_nonfinite(args),
-     "png": lambda: cmd_png(*args)}[cmd]()
+     "png": lambda: cmd_png(*args), "domaincolours": lambda: cmd_domaincolours(*args)}[cmd]()
 
 
 if __name__ == "__main__":
