@@ -47,6 +47,13 @@ int cpd_plot_vslope(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg)
         lo = fmin(lo, fmin(xl[i], yl[i]));
         hi = fmax(hi, fmax(xl[i], yl[i]));
     }
+    /* the thresholds inside the range, so their lines and labels are never cut off at an edge */
+    const cpd_ramp_threshold *thr[2] = {&r->get, &r->rcp};
+    for (int k = 0; k < 2; k++)
+        if (thr[k]->status != CPD_THR_NOT_FOUND && isfinite(thr[k]->vo2_ml_min)) {
+            lo = fmin(lo, thr[k]->vo2_ml_min / 1000);
+            hi = fmax(hi, thr[k]->vo2_ml_min / 1000 + 0.02 * (hi - lo));
+        }
     cpd_svgplot_set_title(p, "V-slope: VCO2 against VO2");
     cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "VO2 (L/min)");
     cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "VCO2 (L/min)");
@@ -192,7 +199,6 @@ int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, 
         return CPD_ENODATA;
     enum { W = 720, H_MAIN = 440, H_RES = 230 };
     int rc = CPD_OK;
-    char *top = NULL, *bottom = NULL;
     size_t nm = (size_t)ceil(f->to_s - f->from_s) + 1;
     cpd_svgplot *p = cpd_svgplot_alloc(W, H_MAIN), *q = cpd_svgplot_alloc(W, H_RES);
     double *mt = malloc(nm * sizeof *mt), *my = malloc(nm * sizeof *my), *py = malloc(nm * sizeof *py);
@@ -269,33 +275,12 @@ int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, 
     style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_SOLID);
     cpd_svgplot_hline(q, 0.0, &st, NULL);
 
-    size_t la = 0, lb = 0;
-    if ((rc = cpd_svgplot_render(p, &top, &la)) || (rc = cpd_svgplot_render(q, &bottom, &lb)))
-        goto done;
-    static const char head[] = "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
-                               "role=\"img\">\n<title>VO2 kinetics and residuals</title>\n";
-    static const char mid[] = "<g transform=\"translate(0,%d)\">\n";
-    static const char tail[] = "</g>\n</svg>\n";
-    size_t cap = la + lb + sizeof head + sizeof mid + sizeof tail + 64;
-    char *out = malloc(cap);
-    if (!out) {
-        rc = CPD_ENOMEM;
-        goto done;
-    }
-    int n1 = snprintf(out, cap, head, W, H_MAIN + H_RES, W, H_MAIN + H_RES);
-    memcpy(out + n1, top, la);
-    size_t pos = (size_t)n1 + la;
-    pos += (size_t)snprintf(out + pos, cap - pos, mid, H_MAIN);
-    memcpy(out + pos, bottom, lb);
-    pos += lb;
-    snprintf(out + pos, cap - pos, "%s", tail);
-    *svg = out;
+    cpd_svgplot *const stack[2] = {p, q};
+    rc = cpd_svgplot_render_stack(stack, 2, "VO2 kinetics and residuals", svg, NULL);
 
 done:
     cpd_svgplot_free(p);
     cpd_svgplot_free(q);
-    free(top);
-    free(bottom);
     free(mt);
     free(my);
     free(py);

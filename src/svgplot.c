@@ -1648,8 +1648,9 @@ static void draw_annotation_labels(ctx *c)
             double x = map(&c->ax[CPD_SVGPLOT_X], L->v0);
             if (!inside(x, c->left, c->left + c->w))
                 continue;
-            int right_half = x > c->left + 0.7 * c->w;
-            double tw = 0.62 * FS_NOTE * (double)strlen(L->label);
+            double tw = text_px(L->label, FS_NOTE);
+            /* a label that would run past the right edge ends at its line instead: never clipped */
+            int right_half = x > c->left + 0.7 * c->w || x + 4 + tw > c->left + c->w;
             double lo = right_half ? x - 4 - tw : x + 4, hi = right_half ? x - 4 : x + 4 + tw;
             size_t row = 0;
             for (; row < ROWS; row++) {
@@ -1826,14 +1827,10 @@ static int has_data(const cpd_svgplot *p)
     return 0;
 }
 
-int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
+/* Renders p as a standalone <svg> (dy < 0) or, for a stack, as a <g> moved down by dy px inside
+ * the stack's one <svg>: one root element, so the page holds no nested <svg>. */
+static int render_part(const cpd_svgplot *p, int dy, char **out, size_t *len)
 {
-    if (out)
-        *out = NULL;
-    if (len)
-        *len = 0;
-    if (!p || !out)
-        return CPD_EUSAGE;
     int rc = CPD_OK;
     ctx c;
     memset(&c, 0, sizeof c);
@@ -1844,12 +1841,17 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
         goto done;
     }
     double W = p->width_px, H = p->height_px;
-    sb_printf(&c.sb,
-              "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
-              "role=\"img\" font-family=\"sans-serif\" font-size=\"%g\" fill=\"#222\">\n<title>",
-              p->width_px, p->height_px, p->width_px, p->height_px, FS_TICK);
-    sb_text(&c.sb, p->title ? p->title : p->label[CPD_SVGPLOT_Y] ? p->label[CPD_SVGPLOT_Y] : "plot");
-    sb_puts(&c.sb, "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#fff\"/>\n");
+    const char *close = dy < 0 ? "</svg>\n" : "</g>\n";
+    if (dy < 0) {
+        sb_printf(&c.sb,
+                  "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
+                  "role=\"img\" font-family=\"sans-serif\" font-size=\"%g\" fill=\"#222\">\n<title>",
+                  p->width_px, p->height_px, p->width_px, p->height_px, FS_TICK);
+        sb_text(&c.sb, p->title ? p->title : p->label[CPD_SVGPLOT_Y] ? p->label[CPD_SVGPLOT_Y] : "plot");
+        sb_puts(&c.sb, "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#fff\"/>\n");
+    } else
+        sb_printf(&c.sb, "<g transform=\"translate(0,%d)\">\n<rect width=\"%d\" height=\"%d\" fill=\"#fff\"/>\n", dy,
+                  p->width_px, p->height_px);
     if (p->title)
         text_at(&c, 0.5 * W, 8 + FS_TITLE, "middle", FS_TITLE, " font-weight=\"bold\" fill=\"#222\"", p->title, 0);
 
@@ -1865,7 +1867,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
         sb_num(&c.sb, c.h);
         sb_puts(&c.sb, "\" fill=\"none\" stroke=\"#b0b0b0\"/>\n");
         text_at(&c, 0.5 * W, top + 0.5 * c.h + 5, "middle", FS_LABEL, " fill=\"#666\"", "no data", 0);
-        sb_puts(&c.sb, "</svg>\n");
+        sb_puts(&c.sb, close);
         goto finish;
     }
 
@@ -1905,7 +1907,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
     draw_axes(&c);
     draw_annotation_labels(&c);
     draw_legend(&c);
-    sb_puts(&c.sb, "</svg>\n");
+    sb_puts(&c.sb, close);
 
 finish:
     if (c.oom || c.sb.oom) {
@@ -1926,4 +1928,60 @@ done:
     free(c.c.x);
     free(c.c.y);
     return rc;
+}
+
+int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
+{
+    if (out)
+        *out = NULL;
+    if (len)
+        *len = 0;
+    if (!p || !out)
+        return CPD_EUSAGE;
+    return render_part(p, -1, out, len);
+}
+
+int cpd_svgplot_render_stack(cpd_svgplot *const *plots, size_t n, const char *title, char **out, size_t *len)
+{
+    if (out)
+        *out = NULL;
+    if (len)
+        *len = 0;
+    if (!plots || !out || n == 0 || n > 16)
+        return CPD_EUSAGE;
+    int W = 0, H = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (!plots[i])
+            return CPD_EUSAGE;
+        W = plots[i]->width_px > W ? plots[i]->width_px : W;
+        H += plots[i]->height_px;
+    }
+    sbuf b;
+    memset(&b, 0, sizeof b);
+    sb_printf(&b,
+              "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
+              "role=\"img\" font-family=\"sans-serif\" font-size=\"%g\" fill=\"#222\">\n<title>",
+              W, H, W, H, FS_TICK);
+    sb_text(&b, title && *title ? title : plots[0]->title ? plots[0]->title : "plot");
+    sb_puts(&b, "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#fff\"/>\n");
+    int rc = CPD_OK, dy = 0;
+    for (size_t i = 0; i < n && rc == CPD_OK; i++) {
+        char *part = NULL;
+        size_t pl = 0;
+        if ((rc = render_part(plots[i], dy, &part, &pl)) == CPD_OK)
+            sb_add(&b, part, pl);
+        free(part);
+        dy += plots[i]->height_px;
+    }
+    sb_puts(&b, "</svg>\n");
+    if (rc == CPD_OK && b.oom)
+        rc = CPD_ENOMEM;
+    if (rc) {
+        free(b.s);
+        return rc;
+    }
+    *out = b.s;
+    if (len)
+        *len = b.len;
+    return CPD_OK;
 }

@@ -363,6 +363,40 @@ static void domain_ramp_readable(void **state)
     assert_true(v[3] >= 4.5); /* labels on any band: WCAG 2.1 SC 1.4.3 text contrast (W3C 2018) */
 }
 
+/* Two plots stacked in ONE <svg>: a consumer that ends an SVG at its first </svg> (as a page
+ * scraper does) must still get the whole picture, so nothing nests. */
+static void stacked_plots_one_root(void **state)
+{
+    (void)state;
+    const double x[4] = {1.25, 2.5, 3.75, 5.125}, y[4] = {3.5, 1.75, 4.25, 2.125};
+    cpd_svgplot *a = cpd_svgplot_alloc(400, 260), *b = cpd_svgplot_alloc(380, 170);
+    assert_int_equal(cpd_svgplot_line(a, x, y, 4, NULL, "upper"), CPD_OK);
+    assert_int_equal(cpd_svgplot_points(b, x, y, 4, NULL, NULL, "lower"), CPD_OK);
+    cpd_svgplot *const two[2] = {a, b};
+    char *svg = NULL;
+    size_t len = 0;
+    assert_int_equal(cpd_svgplot_render_stack(two, 2, "A & B", &svg, &len), CPD_OK);
+    assert_int_equal(strlen(svg), len);
+    const char *first = strstr(svg, "<svg"), *close = strstr(svg, "</svg>");
+    assert_ptr_equal(first, svg);
+    assert_null(strstr(svg + 4, "<svg"));
+    assert_ptr_equal(close + strlen("</svg>\n"), svg + len);
+    assert_non_null(strstr(svg, "width=\"400\" height=\"430\""));
+    assert_non_null(strstr(svg, "<title>A &amp; B</title>"));
+    assert_non_null(strstr(svg, "<g transform=\"translate(0,260)\">"));
+    double k[K_COUNT];
+    assert_int_equal(pyref_run("svgcheck.py", svg, k, K_COUNT, ABSENT), K_COUNT);
+    assert_true(k[K_ROOT_OK] == 1);
+    free(svg);
+    assert_int_equal(cpd_svgplot_render_stack(two, 0, NULL, &svg, NULL), CPD_EUSAGE);
+    assert_null(svg);
+    cpd_svgplot *const holed[2] = {a, NULL};
+    assert_int_equal(cpd_svgplot_render_stack(holed, 2, NULL, &svg, NULL), CPD_EUSAGE);
+    assert_int_equal(cpd_svgplot_render_stack(NULL, 1, NULL, &svg, NULL), CPD_EUSAGE);
+    cpd_svgplot_free(a);
+    cpd_svgplot_free(b);
+}
+
 /* ---- plots -------------------------------------------------------------------------------- */
 
 static void escaping_hostile_text(void **state)
@@ -1109,6 +1143,7 @@ int main(void)
         cmocka_unit_test(tick_labels),
         cmocka_unit_test(palette_colour_blind_safe),
         cmocka_unit_test(domain_ramp_readable),
+        cmocka_unit_test(stacked_plots_one_root),
         cmocka_unit_test(escaping_hostile_text),
         cmocka_unit_test(nonfinite_skipped),
         cmocka_unit_test(empty_plot_says_no_data),

@@ -164,6 +164,12 @@ int cpd_svgplot_hline(cpd_svgplot *p, double y, const cpd_svgplot_style *st, con
  * Returns CPD_OK, CPD_EUSAGE for NULL arguments, CPD_ENOMEM (*out NULL). The caller frees *out. */
 int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len);
 
+/* Renders n plots (1..16) stacked top to bottom as ONE <svg> (no nested <svg>: each plot becomes a
+ * <g> moved down by the heights above it), as wide as the widest, with title (NULL: the first
+ * plot's) as its <title>. Same output rules and ownership as cpd_svgplot_render; CPD_EUSAGE for NULL
+ * arguments or a bad n. */
+int cpd_svgplot_render_stack(cpd_svgplot *const *plots, size_t n, const char *title, char **out, size_t *len);
+
 /* Nice tick values covering [lo, hi]: a step of 1, 2 or 5 x 10^k chosen as in Heckbert 1990
  * ("Nice numbers for graph labels", Graphics Gems, Academic Press, p 61-63), raised along 1-2-5
  * until the ticks from floor(lo/step) to ceil(hi/step) steps number at most max_ticks (3 to

@@ -183,6 +183,24 @@ grep -q 'no sheet: not enough data' "$TMP/all2/index.html" && pass "the index sa
 [ ! -f "$TMP/all2/Y1.html" ] && [ -f "$TMP/all2/X1.html" ] && pass "Y1 gets no file, the others do" || fail "Y1 files wrong"
 expect 69 "Y1 alone" sheet Y1
 
+# every SVG the demo and these stores produce parses as XML when cut out as a simple consumer cuts it
+# (the first </svg> ends it, so no <svg> may nest), and no label runs outside its picture
+res=$($PY "$CHECK" svgs "$TMP"/demo/out/*.html "$TMP"/s/*.html "$TMP"/all2/*.html)
+case "$res" in
+"svgs "*) pass "every SVG of the demo's and the test's sheets parses, none nested, no label cut off (${res#svgs })" ;;
+*) fail "SVG problems" "$(echo "$res" | head -5)" ;;
+esac
+# the case that once broke it: an athlete with a ramp and a heavy bout (a two-panel kinetics chart)
+DEMO="$CPDOMAIN_TESTS/../demo/data"
+HB="$TMP/heavy.db"
+"$BIN" --db "$HB" --quiet init && "$BIN" --db "$HB" --quiet athlete import "$DEMO/athletes.csv" &&
+    "$BIN" --db "$HB" --quiet trial import "$DEMO/trials.csv" &&
+    "$BIN" --db "$HB" --quiet ramp add C01 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 180 &&
+    "$BIN" --db "$HB" --quiet bout add C01 "$DEMO/bout_C01_2.csv" --date 2026-10-26 --power 205 --baseline 20 --onset 180 &&
+    "$BIN" --db "$HB" --quiet sheet C01 -o "$TMP/heavy.html"
+res=$($PY "$CHECK" svgs "$TMP/heavy.html")
+[ "$res" = "svgs 4" ] && pass "a ramp and a heavy bout: the sheet's 4 SVGs parse one by one" || fail "heavy-bout sheet" "$res"
+
 # a real browser: the sheet renders to a page that is not blank (CHROMIUM names another binary)
 CHROMIUM=${CHROMIUM:-/usr/bin/chromium}
 if [ -x "$CHROMIUM" ]; then

@@ -9,6 +9,10 @@
   compare CSV JSON        the same CP, W' and boundaries in the sheet's CSV and JSON; prints problems
   nonfinite FILE...       prints every 'nan' or 'inf' word found (printf's spellings of NaN and infinity)
   png FILE                prints "WIDTH HEIGHT COLOURS" of a PNG (decoded with zlib)
+  svgs FILE...            every <svg>...</svg> of each HTML or SVG file, cut out as a simple consumer
+                          would (the first </svg> closes it), parsed as XML, with no <svg> nested
+                          and every label inside the picture; prints one line per problem, then
+                          "svgs N" with the count checked
   domaincolours FILE      prints the page's domain swatch colours (.d0 .. .d3) on one line and the
                           fills of the opaque domain bands of its power-duration plot on the next
 """
@@ -250,6 +254,53 @@ def cmd_png(path):
     print(w, h, len(colours))
 
 
+TRANSLATE = re.compile(r"translate\(\s*([-+0-9.eE]+)[ ,]+([-+0-9.eE]+)\s*\)")
+
+
+def label_problems(el, w, h, dx=0.0, dy=0.0, fs=11.0):
+    """Labels (<text>) whose estimated extent leaves the picture: 0.62 em per character, the
+    average advance svgplot itself assumes."""
+    m = TRANSLATE.search(el.get("transform") or "")
+    if m:
+        dx, dy = dx + float(m.group(1)), dy + float(m.group(2))
+    if el.get("font-size"):
+        fs = float(el.get("font-size"))
+    out = []
+    if el.tag.endswith("}text") and el.get("x") is not None:
+        x, y = float(el.get("x")) + dx, float(el.get("y")) + dy
+        tw = 0.62 * fs * len("".join(el.itertext()))
+        anchor = el.get("text-anchor") or "start"
+        lo = x - tw if anchor == "end" else x - tw / 2 if anchor == "middle" else x
+        rot = "rotate" in (el.get("transform") or "")
+        if not rot and (lo < -0.5 or lo + tw > w + 0.5 or y - fs < -0.5 or y > h + 0.5):
+            out.append("label %r at %.0f,%.0f runs outside the %gx%g picture" % ("".join(el.itertext()), lo, y, w, h))
+    for k in el:
+        out += label_problems(k, w, h, dx, dy, fs)
+    return out
+
+
+def cmd_svgs(files):
+    import xml.etree.ElementTree as ET
+    n = 0
+    for f in files:
+        with open(f, encoding="utf-8") as fh:
+            text = fh.read()
+        for i, piece in enumerate(re.findall(r"<svg\b.*?</svg>", text, re.S)):
+            n += 1
+            where = "%s: SVG %d" % (f, i + 1)
+            try:
+                root = ET.fromstring(piece)
+            except ET.ParseError as e:
+                print("%s does not parse as XML: %s" % (where, e))
+                continue
+            if any(e.tag.endswith("}svg") for e in root.iter() if e is not root):
+                print("%s nests an <svg>" % where)
+            w, h = float(root.get("width")), float(root.get("height"))
+            for q in label_problems(root, w, h):
+                print("%s: %s" % (where, q))
+    print("svgs %d" % n)
+
+
 def cmd_domaincolours(path):
     with open(path, encoding="utf-8") as fh:
         text = fh.read()
@@ -264,7 +315,8 @@ def main():
     cmd, args = sys.argv[1], sys.argv[2:]
     {"html": lambda: cmd_html(args), "split": lambda: cmd_split(*args), "links": lambda: cmd_links(*args),
      "compare": lambda: cmd_compare(*args), "nonfinite": lambda: cmd_nonfinite(args),
-     "png": lambda: cmd_png(*args), "domaincolours": lambda: cmd_domaincolours(*args)}[cmd]()
+     "png": lambda: cmd_png(*args), "domaincolours": lambda: cmd_domaincolours(*args),
+     "svgs": lambda: cmd_svgs(args)}[cmd]()
 
 
 if __name__ == "__main__":
