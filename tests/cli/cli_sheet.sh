@@ -21,6 +21,17 @@ codes=$("$BIN" --db "$DB" athlete list | awk 'NR > 1 { print $1 }')
 ncodes=$(echo "$codes" | wc -w)
 [ "$ncodes" -ge 9 ] && pass "the demo has $ncodes athletes" || fail "the demo has $ncodes athletes"
 
+# the examples in solve's help run on the demo store (their CODEs are the demo's)
+"$BIN" solve --help | grep -E '^  cpdomain( --json)? solve ' >"$TMP/solve_examples"
+n_ex=0
+while IFS= read -r line; do
+    n_ex=$((n_ex + 1))
+    eval "set -- ${line#  cpdomain }"
+    if "$BIN" --db "$DB" "$@" >/dev/null 2>"$TMP/err"; then pass "solve --help example runs on the demo: ${line#  }"
+    else fail "solve --help example fails on the demo: ${line#  }" "$(head -c 300 "$TMP/err")"; fi
+done <"$TMP/solve_examples"
+[ "$n_ex" -ge 2 ] && pass "solve --help has $n_ex examples" || fail "solve --help has $n_ex examples"
+
 # usage and errors
 expect 0 "help" sheet --help
 out_has "cpdomain sheet --all -o" "help has an example"
