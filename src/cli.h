@@ -51,6 +51,9 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
 /* Typed option values with messages naming the option. Each returns 0 or 64 after printing. */
 int cli_number(const char *opt, const char *arg, double *out);
 int cli_duration(const char *opt, const char *arg, double *out);
+/* A number that may carry the option's own unit: "300", "300W", "300 w"; for unit "m" also "5km"
+ * (x 1000). unit NULL: a plain number. */
+int cli_quantity(const char *opt, const char *arg, const char *unit, double *out);
 int cli_id(const char *opt, const char *arg, long long *out);
 /* A number (or a duration when duration is set) that must lie in [lo, hi] unit. */
 int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out);

@@ -1,6 +1,7 @@
 /* cli_out.c: the CLI's shared plumbing: exit codes, messages, option parsing, tables, JSON.
  * The only CLI file that includes cJSON.h; it turns every non-finite number into null. */
 #include "cli.h"
+#include "cpdomain/suggest.h"
 #include "cpdomain/units.h"
 
 #include <cJSON.h>
@@ -10,6 +11,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include <sys/stat.h>
 #include <sysexits.h>
 
@@ -105,6 +107,13 @@ int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_
     for (size_t i = 0; i < n; i++)
         if (strcmp(argv[1], table[i].name) == 0)
             return table[i].run(c, argc - 1, argv + 1);
+    const char *names[32];
+    size_t k = 0;
+    for (; k < n && k < 32; k++)
+        names[k] = table[k].name;
+    const char *near = cpd_suggest(argv[1], names, k);
+    if (near)
+        return cli_usage(family, "unknown subcommand '%s' (did you mean '%s'?)", argv[1], near);
     return cli_usage(family, "unknown subcommand '%s'", argv[1]);
 }
 
@@ -126,6 +135,17 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
             const char *bad = argv[optind - 1];
             if (o == ':' || (optopt && strchr(shortopts, optopt)))
                 return cli_usage(argv[0], "option '%s' needs a value", bad);
+            /* "did you mean": the closest long option, compared without its leading dashes and value */
+            char word[64];
+            snprintf(word, sizeof word, "%s", bad + strspn(bad, "-"));
+            word[strcspn(word, "=")] = '\0';
+            const char *names[64];
+            size_t k = 0;
+            for (; longopts && longopts[k].name && k < 64; k++)
+                names[k] = longopts[k].name;
+            const char *near = bad[0] == '-' && bad[1] == '-' ? cpd_suggest(word, names, k) : NULL;
+            if (near)
+                return cli_usage(argv[0], "unknown option '%s' (did you mean '--%s'?)", bad, near);
             return cli_usage(argv[0], "unknown option '%s'", bad);
         }
         int rc = fn(o, optarg, ud);
@@ -145,6 +165,33 @@ int cli_number(const char *opt, const char *arg, double *out)
     return 0;
 }
 
+/* A trailing unit (any letter case, with or without a space) that names the option's own unit is
+ * accepted: "300W", "300 W", "4.6m/s", "5km" for metres. */
+int cli_quantity(const char *opt, const char *arg, const char *unit, double *out)
+{
+    char buf[64];
+    snprintf(buf, sizeof buf, "%s", arg);
+    size_t L = strlen(buf), u = unit ? strlen(unit) : 0;
+    double scale = 1;
+    if (u && strcmp(unit, "m") == 0 && L > 2 && strcasecmp(buf + L - 2, "km") == 0) {
+        buf[L - 2] = '\0';
+        scale = 1000;
+    } else if (u && L > u && strcasecmp(buf + L - u, unit) == 0)
+        buf[L - u] = '\0';
+    L = strlen(buf);
+    while (L > 0 && buf[L - 1] == ' ')
+        buf[--L] = '\0';
+    if (cpd_parse_number(buf, out) != CPD_OK) {
+        if (u)
+            fprintf(stderr, "cpdomain: option %s: '%s' is not a number of %s\n", opt, arg, unit);
+        else
+            fprintf(stderr, "cpdomain: option %s: '%s' is not a number\n", opt, arg);
+        return EX_USAGE;
+    }
+    *out *= scale;
+    return 0;
+}
+
 int cli_duration(const char *opt, const char *arg, double *out)
 {
     if (cpd_parse_duration(arg, out) != CPD_OK) {
@@ -157,7 +204,7 @@ int cli_duration(const char *opt, const char *arg, double *out)
 
 int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out)
 {
-    int rc = duration ? cli_duration(opt, arg, out) : cli_number(opt, arg, out);
+    int rc = duration ? cli_duration(opt, arg, out) : cli_quantity(opt, arg, unit, out);
     if (rc)
         return rc;
     if (!(*out >= lo && *out <= hi)) {

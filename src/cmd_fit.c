@@ -10,6 +10,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include <sysexits.h>
 
 static const char HELP_FIT[] =
@@ -414,8 +415,8 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
     else if (o.duration)
         rc = cli_duration("--duration", o.duration, &q);
     else
-        rc = cli_number(o.power ? "--power" : o.speed ? "--speed" : "--distance",
-                        o.power ? o.power : o.speed ? o.speed : o.distance, &q);
+        rc = cli_quantity(o.power ? "--power" : o.speed ? "--speed" : "--distance",
+                          o.power ? o.power : o.speed ? o.speed : o.distance, o.power ? "W" : o.speed ? "m/s" : "m", &q);
     if (rc)
         return rc;
     const cpd_range *rg = o.power ? &CPD_RANGE_POWER : o.speed ? &CPD_RANGE_SPEED : o.distance ? &CPD_RANGE_DISTANCE
@@ -433,7 +434,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
     if (o.session && !o.from && !o.to) {
         if ((rc = cpd_store_session_get(c->store, session_id, 0, &srec, NULL)))
             return cli_store_fail(c, rc);
-        if (strcmp(srec.athlete, argv[first]) != 0)
+        if (strcasecmp(srec.athlete, argv[first]) != 0)
             return cli_fail(c, CPD_EDATA, "session %lld belongs to %s, not to %s", session_id, srec.athlete, argv[first]);
         to = srec.date;
     }
@@ -552,7 +553,11 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             } else
                 printf("at %s: %s\n", v, cpd_pd_pred_text(p.status));
         } else if (o.duration) {
-            cpd_format_duration(q, a, sizeof a);
+            /* under a minute as plain seconds: a bare '--duration 8' reads back as "8 s", not "0:08" */
+            if (q < 60)
+                snprintf(a, sizeof a, "%g s", q);
+            else
+                cpd_format_duration(q, a, sizeof a);
             if (p.valid) {
                 printf("for %s: %s", a, fmt_intensity(&f, p.value, v, sizeof v));
                 if (p.ci_valid)

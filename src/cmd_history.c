@@ -85,7 +85,7 @@ int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, 
     /* ramps of the same modality: GET equivalent and VO2peak */
     cpd_gx_test *v = NULL;
     size_t n = 0;
-    if ((rc = cpd_store_gx_list(c->store, code, CPD_GXT_RAMP, &v, &n))) {
+    if ((rc = cpd_store_gx_list(c->store, a->f.athlete.code, CPD_GXT_RAMP, &v, &n))) {
         cli_history_free(a);
         return cli_store_fail(c, rc);
     }

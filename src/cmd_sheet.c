@@ -15,6 +15,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include <sys/stat.h>
 #include <sysexits.h>
 
@@ -65,12 +66,13 @@ static const char *const FMT_EXT[] = {"html", "csv", "json", "txt"};
 
 static int parse_format(const char *s, out_format *f)
 {
+    /* any letter case: 'sheet -o X.CSV' is CSV */
     for (int k = 0; k < 4; k++)
-        if (strcmp(s, FMT_EXT[k]) == 0) {
+        if (strcasecmp(s, FMT_EXT[k]) == 0) {
             *f = (out_format)k;
             return 0;
         }
-    if (strcmp(s, "htm") == 0) {
+    if (strcasecmp(s, "htm") == 0) {
         *f = FMT_HTML;
         return 0;
     }

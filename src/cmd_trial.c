@@ -117,7 +117,8 @@ static int trial_add(cli_ctx *c, int argc, char **argv)
     snprintf(t.date, sizeof t.date, "%.10s", o.date);
     t.kind = o.power ? CPD_TRIAL_POWER : o.speed ? CPD_TRIAL_SPEED : CPD_TRIAL_DISTANCE;
     const char *vopt = o.power ? "--power" : o.speed ? "--speed" : "--distance";
-    if ((rc = cli_number(vopt, o.power ? o.power : o.speed ? o.speed : o.distance, &t.value)) ||
+    if ((rc = cli_quantity(vopt, o.power ? o.power : o.speed ? o.speed : o.distance,
+                           o.power ? "W" : o.speed ? "m/s" : "m", &t.value)) ||
         (rc = cli_duration("--duration", o.duration, &t.duration_s)))
         return rc;
     if (o.note) {

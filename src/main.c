@@ -1,5 +1,6 @@
 /* main.c: the cpdomain command line: global options, the command table, exit status. */
 #include "commands.h"
+#include "cpdomain/suggest.h"
 #include "cpdomain/units.h"
 #include "cpdomain/version.h"
 
@@ -110,7 +111,14 @@ int main(int argc, char **argv)
         if (strcmp(name, commands[i].name) == 0)
             cmd = &commands[i];
     if (!cmd) {
-        fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
+        const char *names[sizeof commands / sizeof commands[0]];
+        for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
+            names[i] = commands[i].name;
+        const char *near = cpd_suggest(name, names, sizeof commands / sizeof commands[0]);
+        if (near)
+            fprintf(stderr, "cpdomain: unknown command '%s' (did you mean '%s'?)\nTry 'cpdomain --help'.\n", name, near);
+        else
+            fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
         return EX_USAGE;
     }
     int rc = cmd->run(&c, argc - optind, argv + optind);
