@@ -1,6 +1,7 @@
 /* cli_out.c: the CLI's shared plumbing: exit codes, messages, option parsing, tables, JSON.
  * The only CLI file that includes cJSON.h; it turns every non-finite number into null. */
 #include "cli.h"
+#include "cpdomain/csvin.h"
 #include "cpdomain/suggest.h"
 #include "cpdomain/units.h"
 
@@ -237,6 +238,19 @@ int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len)
     return 0;
 }
 
+int cli_write_output(cli_ctx *c, const char *path, const char *text, size_t len)
+{
+    return cli_write_file(c, path, text, len);
+}
+
+int cli_plot_path(const char *cmd, const char *path)
+{
+    size_t L = strlen(path);
+    if (L < 5 || strcasecmp(path + L - 4, ".svg") != 0)
+        return cli_usage(cmd, "-o '%s': plots are written as SVG: name the file FILE.svg", path);
+    return 0;
+}
+
 int cli_id(const char *opt, const char *arg, long long *out)
 {
     char *e = NULL;
@@ -341,6 +355,28 @@ void cli_table_print(cli_table *t)
     free(t);
 }
 
+/* ---- CSV ---- */
+void cli_csv_row(const char *const *cells, int n)
+{
+    for (int j = 0; j < n; j++) {
+        char *q = cpd_csv_field(cells[j]);
+        if (j)
+            fputc(',', stdout);
+        fputs(q ? q : "", stdout);
+        free(q);
+    }
+    fputs("\r\n", stdout);
+}
+
+const char *cli_csv_num(char *buf, size_t n, double v)
+{
+    if (isfinite(v))
+        snprintf(buf, n, "%.10g", v);
+    else if (n)
+        buf[0] = '\0';
+    return buf;
+}
+
 /* ---- JSON ---- */
 #define J(x) ((cJSON *)(void *)(x))
 #define CJ(x) ((cli_json *)(void *)(x))
@@ -425,6 +461,165 @@ int cj_print(cli_json *doc)
     cJSON_free(s);
     return ok ? 0 : EX_IOERR;
 }
+/* One cell of a flattened object: numbers with 10 significant digits, true/false, null as "". */
+static void csv_value(const cJSON *v, char *buf, size_t n)
+{
+    buf[0] = '\0';
+    if (cJSON_IsNumber(v))
+        cli_csv_num(buf, n, v->valuedouble);
+    else if (cJSON_IsString(v))
+        snprintf(buf, n, "%s", v->valuestring);
+    else if (cJSON_IsBool(v))
+        snprintf(buf, n, "%s", cJSON_IsTrue(v) ? "true" : "false");
+    else if (cJSON_IsArray(v)) { /* a list of words or numbers: "a; b" */
+        size_t o = 0;
+        for (const cJSON *e = v->child; e && o + 2 < n; e = e->next) {
+            char t[256];
+            csv_value(e, t, sizeof t);
+            o += (size_t)snprintf(buf + o, n - o, "%s%s", o ? "; " : "", t);
+        }
+    }
+}
+
+static int is_pair(const cJSON *v)
+{
+    if (!cJSON_IsArray(v) || cJSON_GetArraySize(v) != 2)
+        return 0;
+    const cJSON *a = v->child, *b = v->child->next;
+    return (cJSON_IsNumber(a) || cJSON_IsNull(a)) && (cJSON_IsNumber(b) || cJSON_IsNull(b));
+}
+
+/* The columns of a CSV table: flattened member names in order of first appearance. */
+typedef struct {
+    char (*name)[96];
+    char (*val)[512];
+    unsigned char seen[128]; /* a value other than null was met in the column */
+    size_t n, cap;
+} csv_cols;
+
+static size_t col_of(csv_cols *t, const char *name, int add)
+{
+    for (size_t i = 0; i < t->n; i++)
+        if (strcmp(t->name[i], name) == 0)
+            return i;
+    if (!add || t->n == t->cap)
+        return (size_t)-1;
+    snprintf(t->name[t->n], sizeof t->name[0], "%s", name);
+    t->val[t->n][0] = '\0';
+    t->seen[t->n] = 0;
+    return t->n++;
+}
+
+/* Flattens member v named prefix: objects as PREFIX_MEMBER (any depth), a [lo, hi] pair (or an
+ * interval's null) as PREFIX_lo and PREFIX_hi, other values as they are; arrays of objects are
+ * left to --json. add: collect the names; else fill the values of the known columns. */
+static void flatten(csv_cols *t, const char *prefix, const cJSON *v, int add)
+{
+    char name[96];
+    if (cJSON_IsObject(v)) {
+        for (const cJSON *m = v->child; m; m = m->next) {
+            snprintf(name, sizeof name, "%s%s%s", prefix, *prefix ? "_" : "", m->string);
+            flatten(t, name, m, add);
+        }
+        return;
+    }
+    if (is_pair(v) || (cJSON_IsNull(v) && strstr(prefix, "ci95"))) {
+        for (int e = 0; e < 2; e++) {
+            snprintf(name, sizeof name, "%s_%s", prefix, e ? "hi" : "lo");
+            size_t k = col_of(t, name, add);
+            if (!add && k != (size_t)-1 && is_pair(v))
+                csv_value(e ? v->child->next : v->child, t->val[k], sizeof t->val[k]);
+        }
+        return;
+    }
+    if (cJSON_IsArray(v) && v->child && cJSON_IsObject(v->child))
+        return;
+    size_t k = col_of(t, prefix, add);
+    if (add && k != (size_t)-1 && !cJSON_IsNull(v))
+        t->seen[k] = 1;
+    if (!add && k != (size_t)-1)
+        csv_value(v, t->val[k], sizeof t->val[k]);
+}
+
+const char *const CLI_CSV_UNITS_POWER[] = {"cp", "W", "w_prime", "J", "p_max", "W", "change_cp", "W",
+                                           "change_w_prime", "J", NULL};
+const char *const CLI_CSV_UNITS_SPEED[] = {"cs", "m/s", "d_prime", "m", "v_max", "m/s", "change_cs", "m/s",
+                                           "change_d_prime", "m", NULL};
+
+/* " (W)" for a column whose name is KEY or begins KEY_ in the NULL-ended {KEY, UNIT, ...} list;
+ * not for flags (_meaningful) and percentages (_pct), which carry their own meaning. */
+static void unit_of(const char *name, const char *const *units, char *buf, size_t n)
+{
+    size_t L = strlen(name);
+    buf[0] = '\0';
+    if (!units || (L > 11 && strcmp(name + L - 11, "_meaningful") == 0) || (L > 4 && strcmp(name + L - 4, "_pct") == 0))
+        return;
+    for (size_t i = 0; units[i] && units[i + 1]; i += 2) {
+        size_t k = strlen(units[i]);
+        if (strncmp(name, units[i], k) == 0 && (name[k] == '\0' || name[k] == '_')) {
+            snprintf(buf, n, "%s (%s)", name, units[i + 1]);
+            return;
+        }
+    }
+}
+
+int cj_print_csv(cli_json *doc, const char *key, const char *const *units)
+{
+    const cJSON *rows = cJSON_GetObjectItemCaseSensitive(J(doc), key);
+    /* an object of objects ("targets": {"moderate": {...}}) gives one row per member, named */
+    int named = cJSON_IsObject(rows);
+    csv_cols t = {malloc(128 * sizeof *t.name), malloc(128 * sizeof *t.val), {0}, 0, 128};
+    if (!t.name || !t.val) {
+        free(t.name);
+        free(t.val);
+        cJSON_Delete(J(doc));
+        return EX_SOFTWARE;
+    }
+    if (named)
+        col_of(&t, "name", 1);
+    for (const cJSON *o = rows ? rows->child : NULL; o; o = o->next)
+        flatten(&t, "", o, 1);
+    /* a member that is null in one row and an object in another: keep only the object's columns */
+    for (size_t i = 0; i < t.n;) {
+        size_t L = strlen(t.name[i]), j = 0;
+        while (!t.seen[i] && j < t.n && !(j != i && strncmp(t.name[j], t.name[i], L) == 0 && t.name[j][L] == '_'))
+            j++;
+        if (!t.seen[i] && j < t.n) {
+            memmove(t.name + i, t.name + i + 1, (t.n - i - 1) * sizeof *t.name);
+            memmove(t.seen + i, t.seen + i + 1, t.n - i - 1);
+            t.n--;
+        } else
+            i++;
+    }
+    const char *cells[128];
+    char (*head)[112] = malloc(128 * sizeof *head);
+    for (size_t j = 0; j < t.n; j++) {
+        cells[j] = t.name[j];
+        if (head) {
+            unit_of(t.name[j], units, head[j], sizeof head[j]);
+            if (head[j][0])
+                cells[j] = head[j];
+        }
+    }
+    if (t.n)
+        cli_csv_row(cells, (int)t.n);
+    free(head);
+    for (const cJSON *o = rows ? rows->child : NULL; o; o = o->next) {
+        for (size_t j = 0; j < t.n; j++)
+            t.val[j][0] = '\0';
+        if (named)
+            snprintf(t.val[0], sizeof t.val[0], "%s", o->string);
+        flatten(&t, "", o, 0);
+        for (size_t j = 0; j < t.n; j++)
+            cells[j] = t.val[j];
+        cli_csv_row(cells, (int)t.n);
+    }
+    free(t.name);
+    free(t.val);
+    cJSON_Delete(J(doc));
+    return ferror(stdout) ? EX_IOERR : 0;
+}
+
 void cj_free(cli_json *doc)
 {
     cJSON_Delete(J(doc));

@@ -112,10 +112,10 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
         return rc;
     const cpd_domains_result *r = &d.res;
     int spd = d.fit.modality == CPD_PD_SPEED;
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *doc = cj_obj();
         cli_domains_json(doc, &d);
-        rc = cj_print(doc);
+        rc = c->csv ? cj_print_csv(doc, "targets", NULL) : cj_print(doc);
     } else {
         char a[64], b[64], v[64];
         printf("%s %s: intensity domains (%s model, %zu trials %s to %s)\n", d.fit.athlete.code, d.fit.athlete.name,

@@ -3,6 +3,7 @@
 #include "cli_domains.h"
 #include "cli_pd.h"
 #include "commands.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/units.h"
 #include "cpdomain/version.h"
 
@@ -15,7 +16,7 @@
 
 static const char HELP_FIT[] =
     "usage: cpdomain fit CODE [--model NAME|all] [--from D] [--to D] [--source trials|curve]\n"
-    "                         [--durations LIST]\n\n"
+    "                         [--durations LIST] [-o FILE.svg]\n\n"
     "Fits the power-duration (speed-duration) models to the athlete's trials that are not excluded:\n"
     "  hyperbolic       t = W'/(P - CP), least squares on the measured duration\n"
     "  linear-total     W = CP*t + W' (distance D = CS*t + D')\n"
@@ -28,14 +29,16 @@ static const char HELP_FIT[] =
     "--source curve fits the same models to points of the mean-maximal curve of the recorded\n"
     "sessions dated --from/--to instead (a field estimate: efforts may be submaximal), at the\n"
     "durations of --durations (default 3min,5min,12min,20min: inside the 2-20 min window where the\n"
-    "power-duration relation holds); the fit is saved with source 'curve'.\n\n"
+    "power-duration relation holds); the fit is saved with source 'curve'.\n"
+    "-o FILE.svg draws the best model (or the one --model names) with its 95 % band and the trials.\n\n"
     "examples:\n  cpdomain fit C03\n  cpdomain --json fit R07 --model all --from 2026-09-01\n"
-    "  cpdomain fit C02 --source curve --from 2026-11-01 --durations 3min,5min,12min\n";
+    "  cpdomain fit C02 --source curve --from 2026-11-01 --durations 3min,5min,12min\n"
+    "  cpdomain fit C01 -o c01_fit.svg\n";
 
 static const char HELP_PREDICT[] =
     "usage: cpdomain predict CODE (--power W | --speed M_S | --duration T | --distance M |\n"
     "                              --protocol SPEC | --session ID) [--balance-model NAME] [--trace FILE.csv]\n"
-    "                              [--model NAME] [--from D] [--to D]\n\n"
+    "                              [--model NAME] [--from D] [--to D] [-o FILE.svg]\n\n"
     "From the athlete's current fit (the best model unless --model):\n"
     "  --power W / --speed M_S   time to task failure t = W'/(P - CP) with its 95 % interval;\n"
     "                            at or below CP (CS) no W'-limited failure is predicted\n"
@@ -44,7 +47,8 @@ static const char HELP_PREDICT[] =
     "  --protocol SPEC           the W' (D') balance through a session, second by second: its lowest\n"
     "                            point, the end balance and the predicted failure time, if any;\n"
     "                            --balance-model differential (default), integral or elite;\n"
-    "                            --trace writes time_s,intensity,balance per second to a CSV file\n"
+    "                            --trace writes time_s,intensity,balance per second to a CSV file;\n"
+    "                            -o FILE.svg draws the balance over the session's intensity\n"
     "                            SPEC: DURATION@INTENSITY segments separated by ';' or ',', Nx(...)\n"
     "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n"
     "  --session ID              the same balance through a stored session ('session list'), replayed\n"
@@ -53,11 +57,13 @@ static const char HELP_PREDICT[] =
     "examples:\n  cpdomain predict C03 --power 350\n  cpdomain --json predict R07 --distance 5000\n"
     "  cpdomain predict C03 --protocol \"10min@150W; 5x(3min@340W, 3min@140W)\" --trace c03.csv\n"
     "  cpdomain predict C03 --duration 8min --model linear-total\n"
-    "  cpdomain --json predict C02 --session 16 --balance-model integral\n";
+    "  cpdomain --json predict C02 --session 16 --balance-model integral\n"
+    "  cpdomain predict C01 --protocol \"10min@150W; 4x(3min@300W, 3min@120W)\" -o c01_session.svg\n";
 
 typedef struct {
     const char *model, *from, *to, *power, *speed, *duration, *distance, *protocol, *bmodel, *trace;
     const char *source, *durations, *session; /* fit --source curve --durations; predict --session */
+    const char *out;                          /* -o FILE.svg */
 } fit_opts;
 
 static int fit_opt(int opt, const char *arg, void *ud)
@@ -77,6 +83,7 @@ static int fit_opt(int opt, const char *arg, void *ud)
     case 'S': o->source = arg; break;
     case 'U': o->durations = arg; break;
     case 'I': o->session = arg; break;
+    case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -91,6 +98,7 @@ static const struct option fit_longopts[] = {
     {"trace", required_argument, NULL, 'T'},
     {"source", required_argument, NULL, 'S'},   {"durations", required_argument, NULL, 'U'},
     {"session", required_argument, NULL, 'I'},
+    {"output", required_argument, NULL, 'o'},
     {NULL, 0, NULL, 0},
 };
 
@@ -99,7 +107,7 @@ static int parse(int argc, char **argv, const char *help, fit_opts *o, int *firs
 {
     int done = 0;
     memset(o, 0, sizeof *o);
-    int rc = cli_getopt(argc, argv, "h", fit_longopts, help, fit_opt, o, first, &done);
+    int rc = cli_getopt(argc, argv, "ho:", fit_longopts, help, fit_opt, o, first, &done);
     if (rc)
         return rc;
     if (done)
@@ -258,6 +266,27 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
     }
 }
 
+/* fit -o FILE.svg: the best model (or the only one asked for) over the trials, with its band. */
+static int fit_plot(cli_ctx *c, const cli_pd_fit *f, unsigned mask, const char *path)
+{
+    const cpd_pd_result *r = f->res;
+    int k = mask == CPD_PD_ALL_MODELS && r->has_best ? (int)r->best : -1;
+    for (int j = 0; k < 0 && j < CPD_PD_NMODELS; j++)
+        if ((mask & CPD_PD_MODEL_BIT(j)) && r->models[j].ok)
+            k = j;
+    if (k < 0)
+        return cli_fail(c, CPD_ENODATA, "-o %s: no model fitted, so there is nothing to draw", path);
+    char *svg = NULL;
+    int rc = cpd_plot_pd(&r->models[k], f->x, f->t, f->n, NULL, &svg);
+    if (rc)
+        return cli_fail(c, rc, "-o %s: no plot: %s", path, cpd_strerror(rc));
+    rc = cli_write_output(c, path, svg, strlen(svg));
+    free(svg);
+    if (!rc)
+        cli_note(c, "wrote %s", path);
+    return rc;
+}
+
 static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
 {
     fit_opts o;
@@ -273,6 +302,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
         return cli_usage("fit", "--source must be trials or curve");
     if (o.durations && !curve)
         return cli_usage("fit", "--durations goes with --source curve");
+    if (o.out && (rc = cli_plot_path("fit", o.out)))
+        return rc;
     if ((rc = cli_open(c, 0)))
         return rc;
     cli_pd_fit f;
@@ -358,7 +389,9 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
         return cli_store_fail(c, rc);
     }
     cj_int(doc, "fit_id", run.id);
-    if (c->json) {
+    if (c->csv) {
+        rc = cj_print_csv(doc, "models", f.modality == CPD_PD_SPEED ? CLI_CSV_UNITS_SPEED : CLI_CSV_UNITS_POWER);
+    } else if (c->json) {
         rc = cj_print(doc);
     } else {
         cj_free(doc);
@@ -367,6 +400,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
             printf("\n%s\n", CLI_FIELD_ESTIMATE);
         printf("\nsaved as fit %lld\n", (long long)run.id);
     }
+    if (o.out && !rc)
+        rc = fit_plot(c, &f, mask, o.out);
     cli_pd_fit_free(&f);
     return rc;
 }
@@ -402,8 +437,10 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
              (o.session != NULL);
     if (nq != 1)
         return cli_usage("predict", "give exactly one of --power, --speed, --duration, --distance, --protocol and --session");
-    if ((o.bmodel || o.trace) && !o.protocol && !o.session)
-        return cli_usage("predict", "--balance-model and --trace go with --protocol or --session");
+    if ((o.bmodel || o.trace || o.out) && !o.protocol && !o.session)
+        return cli_usage("predict", "--balance-model, --trace and -o go with --protocol or --session");
+    if (o.out && (rc = cli_plot_path("predict", o.out)))
+        return rc;
     if (o.source || o.durations)
         return cli_usage("predict", "--source and --durations belong to 'fit'");
     long long session_id = 0;
@@ -470,9 +507,9 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             rc = cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", f.athlete.code, cpd_pd_model_name(which),
                           cpd_pd_fail_text(m->fail));
         } else if (o.session)
-            rc = cli_predict_session(c, &f, m, session_id, o.bmodel, o.trace);
+            rc = cli_predict_session(c, &f, m, session_id, o.bmodel, o.trace, o.out);
         else
-            rc = cli_predict_protocol(c, &f, m, o.protocol, o.bmodel, o.trace);
+            rc = cli_predict_protocol(c, &f, m, o.protocol, o.bmodel, o.trace, o.out);
         cli_pd_fit_free(&f);
         return rc;
     }

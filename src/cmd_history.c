@@ -4,6 +4,7 @@
 #include "cli_history.h"
 #include "cli_pd.h"
 #include "commands.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/history.h"
 #include "cpdomain/units.h"
 
@@ -14,17 +15,18 @@
 #include <sysexits.h>
 
 static const char HELP[] =
-    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME]\n\n"
+    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME] [-o FILE.svg]\n\n"
     "The season: the power-duration fit of every block of trials (a block holds the trials within\n"
     "--window days, default 28, of its first trial), the GET and VO2peak of the ramp nearest each\n"
     "block, and each change from one block to the next with its 95 % interval. A change of CP or W'\n"
     "is meaningful when its interval, from the combined standard errors of the two fits, excludes\n"
     "zero; GET and VO2peak changes use typical errors of 6 % and 3 % (common practice, from memory).\n"
-    "--all prints the team: the newest block of every athlete and its change.\n\n"
-    "examples:\n  cpdomain history C02\n  cpdomain --json history --all --window 35\n";
+    "--all prints the team: the newest block of every athlete and its change. -o FILE.svg draws CP\n"
+    "(CS) of every block with its 95 % interval over the season.\n\n"
+    "examples:\n  cpdomain history C02\n  cpdomain --json history --all --window 35\n  cpdomain history C02 -o c02_season.svg\n";
 
 typedef struct {
-    const char *window, *model;
+    const char *window, *model, *out;
     int all;
 } hist_opts;
 
@@ -35,9 +37,28 @@ static int hist_opt(int opt, const char *arg, void *ud)
     case 'w': o->window = arg; break;
     case 'm': o->model = arg; break;
     case 'a': o->all = 1; break;
+    case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
     return 0;
+}
+
+int cli_history_plot(const cli_history *a, char **svg)
+{
+    size_t nb = a->h->nblocks;
+    int day[CPD_HISTORY_MAX_BLOCKS];
+    double v[CPD_HISTORY_MAX_BLOCKS], lo[CPD_HISTORY_MAX_BLOCKS], hi[CPD_HISTORY_MAX_BLOCKS];
+    for (size_t k = 0; k < nb && k < CPD_HISTORY_MAX_BLOCKS; k++) {
+        const cpd_history_block *x = &a->h->block[k];
+        day[k] = x->to_day;
+        v[k] = x->fitted ? x->cp : NAN;
+        lo[k] = x->fitted && x->has_se ? x->cp_ci95[0] : NAN;
+        hi[k] = x->fitted && x->has_se ? x->cp_ci95[1] : NAN;
+    }
+    int spd = a->f.modality == CPD_PD_SPEED;
+    return cpd_plot_trend(day, v, lo, hi, nb < CPD_HISTORY_MAX_BLOCKS ? nb : CPD_HISTORY_MAX_BLOCKS,
+                          spd ? "Critical speed over the season" : "Critical power over the season",
+                          spd ? "CS (m/s)" : "CP (W)", svg);
 }
 
 void cli_history_free(cli_history *a)
@@ -212,13 +233,15 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     static const struct option lo[] = {
         {"window", required_argument, NULL, 'w'}, {"model", required_argument, NULL, 'm'},
         {"all", no_argument, NULL, 'a'},          {"help", no_argument, NULL, 'h'},
-        {NULL, 0, NULL, 0},
+        {"output", required_argument, NULL, 'o'}, {NULL, 0, NULL, 0},
     };
     hist_opts o = {0};
     int first = 0, done = 0;
-    int rc = cli_getopt(argc, argv, "h", lo, HELP, hist_opt, &o, &first, &done);
+    int rc = cli_getopt(argc, argv, "ho:", lo, HELP, hist_opt, &o, &first, &done);
     if (rc || done)
         return rc;
+    if (o.out && (o.all || (rc = cli_plot_path("history", o.out))))
+        return rc ? rc : cli_usage("history", "-o draws one athlete's season: give CODE, not --all");
     if (o.all ? argc - first != 0 : argc - first != 1)
         return cli_usage("history", o.all ? "--all takes no CODE" : "give CODE or --all");
     int win = CPD_HISTORY_WINDOW_DAYS;
@@ -239,7 +262,19 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
         cli_history a;
         if ((rc = cli_history_build(c, argv[first], win, o.model, 0, &a)))
             return rc;
-        if (c->json) {
+        if (o.out) { /* -o FILE.svg: CP (CS) of every block with its interval, as on the sheet */
+            char *svg = NULL;
+            int prc = cli_history_plot(&a, &svg);
+            rc = prc ? cli_fail(c, prc, "-o %s: no plot: %s", o.out, cpd_strerror(prc))
+                     : cli_write_output(c, o.out, svg, strlen(svg));
+            free(svg);
+            if (rc) {
+                cli_history_free(&a);
+                return rc;
+            }
+            cli_note(c, "wrote %s", o.out);
+        }
+        if (c->json || c->csv) {
             cli_json *d = cj_obj();
             cj_str(d, "athlete", a.f.athlete.code);
             cj_str(d, "modality", a.f.modality == CPD_PD_SPEED ? "speed" : "power");
@@ -253,7 +288,8 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             cj_str(d, "rule", "a change is meaningful when its 95 % interval excludes zero: +-1.96 x the combined "
                               "standard error of the two fits (CP, W'), or of sqrt(2) typical errors of 6 % (GET) "
                               "and 3 % (VO2peak)");
-            rc = cj_print(d);
+            rc = c->csv ? cj_print_csv(d, "blocks", a.f.modality == CPD_PD_SPEED ? CLI_CSV_UNITS_SPEED : CLI_CSV_UNITS_POWER)
+                        : cj_print(d);
         } else
             print_history(&a);
         cli_history_free(&a);

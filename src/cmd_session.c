@@ -2,6 +2,7 @@
  * session halves of 'fit --source curve' and 'predict --session'. */
 #include "cli_pd.h"
 #include "commands.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/allout.h"
 #include "cpdomain/import.h"
 #include "cpdomain/units.h"
@@ -66,15 +67,17 @@ static const char HELP_ASHOW[] =
 static const char HELP_AREMOVE[] = "usage: cpdomain allout remove ID\n\nDeletes a stored all-out test.\n\n"
                                    "example:\n  cpdomain allout remove 3\n";
 static const char HELP_CURVE[] =
-    "usage: cpdomain curve CODE [--from D] [--to D] [--modality power|speed]\n\n"
+    "usage: cpdomain curve CODE [--from D] [--to D] [--modality power|speed] [-o FILE.svg]\n\n"
     "The mean-maximal power (speed) curve over the athlete's stored sessions dated --from/--to: for\n"
     "every duration from 1 s to 60 min (then every minute) the best mean of any session, with the\n"
     "session and date it came from (the earliest session among equal values). No effort spans a\n"
-    "gap longer than 5 s. --json lists every point; the table shows standard durations.\n\n"
-    "examples:\n  cpdomain curve C02\n  cpdomain --json curve C02 --from 2026-11-01\n";
+    "gap longer than 5 s. --json lists every point; the table shows standard durations. -o FILE.svg\n"
+    "draws the whole curve on a logarithmic time axis.\n\n"
+    "examples:\n  cpdomain curve C02\n  cpdomain --json curve C02 --from 2026-11-01\n  cpdomain curve C02 -o c02_curve.svg\n";
 
 typedef struct {
     const char *date, *modality, *spike, *map, *note, *start, *from, *to;
+    const char *out; /* curve -o FILE.svg */
 } sess_opts;
 
 static int sess_opt(int opt, const char *arg, void *ud)
@@ -89,6 +92,7 @@ static int sess_opt(int opt, const char *arg, void *ud)
     case 's': o->start = arg; break;
     case 'f': o->from = arg; break;
     case 't': o->to = arg; break;
+    case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -102,15 +106,20 @@ static int parse(int argc, char **argv, const char *help, sess_opts *o, int want
         {"spike-limit", required_argument, NULL, 'k'}, {"map", required_argument, NULL, 'p'},
         {"note", required_argument, NULL, 'n'},        {"start", required_argument, NULL, 's'},
         {"from", required_argument, NULL, 'f'},        {"to", required_argument, NULL, 't'},
-        {"help", no_argument, NULL, 'h'},              {NULL, 0, NULL, 0},
+        {"help", no_argument, NULL, 'h'},              {"output", required_argument, NULL, 'o'},
+        {NULL, 0, NULL, 0},
     };
     int done = 0;
     memset(o, 0, sizeof *o);
-    int rc = cli_getopt(argc, argv, "h", lo, help, sess_opt, o, first, &done);
+    int rc = cli_getopt(argc, argv, "ho:", lo, help, sess_opt, o, first, &done);
     if (rc)
         return rc;
     if (done)
         return -1;
+    if (o->out && strcmp(argv[0], "curve") != 0)
+        return cli_usage(argv[0], "-o goes with 'curve' (the plot of the mean-maximal curve)");
+    if (o->out && (rc = cli_plot_path(argv[0], o->out)))
+        return rc;
     if (argc - *first < want)
         return cli_usage(argv[0], "missing argument %s", what);
     if (!many && argc - *first > want)
@@ -496,7 +505,7 @@ static int list_run(cli_ctx *c, int argc, char **argv, int allout)
     size_t n = 0;
     if ((rc = cpd_store_session_list(c->store, a.code, allout, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, allout ? "allouts" : "sessions");
         for (size_t i = 0; i < n; i++) {
@@ -505,7 +514,7 @@ static int list_run(cli_ctx *c, int argc, char **argv, int allout)
             cj_push(arr, t);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, allout ? "allouts" : "sessions", NULL) : cj_print(d);
     }
     static const char *const sh[] = {"id", "date", "duration", "recorded", "segments", "mean", "max", "dropouts", "spikes", "note"};
     static const char *const ah[] = {"id", "date", "end power", "work above", "peak", "note"};
@@ -1000,9 +1009,23 @@ static int cmd_curve_run(cli_ctx *c, int argc, char **argv)
     cpd_mmp_season *se = NULL;
     if ((rc = season_curve(c, &a, o.from, o.to, o.modality, &spd, &se, &ns)))
         return rc;
+    if (o.out) { /* -o FILE.svg: the curve on a logarithmic time axis, through the plotting module */
+        char title[160], *svg = NULL;
+        snprintf(title, sizeof title, "%s: mean-maximal %s over %zu session%s", a.code, spd ? "speed" : "power", ns,
+                 ns == 1 ? "" : "s");
+        rc = cpd_plot_curve(se->duration_s, se->value, se->n, spd, title, &svg);
+        int ex = rc ? cli_fail(c, rc, "-o %s: no plot: %s", o.out, cpd_strerror(rc))
+                    : cli_write_output(c, o.out, svg, strlen(svg));
+        free(svg);
+        if (ex) {
+            cpd_mmp_season_free(se);
+            return ex;
+        }
+        cli_note(c, "wrote %s", o.out);
+    }
     const char *key = vkey(spd, "power_w", "speed_m_s");
     char date[11];
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cj_str(d, "athlete", a.code);
         cj_str(d, "modality", spd ? "speed" : "power");
@@ -1021,7 +1044,7 @@ static int cmd_curve_run(cli_ctx *c, int argc, char **argv)
             cj_push(arr, p);
         }
         cpd_mmp_season_free(se);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, "points", NULL) : cj_print(d);
     }
     static const size_t std_d[] = {1,    5,    10,   15,   30,   60,   120,  180,  300,   480,   600,   720,  900,
                                    1200, 1800, 2400, 3600, 5400, 7200, 10800, 14400, 21600, 28800, 43200, 86400};
@@ -1195,7 +1218,7 @@ static void session_json(cli_json *d, const void *ud)
 }
 
 int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, long long id,
-                        const char *balance_model, const char *trace_path)
+                        const char *balance_model, const char *trace_path, const char *plot_path)
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
@@ -1265,7 +1288,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
                             "1-s steps on the session's cleaned 1-Hz grid from its first sample: gaps of up to 5 s and "
                             "dropped spikes filled linearly; a longer gap (a pause, or a dropout that split the "
                             "session) counts as rest at zero power (speed) for its whole length",
-                            1, session_json, &ud, trace_path};
+                            1, session_json, &ud, trace_path, plot_path};
     ex = cli_balance_report(c, f, m, bm, &in);
 done:
     free(v);

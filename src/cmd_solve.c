@@ -3,6 +3,7 @@
 #include "cli_pd.h"
 #include "commands.h"
 #include "cpdomain/balance.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/protocol.h"
 #include "cpdomain/units.h"
 
@@ -79,6 +80,20 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
     if (in->trace_path && (rc = write_trace(c, in->trace_path, x, trace, in->n, spd))) {
         free(trace);
         return rc;
+    }
+    if (in->plot_path) { /* -o FILE.svg: the balance over the intensity, through the plotting module */
+        char *svg = NULL;
+        rc = cpd_plot_balance(x, trace, in->n, spd, m->cp, m->w_prime, &svg);
+        if (!rc)
+            rc = cli_write_output(c, in->plot_path, svg, strlen(svg)) ? CPD_ECREATE : CPD_OK;
+        else
+            cli_fail(c, rc, "-o %s: no plot: %s", in->plot_path, cpd_strerror(rc));
+        free(svg);
+        if (rc) {
+            free(trace);
+            return cli_exit_code(rc);
+        }
+        cli_note(c, "wrote %s", in->plot_path);
     }
     const char *u = spd ? "m" : "j";
     char k[40];
@@ -197,7 +212,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
 }
 
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
-                         const char *balance_model, const char *trace_path)
+                         const char *balance_model, const char *trace_path, const char *plot_path)
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
@@ -233,7 +248,7 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
     snprintf(heading, sizeof heading, "protocol of %s in %zu segments", a, p->n);
     cli_balance_input in = {x, p->total_s, parts, p->n, heading, "segment",
                             "1-s steps, each second at the protocol's intensity; balance at the end of each second",
-                            0, NULL, NULL, trace_path};
+                            0, NULL, NULL, trace_path, plot_path};
     rc = cli_balance_report(c, f, m, bm, &in);
     free(x);
     free(parts);

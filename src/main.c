@@ -33,7 +33,7 @@ static const cli_command commands[] = {
 
 static void usage(FILE *out)
 {
-    fputs("usage: cpdomain [--db FILE] [--json] [--quiet] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
+    fputs("usage: cpdomain [--db FILE] [--json | --csv] [--quiet] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
           "Critical power, W' and the intensity domains from an athlete's tests.\n\ncommands:\n",
           out);
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
@@ -41,11 +41,30 @@ static void usage(FILE *out)
     fputs("\noptions:\n"
           "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
           "  --json     machine-readable output: one JSON document on stdout\n"
+          "  --csv      the table as CSV for a spreadsheet (fit, curve, history, domains, the lists,\n"
+          "             sheet --all --format csv)\n"
           "  --quiet    no informational messages on stderr\n"
           "  --help     this text; 'cpdomain COMMAND --help' for a command\n"
           "  --version  the version\n\n"
           "example:\n  cpdomain --db lab.db init\n  cpdomain --db lab.db athlete add R07 --name \"Ines Varga\" --mass 64.5\n",
           out);
+}
+
+/* --csv goes with the commands that print one table: the lists, fit, curve, history, domains and
+ * the team table of 'sheet --all --format csv'. Otherwise it is refused before anything runs. */
+static int csv_capable(int argc, char **argv)
+{
+    static const char *const single[] = {"fit", "curve", "history", "domains", "sheet"};
+    static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout"};
+    for (size_t i = 0; i < sizeof single / sizeof single[0]; i++)
+        if (strcmp(argv[0], single[i]) == 0)
+            return 1;
+    for (size_t i = 0; i < sizeof lists / sizeof lists[0]; i++)
+        if (strcmp(argv[0], lists[i]) == 0 && (argc < 2 || strcmp(argv[1], "list") == 0 || argv[1][0] == '-'))
+            return 1;
+    fprintf(stderr, "cpdomain: --csv: '%s%s%s' prints no table; use --json for machine-readable output\n", argv[0],
+            argc > 1 ? " " : "", argc > 1 ? argv[1] : "");
+    return 0;
 }
 
 /* Today's local date, or $CPDOMAIN_TODAY (YYYY-MM-DD) for reproducible reports and tests. */
@@ -75,7 +94,8 @@ int main(int argc, char **argv)
 
     static const struct option opts[] = {
         {"db", required_argument, NULL, 'd'}, {"json", no_argument, NULL, 'j'},    {"quiet", no_argument, NULL, 'q'},
-        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'}, {NULL, 0, NULL, 0},
+        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'}, {"csv", no_argument, NULL, 'c'},
+        {NULL, 0, NULL, 0},
     };
     opterr = 0;
     int o;
@@ -86,6 +106,9 @@ int main(int argc, char **argv)
             break;
         case 'j':
             c.json = 1;
+            break;
+        case 'c':
+            c.csv = 1;
             break;
         case 'q':
             c.quiet = 1;
@@ -121,6 +144,12 @@ int main(int argc, char **argv)
             fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
         return EX_USAGE;
     }
+    if (c.csv && c.json) {
+        fputs("cpdomain: --csv and --json: choose one\n", stderr);
+        return EX_USAGE;
+    }
+    if (c.csv && !csv_capable(argc - optind, argv + optind))
+        return EX_USAGE;
     int rc = cmd->run(&c, argc - optind, argv + optind);
     cpd_store_rollback(c.store); /* no-op after a commit; undoes a command that returned early */
     cpd_store_close(c.store);

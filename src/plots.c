@@ -503,3 +503,29 @@ int cpd_plot_trend(const int *day, const double *v, const double *lo, const doub
     free(ep);
     return finish(p, svg);
 }
+
+int cpd_plot_curve(const double *duration_s, const double *value, size_t n, int speed, const char *title, char **svg)
+{
+    if (!svg)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    if (!duration_s || !value)
+        return CPD_EUSAGE;
+    size_t ok = 0;
+    for (size_t i = 0; i < n; i++)
+        ok += duration_s[i] > 0 && value[i] > 0 && isfinite(value[i]);
+    if (ok == 0)
+        return CPD_ENODATA;
+    cpd_svgplot *p = cpd_svgplot_alloc(720, 440);
+    if (!p)
+        return CPD_ENOMEM;
+    cpd_svgplot_set_title(p, title && *title ? title : speed ? "Mean-maximal speed" : "Mean-maximal power");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "duration (logarithmic, min:s)");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_LOG_TIME_S);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, speed ? "best mean speed (m/s)" : "best mean power (W)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, 0, NAN);
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2.2, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, duration_s, value, n, &st, "best mean of any session");
+    return finish(p, svg);
+}

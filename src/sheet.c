@@ -2,6 +2,7 @@
  * Key rule: every user text goes through esc() (HTML) or csv_cell() (CSV); every number through
  * fmt() or csv_num(), which never write NaN or infinity. */
 #include "cpdomain/sheet.h"
+#include "cpdomain/csvin.h"
 #include "cpdomain/plots.h"
 #include "cpdomain/protocol.h"
 #include "cpdomain/status.h"
@@ -1023,23 +1024,15 @@ static void render_html(sb *b, const cpd_sheet *s)
 
 /* ---------------------------------------------------------------- CSV */
 
-/* A text cell, RFC 4180 quoted when it holds a comma, quote or line end. A leading = + - @ (or tab,
- * CR) would run as a formula in a spreadsheet (the OWASP "CSV injection" advice), so such text gets
- * an apostrophe in front. */
+/* A text cell through cpd_csv_field: quoted as RFC 4180 asks, formula-like text neutralised. */
 static void csv_cell(sb *b, const char *t)
 {
     if (!t)
         return;
-    int guard = t[0] != '\0' && strchr("=+-@\t\r", t[0]) != NULL;
-    int quote = guard || strpbrk(t, ",\"\r\n") != NULL;
-    if (quote)
-        sb_puts(b, "\"");
-    if (guard)
-        sb_puts(b, "'");
-    for (const char *p = t; *p; p++)
-        sb_puts(b, *p == '"' ? "\"\"" : (char[2]){*p, '\0'});
-    if (quote)
-        sb_puts(b, "\"");
+    char *q = cpd_csv_field(t);
+    if (q)
+        sb_puts(b, q);
+    free(q);
 }
 
 static void csv_row(sb *b, const char *section, const char *item, const char *key, const char *value, const char *unit)

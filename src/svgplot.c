@@ -439,7 +439,7 @@ void cpd_svgplot_tick_label(int format, double v, double step, char *buf, size_t
         snprintf(buf, n, "-");
         return;
     }
-    if (format == CPD_SVGPLOT_TIME_S)
+    if (format == CPD_SVGPLOT_TIME_S || format == CPD_SVGPLOT_LOG_TIME_S)
         fmt_time(v, step, buf, n);
     else if (format == CPD_SVGPLOT_DATE)
         fmt_date(v, step, 1, buf, n);
@@ -737,6 +737,7 @@ typedef struct {
     int fmt;               /* label format actually used (time and date fall back to NUMBER) */
     double lo, hi;         /* range, data units */
     double px0, px1;       /* pixel positions of lo and hi */
+    int log;               /* logarithmic (CPD_SVGPLOT_LOG_TIME_S) */
     size_t nt;             /* ticks inside the range */
     double t[AX_TICKS];    /* tick values, data units */
     double step;           /* tick step, data units (days 30 / 365 for month / year ticks) */
@@ -907,13 +908,24 @@ static void resolve(const extent *e, double flo, double fhi, int fmt, double *ou
         if (ahi)
             hi += pad;
     }
+    if (fmt == CPD_SVGPLOT_LOG_TIME_S) { /* a logarithmic axis: positive ends, padding as a factor */
+        lo = e->any ? e->lo : 1;
+        hi = e->any ? e->hi : 3600;
+        lo = !alo ? flo : lo / 1.1;
+        hi = !ahi ? fhi : hi * 1.1;
+        if (!(lo > 0))
+            lo = 1;
+        if (!(hi > lo * 1.5))
+            hi = lo * 10;
+    }
     *out_lo = lo;
     *out_hi = hi;
 }
 
 static double map(const axis *a, double v)
 {
-    double px = a->px0 + (v - a->lo) / (a->hi - a->lo) * (a->px1 - a->px0);
+    double px = a->log ? (v > 0 ? a->px0 + log(v / a->lo) / log(a->hi / a->lo) * (a->px1 - a->px0) : -PX_LIMIT)
+                       : a->px0 + (v - a->lo) / (a->hi - a->lo) * (a->px1 - a->px0);
     return px < -PX_LIMIT ? -PX_LIMIT : px > PX_LIMIT ? PX_LIMIT : px;
 }
 
@@ -1054,11 +1066,37 @@ static int date_ticks(axis *a, size_t max)
     return 0;
 }
 
+/* Ticks of a logarithmic time axis: the first of a few sets of round clock times, finest first,
+ * that puts at most max ticks in the range. */
+static int log_time_ticks(axis *a, size_t max)
+{
+    static const double fine[] = {1,   2,    5,    10,   15,   30,    60,    120,   300,   600,
+                                  1200, 1800, 3600, 7200, 21600, 43200, 86400, 0};
+    static const double mid[] = {1, 5, 15, 30, 60, 300, 600, 1800, 3600, 21600, 86400, 0};
+    static const double coarse[] = {1, 10, 60, 600, 3600, 36000, 86400, 0};
+    const double *sets[] = {fine, mid, coarse};
+    for (int s = 0; s < 3; s++) {
+        size_t n = 0;
+        for (const double *v = sets[s]; *v; v++)
+            n += *v >= a->lo * (1 - 1e-9) && *v <= a->hi * (1 + 1e-9);
+        if (n > max && s < 2)
+            continue;
+        a->step = 1;
+        for (const double *v = sets[s]; *v; v++)
+            if (*v >= a->lo * (1 - 1e-9) && *v <= a->hi * (1 + 1e-9))
+                add_tick(a, *v, *v < 60 ? 1 : 60, 0);
+        return 1;
+    }
+    return 0;
+}
+
 static void axis_ticks(axis *a, int fmt, size_t max)
 {
     a->nt = 0;
     a->fmt = fmt;
-    if (!((fmt == CPD_SVGPLOT_DATE && date_ticks(a, max)) || (fmt == CPD_SVGPLOT_TIME_S && time_ticks(a, max))))
+    if (fmt == CPD_SVGPLOT_LOG_TIME_S)
+        log_time_ticks(a, max);
+    else if (!((fmt == CPD_SVGPLOT_DATE && date_ticks(a, max)) || (fmt == CPD_SVGPLOT_TIME_S && time_ticks(a, max))))
         number_ticks(a, max);
     a->labw = 0;
     for (size_t i = 0; i < a->nt; i++)
@@ -1878,6 +1916,7 @@ static int render_part(const cpd_svgplot *p, int dy, char **out, size_t *len)
     axis *ax = &c.ax[CPD_SVGPLOT_X];
     ax->used = 1;
     resolve(&e, p->fix_lo[CPD_SVGPLOT_X], p->fix_hi[CPD_SVGPLOT_X], p->format[CPD_SVGPLOT_X], &ax->lo, &ax->hi);
+    ax->log = p->format[CPD_SVGPLOT_X] == CPD_SVGPLOT_LOG_TIME_S;
     for (int id = CPD_SVGPLOT_Y; id <= CPD_SVGPLOT_Y2; id++) {
         axis *a = &c.ax[id];
         a->used = id == CPD_SVGPLOT_Y || p->label[id] != NULL;
@@ -1887,6 +1926,7 @@ static int render_part(const cpd_svgplot *p, int dy, char **out, size_t *len)
         memset(&e, 0, sizeof e);
         gather(p, id, ax->lo, ax->hi, &e);
         resolve(&e, p->fix_lo[id], p->fix_hi[id], p->format[id], &a->lo, &a->hi);
+        a->log = p->format[id] == CPD_SVGPLOT_LOG_TIME_S;
     }
     layout(&c);
 

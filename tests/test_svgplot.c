@@ -397,6 +397,37 @@ static void stacked_plots_one_root(void **state)
     cpd_svgplot_free(b);
 }
 
+/* A logarithmic time axis: equal ratios take equal lengths (1 s to 10 s as long as 1 min to
+ * 10 min), ticks on round clock times, nothing at or below zero drawn. */
+static void log_time_axis(void **state)
+{
+    (void)state;
+    const double x[5] = {1, 10, 60, 600, -5}, y[5] = {900.5, 600.25, 420.75, 300.125, 100};
+    cpd_svgplot *p = cpd_svgplot_alloc(640, 360);
+    assert_int_equal(cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_LOG_TIME_S), CPD_OK);
+    assert_int_equal(cpd_svgplot_set_range(p, CPD_SVGPLOT_X, 1, 600), CPD_OK);
+    assert_int_equal(cpd_svgplot_points(p, x, y, 5, NULL, NULL, "pts"), CPD_OK);
+    char *svg = NULL;
+    assert_int_equal(cpd_svgplot_render(p, &svg, NULL), CPD_OK);
+    /* the circles' x positions */
+    double cx[5];
+    int n = 0;
+    const char *g = strstr(svg, "class=\"cpd-data\""), *end = g ? strstr(g, "</g>") : NULL;
+    for (const char *q = g; q && (q = strstr(q, "<circle cx=\"")) && q < end && n < 5; q++)
+        cx[n++] = strtod(q + strlen("<circle cx=\""), NULL);
+    assert_int_equal(n, 4); /* -5 s is off a logarithmic axis */
+    double a = cx[1] - cx[0], b = cx[3] - cx[2];
+    assert_true(fabs(a - b) < 0.05); /* log10(10/1) = log10(600/60) */
+    assert_true(fabs((cx[2] - cx[1]) / a - log10(6.0)) < 1e-3);
+    assert_non_null(strstr(svg, ">0:01<"));
+    assert_non_null(strstr(svg, ">10:00<"));
+    char lab[16];
+    cpd_svgplot_tick_label(CPD_SVGPLOT_LOG_TIME_S, 3600, 60, lab, sizeof lab);
+    assert_string_equal(lab, "1:00:00");
+    free(svg);
+    cpd_svgplot_free(p);
+}
+
 /* ---- plots -------------------------------------------------------------------------------- */
 
 static void escaping_hostile_text(void **state)
@@ -1144,6 +1175,7 @@ int main(void)
         cmocka_unit_test(palette_colour_blind_safe),
         cmocka_unit_test(domain_ramp_readable),
         cmocka_unit_test(stacked_plots_one_root),
+        cmocka_unit_test(log_time_axis),
         cmocka_unit_test(escaping_hostile_text),
         cmocka_unit_test(nonfinite_skipped),
         cmocka_unit_test(empty_plot_says_no_data),

@@ -57,6 +57,11 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
 int cpd_plot_balance(const double *intensity, const double *balance, size_t n, int speed, double cp, double w_prime,
                      char **svg);
 
+/* A mean-maximal curve: value[i] (W or m/s, per speed) for duration_s[i] (s) on a logarithmic time
+ * axis (CPD_SVGPLOT_LOG_TIME_S), so seconds and hours read alike. title is copied (NULL: a default).
+ * Same ownership; CPD_EUSAGE for NULL pointers, CPD_ENODATA without a positive point, CPD_ENOMEM. */
+int cpd_plot_curve(const double *duration_s, const double *value, size_t n, int speed, const char *title, char **svg);
+
 /* A season trend: one value per block at its date (days since 1970-01-01) with its 95 % interval
  * as error bars (lo/hi may be NULL, or a non-finite entry for none), the values joined by a line.
  * title and ylabel are copied. Same ownership; CPD_ENODATA when no value is finite. */

@@ -58,6 +58,9 @@ enum {
                            10, 15, 20, 30 s, 1, 2, 5, 10, 15, 20, 30 min, 1, 2, 3, 6, 12, 24 h */
     CPD_SVGPLOT_DATE,   /* values in days since 1970-01-01; ticks on days or Mondays labelled YYYY-MM-DD,
                            on month starts labelled "Mar" ("Mar 2024" first and in January), or on years */
+    CPD_SVGPLOT_LOG_TIME_S, /* values in seconds (> 0) on a logarithmic axis, labelled as TIME_S at
+                               1, 5, 15, 30 s, 1, 2, 5, 10, 20 min, 1, 2, 6 h ...; automatic ends pad
+                               by a factor of 1.1; points at or below 0 fall off the axis */
     CPD_SVGPLOT_NFORMAT
 };
 

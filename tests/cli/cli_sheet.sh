@@ -49,6 +49,7 @@ expect 73 "unwritable output" sheet C01 -o "$TMP/no/such/dir/c01.html"
 [ $? -eq 66 ] && pass "missing store (exit 66)" || fail "missing store: not exit 66"
 snapshot
 
+
 # every athlete, every format
 mkdir -p "$TMP/s"
 for code in $codes; do
@@ -60,6 +61,102 @@ done
 n=$(ls "$TMP/s" | wc -l)
 [ "$n" -eq $((ncodes * 4)) ] && pass "$n sheets written (4 formats x $ncodes athletes)" || fail "$n sheets written"
 unchanged "rendering sheets"
+
+# -o FILE.svg: plots from fit, curve (logarithmic time), predict --protocol/--session and history,
+# all through the one plotting module; every one parses, none nests, no label is cut off
+mkdir -p "$TMP/plots"
+sid=$("$BIN" --db "$DB" --json session list C02 | $PY -c "import json,sys; print(json.load(sys.stdin)['sessions'][-1]['id'])")
+for spec in "fit|fit C01 -o $TMP/plots/fit.svg" "curve|curve C02 -o $TMP/plots/curve.svg" \
+    "predict --protocol|predict C01 --protocol 10min@150W;4x(3min@300W,3min@120W) -o $TMP/plots/protocol.svg" \
+    "predict --session|predict C02 --session $sid -o $TMP/plots/session.svg" "history|history C02 -o $TMP/plots/history.svg" \
+    "ramp plot|ramp plot 2 -o $TMP/plots/ramp.svg" "bout plot|bout plot 11 -o $TMP/plots/bout.svg"; do
+    what=${spec%%|*}
+    # shellcheck disable=SC2086
+    expect 0 "$what -o FILE.svg" --quiet ${spec#*|}
+done
+n=$(ls "$TMP/plots" | wc -l)
+[ "$n" -eq 7 ] && pass "7 plots written" || fail "$n plots written"
+res=$($PY "$CHECK" svgs "$TMP"/plots/*.svg)
+[ "$res" = "svgs 7" ] && pass "every -o plot parses as XML, none nested, no label cut off" || fail "plot problems" "$res"
+grep -q '>0:01<' "$TMP/plots/curve.svg" && grep -q '>1:00:00<' "$TMP/plots/curve.svg" &&
+    pass "curve: a logarithmic time axis from 1 s to an hour" || fail "curve axis ticks"
+grep -q "balance of the session" "$TMP/plots/protocol.svg" && pass "predict -o draws the balance" || fail "no balance plot"
+grep -q 'Critical power over the season' "$TMP/plots/history.svg" && pass "history -o draws the season" || fail "no season plot"
+expect 64 "-o needs .svg" fit C01 -o "$TMP/plots/fit.png"
+err_has "plots are written as SVG" "a non-SVG name is refused before anything runs"
+expect 64 "predict -o without a session" predict C01 --power 300 -o "$TMP/plots/x.svg"
+expect 64 "history --all -o" history --all -o "$TMP/plots/x.svg"
+expect 64 "-o on session list" session list C02 -o "$TMP/plots/x.svg"
+expect 73 "-o into a missing folder" fit C01 -o "$TMP/no/such/dir/fit.svg"
+
+# --csv: every table as CSV that a spreadsheet opens as it is: parsed by Python's csv module, one
+# row per JSON item, the same numbers, units in the headers, formula-like text neutralised
+csv_vs_json() { # WHAT KEY ARGS...: --csv and --json of the same command agree
+    what=$1 key=$2; shift 2
+    "$BIN" --db "$DB" --csv "$@" >"$TMP/t.csv" 2>"$TMP/err"; r1=$?
+    "$BIN" --db "$DB" --json "$@" >"$TMP/t.json" 2>>"$TMP/err"; r2=$?
+    res=$($PY - "$TMP/t.csv" "$TMP/t.json" "$key" <<'PYEOF'
+import csv, json, math, sys
+rows = list(csv.reader(open(sys.argv[1], newline="", encoding="utf-8")))
+d = json.load(open(sys.argv[2]))[sys.argv[3]]
+items = list(d.values()) if isinstance(d, dict) else d
+head, body = rows[0], rows[1:]
+bad = [r for r in body if len(r) != len(head)]
+checked = 0
+for r, j in zip(body, items):
+    for h, v in zip(head, r):
+        k = h.split(" (")[0]
+        want = j.get(k)
+        if want is None and k[-3:] in ("_lo", "_hi") and isinstance(j.get(k[:-3]), list):
+            want = j[k[:-3]][k.endswith("_hi")]
+        if isinstance(want, (int, float)) and not isinstance(want, bool):
+            if not math.isclose(float(v), want, rel_tol=1e-9):
+                print("%s: CSV %s, JSON %r" % (h, v, want))
+            checked += 1
+print("rows %d items %d ragged %d checked %d" % (len(body), len(items), len(bad), checked))
+PYEOF
+)
+    case "$res" in
+    *"rows "*) set -- $res
+        if [ "$r1" -eq 0 ] && [ "$r2" -eq 0 ] && [ "$2" = "$4" ] && [ "$6" = 0 ] && [ "$8" -gt 0 ] && [ "$(echo "$res" | wc -l)" -eq 1 ]; then
+            pass "--csv $what: $2 rows, the JSON's numbers ($8 cells compared)"
+        else fail "--csv $what: $res (exit $r1/$r2)" "$(head -c 300 "$TMP/err")"; fi ;;
+    *) fail "--csv $what: $res" ;;
+    esac
+}
+csv_vs_json "athlete list" athletes athlete list
+csv_vs_json "trial list" trials trial list C02
+csv_vs_json "ramp list" ramps ramp list C02
+csv_vs_json "bout list" bouts bout list C01
+csv_vs_json "lactate list" lactates lactate list C01
+csv_vs_json "session list" sessions session list C02
+csv_vs_json "allout list" allouts allout list C01
+csv_vs_json "curve" points curve C02
+csv_vs_json "fit" models fit C01
+csv_vs_json "history" blocks history C02
+csv_vs_json "domains" targets domains C01
+"$BIN" --db "$DB" --csv fit C01 | head -n 1 | grep -q 'cp (W),w_prime (J),' && pass "--csv fit: CP in W and W' in J, said in the header" ||
+    fail "--csv fit header lacks units"
+"$BIN" --db "$DB" --csv fit R02 | head -n 1 | grep -q 'cs (m/s),d_prime (m),' && pass "--csv fit of a runner: CS in m/s, D' in m" ||
+    fail "--csv fit (speed) header lacks units"
+expect 64 "--csv on a command without a table" --csv predict C01 --power 300
+err_has "prints no table; use --json" "--csv refused where there is no table"
+expect 64 "--csv with --json" --csv --json fit C01
+# sheet --all --format csv: the team table, one row per athlete with a sheet
+expect 0 "sheet --all --format csv" --quiet sheet --all --format csv -o "$TMP/team"
+res=$(CODES="$codes" $PY -c "
+import csv, os; r = list(csv.reader(open('$TMP/team/team.csv', newline='', encoding='utf-8')))
+print(len(r) - 1, len({len(x) for x in r}), r[0][:2], sorted(x[0] for x in r[1:]) == sorted(os.environ['CODES'].split()))")
+[ "$res" = "$ncodes 1 ['code', 'name'] True" ] && pass "team.csv: one row per athlete, rectangular ($res)" || fail "team.csv: $res"
+grep -q '^C01,.*,power,W,J,' "$TMP/team/team.csv" && pass "team.csv says each row's units" || fail "team.csv units"
+# formula-like text is neutralised, numbers stay numbers
+"$BIN" --db "$DB" --quiet athlete add ZZ9 --name "=HYPERLINK(\"http://x\",\"y\")" --notes "-2+3" >/dev/null 2>&1
+"$BIN" --db "$DB" --csv athlete list >"$TMP/a.csv"
+grep -qF '"'"'"'=HYPERLINK(""http://x"",""y"")"' "$TMP/a.csv" && grep -qF ",\"'-2+3\"" "$TMP/a.csv" &&
+    pass "--csv: a formula-like name or note gets an apostrophe" || fail "formula not neutralised" "$(grep ZZ9 "$TMP/a.csv")"
+"$BIN" --db "$DB" --csv history C02 | grep -q ',-1600\.' && pass "--csv: a negative number stays a number" ||
+    fail "negative numbers guarded as text"
+"$BIN" --db "$DB" --quiet athlete remove ZZ9 --yes >/dev/null 2>&1
 
 # the default format follows -o's extension; stdout gets HTML, or JSON with --json
 expect 0 "to stdout" sheet C01
