@@ -323,6 +323,40 @@ if [ -x "$CHROMIUM" ]; then
     else
         fail "Chromium screenshot looks blank or missing: '$info'" "$(tail -3 "$TMP/chrome.log")"
     fi
+    # one page for the coach: the summary alone prints on one A4 and one Letter page, the whole
+    # sheet on more (details after a page break); headless Chromium's own PDF
+    for code in $codes; do
+        for size in A4 letter; do
+            $PY "$CHECK" summary "$TMP/s/$code.html" "$TMP/s/sum_$code.html" "$size"
+            timeout 120 "$CHROMIUM" --headless --no-sandbox --disable-gpu --no-first-run --user-data-dir="$prof" \
+                --no-pdf-header-footer --print-to-pdf="$TMP/sum_${code}_$size.pdf" "file://$TMP/s/sum_$code.html" >/dev/null 2>&1
+            pages=$($PY "$CHECK" pdfpages "$TMP/sum_${code}_$size.pdf" 2>&1)
+            [ "$pages" = 1 ] && pass "$code: the summary prints on one $size page" || fail "$code: the summary takes '$pages' $size pages"
+        done
+    done
+    timeout 120 "$CHROMIUM" --headless --no-sandbox --disable-gpu --no-first-run --user-data-dir="$prof" \
+        --no-pdf-header-footer --print-to-pdf="$TMP/full.pdf" "file://$TMP/s/C01.html" >/dev/null 2>&1
+    pages=$($PY "$CHECK" pdfpages "$TMP/full.pdf" 2>&1)
+    [ "$pages" -ge 2 ] 2>/dev/null && pass "C01's whole sheet: the details follow on $((pages - 1)) more page(s)" || fail "whole sheet: '$pages' pages"
+    # a phone: 390 px wide, no element reaches past the width, so nothing scrolls sideways; and a
+    # screenshot at that width for a person to look at ($TMP/phone_CODE.png while the test runs)
+    for code in C01 R02 S01; do
+        $PY "$CHECK" phone "$TMP/s/$code.html" "$TMP/s/phone_$code.html"
+        title=$(timeout 120 "$CHROMIUM" --headless --no-sandbox --disable-gpu --no-first-run --allow-file-access-from-files \
+            --user-data-dir="$prof" --window-size=600,2400 --virtual-time-budget=5000 --dump-dom "file://$TMP/s/phone_$code.html" \
+            2>/dev/null | sed -n 's:.*<title>\(overflow[^<]*\)</title>.*:\1:p')
+        case "$title" in
+        "overflow 0 scroll 0 ") pass "$code on a 390 px phone: nothing reaches past the width" ;;
+        *) fail "$code on a phone: '$title'" ;;
+        esac
+        timeout 120 "$CHROMIUM" --headless --no-sandbox --disable-gpu --no-first-run --allow-file-access-from-files \
+            --user-data-dir="$prof" --window-size=390,2400 --virtual-time-budget=5000 --screenshot="$TMP/phone_$code.png" \
+            "file://$TMP/s/phone_$code.html" >/dev/null 2>&1
+        info=$($PY "$CHECK" png "$TMP/phone_$code.png" 2>&1)
+        set -- $info
+        [ "${1:-0}" = 390 ] && [ "${3:-0}" -ge 100 ] && pass "$code: a screenshot at phone width (${1}x${2}, $3 colours)" ||
+            fail "$code phone screenshot: '$info'"
+    done
 else
     N=$((N + 1))
     echo "ok $N - # SKIP chromium not installed ($CHROMIUM): no browser render test"

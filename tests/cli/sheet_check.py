@@ -13,6 +13,11 @@
                           would (the first </svg> closes it), parsed as XML, with no <svg> nested
                           and every label inside the picture; prints one line per problem, then
                           "svgs N" with the count checked
+  summary FILE OUT SIZE    the sheet's first section alone (the details cut out) with @page size SIZE
+                          (A4 or letter), for a PDF page count
+  pdfpages FILE           prints the number of pages of a PDF (its /Type /Page objects)
+  phone FILE OUT          a page that shows FILE in a 390 px wide frame and, once loaded, writes into
+                          its title "overflow N" with N elements reaching past the frame's width
   domaincolours FILE      prints the page's domain swatch colours (.d0 .. .d3) on one line and the
                           fills of the opaque domain bands of its power-duration plot on the next
 """
@@ -311,12 +316,50 @@ def cmd_domaincolours(path):
     print(" ".join(fills))
 
 
+def cmd_summary(path, out, size):
+    with open(path, encoding="utf-8") as fh:
+        t = fh.read()
+    a = t.index('<div class="details">')
+    b = t.index("<!-- /details -->", a) + len("<!-- /details -->")
+    t = t[:a] + t[b:]
+    t = t.replace("</head>", "<style>@page{size:%s}</style></head>" % size)
+    with open(out, "w", encoding="utf-8") as fh:
+        fh.write(t)
+
+
+def cmd_pdfpages(path):
+    with open(path, "rb") as fh:
+        print(len(re.findall(rb"/Type\s*/Page[^s]", fh.read())))
+
+
+PHONE = """<!DOCTYPE html><html><head><meta charset="utf-8"><title>loading</title>
+<style>body{margin:0}iframe{border:0;width:390px;height:2400px}</style></head><body>
+<iframe id="f" src="%s"></iframe><script>
+document.getElementById('f').onload = function () {
+  var d = this.contentDocument, w = this.contentWindow, bad = [];
+  d.querySelectorAll('*').forEach(function (e) {
+    var r = e.getBoundingClientRect();
+    if (r.width > 0 && r.right > w.innerWidth + 0.5) bad.push(e.tagName);
+  });
+  document.title = 'overflow ' + bad.length + ' scroll ' + (d.documentElement.scrollWidth > w.innerWidth ? 1 : 0) +
+      ' ' + bad.slice(0, 5).join(',');
+};
+</script></body></html>
+"""
+
+
+def cmd_phone(path, out):
+    with open(out, "w", encoding="utf-8") as fh:
+        fh.write(PHONE % os.path.basename(path))
+
+
 def main():
     cmd, args = sys.argv[1], sys.argv[2:]
     {"html": lambda: cmd_html(args), "split": lambda: cmd_split(*args), "links": lambda: cmd_links(*args),
      "compare": lambda: cmd_compare(*args), "nonfinite": lambda: cmd_nonfinite(args),
      "png": lambda: cmd_png(*args), "domaincolours": lambda: cmd_domaincolours(*args),
-     "svgs": lambda: cmd_svgs(args)}[cmd]()
+     "svgs": lambda: cmd_svgs(args),
+     "summary": lambda: cmd_summary(*args), "pdfpages": lambda: cmd_pdfpages(*args), "phone": lambda: cmd_phone(*args)}[cmd]()
 
 
 if __name__ == "__main__":
