@@ -81,6 +81,10 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         in->has_hr_rcp = 1;
         in->hr_rcp = r->rcp.hr_bpm;
     }
+    if (r->rcp.status != CPD_THR_NOT_FOUND && r->rcp.has_equiv) {
+        in->has_rcp = 1;
+        in->rcp = r->rcp.equiv_intensity;
+    }
     if (r->mrt_status != CPD_THR_NOT_FOUND) {
         in->has_peak = 1;
         in->peak = r->peak_intensity - t.rate_per_min * r->mrt_s / 60;

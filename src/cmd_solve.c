@@ -165,6 +165,12 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
                 snprintf(idx, sizeof idx, "%zu", i + 1);
             cpd_format_duration((double)s1, end, sizeof end);
             snprintf(iv, sizeof iv, "%s %s", cli_num(num, sizeof num, g->intensity, spd ? 2 : 0), cli_pd_unit(f->modality));
+            if (spd && g->intensity > 0) { /* runners and swimmers read pace: shown beside the speed */
+                const char *lab;
+                char pc[32];
+                cpd_format_pace(g->intensity, cli_pd_pace_m(&f->athlete, &lab), pc, sizeof pc);
+                snprintf(iv + strlen(iv), sizeof iv - strlen(iv), " (%s%s)", pc, lab);
+            }
             snprintf(be, sizeof be, "%s %s", cli_num(num, sizeof num, trace[s1 - 1] * sc, spd ? 0 : 2), un);
             snprintf(lw, sizeof lw, "%s %s", cli_num(num, sizeof num, lo * sc, spd ? 0 : 2), un);
             const char *row[] = {idx, end, iv, be, lw};
@@ -245,7 +251,7 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
     }
     char heading[96], a[32];
     cpd_format_duration((double)p->total_s, a, sizeof a);
-    snprintf(heading, sizeof heading, "protocol of %s in %zu segments", a, p->n);
+    snprintf(heading, sizeof heading, "protocol of %s in %zu segment%s", a, p->n, p->n == 1 ? "" : "s");
     cli_balance_input in = {x, p->total_s, parts, p->n, heading, "segment",
                             "1-s steps, each second at the protocol's intensity; balance at the end of each second",
                             0, NULL, NULL, trace_path, plot_path};

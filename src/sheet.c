@@ -100,7 +100,7 @@ int cpd_sheet_session_build(const cpd_pd_model_fit *m, cpd_sheet_session *out)
     if (!(x > m->cp))
         return CPD_ENODATA;
     if (spd)
-        snprintf(out->protocol, sizeof out->protocol, "10min@60%%CP; 5x(3min@%.2fm/s, 3min@50%%CP)", x);
+        snprintf(out->protocol, sizeof out->protocol, "10min@60%%CS; 5x(3min@%.2fm/s, 3min@50%%CS)", x);
     else
         snprintf(out->protocol, sizeof out->protocol, "10min@60%%CP; 5x(3min@%.0fW, 3min@50%%CP)", x);
     cpd_protocol *p = NULL;
@@ -750,9 +750,10 @@ static void html_domains(sb *b, const cpd_sheet *s)
     if (d->has_delta) {
         sb_puts(b, "<p>%delta between the GET and VO2peak equivalents: ");
         for (int k = 0; k < CPD_DOMAINS_NDELTA; k++) {
+            char q[64]; /* the pace in its own buffer: sharing p's printed the percentage twice */
             snprintf(t, sizeof t, "%s%s %%: %s%s%s%s", k ? ", " : "", fmt(p, sizeof p, d->delta_pct[k], 0),
                      inten(spd, d->delta_value[k], a, sizeof a), spd ? " (" : "",
-                     spd ? pace(s->pace_m, s->pace_label, d->delta_value[k], p, sizeof p) : "", spd ? ")" : "");
+                     spd ? pace(s->pace_m, s->pace_label, d->delta_value[k], q, sizeof q) : "", spd ? ")" : "");
             esc(b, t);
         }
         sb_puts(b, ".</p>\n");

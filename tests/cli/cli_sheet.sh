@@ -62,6 +62,24 @@ n=$(ls "$TMP/s" | wc -l)
 [ "$n" -eq $((ncodes * 4)) ] && pass "$n sheets written (4 formats x $ncodes athletes)" || fail "$n sheets written"
 unchanged "rendering sheets"
 
+# runners and swimmers: distance segments, pace beside speed, %CS, paces in %delta; heart-rate
+# targets inside their domain's intensities
+expect 0 "a distance protocol" --json predict R02 --protocol "10min@3.2m/s; 2x(400m@5.2m/s, 90s@2m/s)"
+json_is 'd["duration_s"]' "$((600 + 2 * (77 + 90)))" "400m@5.2m/s lasts 77 s (400/5.2 rounded)"
+expect 0 "a distance protocol, human" predict R02 --protocol "10min@3.2m/s; 2x(400m@5.2m/s, 90s@2m/s)"
+out_has "5.20 m/s (3:12/km)" "the balance table shows pace beside speed"
+expect 0 "a swimmer's distance protocol" predict S01 --protocol "4x(100m@1:20/100m, 30s@0.8m/s)"
+out_has "1.25 m/s (1:20/100m)" "swimmers read pace per 100 m"
+expect 64 "a distance at %CS" predict R02 --protocol "400m@105%CS"
+err_has "a distance is held at a speed" "a distance needs a speed"
+grep -q '10min@60%CS; 5x(3min@[0-9.]*m/s, 3min@50%CS)' "$TMP/s/R02.html" && pass "a runner's sheet writes %CS" ||
+    fail "the runner's suggested session is not in %CS"
+grep -q '25 %: [0-9.]* m/s ([0-9]:[0-9][0-9]/km)' "$TMP/s/R02.html" && pass "the runner's %delta list shows paces" ||
+    fail "the %delta list lacks paces" "$(grep -o '%delta[^<]*' "$TMP/s/R02.html")"
+expect 0 "domains with heart rates" --json domains C01
+json_is 'd["targets"]["heavy"]["hr_bpm"][1] <= d["targets"]["severe"]["hr_bpm"][0] and d["targets"]["moderate"]["hr_bpm"][1] == d["targets"]["heavy"]["hr_bpm"][0]' \
+    True "heart-rate targets follow the domains without overlap"
+
 # -o FILE.svg: plots from fit, curve (logarithmic time), predict --protocol/--session and history,
 # all through the one plotting module; every one parses, none nests, no label is cut off
 mkdir -p "$TMP/plots"
