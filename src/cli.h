@@ -68,6 +68,13 @@ int cli_write_output(cli_ctx *c, const char *path, const char *text, size_t len)
 /* -o FILE for a plot: the name must end in .svg (any letter case). Returns 0, or 64 after saying so. */
 int cli_plot_path(const char *cmd, const char *path);
 
+/* Units and rounding in text output, one rule per quantity (README "Units and rounding"): an
+ * intensity (CP, a boundary, a target, a prediction, a solved '?') to 1 W or 0.01 m/s, with the
+ * pace beside a speed; W' in kJ to 0.01 kJ, D' to 1 m; durations as m:ss (h:mm:ss), under a minute
+ * as "8 s"; VO2 in L/min to 0.01 on cards and in mL/min to 1 in tables; intervals as "95 % CI a to
+ * b". JSON keeps full precision with the unit in the key (power_w, w_prime_j in SPEC's w_prime). */
+#define CLI_DEC_INTENSITY(spd) ((spd) ? 2 : 0)
+
 /* Number formatting for tables: "-" for a non-finite value. */
 const char *cli_num(char *buf, size_t n, double v, int decimals);
 

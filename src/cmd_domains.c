@@ -132,7 +132,7 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
             }
             printf("  %-15s %s", cpd_boundary_name((cpd_boundary_id)k), cli_domains_fmt(&d, x->value, v, sizeof v));
             if (x->has_ci)
-                printf(" (95%% CI %s to %s)", cli_domains_fmt(&d, x->ci95[0], a, sizeof a), cli_domains_fmt(&d, x->ci95[1], b, sizeof b));
+                printf(" (95 %% CI %s to %s)", cli_domains_fmt(&d, x->ci95[0], a, sizeof a), cli_domains_fmt(&d, x->ci95[1], b, sizeof b));
             printf("\n  %-15s %s, %s%s\n", "", x->source, x->date, x->stale ? "  [STALE]" : "");
             printf("  %-15s %s\n", "", x->method);
             if (x->stale)
@@ -154,7 +154,7 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
             }
             printf("  %5s  %s", t, cli_domains_fmt(&d, e->value, v, sizeof v));
             if (e->has_ci)
-                printf("  (95%% interval %s to %s)", cli_domains_fmt(&d, e->ci95[0], a, sizeof a), cli_domains_fmt(&d, e->ci95[1], b, sizeof b));
+                printf("  (95 %% CI %s to %s)", cli_domains_fmt(&d, e->ci95[0], a, sizeof a), cli_domains_fmt(&d, e->ci95[1], b, sizeof b));
             printf("\n");
         }
         if (r->has_delta) {

@@ -139,13 +139,13 @@ static const char *fmt_intensity(const cli_pd_fit *f, double v, char *buf, size_
 {
     char num[32];
     if (f->modality == CPD_PD_POWER)
-        snprintf(buf, n, "%s W", cli_num(num, sizeof num, v, 1));
+        snprintf(buf, n, "%s W", cli_num(num, sizeof num, v, CLI_DEC_INTENSITY(0)));
     else {
         const char *lab;
         double per = cli_pd_pace_m(&f->athlete, &lab);
         char pace[32];
         cpd_format_pace(v, per, pace, sizeof pace);
-        snprintf(buf, n, "%s m/s (%s%s)", cli_num(num, sizeof num, v, 2), pace, lab);
+        snprintf(buf, n, "%s m/s (%s%s)", cli_num(num, sizeof num, v, CLI_DEC_INTENSITY(1)), pace, lab);
     }
     return buf;
 }
@@ -157,7 +157,7 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
     printf("%s %s: %s-duration fit of %zu %s, %s to %s\n\n", f->athlete.code, f->athlete.name,
            spd ? "speed" : "power", f->n, f->from_curve ? "mean-maximal curve points (a field estimate)" : "trials",
            f->trials[0].date, f->trials[f->n - 1].date);
-    const char *head[] = {"model", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)", "95% CI",
+    const char *head[] = {"model", spd ? "CS (m/s)" : "CP (W)", "95 % CI", spd ? "D' (m)" : "W' (kJ)", "95 % CI",
                           spd ? "vmax (m/s)" : "Pmax (W)", "%SEE CP", "%SEE W'", "R2", "status"};
     if (spd) {
         head[6] = "%SEE CS";
@@ -165,7 +165,7 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
     }
     cli_table *t = cli_table_new(10, head, "lrrrrrrrrl");
     double wsc = spd ? 1.0 : 1e-3; /* W' shown in kJ */
-    int cpd_dec = spd ? 3 : 1, wd = spd ? 0 : 2;
+    int cpd_dec = CLI_DEC_INTENSITY(spd), wd = spd ? 0 : 2;
     for (int k = 0; k < CPD_PD_NMODELS; k++) {
         if (!(mask & CPD_PD_MODEL_BIT(k)))
             continue;
@@ -584,7 +584,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                 if (p.ci_valid) {
                     cpd_format_duration(p.ci95[0], a, sizeof a);
                     cpd_format_duration(p.ci95[1], b, sizeof b);
-                    printf(" (95%% interval %s to %s)", a, b);
+                    printf(" (95 %% CI %s to %s)", a, b);
                 }
                 printf(", %s domain\n", domain_of(c, &f, which, o.from, o.to, m, q));
             } else
@@ -598,7 +598,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             if (p.valid) {
                 printf("for %s: %s", a, fmt_intensity(&f, p.value, v, sizeof v));
                 if (p.ci_valid)
-                    printf(" (95%% interval %s to %s)", fmt_intensity(&f, p.ci95[0], a, sizeof a),
+                    printf(" (95 %% CI %s to %s)", fmt_intensity(&f, p.ci95[0], a, sizeof a),
                            fmt_intensity(&f, p.ci95[1], b, sizeof b));
                 printf("\n");
             } else
@@ -610,7 +610,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                 if (p.ci_valid) {
                     cpd_format_duration(p.ci95[0], a, sizeof a);
                     cpd_format_duration(p.ci95[1], b, sizeof b);
-                    printf(" (95%% interval %s to %s)", a, b);
+                    printf(" (95 %% CI %s to %s)", a, b);
                 }
                 printf("\n");
             } else

@@ -183,7 +183,7 @@ static void print_history(const cli_history *a)
 {
     int spd = a->f.modality == CPD_PD_SPEED;
     printf("%s %s: %zu block(s) of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks, a->win);
-    const char *head[] = {"block", "trials", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)",
+    const char *head[] = {"block", "trials", spd ? "CS (m/s)" : "CP (W)", "95 % CI", spd ? "D' (m)" : "W' (kJ)",
                           spd ? "GET (m/s)" : "GET (W)", "VO2peak", spd ? "change in CS" : "change in CP", "verdict"};
     cli_table *t = cli_table_new(9, head, "lrrrrrrrl");
     for (size_t k = 0; k < a->h->nblocks; k++) {
@@ -193,16 +193,18 @@ static void print_history(const cli_history *a)
         cpd_format_date(b->to_day, to);
         snprintf(span, sizeof span, "%s..%s", from, to + 5);
         snprintf(n, sizeof n, "%zu", b->n);
-        cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, spd ? 2 : 1);
+        cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, CLI_DEC_INTENSITY(spd));
         if (b->fitted && b->has_se)
-            snprintf(ci, sizeof ci, "%s-%s", cli_num(x1, sizeof x1, b->cp_ci95[0], spd ? 2 : 1), cli_num(x2, sizeof x2, b->cp_ci95[1], spd ? 2 : 1));
+            snprintf(ci, sizeof ci, "%s-%s", cli_num(x1, sizeof x1, b->cp_ci95[0], CLI_DEC_INTENSITY(spd)),
+                     cli_num(x2, sizeof x2, b->cp_ci95[1], CLI_DEC_INTENSITY(spd)));
         else
             snprintf(ci, sizeof ci, "-");
         cli_num(w, sizeof w, b->fitted ? (spd ? b->w_prime : b->w_prime / 1000) : NAN, spd ? 0 : 2);
         cli_num(g, sizeof g, b->has_get ? b->get : NAN, spd ? 2 : 0);
         cli_num(vo, sizeof vo, b->has_vo2peak ? b->vo2peak_ml_min : NAN, 0);
         if (b->d_cp.valid)
-            snprintf(d, sizeof d, "%+.*f (%+.*f to %+.*f)", spd ? 2 : 1, b->d_cp.delta, spd ? 2 : 1, b->d_cp.ci95[0], spd ? 2 : 1,
+            snprintf(d, sizeof d, "%+.*f (%+.*f to %+.*f)", CLI_DEC_INTENSITY(spd), b->d_cp.delta, CLI_DEC_INTENSITY(spd),
+                     b->d_cp.ci95[0], CLI_DEC_INTENSITY(spd),
                      b->d_cp.ci95[1]);
         else
             snprintf(d, sizeof d, "-");
@@ -328,9 +330,9 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             cpd_format_date(b->from_day, from);
             cpd_format_date(b->to_day, to);
             snprintf(span, sizeof span, "%s..%s", from, to);
-            cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, a.f.modality == CPD_PD_SPEED ? 2 : 1);
+            cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, CLI_DEC_INTENSITY(a.f.modality == CPD_PD_SPEED));
             if (b->d_cp.valid)
-                snprintf(d, sizeof d, "%+.*f", a.f.modality == CPD_PD_SPEED ? 2 : 1, b->d_cp.delta);
+                snprintf(d, sizeof d, "%+.*f", CLI_DEC_INTENSITY(a.f.modality == CPD_PD_SPEED), b->d_cp.delta);
             else
                 snprintf(d, sizeof d, "-");
             const char *row[] = {a.f.athlete.code, nb, span, cp, d, verdict(&b->d_cp)};

@@ -251,8 +251,8 @@ static void add_trend(cli_ctx *c, sheet_build *b)
                 snprintf(b->trend_text, sizeof b->trend_text,
                          "%zu blocks of trials within %d days. Newest change of %s: %+.*f %s (95 %% interval %+.*f to "
                          "%+.*f): %s (the interval from the combined standard errors of the two fits%s).",
-                         nb, a.win, spd ? "CS" : "CP", spd ? 2 : 1, ch->delta, spd ? "m/s" : "W", spd ? 2 : 1, ch->ci95[0],
-                         spd ? 2 : 1, ch->ci95[1], ch->meaningful ? "meaningful" : "within the noise",
+                         nb, a.win, spd ? "CS" : "CP", CLI_DEC_INTENSITY(spd), ch->delta, spd ? "m/s" : "W",
+                         CLI_DEC_INTENSITY(spd), ch->ci95[0], CLI_DEC_INTENSITY(spd), ch->ci95[1], ch->meaningful ? "meaningful" : "within the noise",
                          ch->meaningful ? " excludes zero" : " includes zero");
             else
                 snprintf(b->trend_text, sizeof b->trend_text, "%zu blocks of trials within %d days.", nb, a.win);
@@ -577,9 +577,9 @@ static void team_num(team_buf *t, int ok, double v, int last)
  * range, and the dates the numbers rest on. Opens as it is in a spreadsheet. */
 static const char *const TEAM_HEAD[] = {
     "code", "name", "sport", "modality", "intensity unit", "capacity unit", "model", "trials from", "trials to",
-    "CP or CS", "CP or CS 95% CI low", "CP or CS 95% CI high", "W' or D'", "W' or D' 95% CI low",
-    "W' or D' 95% CI high", "moderate-heavy", "heavy-severe", "heavy-severe 95% CI low", "heavy-severe 95% CI high",
-    "severe-extreme", "severe-extreme 95% CI low", "severe-extreme 95% CI high", "moderate up to", "heavy from",
+    "CP or CS", "CP or CS 95 % CI low", "CP or CS 95 % CI high", "W' or D'", "W' or D' 95 % CI low",
+    "W' or D' 95 % CI high", "moderate-heavy", "heavy-severe", "heavy-severe 95 % CI low", "heavy-severe 95 % CI high",
+    "severe-extreme", "severe-extreme 95 % CI low", "severe-extreme 95 % CI high", "moderate up to", "heavy from",
     "heavy up to", "heavy-domain ceiling", "severe from", "severe up to", "extreme from", "VO2peak (mL/min)",
     "ramp date", "stale data"};
 

@@ -146,7 +146,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         double sc = spd ? 1.0 : 1e-3;
         const char *un = spd ? "m" : "kJ";
         printf("%s %s: %s balance (%s model, %s = %.*f %s, %s = %.*f %s)\n", f->athlete.code, f->athlete.name,
-               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", spd ? 2 : 1, m->cp, cli_pd_unit(f->modality),
+               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", CLI_DEC_INTENSITY(spd), m->cp, cli_pd_unit(f->modality),
                spd ? "D'" : "W'", spd ? 0 : 2, m->w_prime * sc, un);
         printf("%s\n\n", in->heading);
         char lowest[48];
@@ -516,7 +516,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
             fprintf(stderr, "cpdomain: solve: %s\n", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
     } else if (ok) {
         char v[48], num[32];
-        snprintf(v, sizeof v, "%s %s", cli_num(num, sizeof num, sol.intensity, spd ? 3 : 1), cli_pd_unit(f.modality));
+        snprintf(v, sizeof v, "%s %s", cli_num(num, sizeof num, sol.intensity, CLI_DEC_INTENSITY(spd)), cli_pd_unit(f.modality));
         printf("%s %s: '?' = %s", f.athlete.code, f.athlete.name, v);
         if (spd) {
             const char *lab;
@@ -539,8 +539,8 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         if (has_range[0] && has_range[1]) {
             char n0[32], n1[32];
             printf("with %s at the ends of its 95 %% interval (%s moving with it) the answer is %s to %s %s\n",
-                   spd ? "CS" : "CP", spd ? "D'" : "W'", cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1),
-                   cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1), cli_pd_unit(f.modality));
+                   spd ? "CS" : "CP", spd ? "D'" : "W'", cli_num(n0, sizeof n0, fmin(range[0], range[1]), CLI_DEC_INTENSITY(spd)),
+                   cli_num(n1, sizeof n1, fmax(range[0], range[1]), CLI_DEC_INTENSITY(spd)), cli_pd_unit(f.modality));
         }
         char check[1024];
         subst_unknown(o.protocol, p->unknown_unit, sol.intensity, m->cp, check, sizeof check);
