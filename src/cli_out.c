@@ -321,6 +321,39 @@ static size_t width(const char *s)
     return w;
 }
 
+/* Text tables stay within about 100 columns: the widest left-aligned columns (a status with its
+ * reason, a note) narrow to no less than TABLE_COL_MIN and wrap at spaces, each cell on as many
+ * lines as it needs, the rest of the row blank on those lines. */
+#define TABLE_WIDTH 100
+#define TABLE_COL_MIN 24
+
+/* The next line of s that fits in `room` display columns: its length in bytes through *len and its
+ * width through *cols; returns where the following line starts. A word longer than room is cut. */
+static const char *next_line(const char *s, size_t room, size_t *len, size_t *cols)
+{
+    const char *p = s, *brk = NULL;
+    size_t c = 0, cbrk = 0;
+    while (*p && c < room) {
+        if (*p == ' ') {
+            brk = p;
+            cbrk = c;
+        }
+        p++;
+        while (((unsigned char)*p & 0xC0) == 0x80)
+            p++;
+        c++;
+    }
+    if (*p && *p != ' ' && brk) { /* break at the last space instead of inside a word */
+        p = brk;
+        c = cbrk;
+    }
+    *len = (size_t)(p - s);
+    *cols = c;
+    while (*p == ' ')
+        p++;
+    return p;
+}
+
 void cli_table_print(cli_table *t)
 {
     if (!t)
@@ -333,21 +366,51 @@ void cli_table_print(cli_table *t)
             if (L > w[j])
                 w[j] = L;
         }
-    for (size_t r = 0; r < t->nrows; r++) {
+    /* narrow the widest left-aligned column, one column at a time, until the table fits */
+    for (;;) {
+        size_t total = 0;
+        int widest = -1;
         for (int j = 0; j < t->ncols; j++) {
-            const char *s = t->cells[r * (size_t)t->ncols + (size_t)j];
-            s = s ? s : "";
-            size_t pad = w[j] - width(s);
-            int right = t->align[j] == 'r';
-            if (j)
-                fputs("  ", stdout);
-            if (right)
-                printf("%*s", (int)pad, "");
-            fputs(s, stdout);
-            if (!right && j + 1 < t->ncols)
-                printf("%*s", (int)pad, "");
+            total += w[j] + (j ? 2 : 0);
+            if (t->align[j] != 'r' && w[j] > TABLE_COL_MIN && (widest < 0 || w[j] > w[widest]))
+                widest = j;
         }
-        fputc('\n', stdout);
+        if (total <= TABLE_WIDTH || widest < 0)
+            break;
+        size_t over = total - TABLE_WIDTH;
+        w[widest] = w[widest] - over >= TABLE_COL_MIN && w[widest] > over ? w[widest] - over : TABLE_COL_MIN;
+    }
+    for (size_t r = 0; r < t->nrows; r++) {
+        const char *rest[16];
+        for (int j = 0; j < t->ncols; j++)
+            rest[j] = t->cells[r * (size_t)t->ncols + (size_t)j] ? t->cells[r * (size_t)t->ncols + (size_t)j] : "";
+        for (int line = 0;; line++) {
+            int more = 0;
+            for (int j = 0; j < t->ncols; j++)
+                more |= *rest[j] != '\0';
+            if (line && !more)
+                break;
+            /* the printed line without trailing blanks: the last non-empty cell ends it */
+            int lastj = -1;
+            for (int j = 0; j < t->ncols; j++)
+                if (*rest[j] || (line == 0 && t->align[j] == 'r'))
+                    lastj = j;
+            for (int j = 0; j < t->ncols && j <= lastj; j++) {
+                size_t len, cols;
+                const char *next = next_line(rest[j], w[j], &len, &cols);
+                int right = t->align[j] == 'r';
+                if (j)
+                    fputs("  ", stdout);
+                size_t pad = w[j] > cols ? w[j] - cols : 0;
+                if (right)
+                    printf("%*s", (int)pad, "");
+                fwrite(rest[j], 1, len, stdout);
+                if (!right && j < lastj)
+                    printf("%*s", (int)pad, "");
+                rest[j] = next;
+            }
+            fputc('\n', stdout);
+        }
     }
     for (size_t i = 0; i < t->nrows * (size_t)t->ncols; i++)
         free(t->cells[i]);

@@ -80,6 +80,15 @@ expect 0 "domains with heart rates" --json domains C01
 json_is 'd["targets"]["heavy"]["hr_bpm"][1] <= d["targets"]["severe"]["hr_bpm"][0] and d["targets"]["moderate"]["hr_bpm"][1] == d["targets"]["heavy"]["hr_bpm"][0]' \
     True "heart-rate targets follow the domains without overlap"
 
+# text tables stay within 100 columns: a long last column wraps, indented to its column
+expect 0 "a table with long notes" trial list C04
+long=$(awk '{ if (length($0) > 100) n++ } END { print n + 0 }' "$TMP/out")
+[ "$long" = 0 ] && grep -q '^ \{40,\}[a-z]' "$TMP/out" && pass "trial list wraps its notes within 100 columns" ||
+    fail "trial list: $long lines over 100 columns" "$(head -c 400 "$TMP/out")"
+expect 0 "fit with a failed model" fit C01
+grep -q '^three-parameter .*failed: the trials show *$' "$TMP/out" && pass "fit wraps a long failure reason" ||
+    fail "fit's failure reason is not wrapped" "$(grep three-parameter "$TMP/out")"
+
 # -o FILE.svg: plots from fit, curve (logarithmic time), predict --protocol/--session and history,
 # all through the one plotting module; every one parses, none nests, no label is cut off
 mkdir -p "$TMP/plots"
