@@ -96,15 +96,16 @@ sid=$("$BIN" --db "$DB" --json session list C02 | $PY -c "import json,sys; print
 for spec in "fit|fit C01 -o $TMP/plots/fit.svg" "curve|curve C02 -o $TMP/plots/curve.svg" \
     "predict --protocol|predict C01 --protocol 10min@150W;4x(3min@300W,3min@120W) -o $TMP/plots/protocol.svg" \
     "predict --session|predict C02 --session $sid -o $TMP/plots/session.svg" "history|history C02 -o $TMP/plots/history.svg" \
-    "ramp plot|ramp plot 2 -o $TMP/plots/ramp.svg" "bout plot|bout plot 11 -o $TMP/plots/bout.svg"; do
+    "ramp plot|ramp plot 2 -o $TMP/plots/ramp.svg" "bout plot|bout plot 11 -o $TMP/plots/bout.svg" \
+    "ramp plot --kind veq|ramp plot 2 --kind veq -o $TMP/plots/veq.svg" "lactate plot|lactate plot 1 -o $TMP/plots/lactate.svg"; do
     what=${spec%%|*}
     # shellcheck disable=SC2086
     expect 0 "$what -o FILE.svg" --quiet ${spec#*|}
 done
 n=$(ls "$TMP/plots" | wc -l)
-[ "$n" -eq 7 ] && pass "7 plots written" || fail "$n plots written"
+[ "$n" -eq 9 ] && pass "9 plots written" || fail "$n plots written"
 res=$($PY "$CHECK" svgs "$TMP"/plots/*.svg)
-[ "$res" = "svgs 7" ] && pass "every -o plot parses as XML, none nested, no label cut off" || fail "plot problems" "$res"
+[ "$res" = "svgs 9" ] && pass "every -o plot parses as XML, none nested, no label cut off" || fail "plot problems" "$res"
 grep -q '>0:01<' "$TMP/plots/curve.svg" && grep -q '>1:00:00<' "$TMP/plots/curve.svg" &&
     pass "curve: a logarithmic time axis from 1 s to an hour" || fail "curve axis ticks"
 grep -q "balance of the session" "$TMP/plots/protocol.svg" && pass "predict -o draws the balance" || fail "no balance plot"
