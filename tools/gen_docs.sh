@@ -17,7 +17,7 @@ version=$("$bin" --version | awk '{ print $2 }')
 # "  name  summary" rows between "commands:" and the next blank line
 commands=$(awk '/^commands:/ { on = 1; next } on && /^$/ { exit } on { print $1 }' "$tmp/top")
 # the global options: "--name" at the start of the rows after "options:"
-globals=$(awk '/^options:/ { on = 1; next } on && /^$/ { exit } on { print $1 }' "$tmp/top")
+globals=$(awk '/^options:/ { on = 1; next } on && /^$/ { exit } on && /^  --/ { print $1 }' "$tmp/top")
 
 # options of one help text: every --long-option in its usage lines (up to the first blank line),
 # plus -o when the usage has it
@@ -54,8 +54,11 @@ esc() { sed -e 's/\\/\\e/g' -e "s/^\\([.']\\)/\\\\\\&\\1/"; }
     printf '%s\n' ".SH DESCRIPTION"
     awk 'NR > 2 && /^commands:/ { exit } NR > 2 && !/^$/ { print }' "$tmp/top" | esc
     printf '%s\n' ".SH OPTIONS"
-    awk '/^options:/ { on = 1; next } on && /^$/ { exit } on { sub(/^  /, ""); print }' "$tmp/top" | esc |
-        awk '{ o = $1; if ($2 ~ /^[A-Z]+$/) { o = o " " $2; $2 = "" } $1 = ""; sub(/^ +/, ""); print ".TP\n.B " o "\n" $0 }'
+    # "  --name [VALUE]  text" rows; a row indented further continues the text above it
+    awk '/^options:/ { on = 1; next } on && /^$/ { exit } on { print }' "$tmp/top" | esc |
+        awk '/^  --/ { sub(/^  /, ""); o = $1; if ($2 ~ /^[A-Z]+$/) { o = o " " $2; $2 = "" } $1 = "";
+                       sub(/^ +/, ""); print ".TP\n.B " o "\n" $0; next }
+             { sub(/^ +/, ""); print }'
     printf '%s\n' ".SH COMMANDS"
     for c in $commands; do
         summary=$(awk -v c="$c" '/^commands:/ { on = 1; next } on && $1 == c { $1 = ""; sub(/^ +/, ""); print; exit }' "$tmp/top")
@@ -92,6 +95,27 @@ esc() { sed -e 's/\\/\\e/g' -e "s/^\\([.']\\)/\\\\\\&\\1/"; }
     printf '%s\n' "stop criteria; defer to licensed practitioners."
 } >"$out/cpdomain.1"
 
+# The completions' case table on the command and the subcommand: the words to offer at each
+# place. $1 and $2 wrap a word list: '="' and '"' for bash's words="...", '_=(' and ')' for zsh's
+# words_=(...).
+case_table() {
+    echo "    case \"\$cmd\" in"
+    echo "    '') words$1$(echo $commands) $(echo $globals)$2 ;;"
+    while read -r c rest; do
+        echo "    $c)"
+        echo "        case \"\$sub\" in"
+        echo "        '') words$1$rest$2 ;;"
+        grep "^$c " "$tmp/leaves" | while read -r _ s o; do
+            echo "        $s) words$1${o:+$o }--help$2 ;;"
+        done
+        echo "        esac ;;"
+    done <"$tmp/subs"
+    grep " - " "$tmp/leaves" | while read -r c _ o; do
+        echo "    $c) words$1${o:+$o }--help$2 ;;"
+    done
+    echo "    esac"
+}
+
 # ---- bash completion ----
 {
     echo "# bash completion for cpdomain, generated from its command tables by tools/gen_docs.sh"
@@ -104,21 +128,7 @@ esc() { sed -e 's/\\/\\e/g' -e "s/^\\([.']\\)/\\\\\\&\\1/"; }
     echo "        *) if [ -z \"\$cmd\" ]; then cmd=\${COMP_WORDS[i]}; elif [ -z \"\$sub\" ]; then sub=\${COMP_WORDS[i]}; fi ;;"
     echo "        esac"
     echo "    done"
-    echo "    case \"\$cmd\" in"
-    echo "    '') words=\"$(echo $commands) $(echo $globals)\" ;;"
-    while read -r c rest; do
-        echo "    $c)"
-        echo "        case \"\$sub\" in"
-        echo "        '') words=\"$rest\" ;;"
-        grep "^$c " "$tmp/leaves" | while read -r _ s o; do
-            echo "        $s) words=\"${o:+$o }--help\" ;;"
-        done
-        echo "        esac ;;"
-    done <"$tmp/subs"
-    grep " - " "$tmp/leaves" | while read -r c _ o; do
-        echo "    $c) words=\"${o:+$o }--help\" ;;"
-    done
-    echo "    esac"
+    case_table '="' '"'
     echo "    COMPREPLY=(\$(compgen -W \"\$words\" -- \"\$cur\"))"
     echo "    case \"\$cur\" in -*) ;; *) [ \${#COMPREPLY[@]} -eq 0 ] && COMPREPLY=(\$(compgen -f -- \"\$cur\")) ;; esac"
     echo "}"
@@ -134,21 +144,7 @@ esc() { sed -e 's/\\/\\e/g' -e "s/^\\([.']\\)/\\\\\\&\\1/"; }
     echo "    local cmd=\${words[(r)^-*~cpdomain]} sub"
     echo "    local -a rest; rest=(\${words[2,CURRENT-1]:#-*})"
     echo "    cmd=\${rest[1]}; sub=\${rest[2]}"
-    echo "    case \$cmd in"
-    echo "    '') words_=($(echo $commands) $(echo $globals)) ;;"
-    while read -r c rest; do
-        echo "    $c)"
-        echo "        case \$sub in"
-        echo "        '') words_=($rest) ;;"
-        grep "^$c " "$tmp/leaves" | while read -r _ s o; do
-            echo "        $s) words_=(${o:+$o }--help) ;;"
-        done
-        echo "        esac ;;"
-    done <"$tmp/subs"
-    grep " - " "$tmp/leaves" | while read -r c _ o; do
-        echo "    $c) words_=(${o:+$o }--help) ;;"
-    done
-    echo "    esac"
+    case_table '_=(' ')'
     echo "    compadd -a words_"
     echo "    _files"
     echo "}"

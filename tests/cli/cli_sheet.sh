@@ -321,11 +321,17 @@ expect 69 "Y1 alone" sheet Y1
 
 # every SVG the demo and these stores produce parses as XML when cut out as a simple consumer cuts it
 # (the first </svg> ends it, so no <svg> may nest), and no label runs outside its picture
-res=$($PY "$CHECK" svgs "$TMP"/demo/out/*.html "$TMP"/s/*.html "$TMP"/all2/*.html)
+res=$($PY "$CHECK" svgs "$TMP"/demo/out/*.html "$TMP"/demo/out/details/*.svg "$TMP"/s/*.html "$TMP"/all2/*.html)
 case "$res" in
 "svgs "*) pass "every SVG of the demo's and the test's sheets parses, none nested, no label cut off (${res#svgs })" ;;
 *) fail "SVG problems" "$(echo "$res" | head -5)" ;;
 esac
+# the demo shows the new outputs: fit, curve, race balance and season plots, CSV tables, the team table
+for f in details/C01_fit.svg details/C02_curve.svg details/C02_season.svg details/C01.domains.csv csv/team.csv; do
+    [ -s "$TMP/demo/out/$f" ] || fail "the demo did not write $f"
+done
+[ -s "$TMP/demo/out/csv/team.csv" ] && [ "$(ls "$TMP"/demo/out/details/*_race_balance.svg 2>/dev/null | wc -l)" -ge 1 ] &&
+    pass "the demo writes the plots, the CSV tables and the team table" || fail "demo outputs missing"
 # the case that once broke it: an athlete with a ramp and a heavy bout (a two-panel kinetics chart)
 DEMO="$CPDOMAIN_TESTS/../demo/data"
 HB="$TMP/heavy.db"

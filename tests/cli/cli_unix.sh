@@ -41,6 +41,7 @@ comp() {
 [ "$(comp "cpdomain sol")" = "solve" ] && pass "bash: 'cpdomain sol<TAB>' completes to solve" || fail "bash: sol -> '$(comp "cpdomain sol")'"
 [ "$(comp "cpdomain --db x.db solve C01 --lo")" = "--lowest" ] && pass "bash: solve's options, after --db FILE" ||
     fail "bash: --lo -> '$(comp "cpdomain --db x.db solve C01 --lo")'"
+[ "$(comp "cpdomain --c")" = "--csv" ] && pass "bash: the global options, and only those" || fail "bash: --c -> '$(comp "cpdomain --c")'"
 [ "$(comp "cpdomain athlete s")" = "show set" ] && pass "bash: athlete's subcommands" || fail "bash: athlete s -> '$(comp "cpdomain athlete s")'"
 [ "$(comp "cpdomain sheet C01 --f")" = "--format --from" ] && pass "bash: sheet's options" || fail "bash: sheet --f -> '$(comp "cpdomain sheet C01 --f")'"
 
