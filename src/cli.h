@@ -75,6 +75,9 @@ int cli_plot_path(const char *cmd, const char *path);
  * b". JSON keeps full precision with the unit in the key (power_w, w_prime_j in SPEC's w_prime). */
 #define CLI_DEC_INTENSITY(spd) ((spd) ? 2 : 0)
 
+/* A duration for text output: "8 s" under a minute, else m:ss or h:mm:ss (cpd_format_duration). */
+const char *cli_duration_text(double s, char *buf, size_t n);
+
 /* Number formatting for tables: "-" for a non-finite value. */
 const char *cli_num(char *buf, size_t n, double v, int decimals);
 

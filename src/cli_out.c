@@ -264,6 +264,15 @@ int cli_id(const char *opt, const char *arg, long long *out)
     return 0;
 }
 
+const char *cli_duration_text(double s, char *buf, size_t n)
+{
+    if (isfinite(s) && s >= 0 && s < 60)
+        snprintf(buf, n, "%g s", s);
+    else
+        cpd_format_duration(s, buf, n);
+    return buf;
+}
+
 const char *cli_num(char *buf, size_t n, double v, int decimals)
 {
     if (!isfinite(v))

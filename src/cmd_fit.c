@@ -591,10 +591,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                 printf("at %s: %s\n", v, cpd_pd_pred_text(p.status));
         } else if (o.duration) {
             /* under a minute as plain seconds: a bare '--duration 8' reads back as "8 s", not "0:08" */
-            if (q < 60)
-                snprintf(a, sizeof a, "%g s", q);
-            else
-                cpd_format_duration(q, a, sizeof a);
+            cli_duration_text(q, a, sizeof a);
             if (p.valid) {
                 printf("for %s: %s", a, fmt_intensity(&f, p.value, v, sizeof v));
                 if (p.ci_valid)

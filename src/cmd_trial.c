@@ -186,7 +186,7 @@ static int trial_list(cli_ctx *c, int argc, char **argv)
         char num[32];
         const char *unit = v[i].kind == CPD_TRIAL_POWER ? "W" : v[i].kind == CPD_TRIAL_SPEED ? "m/s" : "m";
         snprintf(val, sizeof val, "%s %s", cli_num(num, sizeof num, v[i].value, v[i].kind == CPD_TRIAL_SPEED ? 2 : 0), unit);
-        cpd_format_duration(v[i].duration_s, dur, sizeof dur);
+        cli_duration_text(v[i].duration_s, dur, sizeof dur);
         if (v[i].kind == CPD_TRIAL_DISTANCE)
             snprintf(sp, sizeof sp, "%s m/s", cli_num(num, sizeof num, v[i].value / v[i].duration_s, 2));
         else

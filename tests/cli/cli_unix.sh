@@ -116,6 +116,10 @@ expect 0 "--duration 8min" predict C01 --duration 8min --model linear-total
 out_has "for 8:00:" "--duration 8min is 8 minutes"
 expect 0 "--duration 8" predict C01 --duration 8 --model linear-total
 out_has "for 8 s:" "a bare --duration 8 is seconds, echoed as '8 s'"
+expect 0 "a bare --duration on a trial" trial add C01 --date 2026-10-20 --power 900 --duration 8
+expect 0 "trial list" trial list C01
+out_has "      8 s" "a trial of 8 s is listed as '8 s', not '0:08'"
+expect 0 "remove it again" trial remove "$("$BIN" --db "$DB" --json trial list C01 | /usr/bin/python3 -c "import json,sys; print(max(t['id'] for t in json.load(sys.stdin)['trials']))")"
 expect 64 "a wrong unit" predict C01 --power 300kg
 err_has "is not a number of W" "a wrong unit is named"
 
