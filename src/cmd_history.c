@@ -182,9 +182,11 @@ static const char *verdict(const cpd_history_change *c)
 static void print_history(const cli_history *a)
 {
     int spd = a->f.modality == CPD_PD_SPEED;
-    printf("%s %s: %zu block(s) of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks, a->win);
+    printf("%s %s: %zu block%s of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks,
+           a->h->nblocks == 1 ? "" : "s", a->win);
     const char *head[] = {"block", "trials", spd ? "CS (m/s)" : "CP (W)", "95 % CI", spd ? "D' (m)" : "W' (kJ)",
-                          spd ? "GET (m/s)" : "GET (W)", "VO2peak", spd ? "change in CS" : "change in CP", "verdict"};
+                          spd ? "GET (m/s)" : "GET (W)", "VO2peak (mL/min)",
+                          spd ? "change in CS (m/s)" : "change in CP (W)", "verdict"};
     cli_table *t = cli_table_new(9, head, "lrrrrrrrl");
     for (size_t k = 0; k < a->h->nblocks; k++) {
         const cpd_history_block *b = &a->h->block[k];
@@ -305,7 +307,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     cli_json *arr = doc ? cj_add_arr(doc, "athletes") : NULL;
     cli_table *t = NULL;
     if (!doc) {
-        static const char *const head[] = {"code", "blocks", "newest block", "CP/CS", "change", "verdict"};
+        static const char *const head[] = {"code", "blocks", "newest block", "CP (W) or CS (m/s)", "change", "verdict"};
         t = cli_table_new(6, head, "lrlrrl");
     }
     for (size_t i = 0; i < n; i++) {
