@@ -71,7 +71,10 @@ int main(void)
 EOF
 sed -i "s|^prefix=/usr|prefix=$TMP/inst/usr|" "$TMP/inst/usr/lib/pkgconfig/cpdomain.pc"
 flags=$(PKG_CONFIG_PATH="$TMP/inst/usr/lib/pkgconfig" pkg-config --cflags --libs --static cpdomain 2>&1)
-if cc -std=c17 "$TMP/use.c" $flags -o "$TMP/use" 2>"$TMP/cc.log"; then
+# a library built for 'make check' carries the sanitizers; its users link them too
+san=""
+nm "$TMP/inst/usr/lib/libcpdomain.a" 2>/dev/null | grep -q __asan_ && san="-fsanitize=address,undefined"
+if cc -std=c17 $san "$TMP/use.c" $flags -o "$TMP/use" 2>"$TMP/cc.log"; then
     out=$("$TMP/use")
     [ "$out" = "$("$BIN" --version | awk '{ print $2 }') solve" ] && pass "a program links the installed library through pkg-config" ||
         fail "the linked program printed '$out'"
