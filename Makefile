@@ -43,6 +43,7 @@ LIB_SRCS += src/sheet.c
 LIB_SRCS += src/energy.c
 LIB_SRCS += src/safefile.c
 LIB_SRCS += src/validate_records.c src/validate_dump.c
+LIB_SRCS += src/suggest.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
@@ -76,6 +77,7 @@ TESTS += test_ramp_ci
 TESTS += test_safefile
 TESTS += test_csv_growth
 TESTS += test_store_codec test_csvfast
+TESTS += test_suggest
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
@@ -100,7 +102,7 @@ TEST_BINS  = $(TESTS:%=$(BUILD)/tests/%)
 BENCH_BINS = $(BENCHES:%=$(BUILD)/bench/%)
 STAMP    = $(BUILD)/.deps-ok
 
-.PHONY: all test check valgrind bench demo deps install clean
+.PHONY: all test check valgrind bench demo deps install clean docs $(BUILD)/cpdomain.pc
 .PHONY: fuzz fuzz-smoke fuzz-lib
 all: $(BIN)
 
@@ -169,9 +171,32 @@ $(FUZZ_DIR)/fuzz_%: tests/fuzz/fuzz_%.c tests/fuzz/fuzz.h fuzz-lib
 demo: $(BIN)
 	@sh demo/run.sh $(BIN)
 
-install: $(BIN)
+# The man page and the bash/zsh completions come from the command tables (the binary's --help
+# texts) through tools/gen_docs.sh: one source, regenerated whenever the binary changes.
+DOCS = $(BUILD)/doc/cpdomain.1 $(BUILD)/doc/cpdomain.bash $(BUILD)/doc/_cpdomain
+VERSION = $(shell sed -n 's/^\#define CPDOMAIN_VERSION "\(.*\)"/\1/p' include/cpdomain/version.h)
+docs: $(DOCS) $(BUILD)/cpdomain.pc
+$(DOCS) &: $(BIN) tools/gen_docs.sh
+	sh tools/gen_docs.sh $(BIN) $(BUILD)/doc
+$(BUILD)/cpdomain.pc: Makefile include/cpdomain/version.h
+	@mkdir -p $(BUILD)
+	printf '%s\n' 'prefix=$(PREFIX)' 'libdir=$${prefix}/lib' 'includedir=$${prefix}/include' '' \
+	  'Name: cpdomain' 'Description: critical power, W'"'"' and the intensity domains' 'Version: $(VERSION)' \
+	  'Requires.private: $(PKGS)' 'Libs: -L$${libdir} -lcpdomain' 'Libs.private: -lcsv -lm' \
+	  'Cflags: -I$${includedir}' >$@
+
+install: $(BIN) $(LIB) docs
 	install -d $(DESTDIR)$(PREFIX)/bin
 	install -m 755 $(BIN) $(DESTDIR)$(PREFIX)/bin/cpdomain
+	install -d $(DESTDIR)$(PREFIX)/lib/pkgconfig $(DESTDIR)$(PREFIX)/include/cpdomain \
+	  $(DESTDIR)$(PREFIX)/share/man/man1 $(DESTDIR)$(PREFIX)/share/bash-completion/completions \
+	  $(DESTDIR)$(PREFIX)/share/zsh/site-functions
+	install -m 644 $(LIB) $(DESTDIR)$(PREFIX)/lib/libcpdomain.a
+	install -m 644 include/cpdomain/*.h $(DESTDIR)$(PREFIX)/include/cpdomain/
+	install -m 644 $(BUILD)/cpdomain.pc $(DESTDIR)$(PREFIX)/lib/pkgconfig/cpdomain.pc
+	install -m 644 $(BUILD)/doc/cpdomain.1 $(DESTDIR)$(PREFIX)/share/man/man1/cpdomain.1
+	install -m 644 $(BUILD)/doc/cpdomain.bash $(DESTDIR)$(PREFIX)/share/bash-completion/completions/cpdomain
+	install -m 644 $(BUILD)/doc/_cpdomain $(DESTDIR)$(PREFIX)/share/zsh/site-functions/_cpdomain
 
 clean:
 	rm -rf build

@@ -30,8 +30,8 @@
  *  C02's CP rises from 268 W (to 2026-09-27) linearly to 288 W (from 2026-11-08); W' 19.5 -> 18.8 kJ.
  *
  * Models (all "truth" is what these formulas produce before noise):
- *  - trials: TTE t = W'/(P - CP) times a log-normal day-to-day factor (CV 7 % cycling/rowing, 8 % running
- *    TTE, common practice); track/pool time trials t = (D - D')/CS with CV 1.5 % / 1 %.
+ *  - trials: time to exhaustion (tlim) t = W'/(P - CP) times a log-normal day-to-day factor (CV 7 % cycling/rowing, 8 % running
+ *    tlim, common practice); track/pool time trials t = (D - D')/CS with CV 1.5 % / 1 %.
  *  - ramp: steady-state VO2 u(P) = a0 + gain P + gain_x max(0, P - P_GET); VO2 = u(P(t - 8 s)) through a
  *    first-order lag (tau = MRT - 8 s), softly capped at VO2max (plateau); VCO2 = piecewise linear in VO2
  *    (slope S1 below GET, S2 above: Beaver, Wasserman & Whipp 1986 JAP 60:2020); PETCO2 rises to GET,
@@ -677,7 +677,7 @@ static void gen_lactate(gen *g, const char *code, const char *fname, const char 
 
 typedef struct {
     const char *code, *date;
-    char kind;      /* 'P' power TTE, 'S' speed TTE, 'D' distance time trial */
+    char kind;      /* 'P' power tlim, 'S' speed tlim, 'D' distance time trial */
     double value;   /* W, m/s or m */
     double cv;      /* day-to-day coefficient of variation of the recorded time */
     double cut;     /* > 0: the trial stopped early at this fraction of the true time (excluded) */
@@ -1333,47 +1333,47 @@ static const athlete ATHLETES[] = {
 };
 
 static const trial_def TRIALS[] = {
-    {"C01", "2026-10-05", 'P', 250, 0.07, 0, "TTE, cycle ergometer"},
-    {"C01", "2026-10-08", 'P', 260, 0.07, 0, "TTE"},
-    {"C01", "2026-10-12", 'P', 275, 0.07, 0, "TTE"},
-    {"C01", "2026-10-15", 'P', 300, 0.07, 0, "TTE"},
-    {"C01", "2026-10-19", 'P', 330, 0.07, 0, "TTE"},
-    {"C02", "2026-09-07", 'P', 290, 0.07, 0, "TTE, block 1"},
-    {"C02", "2026-09-10", 'P', 300, 0.07, 0, "TTE, block 1"},
-    {"C02", "2026-09-15", 'P', 320, 0.07, 0, "TTE, block 1"},
-    {"C02", "2026-09-18", 'P', 350, 0.07, 0, "TTE, block 1"},
-    {"C02", "2026-09-23", 'P', 380, 0.07, 0, "TTE, block 1"},
-    {"C02", "2026-11-16", 'P', 310, 0.07, 0, "TTE, block 2 after the training block"},
-    {"C02", "2026-11-18", 'P', 325, 0.07, 0, "TTE, block 2"},
-    {"C02", "2026-11-21", 'P', 345, 0.07, 0, "TTE, block 2"},
-    {"C02", "2026-11-24", 'P', 370, 0.07, 0, "TTE, block 2"},
-    {"C02", "2026-11-27", 'P', 400, 0.07, 0, "TTE, block 2"},
-    {"C03", "2026-10-13", 'P', 360, 0.07, 0, "TTE"},
-    {"C03", "2026-10-20", 'P', 275, 0.07, 0, "TTE"},
-    {"C04", "2026-10-09", 'P', 220, 0.07, 0, "TTE"},
-    {"C04", "2026-10-13", 'P', 245, 0.07, 0, "TTE"},
+    {"C01", "2026-10-05", 'P', 250, 0.07, 0, "tlim, cycle ergometer"},
+    {"C01", "2026-10-08", 'P', 260, 0.07, 0, "tlim"},
+    {"C01", "2026-10-12", 'P', 275, 0.07, 0, "tlim"},
+    {"C01", "2026-10-15", 'P', 300, 0.07, 0, "tlim"},
+    {"C01", "2026-10-19", 'P', 330, 0.07, 0, "tlim"},
+    {"C02", "2026-09-07", 'P', 290, 0.07, 0, "tlim, block 1"},
+    {"C02", "2026-09-10", 'P', 300, 0.07, 0, "tlim, block 1"},
+    {"C02", "2026-09-15", 'P', 320, 0.07, 0, "tlim, block 1"},
+    {"C02", "2026-09-18", 'P', 350, 0.07, 0, "tlim, block 1"},
+    {"C02", "2026-09-23", 'P', 380, 0.07, 0, "tlim, block 1"},
+    {"C02", "2026-11-16", 'P', 310, 0.07, 0, "tlim, block 2 after the training block"},
+    {"C02", "2026-11-18", 'P', 325, 0.07, 0, "tlim, block 2"},
+    {"C02", "2026-11-21", 'P', 345, 0.07, 0, "tlim, block 2"},
+    {"C02", "2026-11-24", 'P', 370, 0.07, 0, "tlim, block 2"},
+    {"C02", "2026-11-27", 'P', 400, 0.07, 0, "tlim, block 2"},
+    {"C03", "2026-10-13", 'P', 360, 0.07, 0, "tlim"},
+    {"C03", "2026-10-20", 'P', 275, 0.07, 0, "tlim"},
+    {"C04", "2026-10-09", 'P', 220, 0.07, 0, "tlim"},
+    {"C04", "2026-10-13", 'P', 245, 0.07, 0, "tlim"},
     {"C04", "2026-10-16", 'P', 235, 0.07, 0.42,
      "stopped at 3:16 when the chain dropped, not exhaustion: exclude"},
-    {"C04", "2026-10-20", 'P', 262, 0.07, 0, "TTE"},
-    {"C04", "2026-10-23", 'P', 285, 0.07, 0, "TTE"},
-    {"C05", "2026-09-28", 'P', 340, 0.07, 0, "TTE"},
-    {"C05", "2026-10-01", 'P', 360, 0.07, 0, "TTE"},
-    {"C05", "2026-10-05", 'P', 390, 0.07, 0, "TTE"},
-    {"C05", "2026-10-08", 'P', 430, 0.07, 0, "TTE"},
-    {"R01", "2026-09-25", 'S', 5.000, 0.08, 0, "treadmill TTE at 18.0 km/h, 1 % grade"},
-    {"R01", "2026-09-29", 'S', 5.278, 0.08, 0, "treadmill TTE at 19.0 km/h, 1 % grade"},
+    {"C04", "2026-10-20", 'P', 262, 0.07, 0, "tlim"},
+    {"C04", "2026-10-23", 'P', 285, 0.07, 0, "tlim"},
+    {"C05", "2026-09-28", 'P', 340, 0.07, 0, "tlim"},
+    {"C05", "2026-10-01", 'P', 360, 0.07, 0, "tlim"},
+    {"C05", "2026-10-05", 'P', 390, 0.07, 0, "tlim"},
+    {"C05", "2026-10-08", 'P', 430, 0.07, 0, "tlim"},
+    {"R01", "2026-09-25", 'S', 5.000, 0.08, 0, "treadmill tlim at 18.0 km/h, 1 % grade"},
+    {"R01", "2026-09-29", 'S', 5.278, 0.08, 0, "treadmill tlim at 19.0 km/h, 1 % grade"},
     {"R01", "2026-10-03", 'D', 3600, 0.015, 0, "track time trial, single visit, 30 min rest between trials"},
     {"R01", "2026-10-03", 'D', 2400, 0.015, 0, "track time trial, single visit"},
     {"R01", "2026-10-03", 'D', 1200, 0.015, 0, "track time trial, single visit"},
-    {"R02", "2026-09-14", 'S', 5.000, 0.08, 0, "treadmill TTE at 18.0 km/h, 1 % grade"},
-    {"R02", "2026-09-17", 'S', 5.278, 0.08, 0, "treadmill TTE at 19.0 km/h, 1 % grade"},
-    {"R02", "2026-09-21", 'S', 5.556, 0.08, 0, "treadmill TTE at 20.0 km/h, 1 % grade"},
+    {"R02", "2026-09-14", 'S', 5.000, 0.08, 0, "treadmill tlim at 18.0 km/h, 1 % grade"},
+    {"R02", "2026-09-17", 'S', 5.278, 0.08, 0, "treadmill tlim at 19.0 km/h, 1 % grade"},
+    {"R02", "2026-09-21", 'S', 5.556, 0.08, 0, "treadmill tlim at 20.0 km/h, 1 % grade"},
     {"R02", "2026-09-26", 'D', 3600, 0.015, 0, "track time trial"},
-    {"W01", "2026-10-12", 'P', 250, 0.07, 0, "TTE, rowing ergometer"},
-    {"W01", "2026-10-14", 'P', 260, 0.07, 0, "TTE, rowing ergometer"},
-    {"W01", "2026-10-19", 'P', 280, 0.07, 0, "TTE, rowing ergometer"},
-    {"W01", "2026-10-21", 'P', 305, 0.07, 0, "TTE, rowing ergometer"},
-    {"W01", "2026-10-26", 'P', 335, 0.07, 0, "TTE, rowing ergometer"},
+    {"W01", "2026-10-12", 'P', 250, 0.07, 0, "tlim, rowing ergometer"},
+    {"W01", "2026-10-14", 'P', 260, 0.07, 0, "tlim, rowing ergometer"},
+    {"W01", "2026-10-19", 'P', 280, 0.07, 0, "tlim, rowing ergometer"},
+    {"W01", "2026-10-21", 'P', 305, 0.07, 0, "tlim, rowing ergometer"},
+    {"W01", "2026-10-26", 'P', 335, 0.07, 0, "tlim, rowing ergometer"},
     {"S01", "2026-10-06", 'D', 200, 0.01, 0, "50 m pool, time trial"},
     {"S01", "2026-10-08", 'D', 400, 0.01, 0, "50 m pool, time trial"},
     {"S01", "2026-10-13", 'D', 800, 0.01, 0, "50 m pool, time trial"},

@@ -57,7 +57,7 @@ done
 fits=$(mktemp -d)
 trap 'rm -rf "$fits"' EXIT
 for code in $codes; do
-    cpd fit "$code" >"$fits/$code.txt" 2>&1 || true
+    cpd fit "$code" -o "$out/details/${code}_fit.svg" >"$fits/$code.txt" 2>&1 || true
     f="$out/details/$code.txt"
     {
         cat "$fits/$code.txt"
@@ -99,13 +99,13 @@ for code in $codes; do
         # the season's sessions: the mean-maximal curve, the field estimate fitted to it, and the
         # W' balance through the race (the session noted RACE in the manifest)
         if has curve && [ "$(cpd session list "$code" | wc -l)" -gt 1 ]; then
-            cpd curve "$code" || true
+            cpd curve "$code" -o "$out/details/${code}_curve.svg" || true
             echo
             cpd fit "$code" --source curve || true
             echo
             race=$(cpd session list "$code" | awk '$NF == "RACE" { print $1; exit }')
             if [ -n "$race" ]; then
-                cpd predict "$code" --session "$race" || true
+                cpd predict "$code" --session "$race" -o "$out/details/${code}_race_balance.svg" || true
                 echo
             fi
         fi
@@ -118,8 +118,13 @@ for code in $codes; do
         fi
     } >"$f" 2>&1
     cpd --json fit "$code" >"$out/details/$code.fit.json" 2>/dev/null || true
+    # the domains as a spreadsheet table, and the season as a plot where there is one
+    cpd --csv domains "$code" >"$out/details/$code.domains.csv" 2>/dev/null || true
+    cpd history "$code" -o "$out/details/${code}_season.svg" >/dev/null 2>&1 || true
 done
 cpd sheet --all -o "$out"
+# the team in one spreadsheet table (with every athlete's CSV sheet beside it)
+cpd sheet --all --format csv -o "$out/csv"
 
 echo "Tarnbridge Endurance Centre (invented demo data, see demo/TRUTH.md): the best fit of each athlete"
 for code in $codes; do

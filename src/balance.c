@@ -176,10 +176,12 @@ typedef struct {
     const cpd_balance_params *bp;
     const cpd_protocol *p;
     double target;
-    int rc; /* first error met inside the GSL callback */
+    int lowest; /* solve for the lowest balance of the session, not the end balance */
+    int rc;     /* first error met inside the GSL callback */
 } solve_ctx;
 
-/* One simulation with the unknown at x: end balance and lowest balance before the last second. */
+/* One simulation with the unknown at x: the balance solved for (the end balance, or the lowest of
+ * the whole session in lowest mode) and the lowest balance before the last second. */
 typedef struct {
     double end;
     double min_before; /* w_prime when the protocol is one second long */
@@ -199,7 +201,9 @@ static int simulate(solve_ctx *c, double x, probe *out)
     for (size_t i = 0; i + 1 < n; i++)
         if (c->w->trace[i] < m)
             m = c->w->trace[i];
-    out->end = r.end_balance;
+    /* lowest mode: the lowest second, last one included; then end - target <= min_before - target,
+     * so h below is that lowest balance minus the target */
+    out->end = c->lowest && m < r.end_balance ? m : r.end_balance;
     out->min_before = m;
     return CPD_OK;
 }
@@ -296,8 +300,8 @@ done:
     return rc;
 }
 
-int cpd_balance_solve(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_protocol_modality modality,
-                      const cpd_protocol *p, double finish_pct, cpd_balance_solution *sol)
+static int solve(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_protocol_modality modality,
+                 const cpd_protocol *p, double finish_pct, int lowest, cpd_balance_solution *sol)
 {
     int rc = CPD_OK;
     if (!w || !bp || !p || !sol || !p->has_unknown || p->total_s > w->max_s || p->total_s == 0)
@@ -319,7 +323,7 @@ int cpd_balance_solve(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_proto
     sol->lowest = modality == CPD_PROTOCOL_SPEED ? CPD_RANGE_SPEED.lo : CPD_RANGE_POWER.lo;
     sol->highest = bp->cp + 2.0 * bp->w_prime;
     const double tol = SOLVE_TOL_FRAC * bp->w_prime, target = sol->target_balance;
-    solve_ctx c = {.w = w, .bp = bp, .p = p, .target = target};
+    solve_ctx c = {.w = w, .bp = bp, .p = p, .target = target, .lowest = lowest};
 
     probe lo, hi;
     rc = simulate(&c, sol->lowest, &lo);
@@ -377,4 +381,18 @@ int cpd_balance_solve(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_proto
         }
     }
     return brent(&c, a, b, tol, sol);
+}
+
+int cpd_balance_solve(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_protocol_modality modality,
+                      const cpd_protocol *p, double finish_pct, cpd_balance_solution *sol)
+{
+    return solve(w, bp, modality, p, finish_pct, 0, sol);
+}
+
+int cpd_balance_solve_lowest(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_protocol_modality modality,
+                             const cpd_protocol *p, double lowest_pct, cpd_balance_solution *sol)
+{
+    if (!(lowest_pct > 0))
+        return CPD_EUSAGE;
+    return solve(w, bp, modality, p, lowest_pct, 1, sol);
 }

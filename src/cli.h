@@ -13,6 +13,7 @@
 typedef struct {
     const char *db_path; /* --db, $CPDOMAIN_DB or cpdomain.db */
     int json;            /* --json */
+    int csv;             /* --csv: the command's table as CSV (commands that have one) */
     int quiet;           /* --quiet */
     int mute;            /* internal: a fallback lookup is running; its failures are not errors (nests) */
     int today;           /* days since 1970-01-01 (local date, or $CPDOMAIN_TODAY) */
@@ -52,12 +53,31 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
 /* Typed option values with messages naming the option. Each returns 0 or 64 after printing. */
 int cli_number(const char *opt, const char *arg, double *out);
 int cli_duration(const char *opt, const char *arg, double *out);
+/* A number that may carry the option's own unit: "300", "300W", "300 w"; for unit "m" also "5km"
+ * (x 1000). unit NULL: a plain number. */
+int cli_quantity(const char *opt, const char *arg, const char *unit, double *out);
 int cli_id(const char *opt, const char *arg, long long *out);
 /* A number (or a duration when duration is set) that must lie in [lo, hi] unit. */
 int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out);
 /* Writes len bytes of text to path; a failed write removes a partial regular file (never a device
  * such as /dev/stdout). Returns 0, or 73 after printing why. */
 int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len);
+
+/* Writes an output file the user named (the -o FILE.svg plots of fit, curve, predict and history):
+ * the one place those files are written, so a safer writer can take it over. Returns 0 or 73. */
+int cli_write_output(cli_ctx *c, const char *path, const char *text, size_t len);
+/* -o FILE for a plot: the name must end in .svg (any letter case). Returns 0, or 64 after saying so. */
+int cli_plot_path(const char *cmd, const char *path);
+
+/* Units and rounding in text output, one rule per quantity (README "Units and rounding"): an
+ * intensity (CP, a boundary, a target, a prediction, a solved '?') to 1 W or 0.01 m/s, with the
+ * pace beside a speed; W' in kJ to 0.01 kJ, D' to 1 m; durations as m:ss (h:mm:ss), under a minute
+ * as "8 s"; VO2 in L/min to 0.01 on cards and in mL/min to 1 in tables; intervals as "95 % CI a to
+ * b". JSON keeps full precision with the unit in the key (power_w, w_prime_j in SPEC's w_prime). */
+#define CLI_DEC_INTENSITY(spd) ((spd) ? 2 : 0)
+
+/* A duration for text output: "8 s" under a minute, else m:ss or h:mm:ss (cpd_format_duration). */
+const char *cli_duration_text(double s, char *buf, size_t n);
 
 /* Number formatting for tables: "-" for a non-finite value. */
 const char *cli_num(char *buf, size_t n, double v, int decimals);
@@ -67,6 +87,12 @@ typedef struct cli_table cli_table;
 cli_table *cli_table_new(int ncols, const char *const *headers, const char *align); /* align: 'l'/'r' per column */
 void cli_table_row(cli_table *t, const char *const *cells);
 void cli_table_print(cli_table *t); /* prints to stdout and frees */
+
+/* ---- CSV tables (--csv): one header row, then data; every cell through cpd_csv_field (quoted
+ * as RFC 4180 asks, formula-like text neutralised); rows end in CRLF ---- */
+void cli_csv_row(const char *const *cells, int n);
+/* A number for a CSV cell: 10 significant digits, "" when not finite. */
+const char *cli_csv_num(char *buf, size_t n, double v);
 
 /* ---- JSON documents (cJSON underneath; only cli_out.c sees it) ---- */
 typedef struct cli_json cli_json;
@@ -88,6 +114,15 @@ void cj_push_num(cli_json *arr, double v);
 /* Prints the document to stdout followed by a newline, frees it, returns 0 or 74 on failure. */
 int cj_print(cli_json *doc);
 void cj_free(cli_json *doc);
+/* Prints doc[key], an array of objects (or an object of objects: one row each, its name first), as
+ * a CSV table (--csv) and frees doc: one column per member (flattened: a [lo, hi] pair as KEY_lo
+ * and KEY_hi, a member object's values as KEY_MEMBER), a list of words as "a; b". Keys that carry
+ * no unit (cp, w_prime) get it from units, a NULL-ended list {KEY, UNIT, ...} (NULL: none), as
+ * "cp (W)" for KEY and every KEY_... column. Returns 0, or 74. */
+int cj_print_csv(cli_json *doc, const char *key, const char *const *units);
+/* The units of the fit's unit-less keys (SPEC: cp in W, w_prime in J; cs in m/s, d_prime in m). */
+extern const char *const CLI_CSV_UNITS_POWER[];
+extern const char *const CLI_CSV_UNITS_SPEED[];
 /* The document as compact JSON text (the document stays owned by the caller); free it with
  * cj_render_free. NULL when out of memory. */
 char *cj_render(const cli_json *doc);

@@ -95,6 +95,10 @@ static int add_ramp(cli_ctx *c, cli_domains *d)
         in->has_hr_rcp = 1;
         in->hr_rcp = r->rcp.hr_bpm;
     }
+    if (r->rcp.status != CPD_THR_NOT_FOUND && r->rcp.has_equiv) {
+        in->has_rcp = 1;
+        in->rcp = r->rcp.equiv_intensity;
+    }
     if (r->protocol == CPD_RAMP_PROTO_STEPS) { /* a held stage needs no lag correction */
         in->has_peak = 1;
         in->peak = r->peak_intensity;

@@ -16,5 +16,8 @@ typedef struct {
  * notes of the fit. Returns 0 or an exit code after printing why. Free with cli_history_free. */
 int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, int quiet_few, cli_history *a);
 void cli_history_free(cli_history *a);
+/* The season plot: CP (CS) of every block at its last date with the 95 % interval (cpd_plot_trend),
+ * as the sheet and 'history -o' draw it. *svg as cpd_plot_trend gives it; returns its status. */
+int cli_history_plot(const cli_history *a, char **svg);
 
 #endif

@@ -2,6 +2,8 @@
  * The only CLI file that includes cJSON.h; it turns every non-finite number into null. */
 #include "cli.h"
 #include "cpdomain/safefile.h"
+#include "cpdomain/csvin.h"
+#include "cpdomain/suggest.h"
 #include "cpdomain/units.h"
 
 #include <cJSON.h>
@@ -13,6 +15,8 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
+#include <sys/stat.h>
 #include <sysexits.h>
 
 int cli_exit_code(int rc)
@@ -112,6 +116,13 @@ int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_
     for (size_t i = 0; i < n; i++)
         if (strcmp(argv[1], table[i].name) == 0)
             return table[i].run(c, argc - 1, argv + 1);
+    const char *names[32];
+    size_t k = 0;
+    for (; k < n && k < 32; k++)
+        names[k] = table[k].name;
+    const char *near = cpd_suggest(argv[1], names, k);
+    if (near)
+        return cli_usage(family, "unknown subcommand '%s' (did you mean '%s'?)", argv[1], near);
     return cli_usage(family, "unknown subcommand '%s'", argv[1]);
 }
 
@@ -136,6 +147,17 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
                      argv[0]);
             if (o == ':' || (optopt && strchr(shortopts, optopt)))
                 return cli_usage(cmd, "option '%s' needs a value", bad);
+            /* "did you mean": the closest long option, compared without its leading dashes and value */
+            char word[64];
+            snprintf(word, sizeof word, "%s", bad + strspn(bad, "-"));
+            word[strcspn(word, "=")] = '\0';
+            const char *names[64];
+            size_t k = 0;
+            for (; longopts && longopts[k].name && k < 64; k++)
+                names[k] = longopts[k].name;
+            const char *near = bad[0] == '-' && bad[1] == '-' ? cpd_suggest(word, names, k) : NULL;
+            if (near)
+                return cli_usage(cmd, "unknown option '%s' (did you mean '--%s'?)", bad, near);
             return cli_usage(cmd, "unknown option '%s'", bad);
         }
         int rc = fn(o, optarg, ud);
@@ -155,6 +177,33 @@ int cli_number(const char *opt, const char *arg, double *out)
     return 0;
 }
 
+/* A trailing unit (any letter case, with or without a space) that names the option's own unit is
+ * accepted: "300W", "300 W", "4.6m/s", "5km" for metres. */
+int cli_quantity(const char *opt, const char *arg, const char *unit, double *out)
+{
+    char buf[64];
+    snprintf(buf, sizeof buf, "%s", arg);
+    size_t L = strlen(buf), u = unit ? strlen(unit) : 0;
+    double scale = 1;
+    if (u && strcmp(unit, "m") == 0 && L > 2 && strcasecmp(buf + L - 2, "km") == 0) {
+        buf[L - 2] = '\0';
+        scale = 1000;
+    } else if (u && L > u && strcasecmp(buf + L - u, unit) == 0)
+        buf[L - u] = '\0';
+    L = strlen(buf);
+    while (L > 0 && buf[L - 1] == ' ')
+        buf[--L] = '\0';
+    if (cpd_parse_number(buf, out) != CPD_OK) {
+        if (u)
+            fprintf(stderr, "cpdomain: option %s: '%s' is not a number of %s\n", opt, arg, unit);
+        else
+            fprintf(stderr, "cpdomain: option %s: '%s' is not a number\n", opt, arg);
+        return EX_USAGE;
+    }
+    *out *= scale;
+    return 0;
+}
+
 int cli_duration(const char *opt, const char *arg, double *out)
 {
     if (cpd_parse_duration(arg, out) != CPD_OK) {
@@ -167,7 +216,7 @@ int cli_duration(const char *opt, const char *arg, double *out)
 
 int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out)
 {
-    int rc = duration ? cli_duration(opt, arg, out) : cli_number(opt, arg, out);
+    int rc = duration ? cli_duration(opt, arg, out) : cli_quantity(opt, arg, unit, out);
     if (rc)
         return rc;
     if (!(*out >= lo && *out <= hi)) {
@@ -188,6 +237,19 @@ int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len)
     return 0;
 }
 
+int cli_write_output(cli_ctx *c, const char *path, const char *text, size_t len)
+{
+    return cli_write_file(c, path, text, len);
+}
+
+int cli_plot_path(const char *cmd, const char *path)
+{
+    size_t L = strlen(path);
+    if (L < 5 || strcasecmp(path + L - 4, ".svg") != 0)
+        return cli_usage(cmd, "-o '%s': plots are written as SVG: name the file FILE.svg", path);
+    return 0;
+}
+
 int cli_id(const char *opt, const char *arg, long long *out)
 {
     char *e = NULL;
@@ -199,6 +261,15 @@ int cli_id(const char *opt, const char *arg, long long *out)
     }
     *out = v;
     return 0;
+}
+
+const char *cli_duration_text(double s, char *buf, size_t n)
+{
+    if (isfinite(s) && s >= 0 && s < 60)
+        snprintf(buf, n, "%g s", s);
+    else
+        cpd_format_duration(s, buf, n);
+    return buf;
 }
 
 const char *cli_num(char *buf, size_t n, double v, int decimals)
@@ -258,6 +329,39 @@ static size_t width(const char *s)
     return w;
 }
 
+/* Text tables stay within about 100 columns: the widest left-aligned columns (a status with its
+ * reason, a note) narrow to no less than TABLE_COL_MIN and wrap at spaces, each cell on as many
+ * lines as it needs, the rest of the row blank on those lines. */
+#define TABLE_WIDTH 100
+#define TABLE_COL_MIN 24
+
+/* The next line of s that fits in `room` display columns: its length in bytes through *len and its
+ * width through *cols; returns where the following line starts. A word longer than room is cut. */
+static const char *next_line(const char *s, size_t room, size_t *len, size_t *cols)
+{
+    const char *p = s, *brk = NULL;
+    size_t c = 0, cbrk = 0;
+    while (*p && c < room) {
+        if (*p == ' ') {
+            brk = p;
+            cbrk = c;
+        }
+        p++;
+        while (((unsigned char)*p & 0xC0) == 0x80)
+            p++;
+        c++;
+    }
+    if (*p && *p != ' ' && brk) { /* break at the last space instead of inside a word */
+        p = brk;
+        c = cbrk;
+    }
+    *len = (size_t)(p - s);
+    *cols = c;
+    while (*p == ' ')
+        p++;
+    return p;
+}
+
 void cli_table_print(cli_table *t)
 {
     if (!t)
@@ -270,26 +374,78 @@ void cli_table_print(cli_table *t)
             if (L > w[j])
                 w[j] = L;
         }
-    for (size_t r = 0; r < t->nrows; r++) {
+    /* narrow the widest left-aligned column, one column at a time, until the table fits */
+    for (;;) {
+        size_t total = 0;
+        int widest = -1;
         for (int j = 0; j < t->ncols; j++) {
-            const char *s = t->cells[r * (size_t)t->ncols + (size_t)j];
-            s = s ? s : "";
-            size_t pad = w[j] - width(s);
-            int right = t->align[j] == 'r';
-            if (j)
-                fputs("  ", stdout);
-            if (right)
-                printf("%*s", (int)pad, "");
-            fputs(s, stdout);
-            if (!right && j + 1 < t->ncols)
-                printf("%*s", (int)pad, "");
+            total += w[j] + (j ? 2 : 0);
+            if (t->align[j] != 'r' && w[j] > TABLE_COL_MIN && (widest < 0 || w[j] > w[widest]))
+                widest = j;
         }
-        fputc('\n', stdout);
+        if (total <= TABLE_WIDTH || widest < 0)
+            break;
+        size_t over = total - TABLE_WIDTH;
+        w[widest] = w[widest] - over >= TABLE_COL_MIN && w[widest] > over ? w[widest] - over : TABLE_COL_MIN;
+    }
+    for (size_t r = 0; r < t->nrows; r++) {
+        const char *rest[16];
+        for (int j = 0; j < t->ncols; j++)
+            rest[j] = t->cells[r * (size_t)t->ncols + (size_t)j] ? t->cells[r * (size_t)t->ncols + (size_t)j] : "";
+        for (int line = 0;; line++) {
+            int more = 0;
+            for (int j = 0; j < t->ncols; j++)
+                more |= *rest[j] != '\0';
+            if (line && !more)
+                break;
+            /* the printed line without trailing blanks: the last non-empty cell ends it */
+            int lastj = -1;
+            for (int j = 0; j < t->ncols; j++)
+                if (*rest[j] || (line == 0 && t->align[j] == 'r'))
+                    lastj = j;
+            for (int j = 0; j < t->ncols && j <= lastj; j++) {
+                size_t len, cols;
+                const char *next = next_line(rest[j], w[j], &len, &cols);
+                int right = t->align[j] == 'r';
+                if (j)
+                    fputs("  ", stdout);
+                size_t pad = w[j] > cols ? w[j] - cols : 0;
+                if (right)
+                    printf("%*s", (int)pad, "");
+                fwrite(rest[j], 1, len, stdout);
+                if (!right && j < lastj)
+                    printf("%*s", (int)pad, "");
+                rest[j] = next;
+            }
+            fputc('\n', stdout);
+        }
     }
     for (size_t i = 0; i < t->nrows * (size_t)t->ncols; i++)
         free(t->cells[i]);
     free(t->cells);
     free(t);
+}
+
+/* ---- CSV ---- */
+void cli_csv_row(const char *const *cells, int n)
+{
+    for (int j = 0; j < n; j++) {
+        char *q = cpd_csv_field(cells[j]);
+        if (j)
+            fputc(',', stdout);
+        fputs(q ? q : "", stdout);
+        free(q);
+    }
+    fputs("\r\n", stdout);
+}
+
+const char *cli_csv_num(char *buf, size_t n, double v)
+{
+    if (isfinite(v))
+        snprintf(buf, n, "%.10g", v);
+    else if (n)
+        buf[0] = '\0';
+    return buf;
 }
 
 /* ---- JSON ---- */
@@ -376,6 +532,165 @@ int cj_print(cli_json *doc)
     cJSON_free(s);
     return ok ? 0 : EX_IOERR;
 }
+/* One cell of a flattened object: numbers with 10 significant digits, true/false, null as "". */
+static void csv_value(const cJSON *v, char *buf, size_t n)
+{
+    buf[0] = '\0';
+    if (cJSON_IsNumber(v))
+        cli_csv_num(buf, n, v->valuedouble);
+    else if (cJSON_IsString(v))
+        snprintf(buf, n, "%s", v->valuestring);
+    else if (cJSON_IsBool(v))
+        snprintf(buf, n, "%s", cJSON_IsTrue(v) ? "true" : "false");
+    else if (cJSON_IsArray(v)) { /* a list of words or numbers: "a; b" */
+        size_t o = 0;
+        for (const cJSON *e = v->child; e && o + 2 < n; e = e->next) {
+            char t[256];
+            csv_value(e, t, sizeof t);
+            o += (size_t)snprintf(buf + o, n - o, "%s%s", o ? "; " : "", t);
+        }
+    }
+}
+
+static int is_pair(const cJSON *v)
+{
+    if (!cJSON_IsArray(v) || cJSON_GetArraySize(v) != 2)
+        return 0;
+    const cJSON *a = v->child, *b = v->child->next;
+    return (cJSON_IsNumber(a) || cJSON_IsNull(a)) && (cJSON_IsNumber(b) || cJSON_IsNull(b));
+}
+
+/* The columns of a CSV table: flattened member names in order of first appearance. */
+typedef struct {
+    char (*name)[96];
+    char (*val)[512];
+    unsigned char seen[128]; /* a value other than null was met in the column */
+    size_t n, cap;
+} csv_cols;
+
+static size_t col_of(csv_cols *t, const char *name, int add)
+{
+    for (size_t i = 0; i < t->n; i++)
+        if (strcmp(t->name[i], name) == 0)
+            return i;
+    if (!add || t->n == t->cap)
+        return (size_t)-1;
+    snprintf(t->name[t->n], sizeof t->name[0], "%s", name);
+    t->val[t->n][0] = '\0';
+    t->seen[t->n] = 0;
+    return t->n++;
+}
+
+/* Flattens member v named prefix: objects as PREFIX_MEMBER (any depth), a [lo, hi] pair (or an
+ * interval's null) as PREFIX_lo and PREFIX_hi, other values as they are; arrays of objects are
+ * left to --json. add: collect the names; else fill the values of the known columns. */
+static void flatten(csv_cols *t, const char *prefix, const cJSON *v, int add)
+{
+    char name[96];
+    if (cJSON_IsObject(v)) {
+        for (const cJSON *m = v->child; m; m = m->next) {
+            snprintf(name, sizeof name, "%s%s%s", prefix, *prefix ? "_" : "", m->string);
+            flatten(t, name, m, add);
+        }
+        return;
+    }
+    if (is_pair(v) || (cJSON_IsNull(v) && strstr(prefix, "ci95"))) {
+        for (int e = 0; e < 2; e++) {
+            snprintf(name, sizeof name, "%s_%s", prefix, e ? "hi" : "lo");
+            size_t k = col_of(t, name, add);
+            if (!add && k != (size_t)-1 && is_pair(v))
+                csv_value(e ? v->child->next : v->child, t->val[k], sizeof t->val[k]);
+        }
+        return;
+    }
+    if (cJSON_IsArray(v) && v->child && cJSON_IsObject(v->child))
+        return;
+    size_t k = col_of(t, prefix, add);
+    if (add && k != (size_t)-1 && !cJSON_IsNull(v))
+        t->seen[k] = 1;
+    if (!add && k != (size_t)-1)
+        csv_value(v, t->val[k], sizeof t->val[k]);
+}
+
+const char *const CLI_CSV_UNITS_POWER[] = {"cp", "W", "w_prime", "J", "p_max", "W", "change_cp", "W",
+                                           "change_w_prime", "J", NULL};
+const char *const CLI_CSV_UNITS_SPEED[] = {"cs", "m/s", "d_prime", "m", "v_max", "m/s", "change_cs", "m/s",
+                                           "change_d_prime", "m", NULL};
+
+/* " (W)" for a column whose name is KEY or begins KEY_ in the NULL-ended {KEY, UNIT, ...} list;
+ * not for flags (_meaningful) and percentages (_pct), which carry their own meaning. */
+static void unit_of(const char *name, const char *const *units, char *buf, size_t n)
+{
+    size_t L = strlen(name);
+    buf[0] = '\0';
+    if (!units || (L > 11 && strcmp(name + L - 11, "_meaningful") == 0) || (L > 4 && strcmp(name + L - 4, "_pct") == 0))
+        return;
+    for (size_t i = 0; units[i] && units[i + 1]; i += 2) {
+        size_t k = strlen(units[i]);
+        if (strncmp(name, units[i], k) == 0 && (name[k] == '\0' || name[k] == '_')) {
+            snprintf(buf, n, "%s (%s)", name, units[i + 1]);
+            return;
+        }
+    }
+}
+
+int cj_print_csv(cli_json *doc, const char *key, const char *const *units)
+{
+    const cJSON *rows = cJSON_GetObjectItemCaseSensitive(J(doc), key);
+    /* an object of objects ("targets": {"moderate": {...}}) gives one row per member, named */
+    int named = cJSON_IsObject(rows);
+    csv_cols t = {malloc(128 * sizeof *t.name), malloc(128 * sizeof *t.val), {0}, 0, 128};
+    if (!t.name || !t.val) {
+        free(t.name);
+        free(t.val);
+        cJSON_Delete(J(doc));
+        return EX_SOFTWARE;
+    }
+    if (named)
+        col_of(&t, "name", 1);
+    for (const cJSON *o = rows ? rows->child : NULL; o; o = o->next)
+        flatten(&t, "", o, 1);
+    /* a member that is null in one row and an object in another: keep only the object's columns */
+    for (size_t i = 0; i < t.n;) {
+        size_t L = strlen(t.name[i]), j = 0;
+        while (!t.seen[i] && j < t.n && !(j != i && strncmp(t.name[j], t.name[i], L) == 0 && t.name[j][L] == '_'))
+            j++;
+        if (!t.seen[i] && j < t.n) {
+            memmove(t.name + i, t.name + i + 1, (t.n - i - 1) * sizeof *t.name);
+            memmove(t.seen + i, t.seen + i + 1, t.n - i - 1);
+            t.n--;
+        } else
+            i++;
+    }
+    const char *cells[128];
+    char (*head)[112] = malloc(128 * sizeof *head);
+    for (size_t j = 0; j < t.n; j++) {
+        cells[j] = t.name[j];
+        if (head) {
+            unit_of(t.name[j], units, head[j], sizeof head[j]);
+            if (head[j][0])
+                cells[j] = head[j];
+        }
+    }
+    if (t.n)
+        cli_csv_row(cells, (int)t.n);
+    free(head);
+    for (const cJSON *o = rows ? rows->child : NULL; o; o = o->next) {
+        for (size_t j = 0; j < t.n; j++)
+            t.val[j][0] = '\0';
+        if (named)
+            snprintf(t.val[0], sizeof t.val[0], "%s", o->string);
+        flatten(&t, "", o, 0);
+        for (size_t j = 0; j < t.n; j++)
+            cells[j] = t.val[j];
+        cli_csv_row(cells, (int)t.n);
+    }
+    free(t.name);
+    free(t.val);
+    cJSON_Delete(J(doc));
+    return ferror(stdout) ? EX_IOERR : 0;
+}
+
 void cj_free(cli_json *doc)
 {
     cJSON_Delete(J(doc));

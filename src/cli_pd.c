@@ -36,7 +36,7 @@ int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *
         return cli_store_fail(c, rc);
     cpd_trial *all = NULL;
     size_t na = 0;
-    if ((rc = cpd_store_trial_list(c->store, code, &all, &na)))
+    if ((rc = cpd_store_trial_list(c->store, f->athlete.code, &all, &na)))
         return cli_store_fail(c, rc);
     size_t np = 0, ns = 0;
     for (size_t i = 0; i < na; i++) {

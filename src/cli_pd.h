@@ -67,7 +67,7 @@ double cli_pd_pace_m(const cpd_athlete *a, const char **label);
 
 /* predict --protocol: the balance of a typed protocol for fitted model m; returns an exit code. */
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
-                         const char *balance_model, const char *trace_path);
+                         const char *balance_model, const char *trace_path, const char *plot_path);
 
 /* The usual caution printed beside every prescription or prediction. */
 extern const char CLI_CAUTION[];
@@ -95,6 +95,7 @@ typedef struct {
     const void *ud;
     const char *trace_path;          /* --trace file, or NULL */
     int completed;                   /* 1: a recorded session the athlete completed (no "task failure") */
+    const char *plot_path;           /* -o FILE.svg: the balance plot, or NULL */
 } cli_balance_input;
 
 #define CLI_NBALANCE 3 /* recovery models reported side by side */
@@ -108,7 +109,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
 
 /* predict --session: the balance of recorded session id for fitted model m (cmd_session.c). */
 int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, long long id,
-                        const char *balance_model, const char *trace_path);
+                        const char *balance_model, const char *trace_path, const char *plot_path);
 
 /* fit --source curve: the models fitted to points of the athlete's mean-maximal curve over the
  * sessions dated within [from, to] at the durations in the list ("3min,5min,12min"; NULL: the

@@ -222,7 +222,7 @@ static int athlete_list(cli_ctx *c, int argc, char **argv)
     size_t n = 0;
     if ((rc = cpd_store_athlete_list(c->store, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, "athletes");
         for (size_t i = 0; i < n; i++) {
@@ -231,7 +231,7 @@ static int athlete_list(cli_ctx *c, int argc, char **argv)
             cj_push(arr, o2);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, "athletes", NULL) : cj_print(d);
     }
     static const char *const head[] = {"code", "name", "sport", "mass (kg)"};
     cli_table *t = cli_table_new(4, head, "lllr");

@@ -252,7 +252,7 @@ static int bout_list(cli_ctx *c, int argc, char **argv)
     size_t n = 0;
     if ((rc = cpd_store_gx_list(c->store, a.code, CPD_GXT_BOUT, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, "bouts");
         for (size_t i = 0; i < n; i++) {
@@ -271,7 +271,7 @@ static int bout_list(cli_ctx *c, int argc, char **argv)
             cj_push(arr, b);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, "bouts", NULL) : cj_print(d);
     }
     static const char *const head[] = {"id", "date", "intensity", "baseline", "onset", "samples", "note"};
     cli_table *tb = cli_table_new(7, head, "rlrrrrl");

@@ -121,10 +121,10 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
         return rc;
     const cpd_domains_result *r = &d.res;
     int spd = d.fit.modality == CPD_PD_SPEED;
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *doc = cj_obj();
         cli_domains_json(doc, &d);
-        rc = cj_print(doc);
+        rc = c->csv ? cj_print_csv(doc, "targets", NULL) : cj_print(doc);
     } else {
         char a[64], b[64], v[64];
         printf("%s %s: intensity domains (%s model, %zu trials %s to %s)\n", d.fit.athlete.code, d.fit.athlete.name,
@@ -141,7 +141,7 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
             }
             printf("  %-15s %s", cpd_boundary_name((cpd_boundary_id)k), cli_domains_fmt(&d, x->value, v, sizeof v));
             if (x->has_ci)
-                printf(" (95%% CI %s to %s)", cli_domains_fmt(&d, x->ci95[0], a, sizeof a), cli_domains_fmt(&d, x->ci95[1], b, sizeof b));
+                printf(" (95 %% CI %s to %s)", cli_domains_fmt(&d, x->ci95[0], a, sizeof a), cli_domains_fmt(&d, x->ci95[1], b, sizeof b));
             printf("\n  %-15s %s, %s%s\n", "", x->source, x->date, x->stale ? "  [STALE]" : "");
             printf("  %-15s %s\n", "", x->method);
             if (x->stale)
@@ -170,7 +170,7 @@ int cmd_domains(cli_ctx *c, int argc, char **argv)
             }
             printf("  %5s  %s", t, cli_domains_fmt(&d, e->value, v, sizeof v));
             if (e->has_ci)
-                printf("  (95%% interval %s to %s)", cli_domains_fmt(&d, e->ci95[0], a, sizeof a), cli_domains_fmt(&d, e->ci95[1], b, sizeof b));
+                printf("  (95 %% CI %s to %s)", cli_domains_fmt(&d, e->ci95[0], a, sizeof a), cli_domains_fmt(&d, e->ci95[1], b, sizeof b));
             printf("\n");
         }
         if (r->has_delta) {

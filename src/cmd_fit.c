@@ -3,6 +3,7 @@
 #include "cli_domains.h"
 #include "cli_pd.h"
 #include "commands.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/units.h"
 #include "cpdomain/version.h"
 
@@ -10,11 +11,12 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include <sysexits.h>
 
 static const char HELP_FIT[] =
     "usage: cpdomain fit CODE [--model NAME|all] [--from D] [--to D] [--source trials|curve]\n"
-    "                         [--durations LIST]\n\n"
+    "                         [--durations LIST] [-o FILE.svg]\n\n"
     "Fits the power-duration (speed-duration) models to the athlete's trials that are not excluded:\n"
     "  hyperbolic       t = W'/(P - CP), least squares on the measured duration\n"
     "  linear-total     W = CP*t + W' (distance D = CS*t + D')\n"
@@ -27,14 +29,16 @@ static const char HELP_FIT[] =
     "--source curve fits the same models to points of the mean-maximal curve of the recorded\n"
     "sessions dated --from/--to instead (a field estimate: efforts may be submaximal), at the\n"
     "durations of --durations (default 3min,5min,12min,20min: inside the 2-20 min window where the\n"
-    "power-duration relation holds); the fit is saved with source 'curve'.\n\n"
+    "power-duration relation holds); the fit is saved with source 'curve'.\n"
+    "-o FILE.svg draws the best model (or the one --model names) with its 95 % band and the trials.\n\n"
     "examples:\n  cpdomain fit C03\n  cpdomain --json fit R07 --model all --from 2026-09-01\n"
-    "  cpdomain fit C02 --source curve --from 2026-11-01 --durations 3min,5min,12min\n";
+    "  cpdomain fit C02 --source curve --from 2026-11-01 --durations 3min,5min,12min\n"
+    "  cpdomain fit C01 -o c01_fit.svg\n";
 
 static const char HELP_PREDICT[] =
     "usage: cpdomain predict CODE (--power W | --speed M_S | --duration T | --distance M |\n"
     "                              --protocol SPEC | --session ID) [--balance-model NAME] [--trace FILE.csv]\n"
-    "                              [--model NAME] [--from D] [--to D]\n\n"
+    "                              [--model NAME] [--from D] [--to D] [-o FILE.svg]\n\n"
     "From the athlete's current fit (the best model unless --model):\n"
     "  --power W / --speed M_S   time to task failure t = W'/(P - CP) with its 95 % interval;\n"
     "                            at or below CP (CS) no W'-limited failure is predicted\n"
@@ -43,7 +47,8 @@ static const char HELP_PREDICT[] =
     "  --protocol SPEC           the W' (D') balance through a session, second by second: its lowest\n"
     "                            point, the end balance and the predicted failure time, if any;\n"
     "                            --balance-model differential (default), integral or bartram;\n"
-    "                            --trace writes time_s,intensity,balance per second to a CSV file\n"
+    "                            --trace writes time_s,intensity,balance per second to a CSV file;\n"
+    "                            -o FILE.svg draws the balance over the session's intensity\n"
     "                            SPEC: DURATION@INTENSITY segments separated by ';' or ',', Nx(...)\n"
     "                            repeats; intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m\n"
     "  --session ID              the same balance through a stored session ('session list'), replayed\n"
@@ -52,11 +57,13 @@ static const char HELP_PREDICT[] =
     "examples:\n  cpdomain predict C03 --power 350\n  cpdomain --json predict R07 --distance 5000\n"
     "  cpdomain predict C03 --protocol \"10min@150W; 5x(3min@340W, 3min@140W)\" --trace c03.csv\n"
     "  cpdomain predict C03 --duration 8min --model linear-total\n"
-    "  cpdomain --json predict C02 --session 16 --balance-model integral\n";
+    "  cpdomain --json predict C02 --session 16 --balance-model integral\n"
+    "  cpdomain predict C01 --protocol \"10min@150W; 4x(3min@300W, 3min@120W)\" -o c01_session.svg\n";
 
 typedef struct {
     const char *model, *from, *to, *power, *speed, *duration, *distance, *protocol, *bmodel, *trace;
     const char *source, *durations, *session; /* fit --source curve --durations; predict --session */
+    const char *out;                          /* -o FILE.svg */
 } fit_opts;
 
 static int fit_opt(int opt, const char *arg, void *ud)
@@ -76,6 +83,7 @@ static int fit_opt(int opt, const char *arg, void *ud)
     case 'S': o->source = arg; break;
     case 'U': o->durations = arg; break;
     case 'I': o->session = arg; break;
+    case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -90,6 +98,7 @@ static const struct option fit_longopts[] = {
     {"trace", required_argument, NULL, 'T'},
     {"source", required_argument, NULL, 'S'},   {"durations", required_argument, NULL, 'U'},
     {"session", required_argument, NULL, 'I'},
+    {"output", required_argument, NULL, 'o'},
     {NULL, 0, NULL, 0},
 };
 
@@ -98,7 +107,7 @@ static int parse(int argc, char **argv, const char *help, fit_opts *o, int *firs
 {
     int done = 0;
     memset(o, 0, sizeof *o);
-    int rc = cli_getopt(argc, argv, "h", fit_longopts, help, fit_opt, o, first, &done);
+    int rc = cli_getopt(argc, argv, "ho:", fit_longopts, help, fit_opt, o, first, &done);
     if (rc)
         return rc;
     if (done)
@@ -130,13 +139,13 @@ static const char *fmt_intensity(const cli_pd_fit *f, double v, char *buf, size_
 {
     char num[32];
     if (f->modality == CPD_PD_POWER)
-        snprintf(buf, n, "%s W", cli_num(num, sizeof num, v, 1));
+        snprintf(buf, n, "%s W", cli_num(num, sizeof num, v, CLI_DEC_INTENSITY(0)));
     else {
         const char *lab;
         double per = cli_pd_pace_m(&f->athlete, &lab);
         char pace[32];
         cpd_format_pace(v, per, pace, sizeof pace);
-        snprintf(buf, n, "%s m/s (%s%s)", cli_num(num, sizeof num, v, 2), pace, lab);
+        snprintf(buf, n, "%s m/s (%s%s)", cli_num(num, sizeof num, v, CLI_DEC_INTENSITY(1)), pace, lab);
     }
     return buf;
 }
@@ -148,7 +157,7 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
     printf("%s %s: %s-duration fit of %zu %s, %s to %s\n\n", f->athlete.code, f->athlete.name,
            spd ? "speed" : "power", f->n, f->from_curve ? "mean-maximal curve points (a field estimate)" : "trials",
            f->trials[0].date, f->trials[f->n - 1].date);
-    const char *head[] = {"model", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)", "95% CI",
+    const char *head[] = {"model", spd ? "CS (m/s)" : "CP (W)", "95 % CI", spd ? "D' (m)" : "W' (kJ)", "95 % CI",
                           spd ? "vmax (m/s)" : "Pmax (W)", "%SEE CP", "%SEE W'", "R2", "status"};
     if (spd) {
         head[6] = "%SEE CS";
@@ -156,7 +165,7 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
     }
     cli_table *t = cli_table_new(10, head, "lrrrrrrrrl");
     double wsc = spd ? 1.0 : 1e-3; /* W' shown in kJ */
-    int cpd_dec = spd ? 3 : 1, wd = spd ? 0 : 2;
+    int cpd_dec = CLI_DEC_INTENSITY(spd), wd = spd ? 0 : 2;
     for (int k = 0; k < CPD_PD_NMODELS; k++) {
         if (!(mask & CPD_PD_MODEL_BIT(k)))
             continue;
@@ -260,6 +269,27 @@ static void print_fit(const cli_pd_fit *f, unsigned mask)
     }
 }
 
+/* fit -o FILE.svg: the best model (or the only one asked for) over the trials, with its band. */
+static int fit_plot(cli_ctx *c, const cli_pd_fit *f, unsigned mask, const char *path)
+{
+    const cpd_pd_result *r = f->res;
+    int k = mask == CPD_PD_ALL_MODELS && r->has_best ? (int)r->best : -1;
+    for (int j = 0; k < 0 && j < CPD_PD_NMODELS; j++)
+        if ((mask & CPD_PD_MODEL_BIT(j)) && r->models[j].ok)
+            k = j;
+    if (k < 0)
+        return cli_fail(c, CPD_ENODATA, "-o %s: no model fitted, so there is nothing to draw", path);
+    char *svg = NULL;
+    int rc = cpd_plot_pd(&r->models[k], f->x, f->t, f->n, NULL, &svg);
+    if (rc)
+        return cli_fail(c, rc, "-o %s: no plot: %s", path, cpd_strerror(rc));
+    rc = cli_write_output(c, path, svg, strlen(svg));
+    free(svg);
+    if (!rc)
+        cli_note(c, "wrote %s", path);
+    return rc;
+}
+
 static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
 {
     fit_opts o;
@@ -275,6 +305,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
         return cli_usage("fit", "--source must be trials or curve");
     if (o.durations && !curve)
         return cli_usage("fit", "--durations goes with --source curve");
+    if (o.out && (rc = cli_plot_path("fit", o.out)))
+        return rc;
     if ((rc = cli_open(c, 0)))
         return rc;
     cli_pd_fit f;
@@ -375,7 +407,9 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
         return cli_store_fail(c, rc);
     }
     cj_int(doc, "fit_id", run.id);
-    if (c->json) {
+    if (c->csv) {
+        rc = cj_print_csv(doc, "models", f.modality == CPD_PD_SPEED ? CLI_CSV_UNITS_SPEED : CLI_CSV_UNITS_POWER);
+    } else if (c->json) {
         rc = cj_print(doc);
     } else {
         cj_free(doc);
@@ -386,6 +420,8 @@ static int cmd_fit_run(cli_ctx *c, int argc, char **argv)
             printf("\n%s\n", CLI_FIELD_ESTIMATE);
         printf("\nsaved as fit %lld\n", (long long)run.id);
     }
+    if (o.out && !rc)
+        rc = fit_plot(c, &f, mask, o.out);
     cli_pd_fit_free(&f);
     return rc;
 }
@@ -435,8 +471,10 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
              (o.session != NULL);
     if (nq != 1)
         return cli_usage("predict", "give exactly one of --power, --speed, --duration, --distance, --protocol and --session");
-    if ((o.bmodel || o.trace) && !o.protocol && !o.session)
-        return cli_usage("predict", "--balance-model and --trace go with --protocol or --session");
+    if ((o.bmodel || o.trace || o.out) && !o.protocol && !o.session)
+        return cli_usage("predict", "--balance-model, --trace and -o go with --protocol or --session");
+    if (o.out && (rc = cli_plot_path("predict", o.out)))
+        return rc;
     if (o.source || o.durations)
         return cli_usage("predict", "--source and --durations belong to 'fit'");
     long long session_id = 0;
@@ -448,8 +486,8 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
     else if (o.duration)
         rc = cli_duration("--duration", o.duration, &q);
     else
-        rc = cli_number(o.power ? "--power" : o.speed ? "--speed" : "--distance",
-                        o.power ? o.power : o.speed ? o.speed : o.distance, &q);
+        rc = cli_quantity(o.power ? "--power" : o.speed ? "--speed" : "--distance",
+                          o.power ? o.power : o.speed ? o.speed : o.distance, o.power ? "W" : o.speed ? "m/s" : "m", &q);
     if (rc)
         return rc;
     const cpd_range *rg = o.power ? &CPD_RANGE_POWER : o.speed ? &CPD_RANGE_SPEED : o.distance ? &CPD_RANGE_DISTANCE
@@ -467,7 +505,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
     if (o.session && !o.from && !o.to) {
         if ((rc = cpd_store_session_get(c->store, session_id, 0, &srec, NULL)))
             return cli_store_fail(c, rc);
-        if (strcmp(srec.athlete, argv[first]) != 0)
+        if (strcasecmp(srec.athlete, argv[first]) != 0)
             return cli_fail(c, CPD_EDATA, "session %lld belongs to %s, not to %s", session_id, srec.athlete, argv[first]);
         to = srec.date;
     }
@@ -503,9 +541,9 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             rc = cli_fail(c, CPD_ENODATA, "%s: the %s model did not fit: %s", f.athlete.code, cpd_pd_model_name(which),
                           cpd_pd_fail_text(m->fail));
         } else if (o.session)
-            rc = cli_predict_session(c, &f, m, session_id, o.bmodel, o.trace);
+            rc = cli_predict_session(c, &f, m, session_id, o.bmodel, o.trace, o.out);
         else
-            rc = cli_predict_protocol(c, &f, m, o.protocol, o.bmodel, o.trace);
+            rc = cli_predict_protocol(c, &f, m, o.protocol, o.bmodel, o.trace, o.out);
         cli_pd_fit_free(&f);
         return rc;
     }
@@ -603,7 +641,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                 if (p.ci_valid) {
                     cpd_format_duration(p.ci95[0], a, sizeof a);
                     cpd_format_duration(p.ci95[1], b, sizeof b);
-                    printf(" (95%% interval %s to %s)", a, b);
+                    printf(" (95 %% CI %s to %s)", a, b);
                 }
                 printf(", %s domain\n", domain_of(c, &f, which, o.from, o.to, m, q));
             } else if (near_cp) {
@@ -620,11 +658,12 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
             } else
                 printf("at %s: %s\n", v, cpd_pd_pred_text(p.status));
         } else if (o.duration) {
-            cpd_format_duration(q, a, sizeof a);
+            /* under a minute as plain seconds: a bare '--duration 8' reads back as "8 s", not "0:08" */
+            cli_duration_text(q, a, sizeof a);
             if (p.valid) {
                 printf("for %s: %s", a, fmt_intensity(&f, p.value, v, sizeof v));
                 if (p.ci_valid)
-                    printf(" (95%% interval %s to %s)", fmt_intensity(&f, p.ci95[0], a, sizeof a),
+                    printf(" (95 %% CI %s to %s)", fmt_intensity(&f, p.ci95[0], a, sizeof a),
                            fmt_intensity(&f, p.ci95[1], b, sizeof b));
                 printf("\n");
             } else
@@ -636,7 +675,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                 if (p.ci_valid) {
                     cpd_format_duration(p.ci95[0], a, sizeof a);
                     cpd_format_duration(p.ci95[1], b, sizeof b);
-                    printf(" (95%% interval %s to %s)", a, b);
+                    printf(" (95 %% CI %s to %s)", a, b);
                 }
                 printf("\n");
             } else if (run_long) {

@@ -4,6 +4,7 @@
 #include "cli_history.h"
 #include "cli_pd.h"
 #include "commands.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/history.h"
 #include "cpdomain/units.h"
 
@@ -14,7 +15,7 @@
 #include <sysexits.h>
 
 static const char HELP[] =
-    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME] [--swc PCT]\n\n"
+    "usage: cpdomain history (CODE | --all) [--window DAYS] [--model NAME] [--swc PCT] [-o FILE.svg]\n\n"
     "The season: the power-duration fit of every block of trials (a block holds the trials within\n"
     "--window days, default 28, of its first trial), the GET and VO2peak of the ramp nearest each\n"
     "block, and each change from one block to the next with its 95 % interval. CP and W' of both\n"
@@ -25,11 +26,12 @@ static const char HELP[] =
     "earlier value (default 4.6 %: 0.2 x the between-athlete SD of CP, Hopkins 2004 Sportscience 8:1,\n"
     "with the SD of Johnson et al. 2011 Med Sci Sports Exerc 43: 47 W of 206 W).\n"
     "--all prints the team: the current CP (the fit domains, predict and the sheets use) and the\n"
-    "newest change of every athlete.\n\n"
-    "examples:\n  cpdomain history C02\n  cpdomain --json history --all --window 35\n";
+    "newest change of every athlete. -o FILE.svg draws CP (CS) of every block with its 95 % interval\n"
+    "over the season.\n\n"
+    "examples:\n  cpdomain history C02\n  cpdomain --json history --all --window 35\n  cpdomain history C02 -o c02_season.svg\n";
 
 typedef struct {
-    const char *window, *model, *swc;
+    const char *window, *model, *swc, *out;
     int all;
 } hist_opts;
 
@@ -41,9 +43,28 @@ static int hist_opt(int opt, const char *arg, void *ud)
     case 'm': o->model = arg; break;
     case 'a': o->all = 1; break;
     case 's': o->swc = arg; break;
+    case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
     return 0;
+}
+
+int cli_history_plot(const cli_history *a, char **svg)
+{
+    size_t nb = a->h->nblocks;
+    int day[CPD_HISTORY_MAX_BLOCKS];
+    double v[CPD_HISTORY_MAX_BLOCKS], lo[CPD_HISTORY_MAX_BLOCKS], hi[CPD_HISTORY_MAX_BLOCKS];
+    for (size_t k = 0; k < nb && k < CPD_HISTORY_MAX_BLOCKS; k++) {
+        const cpd_history_block *x = &a->h->block[k];
+        day[k] = x->to_day;
+        v[k] = x->fitted ? x->cp : NAN;
+        lo[k] = x->fitted && x->has_se ? x->cp_ci95[0] : NAN;
+        hi[k] = x->fitted && x->has_se ? x->cp_ci95[1] : NAN;
+    }
+    int spd = a->f.modality == CPD_PD_SPEED;
+    return cpd_plot_trend(day, v, lo, hi, nb < CPD_HISTORY_MAX_BLOCKS ? nb : CPD_HISTORY_MAX_BLOCKS,
+                          spd ? "Critical speed over the season" : "Critical power over the season",
+                          spd ? "CS (m/s)" : "CP (W)", svg);
 }
 
 void cli_history_free(cli_history *a)
@@ -91,7 +112,7 @@ int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, 
     /* ramps of the same modality: GET equivalent and VO2peak */
     cpd_gx_test *v = NULL;
     size_t n = 0;
-    if ((rc = cpd_store_gx_list(c->store, code, CPD_GXT_RAMP, &v, &n))) {
+    if ((rc = cpd_store_gx_list(c->store, a->f.athlete.code, CPD_GXT_RAMP, &v, &n))) {
         cli_history_free(a);
         return cli_store_fail(c, rc);
     }
@@ -171,9 +192,11 @@ static const char *verdict(const cpd_history_change *c)
 static void print_history(const cli_history *a)
 {
     int spd = a->f.modality == CPD_PD_SPEED;
-    printf("%s %s: %zu block(s) of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks, a->win);
-    const char *head[] = {"block", "trials", spd ? "CS (m/s)" : "CP (W)", "95% CI", spd ? "D' (m)" : "W' (kJ)",
-                          spd ? "GET (m/s)" : "GET (W)", "VO2peak", spd ? "change in CS" : "change in CP", "verdict"};
+    printf("%s %s: %zu block%s of trials within %d days\n\n", a->f.athlete.code, a->f.athlete.name, a->h->nblocks,
+           a->h->nblocks == 1 ? "" : "s", a->win);
+    const char *head[] = {"block", "trials", spd ? "CS (m/s)" : "CP (W)", "95 % CI", spd ? "D' (m)" : "W' (kJ)",
+                          spd ? "GET (m/s)" : "GET (W)", "VO2peak (mL/min)",
+                          spd ? "change in CS (m/s)" : "change in CP (W)", "verdict"};
     cli_table *t = cli_table_new(9, head, "lrrrrrrrl");
     for (size_t k = 0; k < a->h->nblocks; k++) {
         const cpd_history_block *b = &a->h->block[k];
@@ -182,16 +205,18 @@ static void print_history(const cli_history *a)
         cpd_format_date(b->to_day, to);
         snprintf(span, sizeof span, "%s..%s", from, to + 5);
         snprintf(n, sizeof n, "%zu", b->n);
-        cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, spd ? 2 : 1);
+        cli_num(cp, sizeof cp, b->fitted ? b->cp : NAN, CLI_DEC_INTENSITY(spd));
         if (b->fitted && b->has_se)
-            snprintf(ci, sizeof ci, "%s-%s", cli_num(x1, sizeof x1, b->cp_ci95[0], spd ? 2 : 1), cli_num(x2, sizeof x2, b->cp_ci95[1], spd ? 2 : 1));
+            snprintf(ci, sizeof ci, "%s-%s", cli_num(x1, sizeof x1, b->cp_ci95[0], CLI_DEC_INTENSITY(spd)),
+                     cli_num(x2, sizeof x2, b->cp_ci95[1], CLI_DEC_INTENSITY(spd)));
         else
             snprintf(ci, sizeof ci, "-");
         cli_num(w, sizeof w, b->fitted ? (spd ? b->w_prime : b->w_prime / 1000) : NAN, spd ? 0 : 2);
         cli_num(g, sizeof g, b->has_get ? b->get : NAN, spd ? 2 : 0);
         cli_num(vo, sizeof vo, b->has_vo2peak ? b->vo2peak_ml_min : NAN, 0);
         if (b->d_cp.valid)
-            snprintf(d, sizeof d, "%+.*f (%+.*f to %+.*f)", spd ? 2 : 1, b->d_cp.delta, spd ? 2 : 1, b->d_cp.ci95[0], spd ? 2 : 1,
+            snprintf(d, sizeof d, "%+.*f (%+.*f to %+.*f)", CLI_DEC_INTENSITY(spd), b->d_cp.delta, CLI_DEC_INTENSITY(spd),
+                     b->d_cp.ci95[0], CLI_DEC_INTENSITY(spd),
                      b->d_cp.ci95[1]);
         else
             snprintf(d, sizeof d, "-");
@@ -230,13 +255,15 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     static const struct option lo[] = {
         {"window", required_argument, NULL, 'w'}, {"model", required_argument, NULL, 'm'},
         {"all", no_argument, NULL, 'a'},          {"help", no_argument, NULL, 'h'},
-        {"swc", required_argument, NULL, 's'},    {NULL, 0, NULL, 0},
+        {"swc", required_argument, NULL, 's'},    {"output", required_argument, NULL, 'o'}, {NULL, 0, NULL, 0},
     };
     hist_opts o = {0};
     int first = 0, done = 0;
-    int rc = cli_getopt(argc, argv, "h", lo, HELP, hist_opt, &o, &first, &done);
+    int rc = cli_getopt(argc, argv, "ho:", lo, HELP, hist_opt, &o, &first, &done);
     if (rc || done)
         return rc;
+    if (o.out && (o.all || (rc = cli_plot_path("history", o.out))))
+        return rc ? rc : cli_usage("history", "-o draws one athlete's season: give CODE, not --all");
     if (o.all ? argc - first != 0 : argc - first != 1)
         return cli_usage("history", o.all ? "--all takes no CODE" : "give CODE or --all");
     int win = CPD_HISTORY_WINDOW_DAYS;
@@ -262,7 +289,19 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             return rc;
         a.h->swc_pct = swc;
         cpd_history_changes(a.h);
-        if (c->json) {
+        if (o.out) { /* -o FILE.svg: CP (CS) of every block with its interval, as on the sheet */
+            char *svg = NULL;
+            int prc = cli_history_plot(&a, &svg);
+            rc = prc ? cli_fail(c, prc, "-o %s: no plot: %s", o.out, cpd_strerror(prc))
+                     : cli_write_output(c, o.out, svg, strlen(svg));
+            free(svg);
+            if (rc) {
+                cli_history_free(&a);
+                return rc;
+            }
+            cli_note(c, "wrote %s", o.out);
+        }
+        if (c->json || c->csv) {
             cli_json *d = cj_obj();
             cj_str(d, "athlete", a.f.athlete.code);
             cj_str(d, "modality", a.f.modality == CPD_PD_SPEED ? "speed" : "power");
@@ -279,7 +318,8 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
                               "Hopkins 2004 Sportscience 8:1). CP and W': the same model in both blocks (lowest "
                               "summed %SEE), Student's t with Welch-Satterthwaite dof; GET and VO2peak: +-1.96 x "
                               "sqrt(2) typical errors of 6 % and 3 %");
-            rc = cj_print(d);
+            rc = c->csv ? cj_print_csv(d, "blocks", a.f.modality == CPD_PD_SPEED ? CLI_CSV_UNITS_SPEED : CLI_CSV_UNITS_POWER)
+                        : cj_print(d);
         } else
             print_history(&a);
         cli_history_free(&a);
@@ -293,7 +333,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
     cli_json *arr = doc ? cj_add_arr(doc, "athletes") : NULL;
     cli_table *t = NULL;
     if (!doc) {
-        static const char *const head[] = {"code", "blocks", "newest block", "current CP/CS", "change", "verdict"};
+        static const char *const head[] = {"code", "blocks", "newest block", "current CP (W) or CS (m/s)", "change", "verdict"};
         t = cli_table_new(6, head, "lrlrrl");
     }
     char k2[40];
@@ -341,9 +381,9 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             cpd_format_date(b->from_day, from);
             cpd_format_date(b->to_day, to);
             snprintf(span, sizeof span, "%s..%s", from, to);
-            cli_num(cp, sizeof cp, cur, a.f.modality == CPD_PD_SPEED ? 2 : 1);
+            cli_num(cp, sizeof cp, cur, CLI_DEC_INTENSITY(a.f.modality == CPD_PD_SPEED));
             if (b->d_cp.valid)
-                snprintf(d, sizeof d, "%+.*f", a.f.modality == CPD_PD_SPEED ? 2 : 1, b->d_cp.delta);
+                snprintf(d, sizeof d, "%+.*f", CLI_DEC_INTENSITY(a.f.modality == CPD_PD_SPEED), b->d_cp.delta);
             else
                 snprintf(d, sizeof d, "-");
             const char *row[] = {a.f.athlete.code, nb, span, cp, d, verdict(&b->d_cp)};

@@ -134,7 +134,7 @@ static int lactate_list(cli_ctx *c, int argc, char **argv)
     size_t n = 0;
     if ((rc = cpd_store_lactate_list(c->store, a.code, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, "lactates");
         for (size_t i = 0; i < n; i++) {
@@ -147,7 +147,7 @@ static int lactate_list(cli_ctx *c, int argc, char **argv)
             cj_push(arr, t);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, "lactates", NULL) : cj_print(d);
     }
     static const char *const head[] = {"id", "date", "stages", "range", "note"};
     cli_table *t = cli_table_new(5, head, "rlrrl");

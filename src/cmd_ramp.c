@@ -347,7 +347,7 @@ static int ramp_list(cli_ctx *c, int argc, char **argv)
     size_t n = 0;
     if ((rc = cpd_store_gx_list(c->store, a.code, CPD_GXT_RAMP, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, "ramps");
         for (size_t i = 0; i < n; i++) {
@@ -356,7 +356,7 @@ static int ramp_list(cli_ctx *c, int argc, char **argv)
             cj_push(arr, t);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, "ramps", NULL) : cj_print(d);
     }
     static const char *const head[] = {"id", "date", "rate", "start", "samples", "manual", "note"};
     cli_table *t = cli_table_new(7, head, "rlrrrll");

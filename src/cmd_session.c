@@ -3,6 +3,7 @@
 #include "cli_pd.h"
 #include "cli_session.h"
 #include "commands.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/allout.h"
 #include "cpdomain/import.h"
 #include "cpdomain/units.h"
@@ -40,7 +41,10 @@ static const char HELP_SLIST[] = "usage: cpdomain session list CODE\n\nLists the
 static const char HELP_SSHOW[] =
     "usage: cpdomain session show ID\n\n"
     "One stored session: its duration, the clean segments, dropouts and spikes, the mean and highest\n"
-    "clean second, and its mean-maximal curve at 5 s, 1, 5, 20 and 60 min.\n\n"
+    "clean second, and its mean-maximal curve at durations chosen from this tool's own science:\n"
+    "2 min, the usual severe-extreme limit and the shortest effort of the CP window; 3 min, the\n"
+    "3-minute all-out test; 15 min, the longest effort of the CP window; 30 and 60 min, efforts\n"
+    "near and below CP (heavy domain).\n\n"
     "example:\n  cpdomain session show 12\n";
 static const char HELP_SREMOVE[] = "usage: cpdomain session remove ID\n\nDeletes a stored session with its samples.\n\n"
                                    "example:\n  cpdomain session remove 12\n";
@@ -64,15 +68,17 @@ static const char HELP_ASHOW[] =
 static const char HELP_AREMOVE[] = "usage: cpdomain allout remove ID\n\nDeletes a stored all-out test.\n\n"
                                    "example:\n  cpdomain allout remove 3\n";
 static const char HELP_CURVE[] =
-    "usage: cpdomain curve CODE [--from D] [--to D] [--modality power|speed]\n\n"
+    "usage: cpdomain curve CODE [--from D] [--to D] [--modality power|speed] [-o FILE.svg]\n\n"
     "The mean-maximal power (speed) curve over the athlete's stored sessions dated --from/--to: for\n"
     "every duration from 1 s to 60 min (then every minute) the best mean of any session, with the\n"
     "session and date it came from (the earliest session among equal values). No effort spans a\n"
-    "gap longer than 5 s. --json lists every point; the table shows standard durations.\n\n"
-    "examples:\n  cpdomain curve C02\n  cpdomain --json curve C02 --from 2026-11-01\n";
+    "gap longer than 5 s. --json lists every point; the table shows standard durations. -o FILE.svg\n"
+    "draws the whole curve on a logarithmic time axis.\n\n"
+    "examples:\n  cpdomain curve C02\n  cpdomain --json curve C02 --from 2026-11-01\n  cpdomain curve C02 -o c02_curve.svg\n";
 
 typedef struct {
     const char *date, *modality, *spike, *map, *note, *start, *from, *to;
+    const char *out; /* curve -o FILE.svg */
 } sess_opts;
 
 static int sess_opt(int opt, const char *arg, void *ud)
@@ -87,6 +93,7 @@ static int sess_opt(int opt, const char *arg, void *ud)
     case 's': o->start = arg; break;
     case 'f': o->from = arg; break;
     case 't': o->to = arg; break;
+    case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -100,15 +107,20 @@ static int parse(int argc, char **argv, const char *help, sess_opts *o, int want
         {"spike-limit", required_argument, NULL, 'k'}, {"map", required_argument, NULL, 'p'},
         {"note", required_argument, NULL, 'n'},        {"start", required_argument, NULL, 's'},
         {"from", required_argument, NULL, 'f'},        {"to", required_argument, NULL, 't'},
-        {"help", no_argument, NULL, 'h'},              {NULL, 0, NULL, 0},
+        {"help", no_argument, NULL, 'h'},              {"output", required_argument, NULL, 'o'},
+        {NULL, 0, NULL, 0},
     };
     int done = 0;
     memset(o, 0, sizeof *o);
-    int rc = cli_getopt(argc, argv, "h", lo, help, sess_opt, o, first, &done);
+    int rc = cli_getopt(argc, argv, "ho:", lo, help, sess_opt, o, first, &done);
     if (rc)
         return rc;
     if (done)
         return -1;
+    if (o->out && strcmp(argv[0], "curve") != 0)
+        return cli_usage(argv[0], "-o goes with 'curve' (the plot of the mean-maximal curve)");
+    if (o->out && (rc = cli_plot_path(argv[0], o->out)))
+        return rc;
     if (argc - *first < want)
         return cli_usage(argv[0], "missing argument %s", what);
     if (!many && argc - *first > want)
@@ -515,7 +527,7 @@ static int list_run(cli_ctx *c, int argc, char **argv, int allout)
     size_t n = 0;
     if ((rc = cpd_store_session_list(c->store, a.code, allout, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, allout ? "allouts" : "sessions");
         for (size_t i = 0; i < n; i++) {
@@ -524,7 +536,7 @@ static int list_run(cli_ctx *c, int argc, char **argv, int allout)
             cj_push(arr, t);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, allout ? "allouts" : "sessions", NULL) : cj_print(d);
     }
     static const char *const sh[] = {"id", "date", "duration", "recorded", "segments", "mean", "max", "dropouts", "spikes", "note"};
     static const char *const ah[] = {"id", "date", "end power", "work above", "peak", "note"};
@@ -594,8 +606,11 @@ int cli_session_load_clean(cli_ctx *c, long long id, int allout, cpd_session_rec
     return 0;
 }
 
-/* The durations session show reports. */
-static const size_t SHOW_DURATIONS[] = {5, 60, 300, 1200, 3600};
+/* The durations session show reports, from the tool's own science (stated in HELP_SSHOW): the
+ * shortest trial of the CP window and usual severe-extreme limit (2 min), the 3-minute all-out test,
+ * the longest trial of the CP window (15 min; the 2-15 min window is common practice), and 30 and
+ * 60 min, efforts near and below CP. */
+static const size_t SHOW_DURATIONS[] = {120, 180, 900, 1800, 3600};
 #define N_SHOW (sizeof SHOW_DURATIONS / sizeof SHOW_DURATIONS[0])
 
 /* Grid index of duration d (s) on the grid of mmp.h, or (size_t)-1 when d is not on it. */
@@ -1056,11 +1071,47 @@ static int cmd_curve_run(cli_ctx *c, int argc, char **argv)
     cpd_mmp_season *se = NULL;
     if ((rc = season_curve(c, &a, o.from, o.to, o.modality, &spd, &se, &ns)))
         return rc;
+    if (o.out) { /* -o FILE.svg: the curve on a logarithmic time axis, through the plotting module */
+        char title[160], *svg = NULL;
+        snprintf(title, sizeof title, "%s: mean-maximal %s over %zu session%s", a.code, spd ? "speed" : "power", ns,
+                 ns == 1 ? "" : "s");
+        rc = cpd_plot_curve(se->duration_s, se->value, se->n, spd, title, &svg);
+        int ex = rc ? cli_fail(c, rc, "-o %s: no plot: %s", o.out, cpd_strerror(rc))
+                    : cli_write_output(c, o.out, svg, strlen(svg));
+        free(svg);
+        if (ex) {
+            cpd_mmp_season_free(se);
+            return ex;
+        }
+        cli_note(c, "wrote %s", o.out);
+    }
     char date[11];
-    if (c->json) {
+    if (c->json) { /* streamed: a season holds thousands of points */
         rc = curve_json(&a, spd, &o, ns, se);
         cpd_mmp_season_free(se);
         return rc;
+    }
+    if (c->csv) {
+        const char *key = vkey(spd, "power_w", "speed_m_s");
+        cli_json *d = cj_obj();
+        cj_str(d, "athlete", a.code);
+        cj_str(d, "modality", spd ? "speed" : "power");
+        cj_str(d, "from", o.from);
+        cj_str(d, "to", o.to);
+        cj_int(d, "sessions", (long long)ns);
+        cli_json *arr = cj_add_arr(d, "points");
+        for (size_t i = 0; i < se->n; i++) {
+            cli_json *p = cj_obj();
+            cj_num(p, "duration_s", se->duration_s[i]);
+            cj_num(p, key, se->value[i]);
+            cj_int(p, "session", se->session[i]);
+            cpd_format_date(se->date_days[i], date);
+            cj_str(p, "date", date);
+            cj_num(p, "start_s", se->start_s[i]);
+            cj_push(arr, p);
+        }
+        cpd_mmp_season_free(se);
+        return cj_print_csv(d, "points", NULL);
     }
     static const size_t std_d[] = {1,    5,    10,   15,   30,   60,   120,  180,  300,   480,   600,   720,  900,
                                    1200, 1800, 2400, 3600, 5400, 7200, 10800, 14400, 21600, 28800, 43200, 86400};
@@ -1234,7 +1285,7 @@ static void session_json(cli_json *d, const void *ud)
 }
 
 int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, long long id,
-                        const char *balance_model, const char *trace_path)
+                        const char *balance_model, const char *trace_path, const char *plot_path)
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
@@ -1304,7 +1355,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
                             "1-s steps on the session's cleaned 1-Hz grid from its first sample: gaps of up to 5 s and "
                             "dropped spikes filled linearly; a longer gap (a pause, or a dropout that split the "
                             "session) counts as rest at zero power (speed) for its whole length",
-                            1, session_json, &ud, trace_path, 1};
+                            1, session_json, &ud, trace_path, 1, plot_path};
     ex = cli_balance_report(c, f, m, bm, &in);
 done:
     free(v);

@@ -5,6 +5,7 @@
 #include "cli_gx.h"
 #include "cli_history.h"
 #include "commands.h"
+#include "cpdomain/csvin.h"
 #include "cpdomain/plots.h"
 #include "cpdomain/sheet.h"
 #include "cpdomain/units.h"
@@ -16,6 +17,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 #include <sys/stat.h>
 #include <sysexits.h>
 
@@ -66,12 +68,13 @@ static const char *const FMT_EXT[] = {"html", "csv", "json", "txt"};
 
 static int parse_format(const char *s, out_format *f)
 {
+    /* any letter case: 'sheet -o X.CSV' is CSV */
     for (int k = 0; k < 4; k++)
-        if (strcmp(s, FMT_EXT[k]) == 0) {
+        if (strcasecmp(s, FMT_EXT[k]) == 0) {
             *f = (out_format)k;
             return 0;
         }
-    if (strcmp(s, "htm") == 0) {
+    if (strcasecmp(s, "htm") == 0) {
         *f = FMT_HTML;
         return 0;
     }
@@ -261,30 +264,20 @@ static void add_trend(cli_ctx *c, sheet_build *b)
         return;
     size_t nb = a.h->nblocks;
     if (nb >= 2) {
-        int day[CPD_HISTORY_MAX_BLOCKS];
-        double v[CPD_HISTORY_MAX_BLOCKS], lo[CPD_HISTORY_MAX_BLOCKS], hi[CPD_HISTORY_MAX_BLOCKS];
-        for (size_t k = 0; k < nb; k++) {
-            const cpd_history_block *x = &a.h->block[k];
-            day[k] = x->to_day;
-            v[k] = x->fitted ? x->cp : NAN;
-            lo[k] = x->fitted && x->has_se ? x->cp_ci95[0] : NAN;
-            hi[k] = x->fitted && x->has_se ? x->cp_ci95[1] : NAN;
-        }
         int spd = s->modality == CPD_PD_SPEED;
-        if (cpd_plot_trend(day, v, lo, hi, nb, spd ? "Critical speed over the season" : "Critical power over the season",
-                           spd ? "CS (m/s)" : "CP (W)", &b->svg_trend) == CPD_OK) {
+        if (cli_history_plot(&a, &b->svg_trend) == CPD_OK) {
             const cpd_history_change *ch = &a.h->block[nb - 1].d_cp;
             if (ch->valid)
                 snprintf(b->trend_text, sizeof b->trend_text,
-                         "%zu blocks of trials within %d days. Newest change of %s: %+.*f %s (95 %% interval %+.*f to "
+                         "%zu blocks of trials within %d days. Newest change of %s: %+.*f %s (95 %% CI %+.*f to "
                          "%+.*f %s, %s model in both blocks, Student's t with Welch-Satterthwaite dof): %s (smallest "
                          "worthwhile change %.*f %s, %.1f %% of the earlier value: Hopkins 2004).",
-                         nb, a.win, spd ? "CS" : "CP", spd ? 2 : 1, ch->delta, spd ? "m/s" : "W", spd ? 2 : 1, ch->ci95[0],
-                         spd ? 2 : 1, ch->ci95[1], spd ? "m/s" : "W",
+                         nb, a.win, spd ? "CS" : "CP", CLI_DEC_INTENSITY(spd), ch->delta, spd ? "m/s" : "W",
+                         CLI_DEC_INTENSITY(spd), ch->ci95[0], CLI_DEC_INTENSITY(spd), ch->ci95[1], spd ? "m/s" : "W",
                          ch->model_valid ? cpd_pd_model_name(ch->model) : "the same",
                          ch->meaningful ? "meaningful" : ch->excludes_zero ? "a change, not clearly worthwhile"
                                                                           : "within the noise",
-                         spd ? 2 : 1, ch->swc, spd ? "m/s" : "W", CPD_HISTORY_SWC_PCT);
+                         CLI_DEC_INTENSITY(spd), ch->swc, spd ? "m/s" : "W", CPD_HISTORY_SWC_PCT);
             else
                 snprintf(b->trend_text, sizeof b->trend_text, "%zu blocks of trials within %d days.", nb, a.win);
             s->extra[s->nextra++] = (cpd_sheet_section){"season", "The season", b->trend_text, b->svg_trend};
@@ -577,6 +570,97 @@ static int one_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int stal
     return rc;
 }
 
+/* ---- the team table of 'sheet --all --format csv': one row per athlete ---- */
+typedef struct {
+    char *s;
+    size_t len, cap;
+    int oom;
+} team_buf;
+
+static void team_add(team_buf *t, const char *cell, int last)
+{
+    char *q = cpd_csv_field(cell);
+    size_t L = q ? strlen(q) : 0;
+    if (!q || t->len + L + 3 > t->cap) {
+        size_t nc = t->cap ? 2 * t->cap : 4096;
+        while (nc < t->len + L + 3)
+            nc *= 2;
+        char *ns = q ? realloc(t->s, nc) : NULL;
+        if (!ns) {
+            t->oom = 1;
+            free(q);
+            return;
+        }
+        t->s = ns;
+        t->cap = nc;
+    }
+    memcpy(t->s + t->len, q, L);
+    t->len += L;
+    memcpy(t->s + t->len, last ? "\r\n" : ",", last ? 2 : 1);
+    t->len += last ? 2 : 1;
+    t->s[t->len] = '\0';
+    free(q);
+}
+
+static void team_num(team_buf *t, int ok, double v, int last)
+{
+    char b[40];
+    team_add(t, ok ? cli_csv_num(b, sizeof b, v) : "", last);
+}
+
+/* Header: the intensity columns hold W for power athletes and m/s for speed athletes (the unit
+ * column says which), the capacity J or m; every boundary with its 95 % interval, every domain's
+ * range, and the dates the numbers rest on. Opens as it is in a spreadsheet. */
+static const char *const TEAM_HEAD[] = {
+    "code", "name", "sport", "modality", "intensity unit", "capacity unit", "model", "trials from", "trials to",
+    "CP or CS", "CP or CS 95 % CI low", "CP or CS 95 % CI high", "W' or D'", "W' or D' 95 % CI low",
+    "W' or D' 95 % CI high", "moderate-heavy", "heavy-severe", "heavy-severe 95 % CI low", "heavy-severe 95 % CI high",
+    "severe-extreme", "severe-extreme 95 % CI low", "severe-extreme 95 % CI high", "moderate up to", "heavy from",
+    "heavy up to", "heavy-domain ceiling", "severe from", "severe up to", "extreme from", "VO2peak (mL/min)",
+    "ramp date", "stale data"};
+
+static void team_row(team_buf *t, const cpd_athlete *a, const sheet_build *b)
+{
+    const cli_domains *d = &b->d;
+    const cpd_pd_model_fit *m = &d->fit.res->models[d->model];
+    const cpd_domains_result *r = &d->res;
+    int spd = d->fit.modality == CPD_PD_SPEED;
+    team_add(t, a->code, 0);
+    team_add(t, a->name, 0);
+    team_add(t, a->sport, 0);
+    team_add(t, spd ? "speed" : "power", 0);
+    team_add(t, spd ? "m/s" : "W", 0);
+    team_add(t, spd ? "m" : "J", 0);
+    team_add(t, cpd_pd_model_name(d->model), 0);
+    team_add(t, d->fit.trials[0].date, 0);
+    team_add(t, d->fit.trials[d->fit.n - 1].date, 0);
+    team_num(t, 1, m->cp, 0);
+    team_num(t, m->has_se, m->cp_ci95[0], 0);
+    team_num(t, m->has_se, m->cp_ci95[1], 0);
+    team_num(t, 1, m->w_prime, 0);
+    team_num(t, m->has_se, m->w_prime_ci95[0], 0);
+    team_num(t, m->has_se, m->w_prime_ci95[1], 0);
+    const cpd_boundary *mh = &r->b[CPD_BND_MOD_HEAVY], *hs = &r->b[CPD_BND_HEAVY_SEVERE], *se = &r->b[CPD_BND_SEVERE_EXTREME];
+    team_num(t, mh->valid, mh->value, 0);
+    team_num(t, hs->valid, hs->value, 0);
+    team_num(t, hs->valid && hs->has_ci, hs->ci95[0], 0);
+    team_num(t, hs->valid && hs->has_ci, hs->ci95[1], 0);
+    team_num(t, se->valid, se->value, 0);
+    team_num(t, se->valid && se->has_ci, se->ci95[0], 0);
+    team_num(t, se->valid && se->has_ci, se->ci95[1], 0);
+    const cpd_domain_range *g = r->range;
+    team_num(t, g[CPD_DOM_MODERATE].has_hi, g[CPD_DOM_MODERATE].hi, 0);
+    team_num(t, g[CPD_DOM_HEAVY].has_lo, g[CPD_DOM_HEAVY].lo, 0);
+    team_num(t, g[CPD_DOM_HEAVY].has_hi, g[CPD_DOM_HEAVY].hi, 0);
+    team_num(t, isfinite(r->heavy_ceiling), r->heavy_ceiling, 0);
+    team_num(t, g[CPD_DOM_SEVERE].has_lo, g[CPD_DOM_SEVERE].lo, 0);
+    team_num(t, g[CPD_DOM_SEVERE].has_hi, g[CPD_DOM_SEVERE].hi, 0);
+    team_num(t, g[CPD_DOM_EXTREME].has_lo, g[CPD_DOM_EXTREME].lo, 0);
+    team_num(t, b->s.has_vo2peak, b->s.vo2peak_ml_min, 0);
+    team_add(t, d->has_ramp ? d->ramp_date : "", 0);
+    team_add(t, r->flags & CPD_DOMAINS_F_STALE ? "yes" : "no", 1);
+}
+
 static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
 {
     if (mkdir(o->out, 0777) != 0 && errno != EEXIST)
@@ -602,6 +686,9 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
     cli_json *doc = c->json ? cj_obj() : NULL;
     cli_json *jsheets = doc ? cj_add_arr(doc, "sheets") : NULL, *jskip = doc ? cj_add_arr(doc, "skipped") : NULL;
     size_t written = 0;
+    team_buf team = {0};
+    for (size_t k = 0; fm == FMT_CSV && k < sizeof TEAM_HEAD / sizeof TEAM_HEAD[0]; k++)
+        team_add(&team, TEAM_HEAD[k], k + 1 == sizeof TEAM_HEAD / sizeof TEAM_HEAD[0]);
     if (!rows || !href || !dates || !ramp || !path) {
         rc = cli_fail(c, CPD_ENOMEM, "out of memory");
         goto done;
@@ -677,6 +764,8 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
             r->ramp_date = ramp[i];
         }
         r->stale = (d->res.flags & CPD_DOMAINS_F_STALE) != 0;
+        if (fm == FMT_CSV)
+            team_row(&team, a, b);
         build_free(b);
     }
     char today[11];
@@ -692,6 +781,19 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
     free(index);
     if (rc)
         goto done;
+    if (fm == FMT_CSV) {
+        if (team.oom) {
+            rc = cli_fail(c, CPD_ENOMEM, "out of memory");
+            goto done;
+        }
+        snprintf(path, plen, "%s/team.csv", o->out);
+        if ((rc = cli_write_file(c, path, team.s, team.len)))
+            goto done;
+        if (c->csv)
+            fputs(team.s, stdout);
+        cli_note(c, "wrote %s: one row per athlete", path);
+        snprintf(path, plen, "%s/index.html", o->out);
+    }
     cli_note(c, "wrote %s and %zu sheet%s (%zu athlete%s without one)", path, written, written == 1 ? "" : "s", n - written,
              n - written == 1 ? "" : "s");
     if (doc) {
@@ -701,6 +803,7 @@ static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
         doc = NULL;
     }
 done:
+    free(team.s);
     cj_free(doc);
     free(as);
     free(rows);
@@ -742,6 +845,8 @@ int cmd_sheet(cli_ctx *c, int argc, char **argv)
             fm = c->json ? FMT_JSON : FMT_HTML;
     } else if (c->json && !o.all)
         fm = FMT_JSON;
+    else if (c->csv)
+        fm = FMT_CSV;
     if (c->json && !o.all && !o.out && fm != FMT_JSON)
         return cli_usage("sheet", "--json prints the sheet as JSON: drop --format %s or write it with -o FILE", o.format);
     int stale = 0;

@@ -3,6 +3,7 @@
 #include "cli_pd.h"
 #include "commands.h"
 #include "cpdomain/balance.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/protocol.h"
 #include "cpdomain/units.h"
 
@@ -95,6 +96,20 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         free(trace);
         return rc;
     }
+    if (in->plot_path) { /* -o FILE.svg: the balance over the intensity, through the plotting module */
+        char *svg = NULL;
+        rc = cpd_plot_balance(x, trace, in->n, spd, m->cp, m->w_prime, &svg);
+        if (!rc)
+            rc = cli_write_output(c, in->plot_path, svg, strlen(svg)) ? CPD_ECREATE : CPD_OK;
+        else
+            cli_fail(c, rc, "-o %s: no plot: %s", in->plot_path, cpd_strerror(rc));
+        free(svg);
+        if (rc) {
+            free(trace);
+            return cli_exit_code(rc);
+        }
+        cli_note(c, "wrote %s", in->plot_path);
+    }
     const char *u = spd ? "m" : "j";
     char k[40];
     if (c->json) {
@@ -166,7 +181,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         double sc = spd ? 1.0 : 1e-3;
         const char *un = spd ? "m" : "kJ";
         printf("%s %s: %s balance (%s model, %s = %.*f %s, %s = %.*f %s)\n", f->athlete.code, f->athlete.name,
-               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", spd ? 2 : 1, m->cp, cli_pd_unit(f->modality),
+               spd ? "D'" : "W'", cpd_balance_model_name(bm), spd ? "CS" : "CP", CLI_DEC_INTENSITY(spd), m->cp, cli_pd_unit(f->modality),
                spd ? "D'" : "W'", spd ? 0 : 2, m->w_prime * sc, un);
         printf("%s\n\n", in->heading);
         char lowest[48];
@@ -185,6 +200,12 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
                 snprintf(idx, sizeof idx, "%zu", i + 1);
             cpd_format_duration((double)s1, end, sizeof end);
             snprintf(iv, sizeof iv, "%s %s", cli_num(num, sizeof num, g->intensity, spd ? 2 : 0), cli_pd_unit(f->modality));
+            if (spd && g->intensity > 0) { /* runners and swimmers read pace: shown beside the speed */
+                const char *lab;
+                char pc[32];
+                cpd_format_pace(g->intensity, cli_pd_pace_m(&f->athlete, &lab), pc, sizeof pc);
+                snprintf(iv + strlen(iv), sizeof iv - strlen(iv), " (%s%s)", pc, lab);
+            }
             snprintf(be, sizeof be, "%s %s", cli_num(num, sizeof num, trace[s1 - 1] * sc, spd ? 0 : 2), un);
             snprintf(lw, sizeof lw, "%s %s", cli_num(num, sizeof num, lo * sc, spd ? 0 : 2), un);
             const char *row[] = {idx, end, iv, be, lw};
@@ -251,7 +272,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
 }
 
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
-                         const char *balance_model, const char *trace_path)
+                         const char *balance_model, const char *trace_path, const char *plot_path)
 {
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (balance_model && cpd_balance_model_parse(balance_model, &bm))
@@ -284,10 +305,10 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
     }
     char heading[96], a[32];
     cpd_format_duration((double)p->total_s, a, sizeof a);
-    snprintf(heading, sizeof heading, "protocol of %s in %zu segments", a, p->n);
+    snprintf(heading, sizeof heading, "protocol of %s in %zu segment%s", a, p->n, p->n == 1 ? "" : "s");
     cli_balance_input in = {x, p->total_s, parts, p->n, heading, "segment",
                             "1-s steps, each second at the protocol's intensity; balance at the end of each second",
-                            0, NULL, NULL, trace_path, 0};
+                            0, NULL, NULL, trace_path, 0, plot_path};
     rc = cli_balance_report(c, f, m, bm, &in);
     free(x);
     free(parts);
@@ -339,21 +360,24 @@ static void subst_unknown(const char *text, cpd_protocol_unit unit, double v, do
 }
 
 static const char HELP_SOLVE[] =
-    "usage: cpdomain solve CODE --protocol SPEC --finish PCT [--model NAME] [--balance-model NAME]\n"
-    "                           [--from D] [--to D]\n\n"
-    "Finds the one unknown intensity '?' of a protocol so that it ends with PCT % of W' (D') left,\n"
-    "without passing through task failure on the way (bracketed root finding, GSL's Brent method).\n"
+    "usage: cpdomain solve CODE --protocol SPEC (--finish PCT | --lowest PCT) [--model NAME]\n"
+    "                           [--balance-model NAME] [--from D] [--to D]\n\n"
+    "Finds the one unknown intensity '?' of a protocol so that it ends with PCT % of W' (D') left\n"
+    "(--finish), or so that its lowest balance at any second is PCT % (--lowest: for a session that\n"
+    "ends in recovery, whose hardest moment comes before the end), without passing through task\n"
+    "failure on the way (bracketed root finding, GSL's Brent method).\n"
     "Protocol: segments DURATION@INTENSITY separated by ';' or ','; Nx( ... ) repeats a group;\n"
     "intensities 350W, 105%CP, 4.6m/s, 3:35/km, 1:20/100m or ?. Balance models: differential\n"
     "(default; Skiba et al. 2015), integral (Skiba et al. 2012), bartram (Bartram et al. 2018,\n"
     "trained cyclists; 'elite' is read as its former name). The answer under every model is shown.\n"
     "An impossible request exits 69 and says why.\n\n"
     "examples:\n"
-    "  cpdomain solve C03 --protocol \"15min@150W; 5x(3min@?, 3min@140W)\" --finish 20\n"
-    "  cpdomain --json solve R07 --protocol \"10min@3.2m/s; 6x(800s@?, 2min@2.5m/s)\" --finish 10\n";
+    "  cpdomain solve C03 --protocol \"15min@150W; 5x(3min@?, 3min@140W)\" --lowest 20\n"
+    "  cpdomain solve C03 --protocol \"15min@150W; 4x(3min@140W, 3min@?)\" --finish 25\n"
+    "  cpdomain --json solve R02 --protocol \"10min@3.2m/s; 6x(3min@?, 2min@2.5m/s)\" --lowest 10\n";
 
 typedef struct {
-    const char *protocol, *finish, *model, *bmodel, *from, *to;
+    const char *protocol, *finish, *lowest, *model, *bmodel, *from, *to;
 } solve_opts;
 
 static int solve_opt(int opt, const char *arg, void *ud)
@@ -362,6 +386,7 @@ static int solve_opt(int opt, const char *arg, void *ud)
     switch (opt) {
     case 'p': o->protocol = arg; break;
     case 'F': o->finish = arg; break;
+    case 'L': o->lowest = arg; break;
     case 'm': o->model = arg; break;
     case 'b': o->bmodel = arg; break;
     case 'f': o->from = arg; break;
@@ -375,6 +400,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
 {
     static const struct option lo[] = {
         {"protocol", required_argument, NULL, 'p'}, {"finish", required_argument, NULL, 'F'},
+        {"lowest", required_argument, NULL, 'L'},
         {"model", required_argument, NULL, 'm'},    {"balance-model", required_argument, NULL, 'b'},
         {"from", required_argument, NULL, 'f'},     {"to", required_argument, NULL, 't'},
         {"help", no_argument, NULL, 'h'},           {NULL, 0, NULL, 0},
@@ -386,13 +412,18 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         return rc;
     if (argc - first != 1)
         return cli_usage("solve", argc - first < 1 ? "missing argument CODE" : "unexpected argument '%s'", argv[first + 1]);
-    if (!o.protocol || !o.finish)
-        return cli_usage("solve", "--protocol and --finish are required");
+    if (!o.protocol || (!o.finish && !o.lowest))
+        return cli_usage("solve", "--protocol and one of --finish or --lowest are required");
+    if (o.finish && o.lowest)
+        return cli_usage("solve", "--finish and --lowest ask different questions: give one");
+    int lowest = o.lowest != NULL;
+    const char *popt = lowest ? "--lowest" : "--finish";
     double pct = 0;
-    if ((rc = cli_number("--finish", o.finish, &pct)))
+    if ((rc = cli_number(popt, lowest ? o.lowest : o.finish, &pct)))
         return rc;
-    if (pct < 0 || pct >= 100)
-        return cli_usage("solve", "--finish must be a percentage of W' from 0 to below 100 (got %g)", pct);
+    if (pct < 0 || pct >= 100 || (lowest && pct == 0))
+        return cli_usage("solve", "%s must be a percentage of W' from %s to below 100 (got %g)", popt,
+                         lowest ? "above 0 (0 is task failure)" : "0", pct);
     cpd_balance_model bm = CPD_BALANCE_DIFFERENTIAL;
     if (o.bmodel && cpd_balance_model_parse(o.bmodel, &bm))
         return cli_usage("solve", "--balance-model: '%s' is not differential, integral or bartram", o.bmodel);
@@ -445,15 +476,25 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
     cpd_balance_ws *w = cpd_balance_alloc(p->total_s);
     cpd_balance_solution sol;
     memset(&sol, 0, sizeof sol);
-    rc = w ? cpd_balance_solve(w, &bp, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sol) : CPD_ENOMEM;
+    int (*solver)(cpd_balance_ws *, const cpd_balance_params *, cpd_protocol_modality, const cpd_protocol *, double,
+                  cpd_balance_solution *) = lowest ? cpd_balance_solve_lowest : cpd_balance_solve;
+    rc = w ? solver(w, &bp, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sol) : CPD_ENOMEM;
     cpd_balance_free(w);
-    static const char *const why[] = {
+    static const char *const why_end[] = {
         "solved",
         "the protocol fails even with the unknown at the lowest intensity",
         "even the lowest intensity ends below the requested balance",
         "the requested balance is reachable only by passing through task failure first",
         "the end balance jumps over the requested value (integral model, at CP): no intensity gives it",
     };
+    static const char *const why_low[] = {
+        "solved",
+        "the protocol fails even with the unknown at the lowest intensity",
+        "even the lowest intensity dips below the requested lowest balance",
+        "the requested lowest balance is reachable only by passing through task failure first",
+        "the lowest balance jumps over the requested value (integral model, at CP): no intensity gives it",
+    };
+    const char *const *why = lowest ? why_low : why_end;
     /* the answer again with CP at the ends of its interval (W' moving with it) */
     int has_range[2] = {0, 0};
     double range[2] = {0, 0};
@@ -463,7 +504,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
             continue;
         cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
         cpd_balance_solution sq;
-        if (wq && cpd_balance_solve(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
+        if (wq && solver(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
             sq.reason == CPD_SOLVE_OK) {
             has_range[side] = 1;
             range[side] = sq.intensity;
@@ -500,6 +541,16 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
                  "realistic intensity gives that end balance", sol.intensity, hr->unit, hr->hi, hr->unit);
     }
     int ex = ok ? 0 : rc == CPD_OK || rc == CPD_ENODATA ? EX_UNAVAILABLE : cli_exit_code(rc);
+    /* the session at the answer: its end balance and its lowest second, whichever was solved for */
+    cpd_balance_result at;
+    memset(&at, 0, sizeof at);
+    int has_at = 0;
+    if (ok) {
+        double *xs = malloc(p->total_s * sizeof *xs);
+        has_at = xs && cpd_protocol_expand(p, m->cp, sol.intensity, xs, p->total_s) == CPD_OK &&
+                 cpd_balance_run(&bp, xs, p->total_s, NULL, &at) == CPD_OK;
+        free(xs);
+    }
     if (c->json) {
         cli_json *d = cj_obj();
         cj_str(d, "athlete", f.athlete.code);
@@ -509,10 +560,14 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         cj_num(d, cli_pd_key(f.modality, "w_prime", k, sizeof k), m->w_prime);
         cj_num(d, ikey, ok ? sol.intensity : NAN);
         snprintf(k, sizeof k, "end_balance_%s", u);
-        cj_num(d, k, sol.has_end_balance ? sol.end_balance : NAN);
+        cj_num(d, k, has_at ? at.end_balance : !lowest && sol.has_end_balance ? sol.end_balance : NAN);
+        snprintf(k, sizeof k, "lowest_balance_%s", u);
+        cj_num(d, k, has_at ? at.min_balance : lowest && sol.has_end_balance ? sol.end_balance : NAN);
+        cj_num(d, "lowest_at_s", has_at ? (double)at.min_at_s : NAN);
         snprintf(k, sizeof k, "target_balance_%s", u);
         cj_num(d, k, sol.target_balance);
-        cj_num(d, "finish_pct", pct);
+        cj_str(d, "solved_for", lowest ? "lowest_balance" : "end_balance");
+        cj_num(d, lowest ? "lowest_pct" : "finish_pct", pct);
         snprintf(k, sizeof k, "%s_range", ikey);
         cj_pair(d, k, has_range[0] && has_range[1] ? fmin(range[0], range[1]) : NAN, fmax(range[0], range[1]));
         cj_str(d, "range_method", "solved again with CP at each end of its 95 % interval, W' moved with it along "
@@ -542,7 +597,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
             fprintf(stderr, "cpdomain: solve: %s\n", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
     } else if (ok) {
         char v[48], num[32];
-        snprintf(v, sizeof v, "%s %s", cli_num(num, sizeof num, sol.intensity, spd ? 3 : 1), cli_pd_unit(f.modality));
+        snprintf(v, sizeof v, "%s %s", cli_num(num, sizeof num, sol.intensity, CLI_DEC_INTENSITY(spd)), cli_pd_unit(f.modality));
         printf("%s %s: '?' = %s", f.athlete.code, f.athlete.name, v);
         if (spd) {
             const char *lab;
@@ -551,14 +606,22 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
             printf(" (%s%s)", pace, lab);
         } else
             printf(" (%.0f %% of CP)", 100 * sol.intensity / m->cp);
-        printf("\nthe protocol then ends with %.*f %s of %s left (target %.0f %%), %s model, %s balance\n", spd ? 0 : 2,
-               sol.end_balance * (spd ? 1 : 1e-3), spd ? "m" : "kJ", spd ? "D'" : "W'", pct, cpd_pd_model_name(which),
-               cpd_balance_model_name(bm));
+        double sc = spd ? 1 : 1e-3;
+        const char *bu = spd ? "m" : "kJ", *wn = spd ? "D'" : "W'";
+        if (lowest) {
+            char when[24];
+            cpd_format_duration((double)at.min_at_s, when, sizeof when);
+            printf("\nthe balance then falls lowest to %.*f %s of %s at %s (target %.0f %%) and ends at %.*f %s, %s "
+                   "model, %s balance\n", spd ? 0 : 2, at.min_balance * sc, bu, wn, when, pct, spd ? 0 : 2,
+                   at.end_balance * sc, bu, cpd_pd_model_name(which), cpd_balance_model_name(bm));
+        } else
+            printf("\nthe protocol then ends with %.*f %s of %s left (target %.0f %%), %s model, %s balance\n", spd ? 0 : 2,
+                   sol.end_balance * sc, bu, wn, pct, cpd_pd_model_name(which), cpd_balance_model_name(bm));
         if (has_range[0] && has_range[1]) {
             char n0[32], n1[32];
             printf("with %s at the ends of its 95 %% interval (%s moving with it) the answer is %s to %s %s\n",
-                   spd ? "CS" : "CP", spd ? "D'" : "W'", cli_num(n0, sizeof n0, fmin(range[0], range[1]), spd ? 3 : 1),
-                   cli_num(n1, sizeof n1, fmax(range[0], range[1]), spd ? 3 : 1), cli_pd_unit(f.modality));
+                   spd ? "CS" : "CP", spd ? "D'" : "W'", cli_num(n0, sizeof n0, fmin(range[0], range[1]), CLI_DEC_INTENSITY(spd)),
+                   cli_num(n1, sizeof n1, fmax(range[0], range[1]), CLI_DEC_INTENSITY(spd)), cli_pd_unit(f.modality));
         }
         printf("under each recovery model (* the one used%s):", spd ? "; c: constants fitted on cycling power" : "");
         for (int q = 0; q < CLI_NBALANCE; q++) {
@@ -577,10 +640,15 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
     } else {
         fprintf(stderr, "cpdomain: solve: %s", beyond[0] ? beyond : has_reason ? why[sol.reason] : cpd_strerror(rc));
         if (has_reason && sol.has_end_balance)
-            fprintf(stderr, " (the closest end balance without failure is %.0f %% of %s)",
+            fprintf(stderr, " (the closest %s balance without failure is %.0f %% of %s)", lowest ? "lowest" : "end",
                     100 * sol.end_balance / m->w_prime, spd ? "D'" : "W'");
         fputc('\n', stderr);
     }
+    /* a session that ends in recovery refills W' after its hardest moment: its end balance may be
+     * out of reach while its lowest balance is not */
+    if (!ok && has_reason && !lowest && (sol.reason == CPD_SOLVE_THROUGH_FAILURE || sol.reason == CPD_SOLVE_BELOW_AT_LOWEST))
+        fprintf(stderr, "cpdomain: solve: if the session ends in recovery, solve for its hardest moment instead: "
+                        "--lowest %g\n", pct > 0 ? pct : 10.0);
     cpd_protocol_free(p);
     cli_pd_fit_free(&f);
     return ex;

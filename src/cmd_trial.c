@@ -27,7 +27,7 @@ static const char HELP_IMPORT[] =
     "unless --create-athletes (they are then added with their code as name).\n\n"
     "examples:\n"
     "  cpdomain trial import trials.csv\n"
-    "  cpdomain trial import lab.csv --map athlete=Subject,power_w=Watts,duration_s=TTE\n";
+    "  cpdomain trial import lab.csv --map athlete=Subject,power_w=Watts,duration_s=Tlim\n";
 static const char HELP_EXCLUDE[] = "usage: cpdomain trial exclude ID --reason TEXT\n\n"
                                    "Leaves a trial out of fits, with the reason kept beside it.\n\n"
                                    "example:\n  cpdomain trial exclude 12 --reason \"stopped by a chain drop\"\n";
@@ -117,7 +117,8 @@ static int trial_add(cli_ctx *c, int argc, char **argv)
     snprintf(t.date, sizeof t.date, "%.10s", o.date);
     t.kind = o.power ? CPD_TRIAL_POWER : o.speed ? CPD_TRIAL_SPEED : CPD_TRIAL_DISTANCE;
     const char *vopt = o.power ? "--power" : o.speed ? "--speed" : "--distance";
-    if ((rc = cli_number(vopt, o.power ? o.power : o.speed ? o.speed : o.distance, &t.value)) ||
+    if ((rc = cli_quantity(vopt, o.power ? o.power : o.speed ? o.speed : o.distance,
+                           o.power ? "W" : o.speed ? "m/s" : "m", &t.value)) ||
         (rc = cli_duration("--duration", o.duration, &t.duration_s)))
         return rc;
     if (o.note) {
@@ -179,7 +180,7 @@ static int trial_list(cli_ctx *c, int argc, char **argv)
     size_t n = 0;
     if ((rc = cpd_store_trial_list(c->store, a.code, &v, &n)))
         return cli_store_fail(c, rc);
-    if (c->json) {
+    if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, "trials");
         for (size_t i = 0; i < n; i++) {
@@ -188,7 +189,7 @@ static int trial_list(cli_ctx *c, int argc, char **argv)
             cj_push(arr, t);
         }
         free(v);
-        return cj_print(d);
+        return c->csv ? cj_print_csv(d, "trials", NULL) : cj_print(d);
     }
     static const char *const head[] = {"id", "date", "intensity", "duration", "mean speed", "status", "note"};
     cli_table *t = cli_table_new(7, head, "rlrrrll");
@@ -198,7 +199,7 @@ static int trial_list(cli_ctx *c, int argc, char **argv)
         char num[32];
         const char *unit = v[i].kind == CPD_TRIAL_POWER ? "W" : v[i].kind == CPD_TRIAL_SPEED ? "m/s" : "m";
         snprintf(val, sizeof val, "%s %s", cli_num(num, sizeof num, v[i].value, v[i].kind == CPD_TRIAL_SPEED ? 2 : 0), unit);
-        cpd_format_duration(v[i].duration_s, dur, sizeof dur);
+        cli_duration_text(v[i].duration_s, dur, sizeof dur);
         if (v[i].kind == CPD_TRIAL_DISTANCE)
             snprintf(sp, sizeof sp, "%s m/s", cli_num(num, sizeof num, v[i].value / v[i].duration_s, 2));
         else

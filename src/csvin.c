@@ -6,6 +6,7 @@
 #include <csv.h>
 #include <ctype.h>
 #include <errno.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -386,4 +387,34 @@ int cpd_csv_map(cpd_csv *c, const char *map, char *msg)
             p++;
     }
     return CPD_OK;
+}
+
+char *cpd_csv_field(const char *text)
+{
+    const char *t = text ? text : "";
+    char *end = NULL;
+    double v = t[0] ? strtod(t, &end) : 0;
+    int number = t[0] && end && *end == '\0' && isfinite(v) && !isspace((unsigned char)t[0]);
+    int guard = !number && t[0] != '\0' && strchr("=+-@\t\r", t[0]) != NULL;
+    int quote = guard || strpbrk(t, ",\"\r\n") != NULL;
+    size_t n = strlen(t), extra = 0;
+    for (const char *q = t; *q; q++)
+        extra += *q == '"';
+    char *out = malloc(n + extra + 4);
+    if (!out)
+        return NULL;
+    size_t o = 0;
+    if (quote)
+        out[o++] = '"';
+    if (guard)
+        out[o++] = '\'';
+    for (const char *q = t; *q; q++) {
+        if (*q == '"')
+            out[o++] = '"';
+        out[o++] = *q;
+    }
+    if (quote)
+        out[o++] = '"';
+    out[o] = '\0';
+    return out;
 }

@@ -230,17 +230,28 @@ int cpd_domains_compute(const cpd_domains_input *in, cpd_domains_result *out)
     }
     set_range(&out->range[CPD_DOM_SEVERE], 1, sev_lo, se->valid, se->value, cp, in);
     set_range(&out->range[CPD_DOM_EXTREME], se->valid, se->value, 0, 0, cp, in);
+    /* heart-rate targets never reach past their domain's intensities: the heart rate at an
+     * intensity is interpolated linearly between the ramp's GET and RCP (common practice), never
+     * extrapolated, so the heavy upper bound is the heart rate at the heavy ceiling (or at the RCP
+     * when the ceiling lies above it) and the severe lower bound the heart rate at CP, given only
+     * when CP lies at or below the RCP */
     if (in->has_hr_get) {
         out->range[CPD_DOM_MODERATE].has_hr_hi = 1;
         out->range[CPD_DOM_MODERATE].hr_hi = in->hr_get;
         out->range[CPD_DOM_HEAVY].has_hr_lo = 1;
         out->range[CPD_DOM_HEAVY].hr_lo = in->hr_get;
     }
-    if (in->has_hr_rcp) {
-        out->range[CPD_DOM_HEAVY].has_hr_hi = 1;
-        out->range[CPD_DOM_HEAVY].hr_hi = in->hr_rcp;
-        out->range[CPD_DOM_SEVERE].has_hr_lo = 1;
-        out->range[CPD_DOM_SEVERE].hr_lo = in->hr_rcp;
+    if (in->has_hr_get && in->has_hr_rcp && in->has_rcp && in->has_get && in->rcp > in->get) {
+        double slope = (in->hr_rcp - in->hr_get) / (in->rcp - in->get);
+        double top = fmin(out->heavy_ceiling, in->rcp);
+        if (top > in->get) {
+            out->range[CPD_DOM_HEAVY].has_hr_hi = 1;
+            out->range[CPD_DOM_HEAVY].hr_hi = in->hr_get + slope * (top - in->get);
+        }
+        if (cp <= in->rcp && cp >= in->get) {
+            out->range[CPD_DOM_SEVERE].has_hr_lo = 1;
+            out->range[CPD_DOM_SEVERE].hr_lo = in->hr_get + slope * (cp - in->get);
+        }
     }
 
     for (int k = 0; k < CPD_DOMAINS_NEFFORTS; k++) {

@@ -1,5 +1,6 @@
 /* main.c: the cpdomain command line: global options, the command table, exit status. */
 #include "commands.h"
+#include "cpdomain/suggest.h"
 #include "cpdomain/units.h"
 #include "cpdomain/version.h"
 
@@ -34,7 +35,7 @@ static const cli_command commands[] = {
 
 static void usage(FILE *out)
 {
-    fputs("usage: cpdomain [--db FILE] [--json] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
+    fputs("usage: cpdomain [--db FILE] [--json | --csv] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
           "Critical power, W' and the intensity domains from an athlete's tests.\n\ncommands:\n",
           out);
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
@@ -42,6 +43,8 @@ static void usage(FILE *out)
     fputs("\noptions:\n"
           "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
           "  --json     machine-readable output: one JSON document on stdout\n"
+          "  --csv      the table as CSV for a spreadsheet (fit, curve, history, domains, the lists,\n"
+          "             sheet --all --format csv)\n"
           "  --quiet    no informational messages on stderr\n"
           "  --busy-timeout MS\n"
           "             how long to wait for another process that is writing to the store, in\n"
@@ -66,6 +69,23 @@ static int busy_timeout(const char *what, const char *arg)
     return 0;
 }
 
+/* --csv goes with the commands that print one table: the lists, fit, curve, history, domains and
+ * the team table of 'sheet --all --format csv'. Otherwise it is refused before anything runs. */
+static int csv_capable(int argc, char **argv)
+{
+    static const char *const single[] = {"fit", "curve", "history", "domains", "sheet"};
+    static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout"};
+    for (size_t i = 0; i < sizeof single / sizeof single[0]; i++)
+        if (strcmp(argv[0], single[i]) == 0)
+            return 1;
+    for (size_t i = 0; i < sizeof lists / sizeof lists[0]; i++)
+        if (strcmp(argv[0], lists[i]) == 0 && (argc < 2 || strcmp(argv[1], "list") == 0 || argv[1][0] == '-'))
+            return 1;
+    fprintf(stderr, "cpdomain: --csv: '%s%s%s' prints no table; use --json for machine-readable output\n", argv[0],
+            argc > 1 ? " " : "", argc > 1 ? argv[1] : "");
+    return 0;
+}
+
 /* Today's local date, or $CPDOMAIN_TODAY (YYYY-MM-DD) for reproducible reports and tests. */
 static int today(void)
 {
@@ -82,7 +102,7 @@ static int today(void)
     return d;
 }
 
-/* Moves the global options given after the command (--json, --quiet, --db FILE, --db=FILE) into c and
+/* Moves the global options given after the command (--json, --csv, --quiet, --db FILE, --db=FILE) into c and
  * out of argv, up to a "--"; *argc shrinks. Returns 0, or 64 when --db lacks its value. */
 static int late_globals(cli_ctx *c, int *argc, char **argv, int from)
 {
@@ -96,6 +116,8 @@ static int late_globals(cli_ctx *c, int *argc, char **argv, int from)
         }
         if (strcmp(a, "--json") == 0)
             c->json = 1;
+        else if (strcmp(a, "--csv") == 0)
+            c->csv = 1;
         else if (strcmp(a, "--quiet") == 0)
             c->quiet = 1;
         else if (strncmp(a, "--db=", 5) == 0)
@@ -125,7 +147,7 @@ int main(int argc, char **argv)
 
     static const struct option opts[] = {
         {"db", required_argument, NULL, 'd'}, {"json", no_argument, NULL, 'j'},    {"quiet", no_argument, NULL, 'q'},
-        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'},
+        {"help", no_argument, NULL, 'h'},     {"version", no_argument, NULL, 'V'}, {"csv", no_argument, NULL, 'c'},
         {"busy-timeout", required_argument, NULL, 'b'}, {NULL, 0, NULL, 0},
     };
     const char *env_busy = getenv("CPDOMAIN_BUSY_TIMEOUT");
@@ -140,6 +162,9 @@ int main(int argc, char **argv)
             break;
         case 'j':
             c.json = 1;
+            break;
+        case 'c':
+            c.csv = 1;
             break;
         case 'q':
             c.quiet = 1;
@@ -169,12 +194,25 @@ int main(int argc, char **argv)
         if (strcmp(name, commands[i].name) == 0)
             cmd = &commands[i];
     if (!cmd) {
-        fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
+        const char *names[sizeof commands / sizeof commands[0]];
+        for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
+            names[i] = commands[i].name;
+        const char *near = cpd_suggest(name, names, sizeof commands / sizeof commands[0]);
+        if (near)
+            fprintf(stderr, "cpdomain: unknown command '%s' (did you mean '%s'?)\nTry 'cpdomain --help'.\n", name, near);
+        else
+            fprintf(stderr, "cpdomain: unknown command '%s'\nTry 'cpdomain --help'.\n", name);
         return EX_USAGE;
     }
     int rc = late_globals(&c, &argc, argv, optind + 1);
     if (rc)
         return rc;
+    if (c.csv && c.json) {
+        fputs("cpdomain: --csv and --json: choose one\n", stderr);
+        return EX_USAGE;
+    }
+    if (c.csv && !csv_capable(argc - optind, argv + optind))
+        return EX_USAGE;
     rc = cmd->run(&c, argc - optind, argv + optind);
     cpd_store_rollback(c.store); /* no-op after a commit; undoes a command that returned early */
     cpd_store_close(c.store);

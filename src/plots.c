@@ -47,6 +47,13 @@ int cpd_plot_vslope(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg)
         lo = fmin(lo, fmin(xl[i], yl[i]));
         hi = fmax(hi, fmax(xl[i], yl[i]));
     }
+    /* the thresholds inside the range, so their lines and labels are never cut off at an edge */
+    const cpd_ramp_threshold *thr[2] = {&r->get, &r->rcp};
+    for (int k = 0; k < 2; k++)
+        if (thr[k]->status != CPD_THR_NOT_FOUND && isfinite(thr[k]->vo2_ml_min)) {
+            lo = fmin(lo, thr[k]->vo2_ml_min / 1000);
+            hi = fmax(hi, thr[k]->vo2_ml_min / 1000 + 0.02 * (hi - lo));
+        }
     cpd_svgplot_set_title(p, "V-slope: VCO2 against VO2");
     cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "VO2 (L/min)");
     cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "VCO2 (L/min)");
@@ -192,7 +199,6 @@ int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, 
         return CPD_ENODATA;
     enum { W = 720, H_MAIN = 440, H_RES = 230 };
     int rc = CPD_OK;
-    char *top = NULL, *bottom = NULL;
     size_t nm = (size_t)ceil(f->to_s - f->from_s) + 1;
     cpd_svgplot *p = cpd_svgplot_alloc(W, H_MAIN), *q = cpd_svgplot_alloc(W, H_RES);
     double *mt = malloc(nm * sizeof *mt), *my = malloc(nm * sizeof *my), *py = malloc(nm * sizeof *py);
@@ -269,33 +275,12 @@ int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, 
     style(&st, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_MARKER_NONE, 1.5, CPD_SVGPLOT_SOLID);
     cpd_svgplot_hline(q, 0.0, &st, NULL);
 
-    size_t la = 0, lb = 0;
-    if ((rc = cpd_svgplot_render(p, &top, &la)) || (rc = cpd_svgplot_render(q, &bottom, &lb)))
-        goto done;
-    static const char head[] = "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
-                               "role=\"img\">\n<title>VO2 kinetics and residuals</title>\n";
-    static const char mid[] = "<g transform=\"translate(0,%d)\">\n";
-    static const char tail[] = "</g>\n</svg>\n";
-    size_t cap = la + lb + sizeof head + sizeof mid + sizeof tail + 64;
-    char *out = malloc(cap);
-    if (!out) {
-        rc = CPD_ENOMEM;
-        goto done;
-    }
-    int n1 = snprintf(out, cap, head, W, H_MAIN + H_RES, W, H_MAIN + H_RES);
-    memcpy(out + n1, top, la);
-    size_t pos = (size_t)n1 + la;
-    pos += (size_t)snprintf(out + pos, cap - pos, mid, H_MAIN);
-    memcpy(out + pos, bottom, lb);
-    pos += lb;
-    snprintf(out + pos, cap - pos, "%s", tail);
-    *svg = out;
+    cpd_svgplot *const stack[2] = {p, q};
+    rc = cpd_svgplot_render_stack(stack, 2, "VO2 kinetics and residuals", svg, NULL);
 
 done:
     cpd_svgplot_free(p);
     cpd_svgplot_free(q);
-    free(top);
-    free(bottom);
     free(mt);
     free(my);
     free(py);
@@ -305,6 +290,12 @@ done:
 }
 
 /* ---- the domain sheet's plots (power-duration relationship, W' balance) ---- */
+int cpd_plot_domain_color(int domain)
+{
+    static const int ramp[CPD_DOM_N] = {CPD_SVGPLOT_RAMP1, CPD_SVGPLOT_RAMP2, CPD_SVGPLOT_RAMP3, CPD_SVGPLOT_RAMP4};
+    return domain >= 0 && domain < CPD_DOM_N ? ramp[domain] : -1;
+}
+
 int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double *duration_s, size_t n,
                 const cpd_domains_result *d, char **svg)
 {
@@ -363,7 +354,6 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
         double e[4] = {-INFINITY, b[CPD_BND_MOD_HEAVY].valid ? b[CPD_BND_MOD_HEAVY].value : NAN,
                        b[CPD_BND_HEAVY_SEVERE].valid ? b[CPD_BND_HEAVY_SEVERE].value : NAN,
                        b[CPD_BND_SEVERE_EXTREME].valid ? b[CPD_BND_SEVERE_EXTREME].value : NAN};
-        static const int color[CPD_DOM_N] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
         for (int k = 0; k < CPD_DOM_N; k++) {
             double y0 = k == 0 ? -INFINITY : e[k], y1 = k == CPD_DOM_N - 1 ? INFINITY : e[k + 1];
             const char *label = cpd_domain_name((cpd_domain)k);
@@ -376,9 +366,9 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
             }
             if (isnan(y0) || isnan(y1) || !(y1 > y0))
                 continue;
-            cpd_svgplot_style_init(&st, color[k]);
+            cpd_svgplot_style_init(&st, cpd_plot_domain_color(k));
             st.stroke_px = 0;
-            st.fill_opacity = k < 2 ? 0.28 : 0.18;
+            st.fill_opacity = 1; /* opaque: the band is exactly the sheet's swatch of the domain */
             cpd_svgplot_hregion(p, y0, y1, &st, label);
         }
     }
@@ -552,5 +542,31 @@ int cpd_plot_session_vo2(const double *t_s, const double *vo2, const double *lin
     style(&st, CPD_SVGPLOT_RED, CPD_SVGPLOT_MARKER_NONE, 1.1, CPD_SVGPLOT_DOTTED);
     if (vo2peak > 0)
         cpd_svgplot_hline(p, vo2peak, &st, "VO2peak");
+    return finish(p, svg);
+}
+
+int cpd_plot_curve(const double *duration_s, const double *value, size_t n, int speed, const char *title, char **svg)
+{
+    if (!svg)
+        return CPD_EUSAGE;
+    *svg = NULL;
+    if (!duration_s || !value)
+        return CPD_EUSAGE;
+    size_t ok = 0;
+    for (size_t i = 0; i < n; i++)
+        ok += duration_s[i] > 0 && value[i] > 0 && isfinite(value[i]);
+    if (ok == 0)
+        return CPD_ENODATA;
+    cpd_svgplot *p = cpd_svgplot_alloc(720, 440);
+    if (!p)
+        return CPD_ENOMEM;
+    cpd_svgplot_set_title(p, title && *title ? title : speed ? "Mean-maximal speed" : "Mean-maximal power");
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_X, "duration (logarithmic, min:s)");
+    cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_LOG_TIME_S);
+    cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, speed ? "best mean speed (m/s)" : "best mean power (W)");
+    cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, 0, NAN);
+    cpd_svgplot_style st;
+    style(&st, CPD_SVGPLOT_BLUE, CPD_SVGPLOT_MARKER_NONE, 2.2, CPD_SVGPLOT_SOLID);
+    cpd_svgplot_line(p, duration_s, value, n, &st, "best mean of any session");
     return finish(p, svg);
 }

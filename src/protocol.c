@@ -257,6 +257,55 @@ static int parse_intensity(parser *ps, cpd_protocol_segment *seg)
     return set_modality(ps, unit_modality(u), at, (size_t)tlen);
 }
 
+/* Appends a parsed segment. */
+static int append(parser *ps, const cpd_protocol_segment *seg)
+{
+    int rc = grow(ps, ps->out->n + 1);
+    if (rc)
+        return rc;
+    ps->out->seg[ps->out->n++] = *seg;
+    ps->out->total_s += seg->duration_s;
+    return CPD_OK;
+}
+
+/* Parses DISTANCE@SPEED at the cursor (the number from at to num_end, in metres x scale; the unit
+ * ends at end) and appends it, lasting distance/speed rounded to whole seconds. */
+static int parse_distance_segment(parser *ps, const char *at, const char *num_end, double scale, const char *end)
+{
+    char fb[8], num[64];
+    size_t L = (size_t)(num_end - at);
+    if (L >= sizeof num)
+        return fail(ps, at, "distance too long");
+    memcpy(num, at, L);
+    num[L] = '\0';
+    double dist;
+    if (cpd_parse_number(num, &dist) != CPD_OK || !(dist > 0) || dist * scale > 1e6)
+        return fail(ps, at, "bad distance '%.*s' (expected e.g. 400m or 1.5km, up to 1000 km)", (int)(end - at), at);
+    dist *= scale;
+    const char *a = skip_ws(end);
+    if (*a != '@')
+        return fail(ps, a, "expected '@' after the distance, found %s", found(a, fb, sizeof fb));
+    ps->p = skip_ws(a + 1);
+    const char *iat = ps->p;
+    cpd_protocol_segment seg = {.distance_m = dist, .pos = charpos(ps, at)};
+    int rc = parse_intensity(ps, &seg);
+    if (rc)
+        return rc;
+    if (seg.kind != CPD_PROTOCOL_ABS_SPEED)
+        return fail(ps, iat, "a distance is held at a speed (m/s, km/h or a pace such as 3:35/km): with %s its time "
+                             "is not known before the fit or the answer",
+                    seg.kind == CPD_PROTOCOL_ABS_POWER ? "a power" : seg.kind == CPD_PROTOCOL_UNKNOWN ? "'?'" : "%CS");
+    if (!(seg.value > 0))
+        return fail(ps, iat, "a distance needs a speed above 0");
+    double t = floor(dist / seg.value + 0.5);
+    if (t < 1)
+        t = 1;
+    if (t > CPD_PROTOCOL_MAX_S || ps->out->total_s + (size_t)t > CPD_PROTOCOL_MAX_S)
+        return fail(ps, at, "the protocol lasts more than 24 h (%d s)", CPD_PROTOCOL_MAX_S);
+    seg.duration_s = (size_t)t;
+    return append(ps, &seg);
+}
+
 /* Parses DURATION@INTENSITY at the cursor and appends it. */
 static int parse_segment(parser *ps)
 {
@@ -282,6 +331,9 @@ static int parse_segment(parser *ps)
         return fail(ps, at, "duration too long");
     memcpy(buf, at, (size_t)dlen);
     buf[dlen] = '\0';
+    size_t ul = (size_t)(end - t);
+    if ((ul == 1 && *t == 'm') || (ul == 2 && strncmp(t, "km", 2) == 0))
+        return parse_distance_segment(ps, at, q, ul == 2 ? 1000.0 : 1.0, end);
     if (cpd_parse_duration(buf, &d) != CPD_OK)
         return fail(ps, at, "bad duration '%s' (expected e.g. 390, 390s, 6:30, 6min or 1:02:00)", buf);
     if (d < 1)
@@ -303,12 +355,7 @@ static int parse_segment(parser *ps)
     int rc = parse_intensity(ps, &seg);
     if (rc)
         return rc;
-    rc = grow(ps, ps->out->n + 1);
-    if (rc)
-        return rc;
-    ps->out->seg[ps->out->n++] = seg;
-    ps->out->total_s += dur;
-    return CPD_OK;
+    return append(ps, &seg);
 }
 
 static int parse_list(parser *ps, const char *open);

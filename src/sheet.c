@@ -2,6 +2,8 @@
  * Key rule: every user text goes through esc() (HTML) or csv_cell() (CSV); every number through
  * fmt() or csv_num(), which never write NaN or infinity. */
 #include "cpdomain/sheet.h"
+#include "cpdomain/csvin.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/protocol.h"
 #include "cpdomain/status.h"
 #include "cpdomain/svgplot.h"
@@ -101,7 +103,7 @@ int cpd_sheet_session_build(const cpd_pd_model_fit *m, cpd_sheet_session *out)
     if (!(x > m->cp))
         return CPD_ENODATA;
     if (spd)
-        snprintf(out->protocol, sizeof out->protocol, "10min@60%%CP; 5x(3min@%.2fm/s, 3min@50%%CP)", x);
+        snprintf(out->protocol, sizeof out->protocol, "10min@60%%CS; 5x(3min@%.2fm/s, 3min@50%%CS)", x);
     else
         snprintf(out->protocol, sizeof out->protocol, "10min@60%%CP; 5x(3min@%.0fW, 3min@50%%CP)", x);
     cpd_protocol *p = NULL;
@@ -337,8 +339,6 @@ static const char *const DOMAIN_WORDS_SPEED[CPD_DOM_N] = {
     "above it: task failure comes before VO2 can reach its maximum",
 };
 
-/* Palette colours of the domain bands, as in cpd_plot_pd (svgplot.h suggests them). */
-static const int DOMAIN_COLOR[CPD_DOM_N] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
 
 /* "at least about 16 min": the lower bound of a time to failure inside CP's interval, whole
  * minutes rounded down (a bound, not an estimate). */
@@ -467,7 +467,7 @@ static void css(sb *b)
                ".sw{display:inline-block;width:.85em;height:.85em;border-radius:2px;margin-right:.4em;vertical-align:-.08em;"
                "border:1px solid rgba(0,0,0,.25)}\n");
     for (int k = 0; k < CPD_DOM_N; k++)
-        sb_printf(b, ".d%d{background:%s}\n", k, cpd_svgplot_color_hex(DOMAIN_COLOR[k]));
+        sb_printf(b, ".d%d{background:%s}\n", k, cpd_svgplot_color_hex(cpd_plot_domain_color(k)));
     sb_puts(b, ".keep{break-inside:avoid;page-break-inside:avoid}\n"
                ".plot{margin:.6rem 0 1rem;break-inside:avoid;page-break-inside:avoid}\n"
                ".plot svg{display:block;width:100%;max-width:42rem;height:auto;margin:0 auto}\n"
@@ -483,12 +483,27 @@ static void css(sb *b)
                "padding:.05em .25em;border-radius:3px;overflow-wrap:anywhere}\n"
                "a{color:var(--accent)}\n"
                ".foot{font-size:.8rem;color:var(--mute);border-top:1px solid var(--line);padding-top:.4rem;margin-top:1.4rem}\n"
-               "@media (max-width:32rem){body{font-size:14px}.page{padding:.6rem}.when{text-align:left}h1{font-size:1.4rem}"
-               ".plot{overflow-x:auto}.plot svg{min-width:34rem}}\n"
-               "@page{margin:14mm 12mm}\n"
-               "@media print{body{font-size:9.5pt}.page{max-width:none;padding:0}.scroll{overflow:visible}"
-               ".plot svg{max-width:16cm;max-height:11.5cm}a{color:inherit;text-decoration:none}"
-               ".top{border-bottom-width:2px}h2{margin-top:1.1rem}}\n"
+               ".bounds{margin:.5rem 0}\n"
+               /* a phone: everything fits the width; cells wrap, plots scale, nothing scrolls sideways */
+               "@media (max-width:32rem){body{font-size:14px}.page{padding:.5rem}.when{text-align:left}h1{font-size:1.4rem}"
+               "table{font-size:.82em}th,td{padding:.25rem .3rem;white-space:normal}td.n,th.n,td:first-child{white-space:normal}"
+               "td.w{min-width:0}.card{flex-basis:8rem}.card .v{font-size:1.15rem;white-space:normal}"
+               ".rests li{display:inline}"
+               /* the domains table: equal columns, and what happens on a full-width line below */
+               "table.dom tr{display:flex;flex-wrap:wrap;border-bottom:1px solid var(--line)}"
+               "table.dom th,table.dom td{flex:1 1 0;min-width:0;border:0}"
+               "table.dom td.w,table.dom th:last-child{flex-basis:100%;padding-top:0}"
+               "table.dom th:last-child{display:none}}\n"
+               "@page{margin:12mm 12mm}\n"
+               /* print: page one is the summary and fits one A4 or Letter page; details after a break */
+               "@media print{body{font-size:8.5pt;line-height:1.25}.page{max-width:none;padding:0}.scroll{overflow:visible}"
+               ".plot svg{max-width:15cm;max-height:11.5cm}a{color:inherit;text-decoration:none}h1{font-size:1.35rem}"
+               ".top{border-bottom-width:2px;padding-bottom:.3rem}h2{font-size:1rem;margin:.5rem 0 .25rem}"
+               ".cards{margin:.4rem 0 .2rem;gap:.4rem}.card{padding:.2rem .45rem}.card .v{font-size:1rem}"
+               ".card .k,.card .s{font-size:.72rem}.rests,.note,.lead,.cap{font-size:.8rem}.rests{margin-top:.3rem}"
+               "p{margin:.25rem 0}th,td{padding:.12rem .35rem}.caution{margin:.4rem 0 0;padding:.25rem .5rem;font-size:.85em}"
+               ".caution p{margin:.15rem 0}.summary .plot{margin:.2rem 0}.summary .plot svg{max-height:6.3cm}"
+               ".summary .foot{display:none}.details{break-before:page;page-break-before:always}}\n"
                "</style>\n");
 }
 
@@ -682,7 +697,7 @@ static void html_cards(sb *b, const cpd_sheet *s)
         card(b, "VO2peak", "unknown", "no ramp test");
     sb_puts(b, "</div>\n");
     sb_puts(b, "<p class=\"lead\">Every number below is a model estimate; ranges are 95 % intervals. Read the "
-               "caution at the end before maximal or severe-domain work.</p>\n");
+               "caution below before maximal or severe-domain work.</p>\n");
 }
 
 /* A range cell: lines may break only around "to", never between a number and its unit. */
@@ -699,7 +714,9 @@ static void td_range(sb *b, const char *text)
         if (!sp)
             break;
         const char *next = sp + 1;
-        int brk = (L == 2 && strncmp(p, "to", 2) == 0) || strncmp(next, "to ", 3) == 0;
+        /* breaks around "to" and after "below"/"above", never inside "2.84 W/kg" */
+        int brk = (L == 2 && strncmp(p, "to", 2) == 0) || strncmp(next, "to ", 3) == 0 ||
+                  (L == 5 && (strncmp(p, "below", 5) == 0 || strncmp(p, "above", 5) == 0));
         sb_puts(b, brk ? " " : "&nbsp;");
         p = next;
     }
@@ -712,7 +729,7 @@ static void html_domains(sb *b, const cpd_sheet *s)
     const cpd_domains_result *d = s->dom;
     char t[160];
     h2(b, "Intensity domains and training targets");
-    table_open(b);
+    sb_puts(b, "<div class=\"scroll\"><table class=\"dom\">\n");
     int wkg = !spd && s->has_mass, hr = 0;
     for (int k = 0; k < CPD_DOM_N; k++)
         hr |= d->range[k].has_hr_lo || d->range[k].has_hr_hi;
@@ -768,9 +785,10 @@ static void html_domains(sb *b, const cpd_sheet *s)
     if (d->has_delta) {
         sb_puts(b, "<p>%delta between the GET and VO2peak equivalents: ");
         for (int k = 0; k < CPD_DOMAINS_NDELTA; k++) {
+            char q[64]; /* the pace in its own buffer: sharing p's printed the percentage twice */
             snprintf(t, sizeof t, "%s%s %%: %s%s%s%s", k ? ", " : "", fmt(p, sizeof p, d->delta_pct[k], 0),
                      inten(spd, d->delta_value[k], a, sizeof a), spd ? " (" : "",
-                     spd ? pace(s->pace_m, s->pace_label, d->delta_value[k], p, sizeof p) : "", spd ? ")" : "");
+                     spd ? pace(s->pace_m, s->pace_label, d->delta_value[k], q, sizeof q) : "", spd ? ")" : "");
             esc(b, t);
         }
         sb_puts(b, ".</p>\n");
@@ -1038,14 +1056,51 @@ static void html_foot(sb *b, const char *generator, const char *date)
     sb_puts(b, ".</p>\n</div>\n</body>\n</html>\n");
 }
 
+/* The three boundaries in one line, each with its 95 % interval: the summary's short form of
+ * "Boundaries and what they rest on" (the details page). */
+static void html_boundary_line(sb *b, const cpd_sheet *s)
+{
+    int spd = is_speed(s);
+    char v[64], a[64], c[64];
+    sb_puts(b, "<p class=\"bounds\"><b>Boundaries:</b> ");
+    for (int k = 0; k < CPD_BND_N; k++) {
+        const cpd_boundary *x = &s->dom->b[k];
+        if (k)
+            sb_puts(b, "; ");
+        esc(b, cpd_boundary_name((cpd_boundary_id)k));
+        sb_puts(b, "&nbsp;");
+        if (!x->valid) {
+            sb_puts(b, "unknown");
+            continue;
+        }
+        sb_puts(b, "<b>");
+        esc(b, inten(spd, x->value, v, sizeof v));
+        sb_puts(b, "</b>");
+        if (x->has_ci) {
+            sb_puts(b, " (95&nbsp;%: ");
+            esc(b, inten(spd, x->ci95[0], a, sizeof a));
+            sb_puts(b, " to ");
+            esc(b, inten(spd, x->ci95[1], c, sizeof c));
+            sb_puts(b, ")");
+        }
+        if (x->stale)
+            sb_puts(b, " <span class=\"stale\">stale</span>");
+    }
+    sb_puts(b, ".</p>\n");
+}
+
+/* Page one is the coach's summary (boundaries with intervals, targets, the power-duration plot,
+ * the cautions) and prints on one A4 or Letter page; the details follow after a page break. */
 static void render_html(sb *b, const cpd_sheet *s)
 {
     char title[96];
     snprintf(title, sizeof title, ": intensity-domain sheet of %s", s->date);
     html_head(b, s->name, title);
+    sb_puts(b, "<div class=\"summary\">\n");
     html_header(b, s);
     html_cards(b, s);
     html_domains(b, s);
+    html_boundary_line(b, s);
     char cap[300];
     snprintf(cap, sizeof cap, "Trials (points), the %s model's curve with its 95 %% band, and the four domains as bands.",
              cpd_pd_model_name(s->model));
@@ -1053,6 +1108,8 @@ static void render_html(sb *b, const cpd_sheet *s)
         h2(b, is_speed(s) ? "Speed-duration relationship" : "Power-duration relationship");
         plot(b, s->svg_pd, cap);
     }
+    html_caution(b, s);
+    sb_puts(b, "</div><!-- /summary -->\n<div class=\"details\">\n");
     html_predictions(b, s);
     html_session(b, s);
     html_boundaries(b, s);
@@ -1060,29 +1117,21 @@ static void render_html(sb *b, const cpd_sheet *s)
     html_extra(b, s);
     html_models(b, s);
     html_flags(b, s);
-    html_caution(b, s);
+    sb_puts(b, "</div><!-- /details -->\n");
     html_foot(b, s->generator, s->date);
 }
 
 /* ---------------------------------------------------------------- CSV */
 
-/* A text cell, RFC 4180 quoted when it holds a comma, quote or line end. A leading = + - @ (or tab,
- * CR) would run as a formula in a spreadsheet (the OWASP "CSV injection" advice), so such text gets
- * an apostrophe in front. */
+/* A text cell through cpd_csv_field: quoted as RFC 4180 asks, formula-like text neutralised. */
 static void csv_cell(sb *b, const char *t)
 {
     if (!t)
         return;
-    int guard = t[0] != '\0' && strchr("=+-@\t\r", t[0]) != NULL;
-    int quote = guard || strpbrk(t, ",\"\r\n") != NULL;
-    if (quote)
-        sb_puts(b, "\"");
-    if (guard)
-        sb_puts(b, "'");
-    for (const char *p = t; *p; p++)
-        sb_puts(b, *p == '"' ? "\"\"" : (char[2]){*p, '\0'});
-    if (quote)
-        sb_puts(b, "\"");
+    char *q = cpd_csv_field(t);
+    if (q)
+        sb_puts(b, q);
+    free(q);
 }
 
 static void csv_row(sb *b, const char *section, const char *item, const char *key, const char *value, const char *unit)

@@ -2,6 +2,7 @@
  * Every SQL statement of cpdomain lives in store*.c and is prepared with bound parameters. */
 #include "store_codec.h"
 #include "store_int.h"
+#include "cpdomain/suggest.h"
 
 #include <stdarg.h>
 #include <stdio.h>
@@ -168,6 +169,55 @@ int cpd_st_release(cpd_store *s, int rc)
     return CPD_OK;
 }
 
+static void read_code(sqlite3_stmt *st, void *out)
+{
+    snprintf(out, CPD_CODE_MAX + 1, "%s", (const char *)sqlite3_column_text(st, 0));
+}
+
+int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_MAX + 1])
+{
+    sqlite3_stmt *st = NULL;
+    /* the same code in other letter case, when exactly one athlete has it */
+    int rc = cpd_st_prepare(s, "SELECT code FROM athlete WHERE code = ?1 COLLATE NOCASE ORDER BY code LIMIT 3", &st);
+    if (rc)
+        return rc;
+    sqlite3_bind_text(st, 1, code, -1, SQLITE_TRANSIENT);
+    char found[3][CPD_CODE_MAX + 1];
+    int n = 0, r;
+    while ((r = sqlite3_step(st)) == SQLITE_ROW && n < 3)
+        snprintf(found[n++], sizeof found[0], "%s", (const char *)sqlite3_column_text(st, 0));
+    sqlite3_finalize(st);
+    if (r != SQLITE_DONE && r != SQLITE_ROW)
+        return cpd_st_fail(s, "looking up an athlete");
+    if (n == 1) {
+        snprintf(canon, CPD_CODE_MAX + 1, "%s", found[0]);
+        return CPD_OK;
+    }
+    if (n > 1)
+        return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'; %s and %s differ from it only in letter case: "
+                          "give the code exactly", code, found[0], found[1]);
+    /* none: the closest code, for "did you mean" */
+    char (*all)[CPD_CODE_MAX + 1] = NULL;
+    size_t na = 0;
+    if ((rc = cpd_st_prepare(s, "SELECT code FROM athlete ORDER BY code", &st)))
+        return rc;
+    rc = cpd_st_collect(s, st, sizeof *all, read_code, (void **)&all, &na, "athlete codes");
+    sqlite3_finalize(st);
+    if (rc)
+        return rc;
+    const char **ptr = na ? malloc(na * sizeof *ptr) : NULL;
+    for (size_t i = 0; ptr && i < na; i++)
+        ptr[i] = all[i];
+    const char *best = ptr ? cpd_suggest(code, ptr, na) : NULL;
+    if (best)
+        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' (did you mean '%s'?)", code, best);
+    else
+        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' ('cpdomain athlete list' shows the codes)", code);
+    free(ptr);
+    free(all);
+    return rc;
+}
+
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id)
 {
     sqlite3_stmt *st = NULL;
@@ -178,11 +228,12 @@ int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id)
     int r = sqlite3_step(st);
     if (r == SQLITE_ROW)
         *id = sqlite3_column_int64(st, 0);
-    else if (r == SQLITE_DONE)
-        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'", code);
-    else
+    else if (r != SQLITE_DONE)
         rc = cpd_st_fail(s, "looking up an athlete");
     sqlite3_finalize(st);
+    char canon[CPD_CODE_MAX + 1];
+    if (r == SQLITE_DONE && (rc = cpd_st_athlete_resolve(s, code, canon)) == CPD_OK)
+        rc = cpd_st_athlete_id(s, canon, id);
     return rc;
 }
 

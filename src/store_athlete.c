@@ -53,11 +53,12 @@ int cpd_store_athlete_get(cpd_store *s, const char *code, cpd_athlete *a)
     int r = sqlite3_step(st);
     if (r == SQLITE_ROW)
         read_athlete(st, a);
-    else if (r == SQLITE_DONE)
-        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'", code);
-    else
+    else if (r != SQLITE_DONE)
         rc = cpd_st_fail(s, "reading an athlete");
     sqlite3_finalize(st);
+    char canon[CPD_CODE_MAX + 1];
+    if (r == SQLITE_DONE && (rc = cpd_st_athlete_resolve(s, code, canon)) == CPD_OK)
+        rc = cpd_store_athlete_get(s, canon, a);
     return rc;
 }
 

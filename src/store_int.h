@@ -44,6 +44,9 @@ int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sql
                    size_t *n, const char *what);
 /* The id of the athlete with this code, or CPD_ENOENT. */
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
+/* The stored code that matches code in other letter case, when exactly one does, into canon.
+ * Otherwise CPD_ENOENT with a message naming the closest code ("did you mean") or the clash. */
+int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_MAX + 1]);
 
 /* Samples as IEEE-754 binary64 in little-endian order whatever the host's order: n values to or
  * from 8n bytes (store_session.c; store_gx.c keeps its own static copy). */

@@ -30,6 +30,7 @@
 
 static const char *const palette[CPD_SVGPLOT_NCOLORS] = {
     "#1b5e9e", "#cf6a0e", "#1a9477", "#a8281c", "#c76fb8", "#3d3d3d", "#5fb3e3", "#e5c440",
+    "#f2effe", "#d4ceec", "#b4abd6", "#9489c1",
 };
 /* Default colours of series added without a style: the line colours only. */
 #define NLINECOLORS 6
@@ -438,7 +439,7 @@ void cpd_svgplot_tick_label(int format, double v, double step, char *buf, size_t
         snprintf(buf, n, "-");
         return;
     }
-    if (format == CPD_SVGPLOT_TIME_S)
+    if (format == CPD_SVGPLOT_TIME_S || format == CPD_SVGPLOT_LOG_TIME_S)
         fmt_time(v, step, buf, n);
     else if (format == CPD_SVGPLOT_DATE)
         fmt_date(v, step, 1, buf, n);
@@ -736,6 +737,7 @@ typedef struct {
     int fmt;               /* label format actually used (time and date fall back to NUMBER) */
     double lo, hi;         /* range, data units */
     double px0, px1;       /* pixel positions of lo and hi */
+    int log;               /* logarithmic (CPD_SVGPLOT_LOG_TIME_S) */
     size_t nt;             /* ticks inside the range */
     double t[AX_TICKS];    /* tick values, data units */
     double step;           /* tick step, data units (days 30 / 365 for month / year ticks) */
@@ -906,13 +908,24 @@ static void resolve(const extent *e, double flo, double fhi, int fmt, double *ou
         if (ahi)
             hi += pad;
     }
+    if (fmt == CPD_SVGPLOT_LOG_TIME_S) { /* a logarithmic axis: positive ends, padding as a factor */
+        lo = e->any ? e->lo : 1;
+        hi = e->any ? e->hi : 3600;
+        lo = !alo ? flo : lo / 1.1;
+        hi = !ahi ? fhi : hi * 1.1;
+        if (!(lo > 0))
+            lo = 1;
+        if (!(hi > lo * 1.5))
+            hi = lo * 10;
+    }
     *out_lo = lo;
     *out_hi = hi;
 }
 
 static double map(const axis *a, double v)
 {
-    double px = a->px0 + (v - a->lo) / (a->hi - a->lo) * (a->px1 - a->px0);
+    double px = a->log ? (v > 0 ? a->px0 + log(v / a->lo) / log(a->hi / a->lo) * (a->px1 - a->px0) : -PX_LIMIT)
+                       : a->px0 + (v - a->lo) / (a->hi - a->lo) * (a->px1 - a->px0);
     return px < -PX_LIMIT ? -PX_LIMIT : px > PX_LIMIT ? PX_LIMIT : px;
 }
 
@@ -1053,11 +1066,37 @@ static int date_ticks(axis *a, size_t max)
     return 0;
 }
 
+/* Ticks of a logarithmic time axis: the first of a few sets of round clock times, finest first,
+ * that puts at most max ticks in the range. */
+static int log_time_ticks(axis *a, size_t max)
+{
+    static const double fine[] = {1,   2,    5,    10,   15,   30,    60,    120,   300,   600,
+                                  1200, 1800, 3600, 7200, 21600, 43200, 86400, 0};
+    static const double mid[] = {1, 5, 15, 30, 60, 300, 600, 1800, 3600, 21600, 86400, 0};
+    static const double coarse[] = {1, 10, 60, 600, 3600, 36000, 86400, 0};
+    const double *sets[] = {fine, mid, coarse};
+    for (int s = 0; s < 3; s++) {
+        size_t n = 0;
+        for (const double *v = sets[s]; *v; v++)
+            n += *v >= a->lo * (1 - 1e-9) && *v <= a->hi * (1 + 1e-9);
+        if (n > max && s < 2)
+            continue;
+        a->step = 1;
+        for (const double *v = sets[s]; *v; v++)
+            if (*v >= a->lo * (1 - 1e-9) && *v <= a->hi * (1 + 1e-9))
+                add_tick(a, *v, *v < 60 ? 1 : 60, 0);
+        return 1;
+    }
+    return 0;
+}
+
 static void axis_ticks(axis *a, int fmt, size_t max)
 {
     a->nt = 0;
     a->fmt = fmt;
-    if (!((fmt == CPD_SVGPLOT_DATE && date_ticks(a, max)) || (fmt == CPD_SVGPLOT_TIME_S && time_ticks(a, max))))
+    if (fmt == CPD_SVGPLOT_LOG_TIME_S)
+        log_time_ticks(a, max);
+    else if (!((fmt == CPD_SVGPLOT_DATE && date_ticks(a, max)) || (fmt == CPD_SVGPLOT_TIME_S && time_ticks(a, max))))
         number_ticks(a, max);
     a->labw = 0;
     for (size_t i = 0; i < a->nt; i++)
@@ -1647,8 +1686,9 @@ static void draw_annotation_labels(ctx *c)
             double x = map(&c->ax[CPD_SVGPLOT_X], L->v0);
             if (!inside(x, c->left, c->left + c->w))
                 continue;
-            int right_half = x > c->left + 0.7 * c->w;
-            double tw = 0.62 * FS_NOTE * (double)strlen(L->label);
+            double tw = text_px(L->label, FS_NOTE);
+            /* a label that would run past the right edge ends at its line instead: never clipped */
+            int right_half = x > c->left + 0.7 * c->w || x + 4 + tw > c->left + c->w;
             double lo = right_half ? x - 4 - tw : x + 4, hi = right_half ? x - 4 : x + 4 + tw;
             size_t row = 0;
             for (; row < ROWS; row++) {
@@ -1825,14 +1865,10 @@ static int has_data(const cpd_svgplot *p)
     return 0;
 }
 
-int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
+/* Renders p as a standalone <svg> (dy < 0) or, for a stack, as a <g> moved down by dy px inside
+ * the stack's one <svg>: one root element, so the page holds no nested <svg>. */
+static int render_part(const cpd_svgplot *p, int dy, char **out, size_t *len)
 {
-    if (out)
-        *out = NULL;
-    if (len)
-        *len = 0;
-    if (!p || !out)
-        return CPD_EUSAGE;
     int rc = CPD_OK;
     ctx c;
     memset(&c, 0, sizeof c);
@@ -1843,12 +1879,17 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
         goto done;
     }
     double W = p->width_px, H = p->height_px;
-    sb_printf(&c.sb,
-              "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
-              "role=\"img\" font-family=\"sans-serif\" font-size=\"%g\" fill=\"#222\">\n<title>",
-              p->width_px, p->height_px, p->width_px, p->height_px, FS_TICK);
-    sb_text(&c.sb, p->title ? p->title : p->label[CPD_SVGPLOT_Y] ? p->label[CPD_SVGPLOT_Y] : "plot");
-    sb_puts(&c.sb, "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#fff\"/>\n");
+    const char *close = dy < 0 ? "</svg>\n" : "</g>\n";
+    if (dy < 0) {
+        sb_printf(&c.sb,
+                  "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
+                  "role=\"img\" font-family=\"sans-serif\" font-size=\"%g\" fill=\"#222\">\n<title>",
+                  p->width_px, p->height_px, p->width_px, p->height_px, FS_TICK);
+        sb_text(&c.sb, p->title ? p->title : p->label[CPD_SVGPLOT_Y] ? p->label[CPD_SVGPLOT_Y] : "plot");
+        sb_puts(&c.sb, "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#fff\"/>\n");
+    } else
+        sb_printf(&c.sb, "<g transform=\"translate(0,%d)\">\n<rect width=\"%d\" height=\"%d\" fill=\"#fff\"/>\n", dy,
+                  p->width_px, p->height_px);
     if (p->title)
         text_at(&c, 0.5 * W, 8 + FS_TITLE, "middle", FS_TITLE, " font-weight=\"bold\" fill=\"#222\"", p->title, 0);
 
@@ -1864,7 +1905,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
         sb_num(&c.sb, c.h);
         sb_puts(&c.sb, "\" fill=\"none\" stroke=\"#b0b0b0\"/>\n");
         text_at(&c, 0.5 * W, top + 0.5 * c.h + 5, "middle", FS_LABEL, " fill=\"#666\"", "no data", 0);
-        sb_puts(&c.sb, "</svg>\n");
+        sb_puts(&c.sb, close);
         goto finish;
     }
 
@@ -1875,6 +1916,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
     axis *ax = &c.ax[CPD_SVGPLOT_X];
     ax->used = 1;
     resolve(&e, p->fix_lo[CPD_SVGPLOT_X], p->fix_hi[CPD_SVGPLOT_X], p->format[CPD_SVGPLOT_X], &ax->lo, &ax->hi);
+    ax->log = p->format[CPD_SVGPLOT_X] == CPD_SVGPLOT_LOG_TIME_S;
     for (int id = CPD_SVGPLOT_Y; id <= CPD_SVGPLOT_Y2; id++) {
         axis *a = &c.ax[id];
         a->used = id == CPD_SVGPLOT_Y || p->label[id] != NULL;
@@ -1884,6 +1926,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
         memset(&e, 0, sizeof e);
         gather(p, id, ax->lo, ax->hi, &e);
         resolve(&e, p->fix_lo[id], p->fix_hi[id], p->format[id], &a->lo, &a->hi);
+        a->log = p->format[id] == CPD_SVGPLOT_LOG_TIME_S;
     }
     layout(&c);
 
@@ -1904,7 +1947,7 @@ int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
     draw_axes(&c);
     draw_annotation_labels(&c);
     draw_legend(&c);
-    sb_puts(&c.sb, "</svg>\n");
+    sb_puts(&c.sb, close);
 
 finish:
     if (c.oom || c.sb.oom) {
@@ -1925,4 +1968,60 @@ done:
     free(c.c.x);
     free(c.c.y);
     return rc;
+}
+
+int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len)
+{
+    if (out)
+        *out = NULL;
+    if (len)
+        *len = 0;
+    if (!p || !out)
+        return CPD_EUSAGE;
+    return render_part(p, -1, out, len);
+}
+
+int cpd_svgplot_render_stack(cpd_svgplot *const *plots, size_t n, const char *title, char **out, size_t *len)
+{
+    if (out)
+        *out = NULL;
+    if (len)
+        *len = 0;
+    if (!plots || !out || n == 0 || n > 16)
+        return CPD_EUSAGE;
+    int W = 0, H = 0;
+    for (size_t i = 0; i < n; i++) {
+        if (!plots[i])
+            return CPD_EUSAGE;
+        W = plots[i]->width_px > W ? plots[i]->width_px : W;
+        H += plots[i]->height_px;
+    }
+    sbuf b;
+    memset(&b, 0, sizeof b);
+    sb_printf(&b,
+              "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"%d\" height=\"%d\" viewBox=\"0 0 %d %d\" "
+              "role=\"img\" font-family=\"sans-serif\" font-size=\"%g\" fill=\"#222\">\n<title>",
+              W, H, W, H, FS_TICK);
+    sb_text(&b, title && *title ? title : plots[0]->title ? plots[0]->title : "plot");
+    sb_puts(&b, "</title>\n<rect width=\"100%\" height=\"100%\" fill=\"#fff\"/>\n");
+    int rc = CPD_OK, dy = 0;
+    for (size_t i = 0; i < n && rc == CPD_OK; i++) {
+        char *part = NULL;
+        size_t pl = 0;
+        if ((rc = render_part(plots[i], dy, &part, &pl)) == CPD_OK)
+            sb_add(&b, part, pl);
+        free(part);
+        dy += plots[i]->height_px;
+    }
+    sb_puts(&b, "</svg>\n");
+    if (rc == CPD_OK && b.oom)
+        rc = CPD_ENOMEM;
+    if (rc) {
+        free(b.s);
+        return rc;
+    }
+    *out = b.s;
+    if (len)
+        *len = b.len;
+    return CPD_OK;
 }

@@ -658,6 +658,55 @@ static void solve_refuses_bad_arguments(void **state)
     cpd_protocol_free(spd);
 }
 
+/* Solving for the lowest balance of a session that ends in recovery. One unknown segment from
+ * rest then easy riding: the lowest second is the unknown's last, B = W'0 - 360·(x - CP), so
+ * x = CP + (W'0 - target)/360 in the differential and elite models (derived; the integral model
+ * already recovers during the effort once sub-CP seconds exist); the recovery after it refills. */
+static void solve_lowest(void **state)
+{
+    (void)state;
+    const double cp = 263.7, w0 = 17345.0;
+    cpd_protocol *p = parse_ok("6min@?; 10min@100W");
+    cpd_balance_ws *w = cpd_balance_alloc(p->total_s);
+    cpd_balance_solution sol;
+    for (int m = 0; m < 3; m++) {
+        cpd_balance_params bp = {models[m], cp, w0};
+        assert_int_equal(cpd_balance_solve_lowest(w, &bp, CPD_PROTOCOL_POWER, p, 18.5, &sol), CPD_OK);
+        double want = cp + (w0 - 0.185 * w0) / 360;
+        if (models[m] != CPD_BALANCE_INTEGRAL)
+            assert_true(fabs(sol.intensity - want) <= 1e-9 * want);
+        resim r = resimulate(&bp, p, sol.intensity);
+        assert_true(r.ok && !r.r.failed);
+        assert_true(fabs(r.r.min_balance - 0.185 * w0) <= 1e-6 * w0);
+        assert_true(r.r.min_at_s == 360 || r.r.min_at_s == 359);
+        assert_true(r.r.end_balance > r.r.min_balance + 0.05 * w0); /* it ends in recovery */
+        assert_true(sol.end_balance == r.r.min_balance);
+    }
+    /* the same request for the END balance goes through failure: only the lowest one is reachable */
+    cpd_balance_params bp = {CPD_BALANCE_DIFFERENTIAL, cp, w0};
+    assert_int_equal(cpd_balance_solve(w, &bp, CPD_PROTOCOL_POWER, p, 18.5, &sol), CPD_ENODATA);
+    assert_int_equal(sol.reason, CPD_SOLVE_THROUGH_FAILURE);
+    /* 0 % is task failure, not a lowest balance to aim for; 100 % is no effort at all */
+    assert_int_equal(cpd_balance_solve_lowest(w, &bp, CPD_PROTOCOL_POWER, p, 0, &sol), CPD_EUSAGE);
+    assert_int_equal(cpd_balance_solve_lowest(w, &bp, CPD_PROTOCOL_POWER, p, 100, &sol), CPD_EUSAGE);
+    assert_int_equal(cpd_balance_solve_lowest(w, &bp, CPD_PROTOCOL_POWER, p, NAN, &sol), CPD_EUSAGE);
+    cpd_balance_free(w);
+    cpd_protocol_free(p);
+
+    /* intervals with recoveries, every model: re-simulated, the lowest second is the target */
+    p = parse_ok("15min@150W; 5x(3min@?, 3min@140W)");
+    w = cpd_balance_alloc(p->total_s);
+    for (int m = 0; m < 3; m++) {
+        cpd_balance_params bq = {models[m], cp, w0};
+        assert_int_equal(cpd_balance_solve_lowest(w, &bq, CPD_PROTOCOL_POWER, p, 22.75, &sol), CPD_OK);
+        resim r = resimulate(&bq, p, sol.intensity);
+        assert_true(r.ok && !r.r.failed && sol.intensity > cp);
+        assert_true(fabs(r.r.min_balance - 0.2275 * w0) <= 1e-6 * w0);
+    }
+    cpd_balance_free(w);
+    cpd_protocol_free(p);
+}
+
 int main(void)
 {
     gsl_set_error_handler_off();
@@ -674,6 +723,7 @@ int main(void)
         cmocka_unit_test(solve_random),
         cmocka_unit_test(solve_impossible),
         cmocka_unit_test(solve_refuses_bad_arguments),
+        cmocka_unit_test(solve_lowest),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

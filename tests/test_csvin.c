@@ -161,6 +161,39 @@ static void trial_rows_are_validated(void **state)
     assert_int_equal(cpd_validate_date("2026-12-01", today, m2), CPD_OK);
 }
 
+/* Fields we write: RFC 4180 quoting, and the OWASP "CSV injection" guard for text a spreadsheet
+ * would run as a formula, while plain numbers stay numbers. */
+static void fields_written_safely(void **state)
+{
+    (void)state;
+    static const struct {
+        const char *in, *out;
+    } cases[] = {
+        {"C01", "C01"},
+        {"a, b", "\"a, b\""},
+        {"say \"hi\"", "\"say \"\"hi\"\"\""},
+        {"=SUM(A1:A9)", "\"'=SUM(A1:A9)\""},
+        {"+1+2", "\"'+1+2\""},
+        {"-2+3", "\"'-2+3\""},
+        {"@cmd", "\"'@cmd\""},
+        {"\tx", "\"'\tx\""},
+        {"-1600.685", "-1600.685"},
+        {"+4e3", "+4e3"},
+        {"-inf", "\"'-inf\""},
+        {"line\nbreak", "\"line\nbreak\""},
+        {"", ""},
+    };
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        char *q = cpd_csv_field(cases[i].in);
+        assert_non_null(q);
+        assert_string_equal(q, cases[i].out);
+        free(q);
+    }
+    char *q = cpd_csv_field(NULL);
+    assert_string_equal(q, "");
+    free(q);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -168,6 +201,7 @@ int main(void)
         cmocka_unit_test(quoted_blanks_and_separators),
         cmocka_unit_test(malformed_files_are_located),
         cmocka_unit_test(trial_rows_are_validated),
+        cmocka_unit_test(fields_written_safely),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

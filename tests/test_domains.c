@@ -56,6 +56,8 @@ static void boundaries_follow_the_model(void **state)
     in.has_hr_get = in.has_hr_rcp = 1;
     in.hr_get = 142;
     in.hr_rcp = 171;
+    in.has_rcp = 1;
+    in.rcp = 270.5;
     cpd_domains_result d;
     assert_int_equal(cpd_domains_compute(&in, &d), CPD_OK);
     assert_near(d.b[CPD_BND_MOD_HEAVY].value, 182.5, 0);
@@ -73,7 +75,29 @@ static void boundaries_follow_the_model(void **state)
     assert_near(d.range[CPD_DOM_MODERATE].hi_w_kg, 182.5 / 72.5, 1e-12);
     /* severe targets start at CP's upper bound (issue 12: between the bounds the data cannot tell) */
     assert_near(d.range[CPD_DOM_SEVERE].lo_pct_cp, 100 * m->cp_ci95[1] / m->cp, 1e-12);
-    assert_near(d.range[CPD_DOM_HEAVY].hr_hi, 171, 0);
+    /* heart rates inside their domain: linear between (GET, 142) and (RCP, 171), so the heavy top is
+     * the heart rate at the heavy ceiling and severe starts at the heart rate at CP (derived) */
+    double slope = (171.0 - 142) / (270.5 - 182.5);
+    assert_true(d.range[CPD_DOM_HEAVY].has_hr_hi && d.range[CPD_DOM_SEVERE].has_hr_lo);
+    assert_near(d.range[CPD_DOM_HEAVY].hr_hi, 142 + slope * (m->cp_ci95[0] - 182.5), 1e-9);
+    assert_near(d.range[CPD_DOM_SEVERE].hr_lo, 142 + slope * (m->cp - 182.5), 1e-9);
+    assert_true(d.range[CPD_DOM_HEAVY].hr_hi < 171 && d.range[CPD_DOM_SEVERE].hr_lo < 171);
+    assert_near(d.range[CPD_DOM_MODERATE].hr_hi, 142, 0);
+    /* an RCP below CP: heavy ends at the RCP's heart rate; no heart rate is known to mark CP, so the
+     * severe domain gets none rather than one that reaches down into heavy intensities */
+    cpd_domains_result d2;
+    in.rcp = 240.25;
+    assert_int_equal(cpd_domains_compute(&in, &d2), CPD_OK);
+    assert_near(d2.range[CPD_DOM_HEAVY].hr_hi, 171, 1e-9);
+    assert_false(d2.range[CPD_DOM_SEVERE].has_hr_lo);
+    /* no RCP intensity (no MRT): only the GET's heart rate is placed */
+    in.has_rcp = 0;
+    assert_int_equal(cpd_domains_compute(&in, &d2), CPD_OK);
+    assert_false(d2.range[CPD_DOM_HEAVY].has_hr_hi);
+    assert_false(d2.range[CPD_DOM_SEVERE].has_hr_lo);
+    assert_true(d2.range[CPD_DOM_HEAVY].has_hr_lo);
+    in.has_rcp = 1;
+    in.rcp = 270.5;
     /* severe efforts: P = CP + W'/t for 2, 3, 5, 8, 12 min */
     static const double ts[5] = {120, 180, 300, 480, 720};
     for (int k = 0; k < 5; k++) {

@@ -261,12 +261,47 @@ static void errors_with_positions(void **state)
     expect_error("5\xc3\x97(1min@300W\xc3\x97", 13, "expected ';' or ',' between segments, found '\xc3\x97'");
 }
 
+/* Distance segments for runners and swimmers: DISTANCE@SPEED lasts distance/speed, rounded to the
+ * nearest second (derived by hand: 400/5.2 = 76.92 -> 77 s; 1500 m at 3:20/km = 300 s; 100 m at
+ * 1:20/100m = 80 s), inside repeats like any segment; "m" is metres, minutes stay "min". */
+static void distance_segments(void **state)
+{
+    (void)state;
+    cpd_protocol *p = parse_ok("4x(400m@5.2m/s, 90s@2m/s)");
+    assert_int_equal(p->n, 8);
+    assert_int_equal(p->total_s, 4 * (77 + 90));
+    assert_int_equal(p->seg[0].duration_s, 77);
+    assert_true(fabs(p->seg[0].distance_m - 400) < 1e-12);
+    assert_true(p->seg[1].distance_m == 0);
+    assert_int_equal(p->seg[6].duration_s, 77);
+    assert_int_equal(p->modality, CPD_PROTOCOL_SPEED);
+    cpd_protocol_free(p);
+    p = parse_ok("1.5km@3:20/km; 2 x (100 m @ 1:20/100m); 6min@10km/h");
+    assert_int_equal(p->seg[0].duration_s, 300);
+    assert_true(fabs(p->seg[0].distance_m - 1500) < 1e-9);
+    assert_int_equal(p->seg[1].duration_s, 80);
+    assert_int_equal(p->seg[3].duration_s, 360);
+    cpd_protocol_free(p);
+    p = parse_ok("1m@10m/s"); /* shorter than a second still lasts one */
+    assert_int_equal(p->total_s, 1);
+    cpd_protocol_free(p);
+    expect_error("400m@?", 6, "a distance is held at a speed");
+    expect_error("400m@105%CS", 6, "with %CS its time is not known");
+    expect_error("400m@300W", 6, "with a power");
+    expect_error("400m@0m/s", 6, "a speed above 0");
+    expect_error("0m@4m/s", 1, "bad distance");
+    expect_error("400m 5m/s", 6, "expected '@' after the distance");
+    expect_error("20000km@1m/s", 1, "bad distance");
+    expect_error("300km@3m/s", 1, "more than 24 h");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(intensity_and_duration_forms),
         cmocka_unit_test(repeats_separators_and_blanks),
         cmocka_unit_test(expansion),
+        cmocka_unit_test(distance_segments),
         cmocka_unit_test(full_messages),
         cmocka_unit_test(errors_with_positions),
     };

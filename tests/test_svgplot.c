@@ -1,6 +1,7 @@
 /* test_svgplot.c: nice ticks and labels, text escaping, non-finite data, every layer type and the
  * sheet's plots rendered and checked by two real XML parsers (xmllint, Python's xml.etree). */
 #include "cpdomain/status.h"
+#include "cpdomain/plots.h"
 #include "cpdomain/svgplot.h"
 #include "pyref.h"
 
@@ -297,8 +298,10 @@ static void palette_colour_blind_safe(void **state)
     for (int s = 0; s < 3; s++)
         for (int i = 0; i < 3; i++)
             assert_true(fabs(sim[s][i][0] + sim[s][i][1] + sim[s][i][2] - 1) < 2e-4);
-    double lin[CPD_SVGPLOT_NCOLORS][3];
-    for (int c = 0; c < CPD_SVGPLOT_NCOLORS; c++) {
+    /* the categorical colours; the domain ramp (RAMP1..RAMP4) is checked by domain_ramp_readable */
+    enum { NCAT = CPD_SVGPLOT_RAMP1 };
+    double lin[NCAT][3];
+    for (int c = 0; c < NCAT; c++) {
         const char *hex = cpd_svgplot_color_hex(c);
         assert_non_null(hex);
         assert_int_equal(strlen(hex), 7);
@@ -313,8 +316,8 @@ static void palette_colour_blind_safe(void **state)
      * 15 is our own margin (about 7 just-noticeable differences of 2.3, Mahy et al. 1994) */
     double worst = 1e9;
     for (int s = -1; s < 3; s++)
-        for (int a = 0; a < CPD_SVGPLOT_NCOLORS; a++)
-            for (int b = a + 1; b < CPD_SVGPLOT_NCOLORS; b++) {
+        for (int a = 0; a < NCAT; a++)
+            for (int b = a + 1; b < NCAT; b++) {
                 double la[3], lb[3], sa[3], sb[3];
                 for (int i = 0; i < 3; i++) {
                     sa[i] = s < 0 ? lin[a][i] : 0;
@@ -332,6 +335,97 @@ static void palette_colour_blind_safe(void **state)
     assert_true(worst >= 15);
     assert_null(cpd_svgplot_color_hex(-1));
     assert_null(cpd_svgplot_color_hex(CPD_SVGPLOT_NCOLORS));
+}
+
+/* The intensity-domain colours, the one set every plot and sheet uses (cpd_plot_domain_color), read in
+ * order by lightness alone for normal vision and simulated protanopia, deuteranopia and tritanopia, in
+ * greyscale print, and under the plot's ink (#222): numpy in tests/ref/palette_cvd.py. */
+static void domain_ramp_readable(void **state)
+{
+    (void)state;
+    char text[256] = "";
+    for (int k = 0; k < 4; k++) {
+        const char *hex = cpd_svgplot_color_hex(cpd_plot_domain_color(k));
+        assert_non_null(hex);
+        strcat(text, hex);
+        strcat(text, "\n");
+    }
+    strcat(text, "ink #222222\n");
+    assert_int_equal(cpd_plot_domain_color(-1), -1);
+    assert_int_equal(cpd_plot_domain_color(4), -1);
+    double v[4];
+    assert_int_equal(pyref_run("palette_cvd.py", text, v, 4, NAN), 4);
+    /* 10 L* units between neighbours: our own margin, about 4 just-noticeable differences of 2.3
+     * (Mahy et al. 1994) in every view */
+    assert_true(v[0] >= 10);
+    assert_true(v[1] == 1);   /* moderate lightest, extreme darkest, for every colour-vision type */
+    assert_true(v[2] >= 1.3); /* neighbours stay apart on a greyscale printout (our own margin) */
+    assert_true(v[3] >= 4.5); /* labels on any band: WCAG 2.1 SC 1.4.3 text contrast (W3C 2018) */
+}
+
+/* Two plots stacked in ONE <svg>: a consumer that ends an SVG at its first </svg> (as a page
+ * scraper does) must still get the whole picture, so nothing nests. */
+static void stacked_plots_one_root(void **state)
+{
+    (void)state;
+    const double x[4] = {1.25, 2.5, 3.75, 5.125}, y[4] = {3.5, 1.75, 4.25, 2.125};
+    cpd_svgplot *a = cpd_svgplot_alloc(400, 260), *b = cpd_svgplot_alloc(380, 170);
+    assert_int_equal(cpd_svgplot_line(a, x, y, 4, NULL, "upper"), CPD_OK);
+    assert_int_equal(cpd_svgplot_points(b, x, y, 4, NULL, NULL, "lower"), CPD_OK);
+    cpd_svgplot *const two[2] = {a, b};
+    char *svg = NULL;
+    size_t len = 0;
+    assert_int_equal(cpd_svgplot_render_stack(two, 2, "A & B", &svg, &len), CPD_OK);
+    assert_int_equal(strlen(svg), len);
+    const char *first = strstr(svg, "<svg"), *close = strstr(svg, "</svg>");
+    assert_ptr_equal(first, svg);
+    assert_null(strstr(svg + 4, "<svg"));
+    assert_ptr_equal(close + strlen("</svg>\n"), svg + len);
+    assert_non_null(strstr(svg, "width=\"400\" height=\"430\""));
+    assert_non_null(strstr(svg, "<title>A &amp; B</title>"));
+    assert_non_null(strstr(svg, "<g transform=\"translate(0,260)\">"));
+    double k[K_COUNT];
+    assert_int_equal(pyref_run("svgcheck.py", svg, k, K_COUNT, ABSENT), K_COUNT);
+    assert_true(k[K_ROOT_OK] == 1);
+    free(svg);
+    assert_int_equal(cpd_svgplot_render_stack(two, 0, NULL, &svg, NULL), CPD_EUSAGE);
+    assert_null(svg);
+    cpd_svgplot *const holed[2] = {a, NULL};
+    assert_int_equal(cpd_svgplot_render_stack(holed, 2, NULL, &svg, NULL), CPD_EUSAGE);
+    assert_int_equal(cpd_svgplot_render_stack(NULL, 1, NULL, &svg, NULL), CPD_EUSAGE);
+    cpd_svgplot_free(a);
+    cpd_svgplot_free(b);
+}
+
+/* A logarithmic time axis: equal ratios take equal lengths (1 s to 10 s as long as 1 min to
+ * 10 min), ticks on round clock times, nothing at or below zero drawn. */
+static void log_time_axis(void **state)
+{
+    (void)state;
+    const double x[5] = {1, 10, 60, 600, -5}, y[5] = {900.5, 600.25, 420.75, 300.125, 100};
+    cpd_svgplot *p = cpd_svgplot_alloc(640, 360);
+    assert_int_equal(cpd_svgplot_set_format(p, CPD_SVGPLOT_X, CPD_SVGPLOT_LOG_TIME_S), CPD_OK);
+    assert_int_equal(cpd_svgplot_set_range(p, CPD_SVGPLOT_X, 1, 600), CPD_OK);
+    assert_int_equal(cpd_svgplot_points(p, x, y, 5, NULL, NULL, "pts"), CPD_OK);
+    char *svg = NULL;
+    assert_int_equal(cpd_svgplot_render(p, &svg, NULL), CPD_OK);
+    /* the circles' x positions */
+    double cx[5];
+    int n = 0;
+    const char *g = strstr(svg, "class=\"cpd-data\""), *end = g ? strstr(g, "</g>") : NULL;
+    for (const char *q = g; q && (q = strstr(q, "<circle cx=\"")) && q < end && n < 5; q++)
+        cx[n++] = strtod(q + strlen("<circle cx=\""), NULL);
+    assert_int_equal(n, 4); /* -5 s is off a logarithmic axis */
+    double a = cx[1] - cx[0], b = cx[3] - cx[2];
+    assert_true(fabs(a - b) < 0.05); /* log10(10/1) = log10(600/60) */
+    assert_true(fabs((cx[2] - cx[1]) / a - log10(6.0)) < 1e-3);
+    assert_non_null(strstr(svg, ">0:01<"));
+    assert_non_null(strstr(svg, ">10:00<"));
+    char lab[16];
+    cpd_svgplot_tick_label(CPD_SVGPLOT_LOG_TIME_S, 3600, 60, lab, sizeof lab);
+    assert_string_equal(lab, "1:00:00");
+    free(svg);
+    cpd_svgplot_free(p);
 }
 
 /* ---- plots -------------------------------------------------------------------------------- */
@@ -644,7 +738,8 @@ static void sheet_plots(void **state)
     cpd_svgplot_set_label(p, CPD_SVGPLOT_Y, "Power (W)");
     assert_int_equal(cpd_svgplot_set_range(p, CPD_SVGPLOT_Y, 0, NAN), CPD_OK);
     const double cp = 262.4, wp = 18350;
-    const int dom[4] = {CPD_SVGPLOT_SKY, CPD_SVGPLOT_YELLOW, CPD_SVGPLOT_ORANGE, CPD_SVGPLOT_RED};
+    const int dom[4] = {cpd_plot_domain_color(0), cpd_plot_domain_color(1), cpd_plot_domain_color(2),
+                        cpd_plot_domain_color(3)};
     const double edge[5] = {-INFINITY, 198.5, cp, 433.0, INFINITY};
     const char *name[4] = {"moderate", "heavy", "severe", "extreme"};
     for (int d = 0; d < 4; d++) {
@@ -1078,6 +1173,9 @@ int main(void)
         cmocka_unit_test(ticks_errors),
         cmocka_unit_test(tick_labels),
         cmocka_unit_test(palette_colour_blind_safe),
+        cmocka_unit_test(domain_ramp_readable),
+        cmocka_unit_test(stacked_plots_one_root),
+        cmocka_unit_test(log_time_axis),
         cmocka_unit_test(escaping_hostile_text),
         cmocka_unit_test(nonfinite_skipped),
         cmocka_unit_test(empty_plot_says_no_data),

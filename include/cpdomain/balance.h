@@ -95,7 +95,8 @@ typedef struct {
     double target_balance;   /* finish_pct/100 · W′0, J (m) */
     int has_end_balance;     /* 1 when end_balance is valid */
     double end_balance;      /* J (m): at the answer; else the end balance nearest the target that
-                                does not pass through failure, when one exists */
+                                does not pass through failure, when one exists (for
+                                cpd_balance_solve_lowest: the session's lowest balance instead) */
     double lowest;           /* lower end of the bracket searched, W (m/s) */
     double highest;          /* upper end of the bracket searched, W (m/s) */
     size_t iter;             /* Brent iterations */
@@ -123,5 +124,14 @@ void cpd_balance_free(cpd_balance_ws *w);
  * range); CPD_EINTERNAL if the bracket's upper end does not fail (a bug). */
 int cpd_balance_solve(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_protocol_modality modality,
                       const cpd_protocol *p, double finish_pct, cpd_balance_solution *sol);
+
+/* As cpd_balance_solve, but for the LOWEST balance of the whole session (every second, the last
+ * included) instead of the end balance: a session that ends in recovery has its hardest moment
+ * before the end, so an end balance may be unreachable while a lowest balance is not. The lowest
+ * balance falls as the unknown rises (Skiba's models), so the same bracket and Brent search apply;
+ * sol->end_balance holds the lowest balance. lowest_pct must be in (0, 100): 0 is task failure.
+ * Same return codes. */
+int cpd_balance_solve_lowest(cpd_balance_ws *w, const cpd_balance_params *bp, cpd_protocol_modality modality,
+                             const cpd_protocol *p, double lowest_pct, cpd_balance_solution *sol);
 
 #endif

@@ -40,6 +40,13 @@ int cpd_csv_map(cpd_csv *c, const char *map, char *msg);
 /* Index of the column named name (case-insensitive), or -1. */
 int cpd_csv_find(const cpd_csv *c, const char *name);
 
+/* One field for a CSV file we write, as a new string (free with free()): RFC 4180 quoted when it
+ * holds a comma, quote or line end; text starting with = + - @ (or tab, CR) would run as a formula
+ * in a spreadsheet (the OWASP "CSV injection" advice), so it gets an apostrophe in front and
+ * quotes; a plain number ("-3.25", "+4e3") is data, not a formula, and stays a number. NULL reads
+ * as "". Returns NULL only when out of memory. */
+char *cpd_csv_field(const char *text);
+
 /* Writes "FILE:LINE:COL: column 'NAME'" for field col of row into buf of size n. */
 void cpd_csv_where(const cpd_csv *c, size_t row, int col, char *buf, size_t n);
 

@@ -37,6 +37,8 @@ typedef struct {
     double get_ci95[2];
     int has_hr_get, has_hr_rcp;        /* heart rates at the GET and the RCP on the ramp */
     double hr_get, hr_rcp;             /* beats/min */
+    int has_rcp;                       /* 1 when the RCP's constant-intensity equivalent is known */
+    double rcp;                        /* W or m/s; heart-rate targets are interpolated between GET and RCP */
     int has_peak;                      /* 1 when the ramp's peak constant-intensity equivalent is known */
     double peak;                       /* intensity at VO2peak minus the MRT shift, for %delta */
     int has_lt1;                       /* 1 when a lactate test's LT1 exists (used without a GET) */

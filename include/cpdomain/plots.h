@@ -11,6 +11,11 @@
 
 #include <stddef.h>
 
+/* The svgplot palette index of intensity domain `domain` (cpd_domain, moderate .. extreme): the one
+ * place that colours the domains, for every plot and sheet. A single-hue ramp, lightest for
+ * moderate, darkest for extreme (svgplot.h RAMP1..RAMP4); -1 outside the four domains. */
+int cpd_plot_domain_color(int domain);
+
 /* The V-slope plot of the last analysis in w: VCO2 against VO2 (both L/min, equal scales) with the
  * two fitted lines and the GET (and RCP) marked. *svg is malloc'd; the caller frees it with free().
  * Returns CPD_OK, CPD_ENODATA when the V-slope regression did not run, CPD_ENOMEM. */
@@ -39,7 +44,7 @@ int cpd_plot_kinetics(const cpd_kinetics_data *d, const cpd_kinetics_result *r, 
  * m/s, duration s) as points, the model's curve P = f(t) from 1 min to 20 min (or past the longest
  * trial) with its 95 % band from cpd_pd_predict_intensity (the fit's covariance, delta method), CP
  * as a dashed line, and, when d is not NULL, the four intensity domains as horizontal bands between
- * its valid boundaries (moderate SKY, heavy YELLOW, severe ORANGE, extreme RED). Same ownership as
+ * its valid boundaries, opaque, in cpd_plot_domain_color. Same ownership as
  * above; CPD_EUSAGE for NULL pointers (arrays may be NULL when n is 0), CPD_ENODATA when m has no
  * valid result, CPD_ENOMEM. */
 int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double *duration_s, size_t n,
@@ -51,6 +56,11 @@ int cpd_plot_pd(const cpd_pd_model_fit *m, const double *intensity, const double
  * pointers, n == 0, or cp or w_prime not finite and > 0; CPD_ENOMEM. */
 int cpd_plot_balance(const double *intensity, const double *balance, size_t n, int speed, double cp, double w_prime,
                      char **svg);
+
+/* A mean-maximal curve: value[i] (W or m/s, per speed) for duration_s[i] (s) on a logarithmic time
+ * axis (CPD_SVGPLOT_LOG_TIME_S), so seconds and hours read alike. title is copied (NULL: a default).
+ * Same ownership; CPD_EUSAGE for NULL pointers, CPD_ENODATA without a positive point, CPD_ENOMEM. */
+int cpd_plot_curve(const double *duration_s, const double *value, size_t n, int speed, const char *title, char **svg);
 
 /* A season trend: one value per block at its date (days since 1970-01-01) with its 95 % interval
  * as error bars (lo/hi may be NULL, or a non-finite entry for none), the values joined by a line.

@@ -39,7 +39,8 @@ typedef enum {
 } cpd_protocol_unit;
 
 typedef struct {
-    size_t duration_s;      /* whole seconds, >= 1 */
+    size_t duration_s;      /* whole seconds, >= 1 (a distance segment: distance / speed, rounded) */
+    double distance_m;      /* m for a distance segment ("400m@5.2m/s"), else 0 */
     cpd_protocol_kind kind; /* how value is to be read */
     cpd_protocol_unit unit; /* as typed */
     double value;           /* W, m/s or % of CP/CS, per kind; 0 for the unknown */
@@ -60,7 +61,11 @@ typedef struct {
 /* Parses text in the syntax of SPEC.md: segments DURATION@INTENSITY separated by ';' or ',',
  * groups Nx( ... ) (also N×( ... )) nested up to CPD_PROTOCOL_MAX_DEPTH; blanks are allowed around
  * every token. DURATION is any form of cpd_parse_duration ("390", "390s", "6:30", "6min",
- * "1:02:00", "1.5h") and must be a whole number of seconds, at least 1. INTENSITY is 350W, 105%CP,
+ * "1:02:00", "1.5h") and must be a whole number of seconds, at least 1; or, for runners and swimmers,
+ * a DISTANCE in metres or kilometres ("400m", "1.5km": "m" is metres, minutes are "min") held at an
+ * absolute speed (m/s, km/h or a pace), lasting distance/speed rounded to the nearest second (at
+ * least 1 s); a distance at %CS or '?' is refused, as its length in time is not known before the
+ * fit or the answer. INTENSITY is 350W, 105%CP,
  * 105%CS, 4.6m/s, 16.5km/h, 3:35/km, 1:20/100m, or ? (optionally ?W, ?m/s, ?/km ... : all '?'
  * are the same unknown and the written units must agree). Power 0-3000 W, speed 0-15 m/s,
  * 0-500 % of CP; W and speed units may not be mixed. One trailing separator is accepted (at the

@@ -14,7 +14,10 @@ typedef struct cpd_svgplot cpd_svgplot;
  * protanopia, deuteranopia and tritanopia (Machado, Oliveira & Fernandes 2009, IEEE Trans Vis Comput
  * Graph 15:1291, severity 1). Some pairs share a lightness (BLUE/RED, ORANGE/GREEN): in greyscale,
  * tell series apart by dash and marker. SKY and YELLOW are light: meant for fills.
- * Suggested intensity-domain bands: moderate SKY, heavy YELLOW, severe ORANGE, extreme RED. */
+ * RAMP1..RAMP4 are the intensity-domain ramp (cpd_plot_domain_color picks them; nothing else should):
+ * one hue (CIELAB h = 300 degrees, a heather violet) at L* 95, 84, 72, 60, lightest for the moderate
+ * domain, so the order of the domains reads as lightness alone: in greyscale print and for every
+ * colour-vision type, since a dichromat simulation keeps lightness steps (tests/ref/palette_cvd.py). */
 enum {
     CPD_SVGPLOT_BLUE,   /* #1b5e9e */
     CPD_SVGPLOT_ORANGE, /* #cf6a0e */
@@ -24,6 +27,10 @@ enum {
     CPD_SVGPLOT_GREY,   /* #3d3d3d, near black */
     CPD_SVGPLOT_SKY,    /* #5fb3e3, fills only */
     CPD_SVGPLOT_YELLOW, /* #e5c440, fills only */
+    CPD_SVGPLOT_RAMP1,  /* #f2effe, domain ramp, lightest: fills only */
+    CPD_SVGPLOT_RAMP2,  /* #d4ceec */
+    CPD_SVGPLOT_RAMP3,  /* #b4abd6 */
+    CPD_SVGPLOT_RAMP4,  /* #9489c1, domain ramp, darkest */
     CPD_SVGPLOT_NCOLORS
 };
 
@@ -51,13 +58,16 @@ enum {
                            10, 15, 20, 30 s, 1, 2, 5, 10, 15, 20, 30 min, 1, 2, 3, 6, 12, 24 h */
     CPD_SVGPLOT_DATE,   /* values in days since 1970-01-01; ticks on days or Mondays labelled YYYY-MM-DD,
                            on month starts labelled "Mar" ("Mar 2024" first and in January), or on years */
+    CPD_SVGPLOT_LOG_TIME_S, /* values in seconds (> 0) on a logarithmic axis, labelled as TIME_S at
+                               1, 5, 15, 30 s, 1, 2, 5, 10, 20 min, 1, 2, 6 h ...; automatic ends pad
+                               by a factor of 1.1; points at or below 0 fall off the axis */
     CPD_SVGPLOT_NFORMAT
 };
 
 /* How a layer is drawn. Fill it with cpd_svgplot_style_init, then change what you need (a zeroed
  * struct is rejected: y_axis 0 is the x axis). */
 typedef struct {
-    int color;           /* palette index, CPD_SVGPLOT_BLUE .. CPD_SVGPLOT_YELLOW */
+    int color;           /* palette index, CPD_SVGPLOT_BLUE .. CPD_SVGPLOT_RAMP4 */
     double stroke_px;    /* line, marker outline and error-bar width, px, 0..20 */
     int dash;            /* CPD_SVGPLOT_SOLID .. CPD_SVGPLOT_DASHDOT (lines, steps, reference lines) */
     double fill_opacity; /* 0..1: bands, regions and marker interiors */
@@ -156,6 +166,12 @@ int cpd_svgplot_hline(cpd_svgplot *p, double y, const cpd_svgplot_style *st, con
  * legend rows above it (dropped below a 60 px area); "no data" without any finite series point.
  * Returns CPD_OK, CPD_EUSAGE for NULL arguments, CPD_ENOMEM (*out NULL). The caller frees *out. */
 int cpd_svgplot_render(const cpd_svgplot *p, char **out, size_t *len);
+
+/* Renders n plots (1..16) stacked top to bottom as ONE <svg> (no nested <svg>: each plot becomes a
+ * <g> moved down by the heights above it), as wide as the widest, with title (NULL: the first
+ * plot's) as its <title>. Same output rules and ownership as cpd_svgplot_render; CPD_EUSAGE for NULL
+ * arguments or a bad n. */
+int cpd_svgplot_render_stack(cpd_svgplot *const *plots, size_t n, const char *title, char **out, size_t *len);
 
 /* Nice tick values covering [lo, hi]: a step of 1, 2 or 5 x 10^k chosen as in Heckbert 1990
  * ("Nice numbers for graph labels", Graphics Gems, Academic Press, p 61-63), raised along 1-2-5

@@ -103,6 +103,20 @@ json_is 'abs(d["end_balance_j"] - 3000) < 1 and d["failure_at_s"] is None' True 
 expect 69 "an impossible request" --json solve X1 --protocol "10min@?; 20min@100W" --finish 5 --model linear-total
 json_is 'd["power_w"]' None "impossible: power_w null"
 err_has "reachable only by passing through task failure" "impossible request explained"
+err_has "solve for its hardest moment instead: --lowest 5" "the refusal of a session ending in recovery suggests --lowest"
+# --lowest: the same session solved for its lowest balance, the last second of the unknown:
+# 20000 - 600 (P - 250) = 1000 J, so P = 250 + 19000/600 (linear-total is exact here)
+expect 0 "solve for the lowest balance" --json solve X1 --protocol "10min@?; 20min@100W" --lowest 5 --model linear-total
+json_is 'abs(d["power_w"] - (250 + 19000/600)) < 0.05, d["solved_for"], d["lowest_pct"], abs(d["lowest_balance_j"] - 1000) < 1, d["lowest_at_s"], d["end_balance_j"] > 5000' \
+    "(True, 'lowest_balance', 5, True, 600, True)" "--lowest: P = CP + (W' - 5 %)/600 s, lowest at 10:00, ending in recovery"
+p=$(json 'd["power_w"]')
+expect 0 "re-simulate the lowest answer" --json predict X1 --model linear-total --protocol "10min@${p}W; 20min@100W"
+json_is 'abs(d["min_balance_j"] - 1000) < 1 and d["failure_at_s"] is None' True "predict agrees: the lowest balance is 5 % of W'"
+expect 0 "lowest, human" solve X1 --protocol "10min@?; 20min@100W" --lowest 5 --model linear-total
+out_has "falls lowest to 1.00 kJ of W' at 10:00 (target 5 %)" "the human answer says when the lowest balance comes"
+expect 64 "--finish and --lowest together" solve X1 --protocol "10min@?" --finish 5 --lowest 5
+expect 64 "--lowest 0 is task failure" solve X1 --protocol "10min@?" --lowest 0
+err_has "above 0 (0 is task failure)" "--lowest 0 explained"
 expect 64 "solve without ?" solve X1 --protocol "10min@300W" --finish 5
 expect 64 "finish out of range" solve X1 --protocol "10min@?" --finish 120
 

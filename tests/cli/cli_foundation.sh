@@ -119,9 +119,9 @@ expect 64 "a bad --map" trial import "$D/trials_mapped.csv" --map athlete
 unchanged "bad map"
 
 # ---- --map, BOM, CRLF, case-insensitive headers, --create-athletes ----
-expect 65 "unknown athletes without --create-athletes" trial import "$D/trials_mapped.csv" --map athlete=Subject,power_w=Watts,duration_s=TTE
+expect 65 "unknown athletes without --create-athletes" trial import "$D/trials_mapped.csv" --map athlete=Subject,power_w=Watts,duration_s=Tlim
 unchanged "unknown athletes"
-expect 0 "mapped headers, BOM, CRLF" --json trial import "$D/trials_mapped.csv" --map athlete=Subject,power_w=Watts,duration_s=TTE --create-athletes
+expect 0 "mapped headers, BOM, CRLF" --json trial import "$D/trials_mapped.csv" --map athlete=Subject,power_w=Watts,duration_s=Tlim --create-athletes
 json_is 'd["added"], d["athletes_created"]' "(3, 2)" "mapped file imported, two athletes created"
 expect 0 "new athlete's trials" --json trial list K11
 json_is '[(t["power_w"], t["duration_s"]) for t in d["trials"]]' "[(402.5, 151), (318, 480)]" "values from mapped columns"

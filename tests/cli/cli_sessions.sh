@@ -66,7 +66,7 @@ expect 0 "session show" --json session show "$ID_0902"
 gap=$(awk -F, 'NR > 2 && $1 - prev > 6 { print prev + 1 "," $1 } { prev = $1 }' "$DEMO/session_C02_2026-09-02.csv")
 json_is 'd["segments"], d["segment_list"][0]["start_s"] + d["segment_list"][0]["length_s"], d["segment_list"][1]["start_s"], d["dropout_detail"]["filled_s"], d["spike_detail"]["count"]' \
     "(2, ${gap%,*}, ${gap#*,}, 5, 0)" "2 Sep: two segments, split exactly at the 40-s gap"
-json_is '[p["duration_s"] for p in d["curve"]]' "[5, 60, 300, 1200, 3600]" "show gives the curve at 5 s, 1, 5, 20 and 60 min"
+json_is '[p["duration_s"] for p in d["curve"]]' "[120, 180, 900, 1800, 3600]" "show gives the curve at 2, 3, 15, 30 and 60 min (the tool's own durations)"
 json_is 'd["curve"][4]["power_w"], d["max_power_w"]' "(None, 674)" "no 60-min point in a ride whose longest segment is 53 min"
 # mean of the clean seconds: the file's rows plus the 5 filled seconds (numpy on the same CSV)
 want=$(/usr/bin/python3 -c "
@@ -418,6 +418,8 @@ for c in "session add" "session list" "session show" "allout add" "allout show" 
     expect 0 "$c --help" $c --help
     out_has "example" "$c --help has an example"
 done
+expect 0 "session show --help" session show --help
+out_has "3-minute all-out test; 15 min, the longest effort of the CP window" "session show's help states where its durations come from"
 
 # ---- a version-3 store (before sessions) is upgraded and takes sessions ----
 OLD="$TMP/v3.db"

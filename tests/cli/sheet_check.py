@@ -9,6 +9,17 @@
   compare CSV JSON        the same CP, W' and boundaries in the sheet's CSV and JSON; prints problems
   nonfinite FILE...       prints every 'nan' or 'inf' word found (printf's spellings of NaN and infinity)
   png FILE                prints "WIDTH HEIGHT COLOURS" of a PNG (decoded with zlib)
+  svgs FILE...            every <svg>...</svg> of each HTML or SVG file, cut out as a simple consumer
+                          would (the first </svg> closes it), parsed as XML, with no <svg> nested
+                          and every label inside the picture; prints one line per problem, then
+                          "svgs N" with the count checked
+  summary FILE OUT SIZE    the sheet's first section alone (the details cut out) with @page size SIZE
+                          (A4 or letter), for a PDF page count
+  pdfpages FILE           prints the number of pages of a PDF (its /Type /Page objects)
+  phone FILE OUT          a page that shows FILE in a 390 px wide frame and, once loaded, writes into
+                          its title "overflow N" with N elements reaching past the frame's width
+  domaincolours FILE      prints the page's domain swatch colours (.d0 .. .d3) on one line and the
+                          fills of the opaque domain bands of its power-duration plot on the next
 """
 import csv
 import html.parser
@@ -248,11 +259,107 @@ def cmd_png(path):
     print(w, h, len(colours))
 
 
+TRANSLATE = re.compile(r"translate\(\s*([-+0-9.eE]+)[ ,]+([-+0-9.eE]+)\s*\)")
+
+
+def label_problems(el, w, h, dx=0.0, dy=0.0, fs=11.0):
+    """Labels (<text>) whose estimated extent leaves the picture: 0.62 em per character, the
+    average advance svgplot itself assumes."""
+    m = TRANSLATE.search(el.get("transform") or "")
+    if m:
+        dx, dy = dx + float(m.group(1)), dy + float(m.group(2))
+    if el.get("font-size"):
+        fs = float(el.get("font-size"))
+    out = []
+    if el.tag.endswith("}text") and el.get("x") is not None:
+        x, y = float(el.get("x")) + dx, float(el.get("y")) + dy
+        tw = 0.62 * fs * len("".join(el.itertext()))
+        anchor = el.get("text-anchor") or "start"
+        lo = x - tw if anchor == "end" else x - tw / 2 if anchor == "middle" else x
+        rot = "rotate" in (el.get("transform") or "")
+        if not rot and (lo < -0.5 or lo + tw > w + 0.5 or y - fs < -0.5 or y > h + 0.5):
+            out.append("label %r at %.0f,%.0f runs outside the %gx%g picture" % ("".join(el.itertext()), lo, y, w, h))
+    for k in el:
+        out += label_problems(k, w, h, dx, dy, fs)
+    return out
+
+
+def cmd_svgs(files):
+    import xml.etree.ElementTree as ET
+    n = 0
+    for f in files:
+        with open(f, encoding="utf-8") as fh:
+            text = fh.read()
+        for i, piece in enumerate(re.findall(r"<svg\b.*?</svg>", text, re.S)):
+            n += 1
+            where = "%s: SVG %d" % (f, i + 1)
+            try:
+                root = ET.fromstring(piece)
+            except ET.ParseError as e:
+                print("%s does not parse as XML: %s" % (where, e))
+                continue
+            if any(e.tag.endswith("}svg") for e in root.iter() if e is not root):
+                print("%s nests an <svg>" % where)
+            w, h = float(root.get("width")), float(root.get("height"))
+            for q in label_problems(root, w, h):
+                print("%s: %s" % (where, q))
+    print("svgs %d" % n)
+
+
+def cmd_domaincolours(path):
+    with open(path, encoding="utf-8") as fh:
+        text = fh.read()
+    css = [re.search(r"\.d%d\{background:(#[0-9a-f]{6})\}" % k, text) for k in range(4)]
+    print(" ".join(m.group(1) if m else "none" for m in css))
+    svg = next((s for s in top_level_svgs(text) if "duration relationship" in s), "")
+    fills = re.findall(r'<rect [^>]*fill="(#[0-9a-f]{6})" fill-opacity="1"', svg)
+    print(" ".join(fills))
+
+
+def cmd_summary(path, out, size):
+    with open(path, encoding="utf-8") as fh:
+        t = fh.read()
+    a = t.index('<div class="details">')
+    b = t.index("<!-- /details -->", a) + len("<!-- /details -->")
+    t = t[:a] + t[b:]
+    t = t.replace("</head>", "<style>@page{size:%s}</style></head>" % size)
+    with open(out, "w", encoding="utf-8") as fh:
+        fh.write(t)
+
+
+def cmd_pdfpages(path):
+    with open(path, "rb") as fh:
+        print(len(re.findall(rb"/Type\s*/Page[^s]", fh.read())))
+
+
+PHONE = """<!DOCTYPE html><html><head><meta charset="utf-8"><title>loading</title>
+<style>body{margin:0}iframe{border:0;width:390px;height:2400px}</style></head><body>
+<iframe id="f" src="%s"></iframe><script>
+document.getElementById('f').onload = function () {
+  var d = this.contentDocument, w = this.contentWindow, bad = [];
+  d.querySelectorAll('*').forEach(function (e) {
+    var r = e.getBoundingClientRect();
+    if (r.width > 0 && r.right > w.innerWidth + 0.5) bad.push(e.tagName);
+  });
+  document.title = 'overflow ' + bad.length + ' scroll ' + (d.documentElement.scrollWidth > w.innerWidth ? 1 : 0) +
+      ' ' + bad.slice(0, 5).join(',');
+};
+</script></body></html>
+"""
+
+
+def cmd_phone(path, out):
+    with open(out, "w", encoding="utf-8") as fh:
+        fh.write(PHONE % os.path.basename(path))
+
+
 def main():
     cmd, args = sys.argv[1], sys.argv[2:]
     {"html": lambda: cmd_html(args), "split": lambda: cmd_split(*args), "links": lambda: cmd_links(*args),
      "compare": lambda: cmd_compare(*args), "nonfinite": lambda: cmd_nonfinite(args),
-     "png": lambda: cmd_png(*args)}[cmd]()
+     "png": lambda: cmd_png(*args), "domaincolours": lambda: cmd_domaincolours(*args),
+     "svgs": lambda: cmd_svgs(args),
+     "summary": lambda: cmd_summary(*args), "pdfpages": lambda: cmd_pdfpages(*args), "phone": lambda: cmd_phone(*args)}[cmd]()
 
 
 if __name__ == "__main__":
