@@ -59,13 +59,10 @@ int cli_quantity(const char *opt, const char *arg, const char *unit, double *out
 int cli_id(const char *opt, const char *arg, long long *out);
 /* A number (or a duration when duration is set) that must lie in [lo, hi] unit. */
 int cli_ranged(const char *opt, const char *arg, double lo, double hi, const char *unit, int duration, double *out);
-/* Writes len bytes of text to path; a failed write removes a partial regular file (never a device
- * such as /dev/stdout). Returns 0, or 73 after printing why. */
+/* Writes every output file the user names (sheets, exports, traces, -o FILE.svg plots) through
+ * cpd_safe_write: a temporary file in the target folder, then a rename; a symbolic link at the
+ * target is refused and a failed write keeps the old file. Returns 0, or 73 after printing why. */
 int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len);
-
-/* Writes an output file the user named (the -o FILE.svg plots of fit, curve, predict and history):
- * the one place those files are written, so a safer writer can take it over. Returns 0 or 73. */
-int cli_write_output(cli_ctx *c, const char *path, const char *text, size_t len);
 /* -o FILE for a plot: the name must end in .svg (any letter case). Returns 0, or 64 after saying so. */
 int cli_plot_path(const char *cmd, const char *path);
 

@@ -237,11 +237,6 @@ int cli_write_file(cli_ctx *c, const char *path, const char *text, size_t len)
     return 0;
 }
 
-int cli_write_output(cli_ctx *c, const char *path, const char *text, size_t len)
-{
-    return cli_write_file(c, path, text, len);
-}
-
 int cli_plot_path(const char *cmd, const char *path)
 {
     size_t L = strlen(path);

@@ -283,7 +283,7 @@ static int fit_plot(cli_ctx *c, const cli_pd_fit *f, unsigned mask, const char *
     int rc = cpd_plot_pd(&r->models[k], f->x, f->t, f->n, NULL, &svg);
     if (rc)
         return cli_fail(c, rc, "-o %s: no plot: %s", path, cpd_strerror(rc));
-    rc = cli_write_output(c, path, svg, strlen(svg));
+    rc = cli_write_file(c, path, svg, strlen(svg));
     free(svg);
     if (!rc)
         cli_note(c, "wrote %s", path);

@@ -293,7 +293,7 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
             char *svg = NULL;
             int prc = cli_history_plot(&a, &svg);
             rc = prc ? cli_fail(c, prc, "-o %s: no plot: %s", o.out, cpd_strerror(prc))
-                     : cli_write_output(c, o.out, svg, strlen(svg));
+                     : cli_write_file(c, o.out, svg, strlen(svg));
             free(svg);
             if (rc) {
                 cli_history_free(&a);

@@ -1077,7 +1077,7 @@ static int cmd_curve_run(cli_ctx *c, int argc, char **argv)
                  ns == 1 ? "" : "s");
         rc = cpd_plot_curve(se->duration_s, se->value, se->n, spd, title, &svg);
         int ex = rc ? cli_fail(c, rc, "-o %s: no plot: %s", o.out, cpd_strerror(rc))
-                    : cli_write_output(c, o.out, svg, strlen(svg));
+                    : cli_write_file(c, o.out, svg, strlen(svg));
         free(svg);
         if (ex) {
             cpd_mmp_season_free(se);
