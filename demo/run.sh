@@ -112,7 +112,7 @@ for code in $codes; do
         # the cost of the heavy interval ride (noted H) from the athlete's own kinetics, with its minutes as CSV
         if has energy; then
             for id in $(cpd session list "$code" | awk 'NR > 1 && $NF == "H" { print $1 }'); do
-                cpd energy "$id" --csv "$out/details/${code}_energy${id}.csv" --plot "$out/details/${code}_energy${id}.svg" || true
+                cpd energy "$id" --minutes "$out/details/${code}_energy${id}.csv" --plot "$out/details/${code}_energy${id}.svg" || true
                 echo
             done
         fi

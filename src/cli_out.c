@@ -612,14 +612,25 @@ const char *const CLI_CSV_UNITS_POWER[] = {"cp", "W", "w_prime", "J", "p_max", "
 const char *const CLI_CSV_UNITS_SPEED[] = {"cs", "m/s", "d_prime", "m", "v_max", "m/s", "change_cs", "m/s",
                                            "change_d_prime", "m", NULL};
 
+/* Whether a column name ends in suffix. */
+static int ends_with(const char *name, const char *suffix)
+{
+    size_t L = strlen(name), k = strlen(suffix);
+    return L > k && strcmp(name + L - k, suffix) == 0;
+}
+
 /* " (W)" for a column whose name is KEY or begins KEY_ in the NULL-ended {KEY, UNIT, ...} list;
- * not for flags (_meaningful) and percentages (_pct), which carry their own meaning. */
+ * not for flags (_meaningful, _excludes_zero), percentages (_pct), degrees of freedom (_df) and
+ * model names (_model), which carry no unit of the quantity. */
 static void unit_of(const char *name, const char *const *units, char *buf, size_t n)
 {
-    size_t L = strlen(name);
-    buf[0] = '\0';
-    if (!units || (L > 11 && strcmp(name + L - 11, "_meaningful") == 0) || (L > 4 && strcmp(name + L - 4, "_pct") == 0))
+    static const char *const unitless[] = {"_meaningful", "_excludes_zero", "_pct", "_df", "_model"};
+    snprintf(buf, n, "%s", name);
+    if (!units)
         return;
+    for (size_t i = 0; i < sizeof unitless / sizeof unitless[0]; i++)
+        if (ends_with(name, unitless[i]))
+            return;
     for (size_t i = 0; units[i] && units[i + 1]; i += 2) {
         size_t k = strlen(units[i]);
         if (strncmp(name, units[i], k) == 0 && (name[k] == '\0' || name[k] == '_')) {

@@ -15,7 +15,7 @@
 #include <sysexits.h>
 
 static const char HELP[] =
-    "usage: cpdomain energy SESSION_ID [--efficiency PCT] [--draws N] [--seed N] [--csv FILE]\n"
+    "usage: cpdomain energy SESSION_ID [--efficiency PCT] [--draws N] [--seed N] [--minutes FILE]\n"
     "                                  [--plot FILE.svg] [--equations jw2005-high|jw2005-low|frayn1983]\n\n"
     "Models the second-by-second VO2 of a recorded power session from the athlete's own parameters:\n"
     "the steady-state gain and baseline (moderate bouts, else the ramp), the primary time constant and\n"
@@ -25,7 +25,7 @@ static const char HELP[] =
     "else steady-state bouts, else typical values), carbohydrate and fat from\n"
     "the stoichiometric equations (Jeukendrup & Wallis 2005 by default). Each total carries a 95 %\n"
     "interval from Monte Carlo draws of the parameters. Beside it: the estimate of a fixed gross\n"
-    "efficiency (work / efficiency) and the difference, minute by minute (--csv, --json) and in total;\n"
+    "efficiency (work / efficiency) and the difference, minute by minute (--minutes, --csv, --json) and in total;\n"
     "the extra cost of work above the GET (the slow component) is shown on its own. Typical published\n"
     "values used where the athlete has no test are flagged 'typical'. The model is checked against\n"
     "each of the athlete's bouts (RMSE between the model driven by the bout's power and its fit).\n"
@@ -33,12 +33,12 @@ static const char HELP[] =
     "                    athlete's own at the GET, from the VO2-power line and the moderate RER)\n"
     "  --draws N         Monte Carlo draws (default 200; 20-5000)\n"
     "  --seed N          seed of the draws (default 1)\n"
-    "  --csv FILE        write the minute-by-minute table as CSV\n"
+    "  --minutes FILE    write the minute-by-minute table as CSV to FILE (the global --csv prints it)\n"
     "  --plot FILE.svg   draw the modelled VO2 beside the linear rule (base + gain x power) as SVG\n"
     "  --equations SET   carbohydrate and fat equations (default jw2005-high)\n"
     "These are modelled estimates for training analysis, not intake advice: fuelling plans belong to a\n"
     "registered dietitian or sports nutritionist.\n\n"
-    "examples:\n  cpdomain energy 14\n  cpdomain --json energy 14 --efficiency 22\n  cpdomain energy 14 --csv s14.csv\n";
+    "examples:\n  cpdomain energy 14\n  cpdomain --json energy 14 --efficiency 22\n  cpdomain energy 14 --minutes s14.csv\n";
 
 
 #define CLI_EN_MAX_CELLS 3e7 /* per-minute Monte Carlo values kept at once (240 MB of doubles) */
@@ -115,7 +115,7 @@ static int en_opt(int opt, const char *arg, void *ud)
 
 static const struct option longopts[] = {
     {"efficiency", required_argument, NULL, 'e'}, {"draws", required_argument, NULL, 'n'},
-    {"seed", required_argument, NULL, 's'},       {"csv", required_argument, NULL, 'c'},
+    {"seed", required_argument, NULL, 's'},       {"minutes", required_argument, NULL, 'c'},
     {"equations", required_argument, NULL, 'q'},  {"plot", required_argument, NULL, 'p'},
     {"help", no_argument, NULL, 'h'},
     {NULL, 0, NULL, 0},
@@ -306,7 +306,7 @@ static void print_text(const cpd_session_rec *sr, const cli_energy_athlete *A, c
         printf("  %-9s %8s  model %6.0f kJ, fixed efficiency %6.0f kJ, difference %+5.0f kJ\n", DN[k], dur,
                r->dom_ee_kj[k], r->dom_fixed_kj[k], r->dom_ee_kj[k] - r->dom_fixed_kj[k]);
     }
-    printf("\n5-min blocks (minute by minute: --csv FILE or --json)\n");
+    printf("\n5-min blocks (minute by minute: --minutes FILE, --csv or --json)\n");
     printf("  %-11s %7s %8s %10s %10s %9s %7s\n", "from", "power", "VO2", "energy kJ", "fixed kJ", "diff kJ", "CHO g");
     for (size_t k0 = 0; k0 < r->n_min; k0 += 5) {
         double rs = 0, pw = 0, vo = 0, ee = 0, fx = 0, ch = 0;
@@ -420,11 +420,16 @@ int cmd_energy(cli_ctx *c, int argc, char **argv)
     size_t nv = validate(&A, &E.m, vr);
     if (o.plot && (rc = write_plot(c, o.plot, &sr, &E, p, n)))
         goto done;
-    if (o.csv) {
+    if (o.csv || c->csv) {
         size_t len = 0;
         char *csv = minutes_csv(&r, &len);
         if (!csv) {
             rc = cli_fail(c, CPD_ENOMEM, "out of memory");
+            goto done;
+        }
+        if (c->csv) { /* the table on stdout, as --csv prints every command's table */
+            rc = fwrite(csv, 1, len, stdout) == len ? 0 : EX_IOERR;
+            free(csv);
             goto done;
         }
         rc = cli_write_file(c, o.csv, csv, len);

@@ -44,7 +44,7 @@ static void usage(FILE *out)
           "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
           "  --json     machine-readable output: one JSON document on stdout\n"
           "  --csv      the table as CSV for a spreadsheet (fit, curve, history, domains, the lists,\n"
-          "             sheet --all --format csv)\n"
+          "             energy, sheet --all --format csv)\n"
           "  --quiet    no informational messages on stderr\n"
           "  --busy-timeout MS\n"
           "             how long to wait for another process that is writing to the store, in\n"
@@ -73,7 +73,7 @@ static int busy_timeout(const char *what, const char *arg)
  * the team table of 'sheet --all --format csv'. Otherwise it is refused before anything runs. */
 static int csv_capable(int argc, char **argv)
 {
-    static const char *const single[] = {"fit", "curve", "history", "domains", "sheet"};
+    static const char *const single[] = {"fit", "curve", "history", "domains", "sheet", "energy"};
     static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout"};
     for (size_t i = 0; i < sizeof single / sizeof single[0]; i++)
         if (strcmp(argv[0], single[i]) == 0)

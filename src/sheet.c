@@ -502,7 +502,7 @@ static void css(sb *b)
                ".cards{margin:.4rem 0 .2rem;gap:.4rem}.card{padding:.2rem .45rem}.card .v{font-size:1rem}"
                ".card .k,.card .s{font-size:.72rem}.rests,.note,.lead,.cap{font-size:.8rem}.rests{margin-top:.3rem}"
                "p{margin:.25rem 0}th,td{padding:.12rem .35rem}.caution{margin:.4rem 0 0;padding:.25rem .5rem;font-size:.85em}"
-               ".caution p{margin:.15rem 0}.summary .plot{margin:.2rem 0}.summary .plot svg{max-height:6.3cm}"
+               ".caution p{margin:.15rem 0}.summary .plot{margin:.2rem 0}.summary .plot svg{max-height:5cm}"
                ".summary .foot{display:none}.details{break-before:page;page-break-before:always}}\n"
                "</style>\n");
 }

@@ -103,7 +103,7 @@ expect 0 "remove" bout remove 10
 # ---- energy SESSION_ID on C01's heavy interval ride ----
 expect 0 "C01 session" --json session add C01 "$DEMO/session_C01_2026-11-06.csv"
 sid=$(json 'd["sessions"][0]["id"]' 2>/dev/null || json 'd["id"]')
-expect 0 "energy --json" --json energy "$sid" --csv "$TMP/min.csv"
+expect 0 "energy --json" --json energy "$sid" --minutes "$TMP/min.csv"
 json_is 'd["athlete"], d["energy_equation"], d["draws"], len(d["validation"])' "('C01', 'Weir 1949', 200, 6)" "energy: keys"
 json_is 'abs(sum(m["energy_kj"] for m in d["minutes"]) - d["totals"]["energy_kj"]) < 1e-6' True "minutes add up to the total"
 json_is 'abs(d["totals"]["fixed_efficiency_kj"] - d["totals"]["work_kj"] / (d["efficiency_pct"] / 100)) < 1e-6' True \
