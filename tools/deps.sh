@@ -18,6 +18,8 @@ need python3-numpy    /usr/bin/python3 -c 'import numpy'
 need python3-scipy    /usr/bin/python3 -c 'import scipy.optimize'
 need libxml2-utils    command -v xmllint
 need sqlite3          command -v sqlite3
+# the man page test renders it with groff
+need groff-base       command -v groff
 # the sheet's browser test renders a page in headless Chromium (tests only)
 need chromium         test -x /usr/bin/chromium
 # the clang build of CI and make fuzz: Debian's clang and its libFuzzer and sanitizer runtimes
