@@ -50,7 +50,7 @@ static const char HELP_ADD[] =
     "usage: cpdomain athlete add CODE --name NAME [--sport SPORT] [--mass KG] [--notes TEXT]\n\n"
     "Adds an athlete. CODE is a short unique identifier (letters, digits, - _ .).\n"
     "SPORT is cycling (default), running, rowing, swimming or other; body mass in kg (20-250).\n\n"
-    "example:\n  cpdomain athlete add C03 --name \"Tomasz Ekberg\" --sport cycling --mass 71.4\n";
+    "example:\n  cpdomain athlete add C06 --name \"Ilse Brandvold\" --sport cycling --mass 66.0\n";
 static const char HELP_LIST[] = "usage: cpdomain athlete list\n\nLists every athlete.\n\nexample:\n"
                                 "  cpdomain --json athlete list\n";
 static const char HELP_SHOW[] = "usage: cpdomain athlete show CODE\n\nShows one athlete.\n\nexample:\n"

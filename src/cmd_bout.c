@@ -31,10 +31,10 @@ static const char HELP_ADD[] =
     "baseline, so record at least a minute of baseline. --baseline is the intensity before the step\n"
     "(unloaded pedalling, a walk); without it the gain is taken against 0.\n\n"
     "examples:\n"
-    "  cpdomain bout add C03 c03_bout1.csv --date 2026-10-22 --power 150 --baseline 20 --onset 3:00\n"
-    "  cpdomain bout add R07 r07_bout.csv --date 2026-10-23 --speed 3.4 --baseline 1.5 --onset 180\n";
+    "  cpdomain bout add C01 c01_bout1.csv --date 2026-10-22 --power 150 --baseline 20 --onset 3:00\n"
+    "  cpdomain bout add R01 r01_bout.csv --date 2026-10-23 --speed 3.4 --baseline 1.5 --onset 180\n";
 static const char HELP_LIST[] = "usage: cpdomain bout list CODE\n\nLists the athlete's bouts.\n\n"
-                                "example:\n  cpdomain --json bout list C03\n";
+                                "example:\n  cpdomain --json bout list C01\n";
 static const char HELP_SHOW[] =
     "usage: cpdomain bout show ID[,ID...] [--phase1 S] [--fit-end T] [--bin S] [--outlier-sd K]\n"
     "                          [--primary auto|mono-end|window] [--baseline-window S]\n"
@@ -58,15 +58,15 @@ static const char HELP_SHOW[] =
     "  --vo2peak ML_MIN  use this VO2peak instead of the newest ramp's\n"
     "When the response does not decide the domain (a bout under 5 min below VO2peak), it is shown as\n"
     "undetermined; in JSON \"domain\" is then null and \"domain_note\" says why.\n\n"
-    "examples:\n  cpdomain bout show 4\n  cpdomain --json bout show 3,4,5 --bin 5\n";
+    "examples:\n  cpdomain bout show 13\n  cpdomain --json bout show 12,15,16 --bin 5\n";
 static const char HELP_PLOT[] =
     "usage: cpdomain bout plot ID[,ID...] -o FILE.svg [the options of 'bout show']\n\n"
     "Writes the bout's VO2 against time from onset as SVG: the breaths (and the 1-s ensemble or bin\n"
     "means that were fitted), the fitted model and its primary component, the baseline and the end\n"
     "of phase I, with the residuals of the fit in a panel below.\n\n"
-    "examples:\n  cpdomain bout plot 4 -o c03_bout4.svg\n  cpdomain bout plot 3,4,5 --bin 5 -o c03_ensemble.svg\n";
+    "examples:\n  cpdomain bout plot 13 -o c01_bout13.svg\n  cpdomain bout plot 12,15,16 --bin 5 -o c01_ensemble.svg\n";
 static const char HELP_REMOVE[] = "usage: cpdomain bout remove ID\n\nDeletes a stored bout.\n\nexample:\n"
-                                  "  cpdomain bout remove 4\n";
+                                  "  cpdomain bout remove 13\n";
 
 typedef struct {
     const char *date, *power, *speed, *baseline, *onset, *map, *note, *phase1, *fit_end, *bin, *outlier, *primary,

@@ -26,7 +26,7 @@ static const char HELP[] =
     "the lower 95 % bound of CP, severe efforts for 2-12 min with intervals, and 25/50/75 %delta.\n"
     "A boundary whose data are older than --stale-days (default 56) or that a newer block of\n"
     "trials contradicts is marked stale.\n\n"
-    "examples:\n  cpdomain domains C03\n  cpdomain --json domains R07 --stale-days 42\n";
+    "examples:\n  cpdomain domains C03\n  cpdomain --json domains R01 --stale-days 42\n";
 
 typedef struct {
     const char *model, *from, *to, *stale;

@@ -38,7 +38,7 @@ static const char HELP[] =
     "  --equations SET   carbohydrate and fat equations (default jw2005-high)\n"
     "These are modelled estimates for training analysis, not intake advice: fuelling plans belong to a\n"
     "registered dietitian or sports nutritionist.\n\n"
-    "examples:\n  cpdomain energy 14\n  cpdomain --json energy 14 --efficiency 22\n  cpdomain energy 14 --minutes s14.csv\n";
+    "examples:\n  cpdomain energy 54\n  cpdomain --json energy 54 --efficiency 22\n  cpdomain energy 54 --minutes s54.csv\n";
 
 
 #define CLI_EN_MAX_CELLS 3e7 /* per-minute Monte Carlo values kept at once (240 MB of doubles) */

@@ -33,7 +33,7 @@ static const char HELP_IMPORT[] =
     "examples:\n"
     "  cpdomain --db copy.db init\n"
     "  cpdomain --db copy.db import lab-2026-12-01.json\n"
-    "  gunzip -c lab-2026-12-01.json.gz | cpdomain --db copy.db import -\n";
+    "  cpdomain --db from-gz.db init && gunzip -c lab-2026-12-01.json.gz | cpdomain --db from-gz.db import -\n";
 
 typedef struct {
     const char *output;

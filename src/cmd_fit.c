@@ -31,7 +31,7 @@ static const char HELP_FIT[] =
     "durations of --durations (default 3min,5min,12min,20min: inside the 2-20 min window where the\n"
     "power-duration relation holds); the fit is saved with source 'curve'.\n"
     "-o FILE.svg draws the best model (or the one --model names) with its 95 % band and the trials.\n\n"
-    "examples:\n  cpdomain fit C03\n  cpdomain --json fit R07 --model all --from 2026-09-01\n"
+    "examples:\n  cpdomain fit C03\n  cpdomain --json fit R01 --model all --from 2026-09-01\n"
     "  cpdomain fit C02 --source curve --from 2026-11-01 --durations 3min,5min,12min\n"
     "  cpdomain fit C01 -o c01_fit.svg\n";
 
@@ -54,7 +54,7 @@ static const char HELP_PREDICT[] =
     "  --session ID              the same balance through a stored session ('session list'), replayed\n"
     "                            second by second; a gap of more than 5 s (a pause, or a dropout that\n"
     "                            split the session) counts as rest at 0 W (0 m/s) for its whole length\n\n"
-    "examples:\n  cpdomain predict C03 --power 350\n  cpdomain --json predict R07 --distance 5000\n"
+    "examples:\n  cpdomain predict C03 --power 350\n  cpdomain --json predict R01 --distance 5000\n"
     "  cpdomain predict C03 --protocol \"10min@150W; 5x(3min@340W, 3min@140W)\" --trace c03.csv\n"
     "  cpdomain predict C03 --duration 8min --model linear-total\n"
     "  cpdomain --json predict C02 --session 16 --balance-model integral\n"

@@ -17,9 +17,9 @@ static const char HELP_ADD[] =
     "usage: cpdomain lactate add CODE FILE.csv --date D [--map NAME=HEADER,...] [--note TEXT]\n\n"
     "Stores a blood-lactate step test: one row per stage with lactate_mmol_l and one of power_w or\n"
     "speed_m_s (optional hr_bpm, stage_s), stages in rising order.\n\n"
-    "example:\n  cpdomain lactate add C03 c03_lactate.csv --date 2026-10-08\n";
+    "example:\n  cpdomain lactate add C01 c01_lactate.csv --date 2026-10-01\n";
 static const char HELP_LIST[] = "usage: cpdomain lactate list CODE\n\nLists the athlete's lactate tests.\n\n"
-                                "example:\n  cpdomain --json lactate list C03\n";
+                                "example:\n  cpdomain --json lactate list C01\n";
 static const char HELP_SHOW[] =
     "usage: cpdomain lactate show ID\n\n"
     "The lactate thresholds of a step test: LT1 by the log-log method (Beaver, Wasserman & Whipp 1985),\n"
@@ -28,7 +28,7 @@ static const char HELP_SHOW[] =
     "Stage length changes the thresholds: compare tests with the same protocol.\n\n"
     "example:\n  cpdomain lactate show 2\n";
 static const char HELP_PLOT[] = "usage: cpdomain lactate plot ID -o FILE.svg\n\nWrites the lactate curve as SVG.\n\n"
-                                "example:\n  cpdomain lactate plot 2 -o c03_lactate.svg\n";
+                                "example:\n  cpdomain lactate plot 2 -o r02_lactate.svg\n";
 
 typedef struct {
     const char *date, *map, *note, *out;

@@ -32,9 +32,9 @@ static const char HELP_ADD[] =
     "are the baseline); --baseline the intensity before onset; --mrt the VO2 mean response time in s\n"
     "if known. Heart rates outside 30-230 beats/min and blank optional cells are dropped and counted.\n\n"
     "examples:\n"
-    "  cpdomain ramp add C03 c03_ramp.csv --date 2026-10-02 --rate 30 --start 50 --onset 3:00\n"
-    "  cpdomain ramp add C03 c03_steps.csv --date 2026-10-09\n"
-    "  cpdomain ramp add R07 r07_ramp.csv --date 2026-10-05 --rate 0.2 --start 2.5 --modality speed\n";
+    "  cpdomain ramp add C03 c03_ramp.csv --date 2026-10-06 --rate 25 --start 50 --onset 3:00\n"
+    "  cpdomain ramp add C03 c03_steps.csv --date 2026-09-15\n"
+    "  cpdomain ramp add R01 r01_ramp.csv --date 2026-09-22 --rate 0.3 --start 2.2 --modality speed\n";
 static const char HELP_LIST[] = "usage: cpdomain ramp list CODE\n\nLists the athlete's ramp tests.\n\n"
                                 "example:\n  cpdomain --json ramp list C03\n";
 static const char HELP_SHOW[] =
@@ -64,7 +64,7 @@ static const char HELP_SET[] =
 static const char HELP_PLOT[] =
     "usage: cpdomain ramp plot ID [--kind vslope|veq] -o FILE.svg\n\n"
     "Writes the V-slope plot (VCO2 against VO2 with both lines) or the ventilatory equivalents over\n"
-    "time as an SVG file.\n\nexample:\n  cpdomain ramp plot 3 --kind vslope -o c03_vslope.svg\n";
+    "time as an SVG file.\n\nexample:\n  cpdomain ramp plot 4 --kind vslope -o c03_vslope.svg\n";
 static const char HELP_REMOVE[] = "usage: cpdomain ramp remove ID\n\nDeletes a stored ramp test.\n\nexample:\n"
                                   "  cpdomain ramp remove 3\n";
 

@@ -64,9 +64,9 @@ static const char HELP_ASHOW[] =
     "End-test power (the mean of the final 30 s: the estimate of CP) and the work done above it over\n"
     "the 180 s (the estimate of W'), with checks that the test was really all-out, each explained\n"
     "in plain words, and the published caution that the W' estimate is weaker than the CP estimate.\n\n"
-    "example:\n  cpdomain --json allout show 3\n";
+    "example:\n  cpdomain --json allout show 1\n";
 static const char HELP_AREMOVE[] = "usage: cpdomain allout remove ID\n\nDeletes a stored all-out test.\n\n"
-                                   "example:\n  cpdomain allout remove 3\n";
+                                   "example:\n  cpdomain allout remove 2\n";
 static const char HELP_CURVE[] =
     "usage: cpdomain curve CODE [--from D] [--to D] [--modality power|speed] [-o FILE.svg]\n\n"
     "The mean-maximal power (speed) curve over the athlete's stored sessions dated --from/--to: for\n"

@@ -39,7 +39,7 @@ static const char HELP[] =
     "  --model, --from, --to, --stale-days: as for 'cpdomain domains'\n\n"
     "examples:\n"
     "  cpdomain sheet C03 -o c03.html\n"
-    "  cpdomain sheet R07 --format txt\n"
+    "  cpdomain sheet R01 --format txt\n"
     "  cpdomain sheet --all -o sheets/\n";
 
 typedef struct {

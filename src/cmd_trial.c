@@ -15,7 +15,7 @@ static const char HELP_ADD[] =
     "trial (a distance and the time it took). Durations: 390, 390s, 6:30, 6min, 1:02:00.\n\n"
     "examples:\n"
     "  cpdomain trial add C03 --date 2026-10-14 --power 312 --duration 7:05\n"
-    "  cpdomain trial add R07 --date 2026-10-15 --distance 3600 --duration 13:48 --note \"track, 12 C\"\n";
+    "  cpdomain trial add R01 --date 2026-10-15 --distance 3600 --duration 12:40 --note \"track, 12 C\"\n";
 static const char HELP_LIST[] = "usage: cpdomain trial list CODE\n\nLists the athlete's trials, oldest first.\n\n"
                                 "example:\n  cpdomain --json trial list C03\n";
 static const char HELP_IMPORT[] =
