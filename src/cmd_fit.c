@@ -645,7 +645,7 @@ static int cmd_predict_run(cli_ctx *c, int argc, char **argv)
                 }
                 printf(", %s domain\n", domain_of(c, &f, which, o.from, o.to, m, q));
             } else if (near_cp) {
-                printf("at %s: %s (inside %s's 95%% interval %s to %s)\n", v, CLI_CANNOT_TELL, spd ? "CS" : "CP",
+                printf("at %s: %s (inside %s's 95 %% CI %s to %s)\n", v, CLI_CANNOT_TELL, spd ? "CS" : "CP",
                        fmt_intensity(&f, m->cp_ci95[0], a, sizeof a), fmt_intensity(&f, m->cp_ci95[1], b, sizeof b));
                 if (t_lo >= 120) /* whole minutes, rounded down: a bound, not an estimate */
                     printf("time to task failure: at least about %.0f min, no upper bound\n", floor(t_lo / 60));

@@ -250,7 +250,7 @@ static int lactate_show(cli_ctx *c, int argc, char **argv)
                     printf(", HR %.0f bpm", v->hr_bpm);
                 if (ci.valid[k]) {
                     char a1[32], a2[32];
-                    printf(" (95%% CI %s to %s %s)", cli_num(a1, sizeof a1, ci.ci95[k][0], t->speed ? 2 : 0),
+                    printf(" (95 %% CI %s to %s %s)", cli_num(a1, sizeof a1, ci.ci95[k][0], t->speed ? 2 : 0),
                            cli_num(a2, sizeof a2, ci.ci95[k][1], t->speed ? 2 : 0), t->speed ? "m/s" : "W");
                 }
                 printf("\n");

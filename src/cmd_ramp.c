@@ -626,18 +626,21 @@ static void ci_json(cli_json *o, const cpd_ramp_thr_ci *ci, int speed)
             ci->equiv_ci95[1]);
 }
 
-static void print_ci(const cpd_ramp_thr_ci *ci, int speed)
+/* The interval line under a threshold, with the labels of its point line (a step test: the stage and
+ * the steady-state intensity; a ramp: the ramp and the constant-intensity equivalent). */
+static void print_ci(const cpd_ramp_thr_ci *ci, int speed, int steps)
 {
     if (!ci->valid)
         return;
     const char *u = speed ? "m/s" : "W";
     int dec = speed ? 2 : 0;
     char a[32], b[32];
-    printf("     95%% CI %.0f to %.0f mL/min, ramp %s to %s %s", ci->vo2_ci95[0], ci->vo2_ci95[1],
+    printf("     95 %% CI %.0f to %.0f mL/min, %s %s to %s %s", ci->vo2_ci95[0], ci->vo2_ci95[1], steps ? "stage" : "ramp",
            cli_num(a, sizeof a, ci->ramp_ci95[0], dec), cli_num(b, sizeof b, ci->ramp_ci95[1], dec), u);
     if (ci->has_equiv)
-        printf(", constant-%s equivalent %s to %s %s", speed ? "speed" : "power", cli_num(a, sizeof a, ci->equiv_ci95[0], dec),
-               cli_num(b, sizeof b, ci->equiv_ci95[1], dec), u);
+        printf(", %s %s to %s %s", steps ? (speed ? "steady-state speed" : "steady-state power")
+                                         : (speed ? "constant-speed equivalent" : "constant-power equivalent"),
+               cli_num(a, sizeof a, ci->equiv_ci95[0], dec), cli_num(b, sizeof b, ci->equiv_ci95[1], dec), u);
     printf(" (bootstrap of the breakpoint fit, %zu resamples)\n", ci->n_used);
 }
 
@@ -733,7 +736,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
         cpd_format_duration(r->vo2peak_time_s, tm, sizeof tm);
         printf("VO2peak  %.0f mL/min", r->vo2peak_ml_min);
         if (ci.has_vo2peak_ci)
-            printf(" (95%% CI %.0f to %.0f mL/min%s", ci.vo2peak_ci95[0], ci.vo2peak_ci95[1], r->has_relative ? "; " : ")");
+            printf(" (95 %% CI %.0f to %.0f mL/min%s", ci.vo2peak_ci95[0], ci.vo2peak_ci95[1], r->has_relative ? "; " : ")");
         if (r->has_relative)
             printf("%s%.1f mL/kg/min)", ci.has_vo2peak_ci ? "" : " (", r->vo2peak_ml_kg_min);
         printf(" at %s, %s; peak %s %s\n", tm,
@@ -746,7 +749,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
             printf("         %s\n", RAMP_PLATEAU_NOTE);
         print_threshold("GET", &r->get, &r->get_auto, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
         if (r->get.status == CPD_THR_FOUND)
-            print_ci(&ci.get, spd);
+            print_ci(&ci.get, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
         if (r->veq.status == CPD_THR_FOUND)
             printf("     ventilatory equivalents: %.0f mL/min, %s the V-slope\n", r->veq.vo2_ml_min,
                    r->veq.agree == 1 ? "agrees with" : r->veq.agree == 0 ? "DISAGREES with" : "compared with");
@@ -754,7 +757,7 @@ static int ramp_show(cli_ctx *c, int argc, char **argv)
             printf("     ventilatory equivalents: not found (%s)\n", r->veq.why);
         print_threshold("RCP", &r->rcp, &r->rcp_auto, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
         if (r->rcp.status == CPD_THR_FOUND)
-            print_ci(&ci.rcp, spd);
+            print_ci(&ci.rcp, spd, r->protocol == CPD_RAMP_PROTO_STEPS);
         if (r->rcp.has_equiv && r->protocol != CPD_RAMP_PROTO_STEPS)
             printf("     caution: %s\n", RAMP_RCP_EQUIV_CAUTION);
         if (r->gain_status == CPD_THR_FOUND)

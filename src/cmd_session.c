@@ -948,9 +948,9 @@ static int allout_show(cli_ctx *c, int argc, char **argv)
     char t1[24];
     printf("3-minute all-out test %lld: %s %s, %s%s%s\n\n", id, a.code, a.name, r.date, r.source_file[0] ? ", file " : "",
            r.source_file);
-    printf("end power        %.1f W   (95%% CI %.1f to %.1f W; mean of the final 30 s: the estimate of CP)\n",
+    printf("end power        %.1f W   (95 %% CI %.1f to %.1f W; mean of the final 30 s: the estimate of CP)\n",
            res.end_power_w, res.end_power_ci95[0], res.end_power_ci95[1]);
-    printf("work above it    %.2f kJ  (95%% CI %.2f to %.2f kJ; over the 180 s: the estimate of W')\n",
+    printf("work above it    %.2f kJ  (95 %% CI %.2f to %.2f kJ; over the 180 s: the estimate of W')\n",
            res.work_above_end_j / 1000, res.work_above_ci95[0] / 1000, res.work_above_ci95[1] / 1000);
     printf("                 intervals: measurement precision (SE of the 30-s mean), not the test's validity\n");
     cpd_format_duration((double)res.peak_at_s, t1, sizeof t1);

@@ -1397,22 +1397,22 @@ static void render_txt(sb *b, const cpd_sheet *s)
     if (spd)
         sb_printf(b, " (%s)", pace(s->pace_m, s->pace_label, m->cp, c, sizeof c));
     if (m->has_se)
-        sb_printf(b, ", 95%% CI %s", ci_words(spd, 1, m->cp_ci95, c, sizeof c));
+        sb_printf(b, ", 95 %% CI %s", ci_words(spd, 1, m->cp_ci95, c, sizeof c));
     sb_printf(b, "; %s %s", spd ? "D'" : "W'", capac(spd, m->w_prime, a, sizeof a));
     if (m->has_se)
-        sb_printf(b, ", 95%% CI %s to %s", capac(spd, m->w_prime_ci95[0], c, sizeof c), capac(spd, m->w_prime_ci95[1], e, sizeof e));
+        sb_printf(b, ", 95 %% CI %s to %s", capac(spd, m->w_prime_ci95[0], c, sizeof c), capac(spd, m->w_prime_ci95[1], e, sizeof e));
     sb_puts(b, "\n");
     if (d->b[CPD_BND_MOD_HEAVY].valid) {
         sb_printf(b, "GET equivalent %s", inten(spd, d->b[CPD_BND_MOD_HEAVY].value, a, sizeof a));
         if (d->b[CPD_BND_MOD_HEAVY].has_ci)
-            sb_printf(b, ", 95%% CI %s to %s", inten(spd, d->b[CPD_BND_MOD_HEAVY].ci95[0], c, sizeof c),
+            sb_printf(b, ", 95 %% CI %s to %s", inten(spd, d->b[CPD_BND_MOD_HEAVY].ci95[0], c, sizeof c),
                       inten(spd, d->b[CPD_BND_MOD_HEAVY].ci95[1], e, sizeof e));
     } else
         sb_puts(b, "GET equivalent unknown");
     if (s->has_vo2peak)
         sb_printf(b, "; VO2peak %s L/min", fmt(a, sizeof a, s->vo2peak_ml_min / 1000, 2));
     if (s->has_vo2peak_ci)
-        sb_printf(b, ", 95%% CI %s to %s L/min", fmt(c, sizeof c, s->vo2peak_ci95[0] / 1000, 2),
+        sb_printf(b, ", 95 %% CI %s to %s L/min", fmt(c, sizeof c, s->vo2peak_ci95[0] / 1000, 2),
                   fmt(e, sizeof e, s->vo2peak_ci95[1] / 1000, 2));
     if (s->has_vo2peak_rel)
         sb_printf(b, " (%s mL/kg/min)", fmt(a, sizeof a, s->vo2peak_ml_kg_min, 1));
@@ -1464,7 +1464,7 @@ static void render_txt(sb *b, const cpd_sheet *s)
         }
         sb_printf(b, "  %-15s %s", cpd_boundary_name((cpd_boundary_id)k), inten(spd, x->value, a, sizeof a));
         if (x->has_ci)
-            sb_printf(b, " (95%% CI %s)", ci_words(spd, 1, x->ci95, c, sizeof c));
+            sb_printf(b, " (95 %% CI %s)", ci_words(spd, 1, x->ci95, c, sizeof c));
         sb_printf(b, "\n  %-15s %s, %s%s\n", "", x->source, x->date, x->stale ? "  [STALE]" : "");
         if (x->stale)
             sb_printf(b, "  %-15s stale: %s\n", "", x->stale_why);
@@ -1474,7 +1474,7 @@ static void render_txt(sb *b, const cpd_sheet *s)
     memset(t, 0, sizeof *t);
     t->ncols = 4;
     t->align = "rrrr";
-    const char *hf[] = {"time", spd ? "speed" : "power", "95% interval", spd ? "pace" : "% of CP"};
+    const char *hf[] = {"time", spd ? "speed" : "power", "95 % CI", spd ? "pace" : "% of CP"};
     tt_row(t, hf);
     for (int k = 0; k < CPD_SHEET_NTIMES; k++) {
         const cpd_sheet_for_time *x = &s->tables->for_time[k];
@@ -1495,7 +1495,7 @@ static void render_txt(sb *b, const cpd_sheet *s)
     memset(t, 0, sizeof *t);
     t->ncols = 4;
     t->align = "rrrr";
-    const char *ha[] = {spd ? "speed" : "power", spd ? "pace" : "% of CP", "time", "95% interval"};
+    const char *ha[] = {spd ? "speed" : "power", spd ? "pace" : "% of CP", "time", "95 % CI"};
     tt_row(t, ha);
     for (size_t k = 0; k < s->tables->n_at; k++) {
         const cpd_sheet_at_intensity *x = &s->tables->at[k];
