@@ -307,7 +307,7 @@ static void print_text(const cpd_session_rec *sr, const cli_energy_athlete *A, c
                r->dom_ee_kj[k], r->dom_fixed_kj[k], r->dom_ee_kj[k] - r->dom_fixed_kj[k]);
     }
     printf("\n5-min blocks (minute by minute: --minutes FILE, --csv or --json)\n");
-    printf("  %-11s %7s %8s %10s %10s %9s %7s\n", "from", "power", "VO2", "energy kJ", "fixed kJ", "diff kJ", "CHO g");
+    printf("  %-11s %7s %11s %10s %10s %9s %7s\n", "from", "power", "VO2 mL/min", "energy kJ", "fixed kJ", "diff kJ", "CHO g");
     for (size_t k0 = 0; k0 < r->n_min; k0 += 5) {
         double rs = 0, pw = 0, vo = 0, ee = 0, fx = 0, ch = 0;
         for (size_t k = k0; k < k0 + 5 && k < r->n_min; k++) {
@@ -321,7 +321,7 @@ static void print_text(const cpd_session_rec *sr, const cli_energy_athlete *A, c
         if (rs == 0)
             continue;
         cpd_format_duration(60.0 * (double)k0, dur, sizeof dur);
-        printf("  %-11s %5.0f W %8.0f %10.0f %10.0f %+9.0f %7.0f\n", dur, pw / rs, vo / rs, ee, fx, ee - fx, ch);
+        printf("  %-11s %5.0f W %11.0f %10.0f %10.0f %+9.0f %7.0f\n", dur, pw / rs, vo / rs, ee, fx, ee - fx, ch);
     }
     printf("\nmodel check: the model driven by each bout's power against the bout's own fit (phase I excluded)\n");
     if (nv == 0)

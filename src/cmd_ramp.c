@@ -576,7 +576,8 @@ static void print_record(const cpd_gx_test *t, const cpd_ramp_result *r)
     if (r->protocol != CPD_RAMP_PROTO_STEPS)
         return;
     printf("\nstages (steady state: mean of the final 30 s)\n");
-    static const char *const head[] = {"stage", "intensity", "from", "to", "VO2", "SD", "stable", "VCO2", "RER", "HR", "gain"};
+    static const char *const head[] = {"stage", "intensity", "from", "to", "VO2 (mL/min)", "SD", "stable",
+                                       "VCO2 (mL/min)", "RER", "HR (bpm)", "gain"};
     cli_table *tb = cli_table_new(11, head, "rrrrrrlrrrl");
     for (size_t k = 0; k < r->steps.n; k++) {
         const cpd_steps_stage *g = &r->steps.stage[k];
@@ -595,7 +596,8 @@ static void print_record(const cpd_gx_test *t, const cpd_ramp_result *r)
         cli_table_row(tb, row);
     }
     cli_table_print(tb);
-    printf("(* cut short; stable: within %.0f mL/min of the 30 s before; ? stage under 60 s)\n", CPD_STEPS_STABLE_ML_MIN);
+    printf("(* cut short; SD of the VO2 in mL/min; stable: within %.0f mL/min of the 30 s before; ? stage under 60 s)\n",
+           CPD_STEPS_STABLE_ML_MIN);
 }
 
 /* Issue 12: the intervals of ramp_ci.c for a ramp analysed by cli_ramp_analyse (the same options). */
