@@ -52,6 +52,7 @@ def demo_today():
 ENV = dict(os.environ)
 ENV["CPDOMAIN_TODAY"] = demo_today()
 ENV.pop("CPDOMAIN_DB", None)
+NAN_INF = re.compile(r"(?<![A-Za-z])-?(nan|inf)(?![A-Za-z])", re.I)   # never printed (RULES: no NaN/inf)
 PRELUDE = 'cpdomain() { "%s" "$@"; }\n' % BIN
 
 
@@ -162,8 +163,10 @@ def check_help_examples():
             for line in ex:
                 total += 1
                 rc, out, err = run(line, work, env)
-                report(rc == 0 and "nan" not in out.lower().split(),
-                       "%s: '%s' runs on the demo store (exit %d)" % (name, line, rc),
+                bad = NAN_INF.search(out)
+                report(rc == 0 and not bad,
+                       "%s: '%s' runs on the demo store (exit %d)%s" % (name, line, rc,
+                                                                        ", prints '%s'" % bad.group(0) if bad else ""),
                        err.strip().splitlines()[-3:])
         finally:
             shutil.rmtree(work)
