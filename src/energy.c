@@ -629,8 +629,10 @@ static void draw_params(const cpd_energy_params *p, gsl_rng *g, cpd_vo2model *m,
 static void second_cost(const cpd_energy_eqset *e, double vo2, double rer, double *kj, double *cho, double *fat)
 {
     double l = vo2 / 1000.0;
-    *kj = cpd_energy_weir_kcal_min(l, rer * l) * CPD_ENERGY_KJ_PER_KCAL / 60.0;
+    /* above RER 1.00 the extra CO2 comes from buffering, not oxidation: energy and substrate both use
+     * the RER within the equations' range (all carbohydrate at 1.00), the point and every draw alike */
     double r = clampd(rer, CPD_ENERGY_RER_VALID_LO, CPD_ENERGY_RER_VALID_HI);
+    *kj = cpd_energy_weir_kcal_min(l, r * l) * CPD_ENERGY_KJ_PER_KCAL / 60.0;
     rates(e, l, r * l, cho, fat);
     *cho /= 60.0;
     *fat /= 60.0;

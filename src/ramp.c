@@ -975,7 +975,7 @@ static void steps_gain(struct ctx *c)
     double get = r->get.status != CPD_THR_NOT_FOUND ? r->get.vo2_ml_min : 0;
     if (cpd_steps_gain(&r->steps, get, r->peak_intensity) != CPD_OK) {
         r->gain_reason = CPD_RAMP_R_FEW_POINTS;
-        say(r->gain_why, sizeof r->gain_why, "fewer than 3 stages below the %s", get > 0 ? "GET or 80 %% of peak" : "80 %% of peak");
+        say(r->gain_why, sizeof r->gain_why, "fewer than 3 stages below the %s", get > 0 ? "GET or 80 % of peak" : "80 % of peak");
         return;
     }
     r->gain_status = CPD_THR_FOUND;
