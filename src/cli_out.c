@@ -92,7 +92,7 @@ void cli_note(cli_ctx *c, const char *fmt, ...)
 int cli_open(cli_ctx *c, int create)
 {
     char msg[CPD_MSG_MAX];
-    int rc = cpd_store_open(c->db_path, create, &c->store, msg);
+    int rc = cpd_store_open_wait(c->db_path, create, c->busy_ms, &c->store, msg);
     if (rc == CPD_ENOENT) { /* a missing store is a missing input (SPEC: exit 66) */
         cli_fail(c, rc, "%s", msg);
         return EX_NOINPUT;

@@ -135,3 +135,7 @@ expect 64 "session list without a code" session list
 err_has "cpdomain session list: missing argument CODE" "the subcommand is named with its family"
 err_has "Try 'cpdomain session list --help'" "and the help it points to exists"
 expect 0 "that help" session list --help
+# every global option may follow the command, --busy-timeout too, and is checked there as well
+expect 0 "--busy-timeout after the command" trial list C01 --busy-timeout 250
+expect 64 "a bad --busy-timeout after the command" trial list C01 --busy-timeout soon
+err_has "whole number of milliseconds" "the bad value is named"
