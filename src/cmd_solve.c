@@ -63,6 +63,20 @@ static int write_trace(cli_ctx *c, const char *path, const double *x, const doub
     return ex;
 }
 
+/* The end and lowest balance of one replay and when it failed, in the units' keys ("_j" or "_m"). */
+static void balance_keys(cli_json *o, const cpd_balance_result *b, const char *u)
+{
+    char k[40];
+    snprintf(k, sizeof k, "end_balance_%s", u);
+    cj_num(o, k, b->end_balance);
+    snprintf(k, sizeof k, "min_balance_%s", u);
+    cj_num(o, k, b->min_balance);
+    if (b->failed)
+        cj_int(o, "failure_at_s", (long long)b->failure_at_s);
+    else
+        cj_null(o, "failure_at_s");
+}
+
 int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,
                        const cli_balance_input *in)
 {
@@ -100,9 +114,9 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         char *svg = NULL;
         rc = cpd_plot_balance(x, trace, in->n, spd, m->cp, m->w_prime, &svg);
         if (!rc)
-            rc = cli_write_file(c, in->plot_path, svg, strlen(svg)) ? CPD_ECREATE : CPD_OK;
+            rc = cli_write_file(c, in->plot_path, svg, strlen(svg)); /* 0 or its exit code, said */
         else
-            cli_fail(c, rc, "-o %s: no plot: %s", in->plot_path, cpd_strerror(rc));
+            rc = cli_fail(c, rc, "-o %s: no plot: %s", in->plot_path, cpd_strerror(rc));
         free(svg);
         if (rc) {
             free(trace);
@@ -142,15 +156,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
                 cj_null(un, side ? "cp_high" : "cp_low");
                 continue;
             }
-            cli_json *u1 = cj_add_obj(un, side ? "cp_high" : "cp_low");
-            snprintf(k, sizeof k, "end_balance_%s", u);
-            cj_num(u1, k, bu[side].end_balance);
-            snprintf(k, sizeof k, "min_balance_%s", u);
-            cj_num(u1, k, bu[side].min_balance);
-            if (bu[side].failed)
-                cj_int(u1, "failure_at_s", (long long)bu[side].failure_at_s);
-            else
-                cj_null(u1, "failure_at_s");
+            balance_keys(cj_add_obj(un, side ? "cp_high" : "cp_low"), &bu[side], u);
         }
         cli_json *ms = cj_add_arr(d, "balance_models");
         for (int q = 0; q < CLI_NBALANCE; q++) {
@@ -160,14 +166,7 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
             cj_str(o2, "name", cpd_balance_model_name(allm[q]));
             cj_bool(o2, "chosen", allm[q] == bm);
             cj_bool(o2, "cycling_constants", spd && allm[q] != CPD_BALANCE_DIFFERENTIAL);
-            snprintf(k, sizeof k, "end_balance_%s", u);
-            cj_num(o2, k, ball[q].end_balance);
-            snprintf(k, sizeof k, "min_balance_%s", u);
-            cj_num(o2, k, ball[q].min_balance);
-            if (ball[q].failed)
-                cj_int(o2, "failure_at_s", (long long)ball[q].failure_at_s);
-            else
-                cj_null(o2, "failure_at_s");
+            balance_keys(o2, &ball[q], u);
             cj_push(ms, o2);
         }
         cj_bool(d, "completed_session", in->completed);

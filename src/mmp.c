@@ -17,7 +17,11 @@
 #if defined(__x86_64__) && defined(__GNUC__) && defined(__has_attribute)
 #if __has_attribute(target_clones) && !defined(CPD_MMP_NO_CLONES)
 #define CPD_MMP_CLONES 1
+#if defined(__clang__) /* clang names features, not x86-64 levels, in clones and in its CPU checks */
+#define CLONES __attribute__((target_clones("avx2", "default")))
+#else
 #define CLONES __attribute__((target_clones("arch=x86-64-v3", "default")))
+#endif
 #endif
 #endif
 #ifndef CLONES
@@ -69,8 +73,13 @@ const char *cpd_mmp_kernel(void)
 {
 #ifdef CPD_MMP_CLONES
     __builtin_cpu_init();
+#if defined(__clang__)
+    if (__builtin_cpu_supports("avx2"))
+        return "avx2 clone (clang)";
+#else
     if (__builtin_cpu_supports("x86-64-v3"))
         return "x86-64-v3 (AVX2)";
+#endif
     return "x86-64 baseline (sse2)";
 #else
     return "portable C (no multiversioning)";
