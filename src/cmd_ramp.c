@@ -637,8 +637,11 @@ static void print_ci(const cpd_ramp_thr_ci *ci, int speed, int steps)
     const char *u = speed ? "m/s" : "W";
     int dec = speed ? 2 : 0;
     char a[32], b[32];
-    printf("     95 %% CI %.0f to %.0f mL/min, %s %s to %s %s", ci->vo2_ci95[0], ci->vo2_ci95[1], steps ? "stage" : "ramp",
-           cli_num(a, sizeof a, ci->ramp_ci95[0], dec), cli_num(b, sizeof b, ci->ramp_ci95[1], dec), u);
+    printf("     95 %% CI %.0f to %.0f mL/min", ci->vo2_ci95[0], ci->vo2_ci95[1]);
+    /* a step test's bounds often fall in one stage: its steady-state interval below says more */
+    if (!steps || ci->ramp_ci95[0] != ci->ramp_ci95[1])
+        printf(", %s %s to %s %s", steps ? "stage" : "ramp", cli_num(a, sizeof a, ci->ramp_ci95[0], dec),
+               cli_num(b, sizeof b, ci->ramp_ci95[1], dec), u);
     if (ci->has_equiv)
         printf(", %s %s to %s %s", steps ? (speed ? "steady-state speed" : "steady-state power")
                                          : (speed ? "constant-speed equivalent" : "constant-power equivalent"),

@@ -518,7 +518,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         cpd_balance_params bq = {allm[q], m->cp, m->w_prime};
         cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
         cpd_balance_solution sq;
-        if (wq && cpd_balance_solve(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
+        if (wq && solver(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
             sq.reason == CPD_SOLVE_OK) {
             has_m[q] = 1;
             ans_m[q] = sq.intensity;

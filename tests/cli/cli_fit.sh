@@ -109,6 +109,8 @@ err_has "solve for its hardest moment instead: --lowest 5" "the refusal of a ses
 expect 0 "solve for the lowest balance" --json solve X1 --protocol "10min@?; 20min@100W" --lowest 5 --model linear-total
 json_is 'abs(d["power_w"] - (250 + 19000/600)) < 0.05, d["solved_for"], d["lowest_pct"], abs(d["lowest_balance_j"] - 1000) < 1, d["lowest_at_s"], d["end_balance_j"] > 5000' \
     "(True, 'lowest_balance', 5, True, 600, True)" "--lowest: P = CP + (W' - 5 %)/600 s, lowest at 10:00, ending in recovery"
+json_is '[abs(m["power_w"] - d["power_w"]) < 1e-9 for m in d["balance_models"] if m["chosen"]], all(m["power_w"] is not None for m in d["balance_models"])' \
+    "([True], True)" "--lowest: every recovery model is solved for the lowest balance too, the chosen one as the answer"
 p=$(json 'd["power_w"]')
 expect 0 "re-simulate the lowest answer" --json predict X1 --model linear-total --protocol "10min@${p}W; 20min@100W"
 json_is 'abs(d["min_balance_j"] - 1000) < 1 and d["failure_at_s"] is None' True "predict agrees: the lowest balance is 5 % of W'"
