@@ -3,27 +3,18 @@
 #ifndef CPDOMAIN_CLI_PD_H
 #define CPDOMAIN_CLI_PD_H
 
-#include "cli.h"
+#include "cli_athlete.h"
 #include "cpdomain/pd.h"
 
-typedef struct {
-    cpd_athlete athlete;
-    cpd_pd_modality modality;
-    size_t n;             /* trials used */
-    cpd_trial *trials;    /* the trials used, oldest first */
-    double *x, *t;        /* their intensity (W, or m/s: a distance trial's mean speed) and duration (s) */
-    size_t skipped_other; /* trials of the other modality left out */
-    cpd_pd_result *res;   /* the fit */
-    int from_curve;       /* 1: the points come from the mean-maximal curve (trials[i].id is a session id) */
-    int time_trials;      /* 1: every trial a time trial over a distance: best = distance-time (linear-total) */
-} cli_pd_fit;
+/* The fit of stored trials is the library's (cpdomain/athlete.h): the CLI prints its notes. */
+typedef cpd_athlete_fit cli_pd_fit;
 
-/* Loads the athlete's trials that are not excluded, dated within [from, to] (either may be NULL),
- * picks the modality (power or speed; for mixed trials the athlete's sport decides) and fits the
- * models in mask. Returns 0, or an exit code after printing why (unknown athlete 65, fewer than
- * 2 trials 69). The caller frees f with cli_pd_fit_free. */
+/* cpd_athlete_fit_load with its notes printed: the athlete's trials that are not excluded, dated
+ * within [from, to] (either may be NULL), in one modality, fitted with the models in mask. Returns
+ * 0, or an exit code after printing why (unknown athlete 65, fewer than 2 trials 69). The caller
+ * frees f with cli_pd_fit_free. */
 int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f);
-void cli_pd_fit_free(cli_pd_fit *f);
+#define cli_pd_fit_free cpd_athlete_fit_free
 
 /* The best-model rule for time trials over set distances (cpd_pd_best_for_time_trials). */
 #define CLI_TIME_TRIAL_RULE                                                                                    \
@@ -32,17 +23,15 @@ void cli_pd_fit_free(cli_pd_fit *f);
     "J Biomech Sports Exerc 6:110); the other models regress on the mean speed D/t, which carries the error "  \
     "of the measured time"
 
-/* Trials within this many days of the newest one form the newest block (the history's window). */
-#define CLI_PD_BLOCK_DAYS 28
+/* Trials within this many days of the newest one form the newest block (the history's window);
+ * cli_pd_newest_block is cpd_athlete_newest_block. */
+#define CLI_PD_BLOCK_DAYS CPD_ATHLETE_BLOCK_DAYS
+#define cli_pd_newest_block cpd_athlete_newest_block
 
-/* The newest block of f's trials: those dated on or after start = newest date - CLI_PD_BLOCK_DAYS.
- * Returns how many trials it holds when that is 3 or more and fewer than all, else 0. */
-size_t cli_pd_newest_block(const cli_pd_fit *f, char start[11]);
-
-/* The athlete's current fit: without from, like cli_pd_load_fit over the newest block of trials up
- * to `to` (NULL: all) when it holds 3 or more and older trials exist (*older receives how many are
- * left out, 0 when all are used); with from, exactly cli_pd_load_fit. Used by domains, predict, solve and sheet:
- * today's boundaries and predictions describe the athlete now, the history keeps the rest. */
+/* The athlete's current fit (cpd_athlete_fit_current) with its notes printed: without from, the
+ * newest block of trials up to `to` when it holds 3 or more and older trials exist (*older receives
+ * how many are left out); with from, exactly cli_pd_load_fit. Used by domains, predict, solve and
+ * sheet: today's boundaries and predictions describe the athlete now, the history keeps the rest. */
 int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
                         size_t *older);
 
@@ -69,8 +58,8 @@ double cli_pd_pace_m(const cpd_athlete *a, const char **label);
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
                          const char *balance_model, const char *trace_path, const char *plot_path);
 
-/* The usual caution printed beside every prescription or prediction. */
-extern const char CLI_CAUTION[];
+/* The usual caution printed beside every prescription or prediction (the library's text). */
+#define CLI_CAUTION CPD_ATHLETE_CAUTION
 
 /* ---- the W' balance report shared by predict --protocol and predict --session ---- */
 #include "cpdomain/balance.h"
