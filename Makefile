@@ -59,6 +59,7 @@ LIB_SRCS += src/csvfast.c
 CLI_SRCS += src/cmd_session.c
 LIB_SRCS += src/athlete.c src/athlete_domains.c src/export_domains.c
 CLI_SRCS += src/cli_athlete.c src/cli_gx.c src/cli_history.c
+CLI_SRCS += src/cli_session.c src/cli_balance.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance

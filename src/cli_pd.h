@@ -54,7 +54,8 @@ const char *cli_pd_unit(cpd_pd_modality m);
 /* The pace distance for a sport: 100 m for swimmers, else 1000 m; the label "/100m" or "/km". */
 double cli_pd_pace_m(const cpd_athlete *a, const char **label);
 
-/* predict --protocol: the balance of a typed protocol for fitted model m; returns an exit code. */
+/* predict --protocol: the balance of a typed protocol for fitted model m; returns an exit code
+ * (cli_balance.c, as the rest of the balance report). */
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
                          const char *balance_model, const char *trace_path, const char *plot_path);
 
@@ -63,6 +64,7 @@ int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit
 
 /* ---- the W' balance report shared by predict --protocol and predict --session ---- */
 #include "cpdomain/balance.h"
+#include "cpdomain/protocol.h"
 
 /* One row of the report's table: seconds [start_s, start_s + length_s) of the input. */
 typedef struct {
@@ -87,6 +89,14 @@ typedef struct {
     const char *plot_path;           /* -o FILE.svg: the balance plot, or NULL */
 } cli_balance_input;
 
+/* The model's parameters with CP at the lower (side < 0) or upper end of its 95 % interval and W'
+ * moved with it along their joint-normal regression; 0 when the fit has no standard errors. */
+int cli_param_pair(const cpd_pd_model_fit *m, int side, double *cp, double *w);
+
+/* Parses protocol text and checks it against f's modality; *p freed with cpd_protocol_free.
+ * Returns 0 or an exit code after printing why. */
+int cli_load_protocol(cli_ctx *c, const cli_pd_fit *f, const char *text, cpd_protocol **p);
+
 #define CLI_NBALANCE 3 /* recovery models reported side by side */
 #define CLI_COMPLETED_BELOW_ZERO                                                                               \
     "the athlete finished it, so CP or W' is probably out of date (too low); retest, or fit the newest trials"
@@ -96,7 +106,7 @@ typedef struct {
 int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,
                        const cli_balance_input *in);
 
-/* predict --session: the balance of recorded session id for fitted model m (cmd_session.c). */
+/* predict --session: the balance of recorded session id for fitted model m (cli_session.c). */
 int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, long long id,
                         const char *balance_model, const char *trace_path, const char *plot_path);
 
@@ -104,7 +114,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
  * sessions dated within [from, to] at the durations in the list ("3min,5min,12min"; NULL: the
  * default CLI_CURVE_DURATIONS). The points become f->trials (id = the session that gave the
  * point, date its date; oldest first) and f->from_curve is 1. Returns 0 or an exit code after
- * printing why (cmd_session.c). */
+ * printing why (cli_session.c). */
 #define CLI_CURVE_DURATIONS "3min,5min,12min,20min"
 int cli_pd_load_curve_fit(cli_ctx *c, const char *code, const char *from, const char *to, const char *durations,
                           unsigned mask, cli_pd_fit *f);
