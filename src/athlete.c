@@ -10,9 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Writes a message into msg (may be NULL) and returns rc. */
-static int say(char *msg, int rc, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
-static int say(char *msg, int rc, const char *fmt, ...)
+int cpd_athlete_say(char *msg, int rc, const char *fmt, ...)
 {
     if (msg) {
         va_list ap;
@@ -26,7 +24,7 @@ static int say(char *msg, int rc, const char *fmt, ...)
 /* A store failure: its status with the store's message. */
 static int store_fail(cpd_store *s, int rc, char *msg)
 {
-    return say(msg, rc, "%s", cpd_store_errmsg(s));
+    return cpd_athlete_say(msg, rc, "%s", cpd_store_errmsg(s));
 }
 
 void cpd_athlete_note(cpd_athlete_notes *n, int error, const char *fmt, ...)
@@ -94,7 +92,7 @@ int cpd_athlete_fit_load(cpd_store *s, const char *code, const char *from, const
     if (!f->trials || !f->x || !f->t || !f->res) {
         free(all);
         cpd_athlete_fit_free(f);
-        return say(msg, CPD_ENOMEM, "out of memory");
+        return cpd_athlete_say(msg, CPD_ENOMEM, "out of memory");
     }
     for (size_t i = 0; i < na; i++) {
         const cpd_trial *t = &all[i];
@@ -111,7 +109,7 @@ int cpd_athlete_fit_load(cpd_store *s, const char *code, const char *from, const
         cpd_athlete_note(&f->notes, 0, "note: %zu %s trial(s) of %s left out: one fit uses one modality", f->skipped_other,
                          f->modality == CPD_PD_SPEED ? "power" : "speed or distance", code);
     if (f->n < 2) {
-        say(msg, CPD_ENODATA,
+        cpd_athlete_say(msg, CPD_ENODATA,
             "%s has %zu usable trial(s)%s%s: a power-duration fit needs at least 2, and 3-5 trials of "
             "about 2-15 min on separate days give an estimate with uncertainty",
             code, f->n, from || to ? " in the chosen dates" : "", f->n ? "" : " (excluded trials do not count)");
@@ -119,7 +117,7 @@ int cpd_athlete_fit_load(cpd_store *s, const char *code, const char *from, const
         return CPD_ENODATA;
     }
     if (f->n > CPD_PD_NMAX) {
-        say(msg, CPD_EUSAGE, "%s has %zu trials in the chosen dates; at most %d fit at once: use --from/--to", code, f->n,
+        cpd_athlete_say(msg, CPD_EUSAGE, "%s has %zu trials in the chosen dates; at most %d fit at once: use --from/--to", code, f->n,
             CPD_PD_NMAX);
         drop(f);
         return CPD_EUSAGE;
@@ -138,7 +136,7 @@ int cpd_athlete_fit_load(cpd_store *s, const char *code, const char *from, const
     if (!rc && f->modality == CPD_PD_SPEED && nd == f->n && (mask & CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL)))
         f->time_trials = cpd_pd_best_for_time_trials(f->res) == CPD_OK;
     if (rc) {
-        say(msg, rc, "fitting %s: %s", code, fm[0] ? fm : cpd_strerror(rc));
+        cpd_athlete_say(msg, rc, "fitting %s: %s", code, fm[0] ? fm : cpd_strerror(rc));
         drop(f);
         return rc;
     }
@@ -240,7 +238,36 @@ int cpd_athlete_ramp_analyse(cpd_store *s, long long id, const cpd_athlete_ramp_
     if (rc) {
         cpd_ramp_free(*w);
         *w = NULL;
-        return say(msg, rc, "ramp %lld: %s", id, rm[0] ? rm : cpd_strerror(rc));
+        return cpd_athlete_say(msg, rc, "ramp %lld: %s", id, rm[0] ? rm : cpd_strerror(rc));
+    }
+    return CPD_OK;
+}
+
+int cpd_athlete_newest_ramp(cpd_store *s, const char *code, int speed, long long *id, cpd_gx_test *t,
+                            cpd_ramp_ws **w, cpd_ramp_result **r, char *rm, char *msg)
+{
+    *id = 0;
+    *w = NULL;
+    *r = NULL;
+    cpd_gx_test *v = NULL;
+    size_t n = 0;
+    int rc = cpd_store_gx_list(s, code, CPD_GXT_RAMP, &v, &n);
+    if (rc)
+        return store_fail(s, rc, msg);
+    for (size_t i = n; i-- > 0;)
+        if (v[i].speed == speed) {
+            *id = v[i].id;
+            break;
+        }
+    free(v);
+    if (!*id)
+        return CPD_OK;
+    cpd_athlete a;
+    if (!(*r = calloc(1, sizeof **r)))
+        return cpd_athlete_say(msg, CPD_ENOMEM, "out of memory");
+    if (cpd_athlete_ramp_analyse(s, *id, NULL, t, &a, w, *r, rm)) {
+        free(*r);
+        *r = NULL;
     }
     return CPD_OK;
 }
@@ -268,10 +295,10 @@ static int check_repeats(cpd_athlete_bouts *r, char *msg)
     for (size_t i = 0; i < r->n; i++) {
         const cpd_gx_test *t = &r->t[i];
         if (strcmp(t->athlete, t0->athlete))
-            return say(msg, CPD_EUSAGE, "bouts %lld and %lld belong to different athletes (%s, %s): an ensemble averages "
+            return cpd_athlete_say(msg, CPD_EUSAGE, "bouts %lld and %lld belong to different athletes (%s, %s): an ensemble averages "
                        "repeats of one athlete's transition", (long long)t0->id, (long long)t->id, t0->athlete, t->athlete);
         if (t->speed != t0->speed)
-            return say(msg, CPD_EUSAGE, "bouts %lld and %lld mix a power and a speed bout: not repeats of one transition",
+            return cpd_athlete_say(msg, CPD_EUSAGE, "bouts %lld and %lld mix a power and a speed bout: not repeats of one transition",
                        (long long)t0->id, (long long)t->id);
         if (t->intensity < lo) {
             lo = t->intensity;
@@ -290,12 +317,12 @@ static int check_repeats(cpd_athlete_bouts *r, char *msg)
     }
     const char *u = t0->speed ? "m/s" : "W";
     if (100.0 * (hi - lo) / lo > CPD_ATHLETE_SAME_PCT)
-        return say(msg, CPD_EUSAGE, "bout %lld (%g %s) and bout %lld (%g %s) differ by %.1f %% in %s, more than %.0f %%: "
+        return cpd_athlete_say(msg, CPD_EUSAGE, "bout %lld (%g %s) and bout %lld (%g %s) differ by %.1f %% in %s, more than %.0f %%: "
                    "only repeats of the same transition are averaged", (long long)r->t[ilo].id, lo, u,
                    (long long)r->t[ihi].id, hi, u, 100.0 * (hi - lo) / lo, t0->speed ? "speed" : "power",
                    CPD_ATHLETE_SAME_PCT);
     if (100.0 * (bhi - blo) / lo > CPD_ATHLETE_SAME_PCT)
-        return say(msg, CPD_EUSAGE, "the baselines differ (%g to %g %s; a missing --baseline counts as 0): only repeats of "
+        return cpd_athlete_say(msg, CPD_EUSAGE, "the baselines differ (%g to %g %s; a missing --baseline counts as 0): only repeats of "
                    "the same transition are averaged", blo, bhi, u);
     r->speed = t0->speed;
     r->intensity = sum / (double)r->n;
@@ -307,31 +334,17 @@ static int check_repeats(cpd_athlete_bouts *r, char *msg)
  * there is none, notes when it cannot be analysed. */
 static int bouts_ramp(cpd_store *s, cpd_athlete_bouts *r, char *msg)
 {
-    cpd_gx_test *v = NULL;
-    size_t n = 0;
-    int rc = cpd_store_gx_list(s, r->a.code, CPD_GXT_RAMP, &v, &n);
-    if (rc)
-        return store_fail(s, rc, msg);
     long long id = 0;
-    for (size_t i = n; i-- > 0;)
-        if (v[i].speed == r->speed) {
-            id = v[i].id;
-            break;
-        }
-    free(v);
-    if (!id)
-        return CPD_OK;
     cpd_gx_test t;
-    cpd_athlete a;
     cpd_ramp_ws *w = NULL;
-    cpd_ramp_result *rr = calloc(1, sizeof *rr);
-    if (!rr)
-        return say(msg, CPD_ENOMEM, "out of memory");
+    cpd_ramp_result *rr = NULL;
     char rm[CPD_MSG_MAX] = "";
-    if (cpd_athlete_ramp_analyse(s, id, NULL, &t, &a, &w, rr, rm)) {
+    int rc = cpd_athlete_newest_ramp(s, r->a.code, r->speed, &id, &t, &w, &rr, rm, msg);
+    if (rc || !id)
+        return rc;
+    if (!rr) {
         cpd_athlete_note(&r->notes, 1, "%s", rm);
         cpd_athlete_note(&r->notes, 0, "note: ramp %lld could not be analysed: no VO2peak for the bout", id);
-        free(rr);
         return CPD_OK;
     }
     r->ramp_id = id;
@@ -354,7 +367,7 @@ int cpd_athlete_bouts_analyse(cpd_store *s, const long long *ids, size_t n, cons
 {
     memset(r, 0, sizeof *r);
     if (n == 0 || n > CPD_ATHLETE_BOUTS_MAX)
-        return say(msg, CPD_EUSAGE, "give 1 to %d bouts", CPD_ATHLETE_BOUTS_MAX);
+        return cpd_athlete_say(msg, CPD_EUSAGE, "give 1 to %d bouts", CPD_ATHLETE_BOUTS_MAX);
     if (ko)
         r->ko = *ko;
     else
@@ -375,14 +388,14 @@ int cpd_athlete_bouts_analyse(cpd_store *s, const long long *ids, size_t n, cons
     for (size_t i = 0; i < r->n; i++) {
         const cpd_gx_series *g = r->g[i];
         if (r->t[i].onset_s < g->t_s[0])
-            return say(msg, CPD_ENODATA,
+            return cpd_athlete_say(msg, CPD_ENODATA,
                        "bout %lld: no baseline data: the record starts at %g s, after the onset at %g s; the kinetics "
                        "need the breaths before and from the onset (record a baseline, or correct --onset)",
                        (long long)r->t[i].id, g->t_s[0], r->t[i].onset_s);
         end = fmin(end, g->t_s[g->n - 1] - r->t[i].onset_s);
     }
     if (r->ko.end_s > 0 && r->ko.end_s > end + 1e-9)
-        return say(msg, CPD_EUSAGE, "--fit-end %g s lies beyond the data: %s %.0f s after the onset", r->ko.end_s,
+        return cpd_athlete_say(msg, CPD_EUSAGE, "--fit-end %g s lies beyond the data: %s %.0f s after the onset", r->ko.end_s,
                    r->n > 1 ? "the shortest repeat ends" : "the bout ends", end);
     if ((rc = bouts_ramp(s, r, msg)))
         return rc;
@@ -390,7 +403,7 @@ int cpd_athlete_bouts_analyse(cpd_store *s, const long long *ids, size_t n, cons
     r->ko.baseline_power_w = r->baseline;
     r->ws = cpd_kinetics_alloc();
     if (!r->ws)
-        return say(msg, CPD_ENOMEM, "out of memory");
+        return cpd_athlete_say(msg, CPD_ENOMEM, "out of memory");
     cpd_kinetics_input in[CPD_ATHLETE_BOUTS_MAX];
     for (size_t i = 0; i < r->n; i++) {
         in[i].gx = r->g[i];
@@ -402,7 +415,7 @@ int cpd_athlete_bouts_analyse(cpd_store *s, const long long *ids, size_t n, cons
         size_t o = 0;
         for (size_t i = 0; i < r->n && o + 24 < sizeof ids_text; i++)
             o += (size_t)snprintf(ids_text + o, sizeof ids_text - o, "%s%lld", i ? "," : "", (long long)ids[i]);
-        return say(msg, rc, "%s %s: %s", r->n > 1 ? "bouts" : "bout", ids_text,
+        return cpd_athlete_say(msg, rc, "%s %s: %s", r->n > 1 ? "bouts" : "bout", ids_text,
                    r->res.msg[0] ? r->res.msg : cpd_kinetics_reason_text(r->res.reason));
     }
     return CPD_OK;

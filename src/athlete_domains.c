@@ -6,22 +6,9 @@
 #include "cpdomain/units.h"
 
 #include <math.h>
-#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-
-static int fail(char *msg, int rc, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
-static int fail(char *msg, int rc, const char *fmt, ...)
-{
-    if (msg) {
-        va_list ap;
-        va_start(ap, fmt);
-        vsnprintf(msg, CPD_MSG_MAX, fmt, ap);
-        va_end(ap);
-    }
-    return rc;
-}
 
 void cpd_athlete_domains_free(cpd_athlete_domains *d)
 {
@@ -32,33 +19,18 @@ void cpd_athlete_domains_free(cpd_athlete_domains *d)
 /* The newest ramp of the fit's modality, analysed; fills the GET inputs. Nothing when none. */
 static int add_ramp(cpd_store *s, cpd_athlete_domains *d, char *msg)
 {
-    cpd_gx_test *v = NULL;
-    size_t n = 0;
-    int rc = cpd_store_gx_list(s, d->fit.athlete.code, CPD_GXT_RAMP, &v, &n);
-    if (rc)
-        return fail(msg, rc, "%s", cpd_store_errmsg(s));
-    int want_speed = d->fit.modality == CPD_PD_SPEED;
     long long id = 0;
-    for (size_t i = n; i-- > 0;)
-        if (v[i].speed == want_speed) {
-            id = v[i].id;
-            break;
-        }
-    free(v);
-    if (!id)
-        return CPD_OK;
     cpd_gx_test t;
-    cpd_athlete a;
     cpd_ramp_ws *w = NULL;
-    cpd_ramp_result *r = calloc(1, sizeof *r);
-    if (!r)
-        return fail(msg, CPD_ENOMEM, "out of memory");
-    /* a ramp that cannot be analysed leaves the boundary to LT1; say so */
+    cpd_ramp_result *r = NULL;
     char rm[CPD_MSG_MAX] = "";
-    if (cpd_athlete_ramp_analyse(s, id, NULL, &t, &a, &w, r, rm)) {
+    int rc = cpd_athlete_newest_ramp(s, d->fit.athlete.code, d->fit.modality == CPD_PD_SPEED, &id, &t, &w, &r, rm, msg);
+    if (rc || !id)
+        return rc;
+    /* a ramp that cannot be analysed leaves the boundary to LT1; say so */
+    if (!r) {
         cpd_athlete_note(&d->notes, 1, "%s", rm);
         cpd_athlete_note(&d->notes, 0, "note: ramp %lld could not be analysed; the domains use the other tests", id);
-        free(r);
         return CPD_OK;
     }
     d->has_ramp = 1;
@@ -117,7 +89,7 @@ static int add_lactate(cpd_store *s, cpd_athlete_domains *d, char *msg)
     size_t n = 0;
     int rc = cpd_store_lactate_list(s, d->fit.athlete.code, &v, &n);
     if (rc)
-        return fail(msg, rc, "%s", cpd_store_errmsg(s));
+        return cpd_athlete_say(msg, rc, "%s", cpd_store_errmsg(s));
     int want_speed = d->fit.modality == CPD_PD_SPEED;
     for (size_t i = n; i-- > 0;) {
         if (v[i].speed != want_speed)
@@ -210,13 +182,13 @@ int cpd_athlete_domains_build(cpd_store *s, const char *code, const cpd_athlete_
         d->model = r->best;
     else {
         cpd_athlete_domains_free(d);
-        return fail(msg, CPD_ENODATA,
+        return cpd_athlete_say(msg, CPD_ENODATA,
                     "%s: no power-duration model qualifies as best; name one with --model (see 'cpdomain fit %s')", code,
                     code);
     }
     const cpd_pd_model_fit *m = &r->models[d->model];
     if (!m->ok) {
-        fail(msg, CPD_ENODATA, "%s: the %s model did not fit: %s", code, cpd_pd_model_name(d->model),
+        cpd_athlete_say(msg, CPD_ENODATA, "%s: the %s model did not fit: %s", code, cpd_pd_model_name(d->model),
              cpd_pd_fail_text(m->fail));
         cpd_athlete_domains_free(d);
         return CPD_ENODATA;
@@ -237,7 +209,7 @@ int cpd_athlete_domains_build(cpd_store *s, const char *code, const cpd_athlete_
     add_tau(s, d);
     if ((rc = cpd_domains_compute(in, &d->res))) {
         cpd_athlete_domains_free(d);
-        return fail(msg, rc, "%s: the domains cannot be computed: %s", code, cpd_strerror(rc));
+        return cpd_athlete_say(msg, rc, "%s: the domains cannot be computed: %s", code, cpd_strerror(rc));
     }
     return CPD_OK;
 }
@@ -268,7 +240,7 @@ int cpd_athlete_history_build(cpd_store *s, const char *code, int win, int has_m
         free(day);
         cpd_pd_free(w);
         cpd_athlete_history_free(a);
-        return fail(msg, CPD_ENOMEM, "out of memory");
+        return cpd_athlete_say(msg, CPD_ENOMEM, "out of memory");
     }
     for (size_t i = 0; i < a->f.n; i++)
         cpd_parse_date(a->f.trials[i].date, &day[i]);
@@ -277,13 +249,13 @@ int cpd_athlete_history_build(cpd_store *s, const char *code, int win, int has_m
     cpd_pd_free(w);
     if (rc) {
         cpd_athlete_history_free(a);
-        return fail(msg, rc, "%s: history: %s", code, cpd_strerror(rc));
+        return cpd_athlete_say(msg, rc, "%s: history: %s", code, cpd_strerror(rc));
     }
     /* ramps of the same modality: GET equivalent and VO2peak */
     cpd_gx_test *v = NULL;
     size_t n = 0;
     if ((rc = cpd_store_gx_list(s, a->f.athlete.code, CPD_GXT_RAMP, &v, &n))) {
-        fail(msg, rc, "%s", cpd_store_errmsg(s));
+        cpd_athlete_say(msg, rc, "%s", cpd_store_errmsg(s));
         cpd_athlete_history_free(a);
         return rc;
     }
