@@ -12,8 +12,13 @@
 
 void cpd_athlete_domains_free(cpd_athlete_domains *d)
 {
-    if (d)
-        cpd_athlete_fit_free(&d->fit);
+    if (!d)
+        return;
+    cpd_athlete_fit_free(&d->fit);
+    cpd_ramp_free(d->ramp_ws);
+    free(d->ramp);
+    d->ramp_ws = NULL;
+    d->ramp = NULL;
 }
 
 /* The newest ramp of the fit's modality, analysed; fills the GET inputs. Nothing when none. */
@@ -77,8 +82,9 @@ static int add_ramp(cpd_store *s, cpd_athlete_domains *d, char *msg)
         in->has_peak = 1;
         in->peak = r->peak_intensity - r->rate_used * r->mrt_s / 60;
     }
-    cpd_ramp_free(w);
-    free(r);
+    d->ramp_test = t;
+    d->ramp = r;
+    d->ramp_ws = w;
     return CPD_OK;
 }
 

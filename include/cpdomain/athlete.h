@@ -141,6 +141,10 @@ typedef struct {
     int has_ramp;                 /* 1 when a ramp of the athlete's modality was analysed */
     long long ramp_id;
     char ramp_date[11];
+    cpd_gx_test ramp_test;        /* that ramp's record, */
+    cpd_ramp_result *ramp;        /* its analysis (VO2peak, GET, RCP, stages of a step test) */
+    cpd_ramp_ws *ramp_ws;         /* and the workspace behind it (for cpd_ramp_ci_compute and plots);
+                                     both NULL without has_ramp, freed by cpd_athlete_domains_free */
     int ramp_mrt_missing;         /* 1 when the ramp had no MRT: no constant-intensity equivalent */
     int ramp_no_vco2;             /* 1 when the ramp is VO2-only: GET and RCP cannot be computed */
     size_t older_trials;          /* trials before the newest block, left out of the boundaries */
