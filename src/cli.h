@@ -17,6 +17,7 @@ typedef struct {
     int quiet;           /* --quiet */
     int mute;            /* internal: a fallback lookup is running; its failures are not errors (nests) */
     int today;           /* days since 1970-01-01 (local date, or $CPDOMAIN_TODAY) */
+    int busy_ms;         /* --busy-timeout or $CPDOMAIN_BUSY_TIMEOUT, ms (main sets CPD_STORE_BUSY_MS) */
     cpd_store *store;    /* open store, or NULL */
 } cli_ctx;
 

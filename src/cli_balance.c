@@ -99,9 +99,9 @@ int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *
         char *svg = NULL;
         rc = cpd_plot_balance(x, trace, in->n, spd, m->cp, m->w_prime, &svg);
         if (!rc)
-            rc = cli_write_file(c, in->plot_path, svg, strlen(svg)) ? CPD_ECREATE : CPD_OK;
+            rc = cli_write_file(c, in->plot_path, svg, strlen(svg)); /* 0 or its exit code, said */
         else
-            cli_fail(c, rc, "-o %s: no plot: %s", in->plot_path, cpd_strerror(rc));
+            rc = cli_fail(c, rc, "-o %s: no plot: %s", in->plot_path, cpd_strerror(rc));
         free(svg);
         if (rc) {
             free(trace);

@@ -17,7 +17,7 @@ static void gather_ramp(cli_ctx *c, cli_energy_athlete *A, const char *to_date)
     if (cpd_store_gx_list(c->store, A->a.code, CPD_GXT_RAMP, &v, &n))
         return;
     long long id = 0;
-    for (size_t i = n; i-- > 0;) /* oldest first: the newest power ramp on or before to_date */
+    for (size_t i = n; i-- > 0;) /* newest first: the newest power ramp on or before to_date */
         if (!v[i].speed && (!to_date || strcmp(v[i].date, to_date) <= 0)) {
             id = v[i].id;
             break;
@@ -287,16 +287,35 @@ static void set(cli_energy_par *p, double v, double sd, int typical, const char 
     snprintf(p->src, sizeof p->src, fmt, arg ? arg : "");
 }
 
+/* A list "a, b, c" in ids (n bytes) that ends "and N more" rather than cutting an item: the k-th
+ * item (from 0) is appended while it fits; *off and *left carry the state (both 0 at the start). */
+static void list_add(char *ids, size_t n, size_t *off, size_t *left, size_t k, const char *item)
+{
+    size_t m = strlen(item) + (k ? 2 : 0);
+    if (!*left && *off + m + 16 < n)
+        *off += (size_t)snprintf(ids + *off, n - *off, "%s%s", k ? ", " : "", item);
+    else
+        (*left)++;
+}
+
+static void list_end(char *ids, size_t n, size_t off, size_t left)
+{
+    if (left)
+        snprintf(ids + off, n - off, " and %zu more", left);
+}
+
 /* The ids of the bouts of domain dom (0: any) into ids; returns how many. */
 static size_t bouts_of(const cli_energy_athlete *A, int dom, char *ids, size_t n)
 {
-    size_t k = 0, off = 0;
+    size_t k = 0, off = 0, left = 0;
     ids[0] = '\0';
     for (size_t i = 0; i < A->nb; i++)
         if (!dom || A->b[i].res.domain == dom) {
-            off += (size_t)snprintf(ids + off, off < n ? n - off : 0, "%s%lld", k ? ", " : "", A->b[i].id);
-            k++;
+            char one[24];
+            snprintf(one, sizeof one, "%lld", A->b[i].id);
+            list_add(ids, n, &off, &left, k++, one);
         }
+    list_end(ids, n, off, left);
     return k;
 }
 
@@ -361,15 +380,14 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
             set(&P[CLI_EN_TAU], tau / (double)na, tse / (double)na, 0, "%s", buf);
             set(&P[CLI_EN_DELAY], td / (double)na, 2.0, 0, "%s", buf);
         } else {
-            set(&P[CLI_EN_TAU], 30.0, 8.0, 1, "20-35 s in healthy adults (Burnley, Doust & Jones 2006 J Appl "
-                "Physiol 101:1320)%s", NULL);
+            set(&P[CLI_EN_TAU], 30.0, 8.0, 1, "20-35 s in healthy adults (common practice, from memory)%s", NULL);
             set(&P[CLI_EN_DELAY], 10.0, 4.0, 1, "[chosen]: the fitted delay after phase I%s", NULL);
         }
     }
 
     /* slow component per W above the GET: the heavy bouts with a supported slow component */
     double sg = 0, sgse = 0, st = 0, sd2 = 0;
-    size_t nh = 0, off = 0;
+    size_t nh = 0, off = 0, left = 0;
     ids[0] = '\0';
     for (size_t i = 0; i < A->nb; i++) {
         const cli_energy_bout *e = &A->b[i];
@@ -384,9 +402,11 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
         sgse += e->res.bi.has_se ? e->res.bi.se[CPD_KIN_A2] / above : 0.5 * e->res.slow.asymptote_ml_min / above;
         st += e->res.slow.tau_s;
         sd2 += e->res.slow.delay_s;
-        off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%lld", nh ? ", " : "", e->id);
-        nh++;
+        char one[24];
+        snprintf(one, sizeof one, "%lld", e->id);
+        list_add(ids, sizeof ids, &off, &left, nh++, one);
     }
+    list_end(ids, sizeof ids, off, left);
     if (nh > 0) {
         double m = (double)nh;
         snprintf(buf, sizeof buf, "heavy bout%s %s", nh > 1 ? "s" : "", ids);
@@ -397,7 +417,7 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
         set(&P[CLI_EN_SCG], 7.0, 3.5, 1, "[chosen]: 200-400 mL/min in the middle of the heavy domain (order of "
             "magnitude from memory)%s", NULL);
         set(&P[CLI_EN_SCTAU], 180.0, 60.0, 1, "[chosen], from memory%s", NULL);
-        set(&P[CLI_EN_SCDEL], 100.0, 30.0, 1, "105 +- 46 s (Barstow & Mole 1991 J Appl Physiol 71:2099)%s", NULL);
+        set(&P[CLI_EN_SCDEL], 100.0, 30.0, 1, "105 +- 46 s, from memory of Barstow & Mole 1991 J Appl Physiol 71:2099%s", NULL);
     }
 
     /* RER of each domain: the step test's steady stages, else the athlete's steady-state bouts, else typical */
@@ -405,17 +425,19 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
     for (int d = 0; d < 3; d++) {
         double s = 0;
         size_t k = 0;
-        off = 0;
+        off = left = 0;
         ids[0] = '\0';
         for (size_t i = 0; d < 2 && A->has_steps && i < A->ns; i++) {
             double w = A->st_w[i], r = A->st_rer[i];
             int in = d == 0 ? w < A->get_w : A->has_cp && w >= A->get_w && w < A->cp_w;
             if (in && A->st_steady[i] && r >= CPD_ENERGY_RER_MIN && r <= CPD_ENERGY_RER_MAX) {
                 s += r;
-                off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%.0f", k ? ", " : "", w);
-                k++;
+                char one[24];
+                snprintf(one, sizeof one, "%.0f", w);
+                list_add(ids, sizeof ids, &off, &left, k++, one);
             }
         }
+        list_end(ids, sizeof ids, off, left);
         if (k) {
             snprintf(buf, sizeof buf, "step test %lld (%s): stable stage%s at %s W (%s); SD 0.02 [chosen]", A->steps_id,
                      A->steps_date, k > 1 ? "s" : "", ids, d == 0 ? "below the GET" : "GET to CP");
@@ -425,10 +447,11 @@ int cli_energy_params(cli_ctx *c, const cli_energy_athlete *A, cli_energy_par *P
         for (size_t i = 0; d < 2 && i < A->nb; i++)
             if (A->b[i].has_rer && A->b[i].res.domain == d + 1) {
                 s += A->b[i].rer;
-                off += (size_t)snprintf(ids + off, off < sizeof ids ? sizeof ids - off : 0, "%s%lld", k ? ", " : "",
-                                        A->b[i].id);
-                k++;
+                char one[24];
+                snprintf(one, sizeof one, "%lld", A->b[i].id);
+                list_add(ids, sizeof ids, &off, &left, k++, one);
             }
+        list_end(ids, sizeof ids, off, left);
         if (k) {
             snprintf(buf, sizeof buf, "last minute of bout%s %s; SD 0.02 [chosen]", k > 1 ? "s" : "", ids);
             set(&P[CLI_EN_RER_M + d], s / (double)k, 0.02, 0, "%s", buf);
@@ -485,8 +508,8 @@ int cli_energy_fuel_text(cli_ctx *c, const char *code, const cpd_domains_result 
         target[0] = 0.75 * r[CPD_DOM_MODERATE].hi;
     if (r[CPD_DOM_HEAVY].has_lo && r[CPD_DOM_HEAVY].has_hi)
         target[1] = 0.5 * (r[CPD_DOM_HEAVY].lo + r[CPD_DOM_HEAVY].hi);
-    if (r[CPD_DOM_SEVERE].has_lo && r[CPD_DOM_SEVERE].has_hi)
-        target[2] = 0.5 * (r[CPD_DOM_SEVERE].lo + r[CPD_DOM_SEVERE].hi);
+    /* no hourly rate in the severe domain: work there ends in task failure within minutes, so a rate
+     * per hour (or over 20 min) would describe an effort nobody can sustain */
     double p[FUEL_BOUT_S];
     unsigned char rec[FUEL_BOUT_S];
     memset(rec, 1, sizeof rec);
@@ -513,6 +536,9 @@ int cli_energy_fuel_text(cli_ctx *c, const char *code, const cpd_domains_result 
     size_t nt = 0;
     for (int k = 0; k < CLI_EN_N; k++)
         nt += (size_t)P[k].typical;
+    if (off < n && ok == 0)
+        off += (size_t)snprintf(text + off, n - off, " No hourly rate is given for the severe domain: work there ends "
+                                "in task failure within minutes ('energy' costs a recorded session).");
     if (off < n && nt)
         off += (size_t)snprintf(text + off, n - off, " Typical values, not the athlete's, stand in for %zu of the "
                                 "model's parameters ('energy' lists them).", nt);

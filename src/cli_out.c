@@ -57,13 +57,23 @@ int cli_fail(cli_ctx *c, int rc, const char *fmt, ...)
     return cli_exit_code(rc);
 }
 
+/* The family of the subcommand being run ("trial" for 'trial list'), so that messages name the real
+ * command. One command runs per process: set once by cli_dispatch. */
+static const char *dispatched_family;
+
 int cli_usage(const char *cmd, const char *fmt, ...)
 {
+    /* a subcommand's own name (argv[0] after dispatch: "list") gets its family: "session list" */
+    char full[96];
+    if (dispatched_family && !strchr(cmd, ' ') && strcmp(cmd, dispatched_family) != 0)
+        snprintf(full, sizeof full, "%s %s", dispatched_family, cmd);
+    else
+        snprintf(full, sizeof full, "%s", cmd);
     va_list ap;
     va_start(ap, fmt);
-    fprintf(stderr, "cpdomain %s: ", cmd);
+    fprintf(stderr, "cpdomain %s: ", full);
     vfprintf(stderr, fmt, ap);
-    fprintf(stderr, "\nTry 'cpdomain %s --help'.\n", cmd);
+    fprintf(stderr, "\nTry 'cpdomain %s --help'.\n", full);
     va_end(ap);
     return EX_USAGE;
 }
@@ -82,7 +92,7 @@ void cli_note(cli_ctx *c, const char *fmt, ...)
 int cli_open(cli_ctx *c, int create)
 {
     char msg[CPD_MSG_MAX];
-    int rc = cpd_store_open(c->db_path, create, &c->store, msg);
+    int rc = cpd_store_open_wait(c->db_path, create, c->busy_ms, &c->store, msg);
     if (rc == CPD_ENOENT) { /* a missing store is a missing input (SPEC: exit 66) */
         cli_fail(c, rc, "%s", msg);
         return EX_NOINPUT;
@@ -97,10 +107,6 @@ int cli_store_fail(cli_ctx *c, int rc)
     cpd_store_rollback(c->store);
     return cli_fail(c, rc, "%s", cpd_store_errmsg(c->store));
 }
-
-/* The family of the subcommand being run ("trial" for 'trial list'), so that option errors name
- * the real command. */
-static const char *dispatched_family;
 
 int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_t n, int argc, char **argv)
 {
@@ -142,9 +148,7 @@ int cli_getopt(int argc, char **argv, const char *shortopts, const struct option
         }
         if (o == '?' || o == ':') {
             const char *bad = argv[optind - 1];
-            char cmd[96];
-            snprintf(cmd, sizeof cmd, "%s%s%s", dispatched_family ? dispatched_family : "", dispatched_family ? " " : "",
-                     argv[0]);
+            const char *cmd = argv[0]; /* cli_usage adds the family */
             if (o == ':' || (optopt && strchr(shortopts, optopt)))
                 return cli_usage(cmd, "option '%s' needs a value", bad);
             /* "did you mean": the closest long option, compared without its leading dashes and value */

@@ -121,6 +121,7 @@ static const struct option longopts[] = {
     {NULL, 0, NULL, 0},
 };
 
+/* The minute-by-minute table as RFC 4180 CSV (CRLF line ends, as every --csv table); all fields are numbers. */
 static char *minutes_csv(const cpd_energy_session_result *r, size_t *len)
 {
     char *s = NULL;
@@ -128,9 +129,9 @@ static char *minutes_csv(const cpd_energy_session_result *r, size_t *len)
     if (!f)
         return NULL;
     fprintf(f, "minute,start_s,recorded_s,power_w,work_kj,vo2_ml_min,energy_kj,energy_lo_kj,energy_hi_kj,energy_kcal,"
-               "cho_g,cho_lo_g,cho_hi_g,fat_g,fat_lo_g,fat_hi_g,fixed_efficiency_kj,difference_kj,no_slow_component_kj\n");
+               "cho_g,cho_lo_g,cho_hi_g,fat_g,fat_lo_g,fat_hi_g,fixed_efficiency_kj,difference_kj,no_slow_component_kj\r\n");
     for (size_t k = 0; k < r->n_min; k++)
-        fprintf(f, "%zu,%zu,%.0f,%.1f,%.3f,%.0f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f\n", k + 1,
+        fprintf(f, "%zu,%zu,%.0f,%.1f,%.3f,%.0f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f,%.3f\r\n", k + 1,
                 60 * k, r->rec_s[k], r->power_w[k], r->work_kj[k], r->vo2_ml_min[k], r->ee_kj[k], r->ee_lo[k],
                 r->ee_hi[k], r->ee_kj[k] / CPD_ENERGY_KJ_PER_KCAL, r->cho_g[k], r->cho_lo[k], r->cho_hi[k], r->fat_g[k],
                 r->fat_lo[k], r->fat_hi[k], r->fixed_kj[k], r->ee_kj[k] - r->fixed_kj[k], r->nosc_kj[k]);

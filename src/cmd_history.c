@@ -23,7 +23,9 @@ static const char HELP[] =
     "VO2peak changes use typical errors of 6 % and 3 % (common practice, from memory). A change is\n"
     "meaningful when its interval lies wholly beyond the smallest worthwhile change, --swc PCT of the\n"
     "earlier value (default 4.6 %: 0.2 x the between-athlete SD of CP, Hopkins 2004 Sportscience 8:1,\n"
-    "with the SD of Johnson et al. 2011 Med Sci Sports Exerc 43: 47 W of 206 W).\n"
+    "with the SD of Johnson et al. 2011 Med Sci Sports Exerc 43: 47 W of 206 W). That default rests on\n"
+    "CP's spread alone, so --swc applies to CP (CS); a change of W', GET, VO2peak or tau is meaningful\n"
+    "when its interval excludes zero.\n"
     "--all prints the team: the current CP (the fit domains, predict and the sheets use) and the\n"
     "newest change of every athlete. -o FILE.svg draws CP (CS) of every block with its 95 % interval\n"
     "over the season.\n\n"
@@ -219,9 +221,10 @@ int cmd_history(cli_ctx *c, int argc, char **argv)
                 cj_push(bs, b);
             }
             cj_num(d, "swc_pct", swc > 0 ? swc : CPD_HISTORY_SWC_PCT);
-            cj_str(d, "rule", "a change is meaningful when its 95 % interval lies wholly beyond the smallest "
-                              "worthwhile change (swc_pct of the earlier value; default 0.2 x the between-athlete SD, "
-                              "Hopkins 2004 Sportscience 8:1). CP and W': the same model in both blocks (lowest "
+            cj_str(d, "rule", "a change of CP (CS) is meaningful when its 95 % interval lies wholly beyond the "
+                              "smallest worthwhile change (swc_pct of the earlier value; default 0.2 x the between-"
+                              "athlete SD of CP, Hopkins 2004 Sportscience 8:1); of W', GET, VO2peak and tau when it "
+                              "excludes zero. CP and W': the same model in both blocks (lowest "
                               "summed %SEE), Student's t with Welch-Satterthwaite dof; GET and VO2peak: +-1.96 x "
                               "sqrt(2) typical errors of 6 % and 3 %");
             rc = c->csv ? cj_print_csv(d, "blocks", a.f.modality == CPD_PD_SPEED ? CLI_CSV_UNITS_SPEED : CLI_CSV_UNITS_POWER)

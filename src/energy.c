@@ -184,6 +184,7 @@ static int pfo_fit(const double *x, const double *y, size_t n, double *coef, dou
     return *ypk > 0 ? CPD_OK : CPD_ENODATA;
 }
 
+/* The 2.5th and 97.5th percentiles of v (sorted in place): a percentile interval. */
 static void ci95(double *v, size_t n, double *ci)
 {
     gsl_sort(v, 1, n);
@@ -629,8 +630,10 @@ static void draw_params(const cpd_energy_params *p, gsl_rng *g, cpd_vo2model *m,
 static void second_cost(const cpd_energy_eqset *e, double vo2, double rer, double *kj, double *cho, double *fat)
 {
     double l = vo2 / 1000.0;
-    *kj = cpd_energy_weir_kcal_min(l, rer * l) * CPD_ENERGY_KJ_PER_KCAL / 60.0;
+    /* above RER 1.00 the extra CO2 comes from buffering, not oxidation: energy and substrate both use
+     * the RER within the equations' range (all carbohydrate at 1.00), the point and every draw alike */
     double r = clampd(rer, CPD_ENERGY_RER_VALID_LO, CPD_ENERGY_RER_VALID_HI);
+    *kj = cpd_energy_weir_kcal_min(l, r * l) * CPD_ENERGY_KJ_PER_KCAL / 60.0;
     rates(e, l, r * l, cho, fat);
     *cho /= 60.0;
     *fat /= 60.0;
@@ -666,13 +669,6 @@ static int cost_run(const cpd_vo2model *m, const double *rer, const cpd_energy_e
         }
     }
     return CPD_OK;
-}
-
-static void pct95(double *v, size_t n, double *lo, double *hi)
-{
-    gsl_sort(v, 1, n);
-    *lo = gsl_stats_quantile_from_sorted_data(v, 1, n, 0.025);
-    *hi = gsl_stats_quantile_from_sorted_data(v, 1, n, 0.975);
 }
 
 void cpd_energy_session_free(cpd_energy_session_result *r)
@@ -778,13 +774,16 @@ int cpd_energy_session(const cpd_energy_params *par, const double *p_w, const un
         for (int q = 0; q < 3; q++) {
             for (size_t j = 0; j < draws; j++)
                 tmp[j] = src[q][j * M + k];
-            pct95(tmp, draws, lo[q], hi[q]);
+            double ci[2];
+            ci95(tmp, draws, ci);
+            *lo[q] = ci[0];
+            *hi[q] = ci[1];
         }
     }
-    pct95(tot, draws, &out->ee_total_ci[0], &out->ee_total_ci[1]);
-    pct95(tot + draws, draws, &out->cho_total_ci[0], &out->cho_total_ci[1]);
-    pct95(tot + 2 * draws, draws, &out->fat_total_ci[0], &out->fat_total_ci[1]);
-    pct95(tot + 3 * draws, draws, &out->diff_total_ci[0], &out->diff_total_ci[1]);
+    ci95(tot, draws, out->ee_total_ci);
+    ci95(tot + draws, draws, out->cho_total_ci);
+    ci95(tot + 2 * draws, draws, out->fat_total_ci);
+    ci95(tot + 3 * draws, draws, out->diff_total_ci);
 done:
     gsl_rng_free(g);
     free(mat);

@@ -180,8 +180,9 @@ static void block_change(cpd_history_block *b, const cpd_history_block *p, doubl
     /* without SEs (two-trial blocks) the interval is empty: never called meaningful */
     double scp = with_se ? hypot(x->cp_se, y->cp_se) : 0, sw = with_se ? hypot(x->w_prime_se, y->w_prime_se) : 0;
     change_df(&b->d_cp, x->cp, y->cp, scp, with_se ? welch_df(x->cp_se, x->dof, y->cp_se, y->dof) : 0, swc);
+    /* the default smallest worthwhile change rests on CP's between-athlete spread: W' gets none */
     change_df(&b->d_w_prime, x->w_prime, y->w_prime, sw,
-              with_se ? welch_df(x->w_prime_se, x->dof, y->w_prime_se, y->dof) : 0, swc);
+              with_se ? welch_df(x->w_prime_se, x->dof, y->w_prime_se, y->dof) : 0, 0);
     b->d_cp.model_valid = b->d_w_prime.model_valid = 1;
     b->d_cp.model = b->d_w_prime.model = (cpd_pd_model)q;
 }
@@ -205,19 +206,19 @@ void cpd_history_changes(cpd_history *h)
         if (b->has_get) {
             if (prev_ramp_get) /* typical error CV x mean, of a difference of two tests: sqrt(2) TE */
                 change(&b->d_get, prev_ramp_get->get, b->get,
-                       sqrt(2.0) * CPD_HISTORY_CV_GET * 0.5 * (prev_ramp_get->get + b->get), swc);
+                       sqrt(2.0) * CPD_HISTORY_CV_GET * 0.5 * (prev_ramp_get->get + b->get), 0);
             prev_ramp_get = b;
         }
         if (b->has_vo2peak) {
             if (prev_ramp_vo2)
                 change(&b->d_vo2peak, prev_ramp_vo2->vo2peak_ml_min, b->vo2peak_ml_min,
                        sqrt(2.0) * CPD_HISTORY_CV_VO2PEAK * 0.5 * (prev_ramp_vo2->vo2peak_ml_min + b->vo2peak_ml_min),
-                       swc);
+                       0);
             prev_ramp_vo2 = b;
         }
         if (b->has_tau) {
             if (prev_tau)
-                change(&b->d_tau, prev_tau->tau_s, b->tau_s, hypot(prev_tau->tau_se, b->tau_se), swc);
+                change(&b->d_tau, prev_tau->tau_s, b->tau_s, hypot(prev_tau->tau_se, b->tau_se), 0);
             prev_tau = b;
         }
     }

@@ -56,7 +56,7 @@ static void usage(FILE *out)
 }
 
 /* --busy-timeout or $CPDOMAIN_BUSY_TIMEOUT: whole milliseconds, 0 to 3 600 000. */
-static int busy_timeout(const char *what, const char *arg)
+static int busy_timeout(const char *what, const char *arg, int *ms)
 {
     char *e = NULL;
     errno = 0;
@@ -65,7 +65,7 @@ static int busy_timeout(const char *what, const char *arg)
         fprintf(stderr, "cpdomain: %s must be a whole number of milliseconds from 0 to 3600000 (got '%s')\n", what, arg);
         return EX_USAGE;
     }
-    cpd_store_set_busy_timeout((int)v);
+    *ms = (int)v;
     return 0;
 }
 
@@ -102,7 +102,8 @@ static int today(void)
     return d;
 }
 
-/* Moves the global options given after the command (--json, --csv, --quiet, --db FILE, --db=FILE) into c and
+/* Moves the global options given after the command (--json, --csv, --quiet, --db FILE, --db=FILE,
+ * --busy-timeout MS) into c and
  * out of argv, up to a "--"; *argc shrinks. Returns 0, or 64 when --db lacks its value. */
 static int late_globals(cli_ctx *c, int *argc, char **argv, int from)
 {
@@ -122,6 +123,17 @@ static int late_globals(cli_ctx *c, int *argc, char **argv, int from)
             c->quiet = 1;
         else if (strncmp(a, "--db=", 5) == 0)
             c->db_path = a + 5;
+        else if (strncmp(a, "--busy-timeout=", 15) == 0) {
+            if (busy_timeout("--busy-timeout", a + 15, &c->busy_ms))
+                return EX_USAGE;
+        } else if (strcmp(a, "--busy-timeout") == 0) {
+            if (r + 1 >= *argc || busy_timeout("--busy-timeout", argv[r + 1], &c->busy_ms)) {
+                if (r + 1 >= *argc)
+                    fprintf(stderr, "cpdomain: option '--busy-timeout' needs a value\nTry 'cpdomain --help'.\n");
+                return EX_USAGE;
+            }
+            r++;
+        }
         else if (strcmp(a, "--db") == 0) {
             if (r + 1 >= *argc) {
                 fprintf(stderr, "cpdomain: option '--db' needs a value\nTry 'cpdomain --help'.\n");
@@ -144,6 +156,7 @@ int main(int argc, char **argv)
     if (!c.db_path || !*c.db_path)
         c.db_path = "cpdomain.db";
     c.today = today();
+    c.busy_ms = CPD_STORE_BUSY_MS;
 
     static const struct option opts[] = {
         {"db", required_argument, NULL, 'd'}, {"json", no_argument, NULL, 'j'},    {"quiet", no_argument, NULL, 'q'},
@@ -151,7 +164,7 @@ int main(int argc, char **argv)
         {"busy-timeout", required_argument, NULL, 'b'}, {NULL, 0, NULL, 0},
     };
     const char *env_busy = getenv("CPDOMAIN_BUSY_TIMEOUT");
-    if (env_busy && *env_busy && busy_timeout("CPDOMAIN_BUSY_TIMEOUT", env_busy))
+    if (env_busy && *env_busy && busy_timeout("CPDOMAIN_BUSY_TIMEOUT", env_busy, &c.busy_ms))
         return EX_USAGE;
     opterr = 0;
     int o;
@@ -173,7 +186,7 @@ int main(int argc, char **argv)
             usage(stdout);
             return EX_OK;
         case 'b':
-            if (busy_timeout("--busy-timeout", optarg))
+            if (busy_timeout("--busy-timeout", optarg, &c.busy_ms))
                 return EX_USAGE;
             break;
         case 'V':

@@ -417,7 +417,7 @@ static void centred_mean(const double *x, size_t n, size_t h, double *out)
 }
 
 /* Linear interpolation of v on the 1-s grid at time t (clamped to the grid). */
-static double grid_at(const cpd_gx_series *g, const double *v, double t)
+double cpd_ramp_grid_at(const cpd_gx_series *g, const double *v, double t)
 {
     double u = t - g->t_s[0];
     if (u <= 0)
@@ -450,7 +450,7 @@ static int first_reach(const struct ctx *c, const double *v, double level, doubl
 static double intensity_at(const struct ctx *c, double t)
 {
     if (c->rec)
-        return grid_at(c->w->grid, c->w->grid->ch[c->col], t);
+        return cpd_ramp_grid_at(c->w->grid, c->w->grid->ch[c->col], t);
     return c->start + c->rate * t / 60.0;
 }
 
@@ -479,7 +479,7 @@ static void place_at(const struct ctx *c, cpd_ramp_threshold *th, double t, doub
     th->ramp_intensity = intensity_at(c, t);
     if (c->w->grid->ch[CPD_GX_HR]) {
         th->has_hr = 1;
-        th->hr_bpm = grid_at(c->w->grid, c->w->sm_hr, t);
+        th->hr_bpm = cpd_ramp_grid_at(c->w->grid, c->w->sm_hr, t);
     }
 }
 
@@ -639,7 +639,7 @@ static void find_rcp(struct ctx *c)
         not_found(th, CPD_RAMP_R_NOT_REACHED, "RCP: smoothed VCO2 never reaches %.0f mL/min", f->x_cross);
         return;
     }
-    place_at(c, th, t, grid_at(w->grid, w->sm_vo2, t), CPD_THR_FOUND, "VE-VCO2 breakpoint");
+    place_at(c, th, t, cpd_ramp_grid_at(w->grid, w->sm_vo2, t), CPD_THR_FOUND, "VE-VCO2 breakpoint");
 }
 
 /* OLS slope of v on x over points [k0, n); 0 when it cannot be fitted. */
@@ -975,7 +975,7 @@ static void steps_gain(struct ctx *c)
     double get = r->get.status != CPD_THR_NOT_FOUND ? r->get.vo2_ml_min : 0;
     if (cpd_steps_gain(&r->steps, get, r->peak_intensity) != CPD_OK) {
         r->gain_reason = CPD_RAMP_R_FEW_POINTS;
-        say(r->gain_why, sizeof r->gain_why, "fewer than 3 stages below the %s", get > 0 ? "GET or 80 %% of peak" : "80 %% of peak");
+        say(r->gain_why, sizeof r->gain_why, "fewer than 3 stages below the %s", get > 0 ? "GET or 80 % of peak" : "80 % of peak");
         return;
     }
     r->gain_status = CPD_THR_FOUND;
@@ -1489,8 +1489,15 @@ double cpd_ramp_intensity_at(const cpd_ramp_ws *w, const cpd_ramp_result *r, dou
     if (!w || !w->valid || !r)
         return NAN;
     if (r->intensity_recorded)
-        return grid_at(w->grid, w->grid->ch[w->col], t_s);
+        return cpd_ramp_grid_at(w->grid, w->grid->ch[w->col], t_s);
     return r->start_used + r->rate_used * t_s / 60.0;
+}
+
+const double *cpd_ramp_smoothed(const cpd_ramp_ws *w, int channel)
+{
+    if (!w || !w->valid || !w->grid->ch[channel])
+        return NULL;
+    return channel == CPD_GX_VO2 ? w->sm_vo2 : channel == CPD_GX_VCO2 ? w->sm_vco2 : channel == CPD_GX_HR ? w->sm_hr : NULL;
 }
 
 const cpd_gx_series *cpd_ramp_samples(const cpd_ramp_ws *w)

@@ -77,17 +77,6 @@ static double reach(const cpd_gx_series *g, const double *v, double t_end, doubl
     return -1;
 }
 
-static double at(const cpd_gx_series *g, const double *v, double t)
-{
-    double u = t - g->t_s[0];
-    if (u <= 0)
-        return v[0];
-    size_t k = (size_t)floor(u);
-    if (k + 1 >= g->n)
-        return v[g->n - 1];
-    return v[k] + (u - (double)k) * (v[k + 1] - v[k]);
-}
-
 /* The interval of a threshold's time, intensity during the test and steady-state equivalent from the
  * times of its two bounds, read as the analysis reads intensities (cpd_ramp_intensity_at). A ramp's
  * equivalent adds the MRT's SE in quadrature (independent estimates); a step test's equivalent is
@@ -199,24 +188,15 @@ int cpd_ramp_ci_compute(const cpd_ramp_ws *w, const cpd_ramp_result *r, const cp
         size_t ms = n / 20 > CI_MIN_SEG ? n / 20 : CI_MIN_SEG;
         double lo = 0, hi = 0;
         out->rcp.n_used = boot_cross(x, y, n, ms, n_boot, &seed, &lo, &hi);
-        /* the RCP is placed where the smoothed VCO2 reaches the crossing, as in ramp.c */
-        double *sc = malloc(g->n * sizeof *sc);
+        /* the RCP is placed where the smoothed VCO2 reaches the crossing, as in ramp.c (its own mean) */
+        const double *sc = cpd_ramp_smoothed(w, CPD_GX_VCO2);
         if (!sc)
-            return CPD_ENOMEM;
-        size_t h = (size_t)lround(o->smooth_s / 2);
-        for (size_t i = 0; i < g->n; i++) {
-            size_t a = i > h ? i - h : 0, b = i + h + 1 < g->n ? i + h + 1 : g->n;
-            double sum = 0;
-            for (size_t k = a; k < b; k++)
-                sum += g->ch[CPD_GX_VCO2][k];
-            sc[i] = sum / (double)(b - a);
-        }
+            return CPD_OK;
         double tl = reach(g, sc, t_end, lo), th = reach(g, sc, t_end, hi);
-        free(sc);
         if (out->rcp.n_used && tl >= 0 && th >= 0) {
             out->rcp.valid = 1;
-            out->rcp.vo2_ci95[0] = at(g, sm, tl);
-            out->rcp.vo2_ci95[1] = at(g, sm, th);
+            out->rcp.vo2_ci95[0] = cpd_ramp_grid_at(g, sm, tl);
+            out->rcp.vo2_ci95[1] = cpd_ramp_grid_at(g, sm, th);
             carry(w, r, &r->rcp, tl, th, &out->rcp);
         }
     }

@@ -19,25 +19,13 @@ int cpd_st_err(cpd_store *s, int rc, const char *fmt, ...)
     return rc;
 }
 
-static int busy_ms = 5000; /* cpd_store_set_busy_timeout */
-
-void cpd_store_set_busy_timeout(int ms)
-{
-    busy_ms = ms > 0 ? ms : 0;
-}
-
-int cpd_store_busy_timeout(void)
-{
-    return busy_ms;
-}
-
 /* The message of a lock another process kept past the busy timeout. */
 static int busy_err(cpd_store *s, const char *what)
 {
     return cpd_st_err(s, CPD_ESTORE,
                       "%s: another process holds the store (its write lock was not released within %g s): try "
                       "again when it has finished, or wait longer with --busy-timeout MS",
-                      what, busy_ms / 1000.0);
+                      what, s->busy_ms / 1000.0);
 }
 
 int cpd_st_fail(cpd_store *s, const char *what)
@@ -299,6 +287,11 @@ static int migrate(cpd_store *s)
 
 int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
 {
+    return cpd_store_open_wait(path, create, CPD_STORE_BUSY_MS, out, msg);
+}
+
+int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **out, char *msg)
+{
     *out = NULL;
     msg[0] = '\0';
     struct stat sb;
@@ -317,7 +310,8 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
         rc = CPD_ESTORE;
         goto done;
     }
-    sqlite3_busy_timeout(s->db, busy_ms);
+    s->busy_ms = busy_ms > 0 ? busy_ms : 0;
+    sqlite3_busy_timeout(s->db, s->busy_ms);
     sqlite3_extended_result_codes(s->db, 1);
     /* A file that is not SQLite fails here, at the first read. */
     if (sqlite3_exec(s->db, "PRAGMA foreign_keys = ON; PRAGMA journal_mode = WAL; PRAGMA synchronous = NORMAL",

@@ -17,6 +17,7 @@ struct cpd_store {
     sqlite3 *db;
     struct cpd_codec *codec; /* the sample codec's workspace (store_codec.h), made at first use */
     char err[CPD_MSG_MAX]; /* detail of the last failure */
+    int busy_ms;           /* how long a write waits for another process's lock (cpd_store_open_wait) */
 };
 
 /* Prepares sql; on failure records the reason and returns CPD_ESTORE. */

@@ -133,6 +133,12 @@ static void worthwhile_and_like_with_like(void **state)
     cpd_history_changes(h);
     assert_true(h->block[1].d_cp.meaningful);
     assert_near(h->block[1].d_cp.swc, 0.02 * h->block[0].models[c->model].cp, 1e-9);
+    /* the smallest worthwhile change rests on CP's between-athlete spread (Hopkins 2004 with Johnson
+     * et al. 2011): W', GET, VO2peak and tau get none, so their verdict is "excludes zero" */
+    const cpd_history_change *cw = &h->block[1].d_w_prime;
+    assert_true(cw->valid);
+    assert_near(cw->swc, 0, 0);
+    assert_int_equal(cw->meaningful, cw->excludes_zero);
     free(h);
     cpd_pd_free(w);
 }

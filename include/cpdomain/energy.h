@@ -105,7 +105,7 @@ const char *cpd_energy_reason_text(int reason);
 
 /* ---- peak fat oxidation (Achten, Gleeson & Jeukendrup 2002) ---- */
 
-#define CPD_PFO_MAX_STAGES 40
+#define CPD_PFO_MAX_STAGES 64 /* as many as a step test holds (CPD_STEPS_MAX) */
 #define CPD_PFO_ZONE_FRACTION 0.90 /* the zone: intensities where the fitted rate is >= 90 % of the peak */
 
 /* Stage means of a step test (graded exercise, stages long enough for a steady state). */

@@ -87,8 +87,11 @@ void cpd_history_attach_tau(cpd_history *h, int test_day, double tau_s, double t
  * %SEE(CP) + %SEE(W') over the two blocks is lowest (stated in change.model); the interval is
  * Student's t with the Welch-Satterthwaite degrees of freedom, df = (s1^2 + s2^2)^2 / (s1^4/df1 +
  * s2^4/df2) (Welch 1947 Biometrika 34:28). GET and VO2peak by the typical errors above (CI +-1.96
- * sqrt(2) TE); tau by its SEs. A change is meaningful when its interval lies wholly above +swc or
- * below -swc, swc = swc_pct % of the earlier value (h->swc_pct, default CPD_HISTORY_SWC_PCT). */
+ * sqrt(2) TE); tau by its SEs. A change of CP (CS) is meaningful when its interval lies wholly
+ * above +swc or below -swc, swc = swc_pct % of the earlier value (h->swc_pct, default
+ * CPD_HISTORY_SWC_PCT, which rests on the between-athlete spread of CP alone); W' (D'), GET,
+ * VO2peak and tau have no such published figure here, so theirs is meaningful when the interval
+ * excludes zero (swc 0). */
 void cpd_history_changes(cpd_history *h);
 
 #endif

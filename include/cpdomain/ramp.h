@@ -283,6 +283,11 @@ int cpd_ramp_points(const cpd_ramp_ws *w, int which, const double **x, const dou
  * by w and valid as above; NULL before any. smoothed_vo2 (may be NULL) receives the centred mean used
  * to place thresholds in time, same length. */
 const cpd_gx_series *cpd_ramp_grid(const cpd_ramp_ws *w, const double **smoothed_vo2);
+/* The centred mean of channel (CPD_GX_VO2, CPD_GX_VCO2 or CPD_GX_HR) on that grid, the one the
+ * analysis places thresholds with; NULL when the channel is absent or before any analysis. */
+const double *cpd_ramp_smoothed(const cpd_ramp_ws *w, int channel);
+/* v (a series on the 1-s grid g) at time t, linear between seconds and clamped to the grid. */
+double cpd_ramp_grid_at(const cpd_gx_series *g, const double *v, double t);
 
 /* The cleaned samples (breaths) of the last successful analysis: outliers removed, times from onset;
  * owned by w and valid as above; NULL before any. */

@@ -14,7 +14,7 @@
  * - A character device or a FIFO that exists at path (/dev/null, a named pipe) is written in
  *   place, opened with O_NOFOLLOW; a directory is refused.
  * Returns CPD_OK, or CPD_ECREATE with msg (CPD_MSG_MAX bytes) naming path and the reason;
- * CPD_ENOMEM when the temporary name cannot be built. */
+ * CPD_ENOMEM when memory for the temporary name runs out (a name too long for the folder: CPD_ECREATE). */
 int cpd_safe_write(const char *path, const void *data, size_t len, char *msg);
 
 #endif

@@ -18,16 +18,15 @@ typedef struct cpd_store cpd_store;
 /* Opens the store at path, applying pending migrations in one transaction. With create == 0 a
  * missing file is CPD_ENOENT; with create != 0 it is created. Foreign keys on, WAL journal,
  * synchronous=NORMAL (durable across crashes of the program; the last commits may be lost on
- * power failure, a fair trade for a desktop store), busy timeout 5 s (cpd_store_set_busy_timeout). A store whose version is
+ * power failure, a fair trade for a desktop store), busy timeout CPD_STORE_BUSY_MS. A store whose version is
  * newer than this binary is refused with CPD_ESTORE. msg (CPD_MSG_MAX bytes) receives the reason.
  * The caller closes *out with cpd_store_close. */
 int cpd_store_open(const char *path, int create, cpd_store **out, char *msg);
-/* How long a store opened afterwards waits, in milliseconds, for another process that holds the
- * store's write lock (default 5000; 0: no wait). A store still held after that wait fails with
- * CPD_ESTORE and a message that says another process holds the store. Process-wide: set it before
- * cpd_store_open. Negative values count as 0. */
-void cpd_store_set_busy_timeout(int ms);
-int cpd_store_busy_timeout(void);
+/* cpd_store_open with busy_ms: how long this handle waits, in milliseconds, for another process
+ * that holds the store's write lock (0: no wait; negative counts as 0). A store still held after
+ * that wait fails with CPD_ESTORE and a message that says another process holds the store. */
+#define CPD_STORE_BUSY_MS 5000
+int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **out, char *msg);
 void cpd_store_close(cpd_store *s);
 
 /* The detail of the last failure on s ("" when none). */

@@ -129,3 +129,13 @@ err_has "is not a number of W" "a wrong unit is named"
 # ---- the format follows -o's extension in any letter case ----
 expect 0 "sheet -o X.CSV" --quiet sheet C01 -o "$TMP/x.CSV"
 head -n 1 "$TMP/x.CSV" | grep -q '^section,item,key,value,unit' && pass "sheet -o x.CSV writes CSV" || fail "x.CSV is not CSV"
+
+# ---- a usage error names the command as the user typed it, and its --help works ----
+expect 64 "session list without a code" session list
+err_has "cpdomain session list: missing argument CODE" "the subcommand is named with its family"
+err_has "Try 'cpdomain session list --help'" "and the help it points to exists"
+expect 0 "that help" session list --help
+# every global option may follow the command, --busy-timeout too, and is checked there as well
+expect 0 "--busy-timeout after the command" trial list C01 --busy-timeout 250
+expect 64 "a bad --busy-timeout after the command" trial list C01 --busy-timeout soon
+err_has "whole number of milliseconds" "the bad value is named"
