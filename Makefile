@@ -81,6 +81,7 @@ TESTS += test_safefile
 TESTS += test_csv_growth
 TESTS += test_store_codec test_csvfast
 TESTS += test_suggest
+TESTS += test_athlete
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
