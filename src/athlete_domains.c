@@ -220,6 +220,60 @@ int cpd_athlete_domains_build(cpd_store *s, const char *code, const cpd_athlete_
     return CPD_OK;
 }
 
+/* ---- a bout's domain against the boundaries ---- */
+
+/* The athlete's trials usable for a power-duration fit in modality speed. */
+static size_t usable_trials(cpd_store *s, const char *code, int speed)
+{
+    cpd_trial *v = NULL;
+    size_t n = 0, k = 0;
+    if (cpd_store_trial_list(s, code, &v, &n))
+        return 0;
+    for (size_t i = 0; i < n; i++)
+        k += !v[i].excluded && (v[i].kind == CPD_TRIAL_POWER) == !speed;
+    free(v);
+    return k;
+}
+
+void cpd_athlete_bouts_check(cpd_store *s, const cpd_athlete_bouts *b, int today, cpd_athlete_bout_check *k)
+{
+    memset(k, 0, sizeof *k);
+    if (usable_trials(s, b->a.code, b->speed) >= 2) {
+        /* the fit's own notes belong to the fit and the domains: not repeated here */
+        cpd_athlete_domains *d = calloc(1, sizeof *d);
+        cpd_athlete_query q = {.today = today};
+        if (d && cpd_athlete_domains_build(s, b->a.code, &q, d, NULL) == CPD_OK) {
+            if ((d->fit.modality == CPD_PD_SPEED) == (b->speed != 0)) {
+                const cpd_boundary *g = &d->res.b[CPD_BND_MOD_HEAVY], *p = &d->res.b[CPD_BND_HEAVY_SEVERE];
+                if (g->valid) {
+                    k->get = g->value;
+                    snprintf(k->get_source, sizeof k->get_source, "%s", g->source);
+                }
+                if (p->valid) {
+                    k->cp = p->value;
+                    snprintf(k->cp_source, sizeof k->cp_source, "%s", p->source);
+                }
+            }
+        } else
+            cpd_athlete_note(&k->notes, 0, "note: the athlete's %s is not available: the domain is checked against the GET alone",
+                             b->speed ? "CS" : "CP");
+        cpd_athlete_domains_free(d);
+        free(d);
+    }
+    if (!(k->get > 0) && b->has_ramp_get) {
+        k->get = b->ramp_get;
+        snprintf(k->get_source, sizeof k->get_source, "ramp %lld (%s)", b->ramp_id, b->ramp_date);
+    }
+    if (!(k->get > 0) && !(k->cp > 0)) {
+        snprintf(k->why_unchecked, sizeof k->why_unchecked,
+                 "no GET equivalent (a ramp with its MRT, or a lactate LT1) and no power-duration fit on file: the "
+                 "domain is judged from the response alone");
+        return;
+    }
+    k->checked = 1;
+    k->check_rc = cpd_kinetics_verify_bout(b->res.domain, b->res.end_s, b->intensity, k->get, k->cp, &k->chk);
+}
+
 /* ---- the season ---- */
 
 void cpd_athlete_history_free(cpd_athlete_history *a)

@@ -298,13 +298,7 @@ typedef struct {
     const char *cmd;                     /* "bout show" or "bout plot", for messages */
     const char *ids_text;                /* the ids as typed */
     cpd_athlete_bouts b;                 /* the repeats, what the analysis was given, its result */
-    /* domain check */
-    int checked;                         /* 1 when GET and/or CP were known */
-    double get, cp;                      /* W or m/s; 0 when unknown */
-    char get_source[200], cp_source[200];
-    char why_unchecked[300];             /* why the domain rests on the response alone */
-    int check_rc;                        /* status of cpd_kinetics_verify_domain */
-    cpd_kinetics_check chk;
+    cpd_athlete_bout_check k;            /* the domain checked against the athlete's boundaries */
 } bout_run;
 
 static void run_free(bout_run *r)
@@ -370,57 +364,11 @@ static int run_load(cli_ctx *c, const char *cmd, const char *ids_text, const bou
     return cli_bouts_load(c, cmd, ids, n, &ko, &r->b);
 }
 
-/* The athlete's trials usable for a power-duration fit in the bout's modality. */
-static size_t usable_trials(cli_ctx *c, const bout_run *r)
-{
-    cpd_trial *v = NULL;
-    size_t n = 0, k = 0;
-    if (cpd_store_trial_list(c->store, r->b.a.code, &v, &n))
-        return 0;
-    for (size_t i = 0; i < n; i++)
-        k += !v[i].excluded && (v[i].kind == CPD_TRIAL_POWER) == !r->b.speed;
-    free(v);
-    return k;
-}
-
-/* Checks the domain from the response against the athlete's boundaries: the GET equivalent (or
- * LT1) and CP of the domains module when a fit exists, else the newest ramp's GET alone. */
+/* Checks the domain from the response against the athlete's boundaries (the library's check). */
 static void run_check(cli_ctx *c, bout_run *r)
 {
-    const char *cpname = r->b.speed ? "CS" : "CP";
-    if (usable_trials(c, r) >= 2) {
-        /* the fit's own notes belong to 'fit' and 'domains': the library's are not shown */
-        cpd_athlete_domains d;
-        cpd_athlete_query q = {.today = c->today};
-        int rc = cpd_athlete_domains_build(c->store, r->b.a.code, &q, &d, NULL);
-        if (rc == 0) {
-            if ((d.fit.modality == CPD_PD_SPEED) == (r->b.speed != 0)) {
-                const cpd_boundary *g = &d.res.b[CPD_BND_MOD_HEAVY], *p = &d.res.b[CPD_BND_HEAVY_SEVERE];
-                if (g->valid) {
-                    r->get = g->value;
-                    snprintf(r->get_source, sizeof r->get_source, "%s", g->source);
-                }
-                if (p->valid) {
-                    r->cp = p->value;
-                    snprintf(r->cp_source, sizeof r->cp_source, "%s", p->source);
-                }
-            }
-            cpd_athlete_domains_free(&d);
-        } else
-            cli_note(c, "note: the athlete's %s is not available: the domain is checked against the GET alone", cpname);
-    }
-    if (!(r->get > 0) && r->b.has_ramp_get) {
-        r->get = r->b.ramp_get;
-        snprintf(r->get_source, sizeof r->get_source, "ramp %lld (%s)", r->b.ramp_id, r->b.ramp_date);
-    }
-    if (!(r->get > 0) && !(r->cp > 0)) {
-        snprintf(r->why_unchecked, sizeof r->why_unchecked,
-                 "no GET equivalent (a ramp with its MRT, or a lactate LT1) and no power-duration fit on file: the "
-                 "domain is judged from the response alone");
-        return;
-    }
-    r->checked = 1;
-    r->check_rc = cpd_kinetics_verify_bout(r->b.res.domain, r->b.res.end_s, r->b.intensity, r->get, r->cp, &r->chk);
+    cpd_athlete_bouts_check(c->store, &r->b, c->today, &r->k);
+    cli_athlete_notes(c, &r->k.notes);
 }
 
 /* The rule behind the domain in words. */
@@ -558,31 +506,31 @@ static void check_json(cli_json *o, const bout_run *r)
 {
     const char *u = r->b.speed ? "_m_s" : "_w";
     char key[32];
-    cj_str(o, "basis", r->checked ? "boundaries" : "response");
+    cj_str(o, "basis", r->k.checked ? "boundaries" : "response");
     snprintf(key, sizeof key, "get%s", u);
-    cj_num(o, key, r->get > 0 ? r->get : NAN);
-    cj_str(o, "get_source", r->get > 0 ? r->get_source : NULL);
+    cj_num(o, key, r->k.get > 0 ? r->k.get : NAN);
+    cj_str(o, "get_source", r->k.get > 0 ? r->k.get_source : NULL);
     snprintf(key, sizeof key, "%s%s", r->b.speed ? "cs" : "cp", u);
-    cj_num(o, key, r->cp > 0 ? r->cp : NAN);
-    cj_str(o, r->b.speed ? "cs_source" : "cp_source", r->cp > 0 ? r->cp_source : NULL);
-    if (!r->checked) {
+    cj_num(o, key, r->k.cp > 0 ? r->k.cp : NAN);
+    cj_str(o, r->b.speed ? "cs_source" : "cp_source", r->k.cp > 0 ? r->k.cp_source : NULL);
+    if (!r->k.checked) {
         cj_null(o, "predicted");
         cj_add_arr(o, "allowed");
         cj_null(o, "agrees");
-        cj_str(o, "message", r->why_unchecked);
+        cj_str(o, "message", r->k.why_unchecked);
         return;
     }
-    int ok = r->check_rc == CPD_OK;
-    cj_str(o, "predicted", ok && r->chk.predicted != CPD_KIN_UNDETERMINED ? cpd_kinetics_domain_name(r->chk.predicted) : NULL);
+    int ok = r->k.check_rc == CPD_OK;
+    cj_str(o, "predicted", ok && r->k.chk.predicted != CPD_KIN_UNDETERMINED ? cpd_kinetics_domain_name(r->k.chk.predicted) : NULL);
     cli_json *al = cj_add_arr(o, "allowed");
     for (int dm = CPD_KIN_MODERATE; ok && dm <= CPD_KIN_SEVERE; dm++)
-        if (r->chk.predicted_mask & (1u << dm))
+        if (r->k.chk.predicted_mask & (1u << dm))
             cj_push_str(al, cpd_kinetics_domain_name(dm));
-    if (ok && r->chk.agreement >= 0)
-        cj_bool(o, "agrees", r->chk.agreement);
+    if (ok && r->k.chk.agreement >= 0)
+        cj_bool(o, "agrees", r->k.chk.agreement);
     else
         cj_null(o, "agrees");
-    cj_str(o, "message", r->chk.message);
+    cj_str(o, "message", r->k.chk.message);
 }
 
 /* Substrate use at the steady state, the oxygen deficit and the accumulated O2 deficit (cli_energy.c). */
@@ -773,20 +721,20 @@ static void show_text(const bout_run *r)
     criteria_text(r, crit, sizeof crit);
     printf("domain     %s\n", k->domain == CPD_KIN_UNDETERMINED ? "undetermined" : cpd_kinetics_domain_name(k->domain));
     printf("           criteria: %s\n", crit);
-    if (!r->checked)
-        printf("           check: %s\n", r->why_unchecked);
+    if (!r->k.checked)
+        printf("           check: %s\n", r->k.why_unchecked);
     else {
         char g[64] = "", p[64] = "";
-        if (r->get > 0)
-            fmt_int(g, sizeof g, r->get, r->b.speed);
-        if (r->cp > 0)
-            fmt_int(p, sizeof p, r->cp, r->b.speed);
-        printf("           check: %s", r->chk.message);
-        if (r->check_rc == CPD_OK && r->chk.agreement == 0)
+        if (r->k.get > 0)
+            fmt_int(g, sizeof g, r->k.get, r->b.speed);
+        if (r->k.cp > 0)
+            fmt_int(p, sizeof p, r->k.cp, r->b.speed);
+        printf("           check: %s", r->k.chk.message);
+        if (r->k.check_rc == CPD_OK && r->k.chk.agreement == 0)
             printf(" [DISAGREES]");
         printf("\n           boundaries: GET %s%s%s%s, %s %s%s%s%s\n", g[0] ? g : "unknown", g[0] ? " (" : "",
-               g[0] ? r->get_source : "", g[0] ? ")" : "", r->b.speed ? "CS" : "CP", p[0] ? p : "unknown", p[0] ? " (" : "",
-               p[0] ? r->cp_source : "", p[0] ? ")" : "");
+               g[0] ? r->k.get_source : "", g[0] ? ")" : "", r->b.speed ? "CS" : "CP", p[0] ? p : "unknown", p[0] ? " (" : "",
+               p[0] ? r->k.cp_source : "", p[0] ? ")" : "");
     }
     if (ko->baseline_ml_min > 0)
         printf("baseline   %.0f mL/min (given)\n", k->baseline_ml_min);

@@ -122,6 +122,22 @@ int cpd_athlete_bouts_analyse(cpd_store *s, const long long *ids, size_t n, cons
                               cpd_athlete_bouts *b, char *msg);
 void cpd_athlete_bouts_free(cpd_athlete_bouts *b);
 
+/* The domain a bout's response shows, checked against the athlete's boundaries: the GET equivalent
+ * (or LT1) and CP of cpd_athlete_domains_build when the athlete has 2 or more trials of the bouts'
+ * modality, else the newest ramp's GET alone (cpd_kinetics_verify_bout). */
+typedef struct {
+    int checked;                 /* 1 when GET and/or CP were known */
+    double get, cp;              /* W or m/s; 0 when unknown */
+    char get_source[200], cp_source[200];
+    char why_unchecked[300];     /* why the domain rests on the response alone */
+    int check_rc;                /* status of cpd_kinetics_verify_bout */
+    cpd_kinetics_check chk;
+    cpd_athlete_notes notes;     /* e.g. CP not available: checked against the GET alone */
+} cpd_athlete_bout_check;
+
+/* Fills k for analysed bouts b (today: days since 1970-01-01, for the domains' staleness). */
+void cpd_athlete_bouts_check(cpd_store *s, const cpd_athlete_bouts *b, int today, cpd_athlete_bout_check *k);
+
 /* ---- the intensity domains ---- */
 
 typedef struct {
