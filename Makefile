@@ -59,6 +59,9 @@ LIB_SRCS += src/store_session.c src/import_session.c
 LIB_SRCS += src/store_codec.c
 LIB_SRCS += src/csvfast.c
 CLI_SRCS += src/cmd_session.c
+LIB_SRCS += src/athlete.c src/athlete_domains.c src/export_domains.c
+CLI_SRCS += src/cli_athlete.c src/cli_gx.c src/cli_history.c
+CLI_SRCS += src/cli_session.c src/cli_balance.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -80,6 +83,7 @@ TESTS += test_safefile
 TESTS += test_csv_growth
 TESTS += test_store_codec test_csvfast
 TESTS += test_suggest
+TESTS += test_athlete
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
@@ -141,8 +145,13 @@ $(BUILD)/bench/%: tests/%.c $(LIB) | $(STAMP)
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) $(ALL_LDFLAGS) -Itests $< $(LIB) $(PKG_LIBS) -o $@
 
+# The example program of the library layer: public headers and libcpdomain.a only (no -Isrc).
+EXAMPLES = $(BUILD)/example_domains
+$(BUILD)/example_domains: tests/example_domains.c $(LIB) | $(STAMP)
+	$(CC) $(WARN) $(CFLAGS) $(SANFLAGS) -D_POSIX_C_SOURCE=200809L -Iinclude $(PKG_CFLAGS) $(ALL_LDFLAGS) $< $(LIB) $(PKG_LIBS) -o $@
+
 # make test: every unit test and every CLI test; the last line is "N passed, N failed".
-test: $(BIN) $(TEST_BINS)
+test: $(BIN) $(TEST_BINS) $(EXAMPLES)
 	@sh tests/run.sh $(BUILD)
 
 # make check: the whole suite again under AddressSanitizer and UndefinedBehaviorSanitizer.
@@ -150,7 +159,7 @@ check:
 	@$(MAKE) --no-print-directory BUILD=build/san SAN=1 test
 
 # make valgrind: the unit tests and the CLI tests under valgrind's memcheck.
-valgrind: $(BIN) $(TEST_BINS)
+valgrind: $(BIN) $(TEST_BINS) $(EXAMPLES)
 	@VALGRIND="valgrind -q --error-exitcode=99 --leak-check=full --errors-for-leak-kinds=definite" \
 	  sh tests/run.sh $(BUILD)
 

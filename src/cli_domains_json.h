@@ -5,8 +5,8 @@
 
 #include "cli_domains.h"
 
-/* The caution printed beside every heart-rate target. */
-extern const char CLI_HR_CAUTION[];
+/* The caution printed beside every heart-rate target (the library's text). */
+#define CLI_HR_CAUTION CPD_ATHLETE_HR_CAUTION
 
 /* The note when the newest ramp has a GET but no MRT (no constant-power equivalent). */
 extern const char CLI_MRT_MISSING_NOTE[];

@@ -1,4 +1,5 @@
-/* cli_pd.c: stored trials -> power-duration fit, and the fit's JSON and plain-word flags. */
+/* cli_pd.c: the library's power-duration fit of stored trials with its notes, and the fit's JSON
+ * and plain-word flags. */
 #include "cli_pd.h"
 #include "cpdomain/units.h"
 
@@ -7,157 +8,26 @@
 #include <string.h>
 #include <sysexits.h>
 
-const char CLI_CAUTION[] =
-    "Caution: these are model estimates with the uncertainty shown, not guarantees. Maximal and "
-    "severe-domain efforts need pre-participation screening, appropriate supervision and agreed stop "
-    "criteria; follow local rules and defer to licensed practitioners.";
-
 const char CLI_FIELD_ESTIMATE[] =
     "Field estimate: the points are the best efforts found in training and racing, not tests to "
     "exhaustion. Efforts may have been submaximal, which biases CP (CS) low or W' (D') either way; "
     "confirm with time-to-exhaustion trials before relying on it.";
 
-void cli_pd_fit_free(cli_pd_fit *f)
-{
-    if (!f)
-        return;
-    free(f->trials);
-    free(f->x);
-    free(f->t);
-    free(f->res);
-    memset(f, 0, sizeof *f);
-}
-
 int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f)
 {
-    memset(f, 0, sizeof *f);
-    int rc = cpd_store_athlete_get(c->store, code, &f->athlete);
-    if (rc)
-        return cli_store_fail(c, rc);
-    cpd_trial *all = NULL;
-    size_t na = 0;
-    if ((rc = cpd_store_trial_list(c->store, f->athlete.code, &all, &na)))
-        return cli_store_fail(c, rc);
-    size_t np = 0, ns = 0;
-    for (size_t i = 0; i < na; i++) {
-        const cpd_trial *t = &all[i];
-        if (t->excluded || (from && strcmp(t->date, from) < 0) || (to && strcmp(t->date, to) > 0))
-            continue;
-        if (t->kind == CPD_TRIAL_POWER)
-            np++;
-        else
-            ns++;
-    }
-    int speed_sport = strcmp(f->athlete.sport, "running") == 0 || strcmp(f->athlete.sport, "swimming") == 0;
-    f->modality = (ns > np || (ns == np && speed_sport)) ? CPD_PD_SPEED : CPD_PD_POWER;
-    f->skipped_other = f->modality == CPD_PD_SPEED ? np : ns;
-    size_t want = f->modality == CPD_PD_SPEED ? ns : np;
-    f->trials = calloc(want ? want : 1, sizeof *f->trials);
-    f->x = calloc(want ? want : 1, sizeof(double));
-    f->t = calloc(want ? want : 1, sizeof(double));
-    f->res = calloc(1, sizeof *f->res);
-    if (!f->trials || !f->x || !f->t || !f->res) {
-        free(all);
-        cli_pd_fit_free(f);
-        return cli_fail(c, CPD_ENOMEM, "out of memory");
-    }
-    for (size_t i = 0; i < na; i++) {
-        const cpd_trial *t = &all[i];
-        if (t->excluded || (from && strcmp(t->date, from) < 0) || (to && strcmp(t->date, to) > 0))
-            continue;
-        if ((t->kind == CPD_TRIAL_POWER) != (f->modality == CPD_PD_POWER))
-            continue;
-        f->trials[f->n] = *t;
-        /* SPEC: a distance trial is its mean speed v = D/t */
-        f->x[f->n] = t->kind == CPD_TRIAL_DISTANCE ? t->value / t->duration_s : t->value;
-        f->t[f->n] = t->duration_s;
-        f->n++;
-    }
-    free(all);
-    if (f->skipped_other)
-        cli_note(c, "note: %zu %s trial(s) of %s left out: one fit uses one modality", f->skipped_other,
-                 f->modality == CPD_PD_SPEED ? "power" : "speed or distance", code);
-    if (f->n < 2) {
-        int ex = cli_fail(c, CPD_ENODATA,
-                          "%s has %zu usable trial(s)%s%s: a power-duration fit needs at least 2, and 3-5 trials of "
-                          "about 2-15 min on separate days give an estimate with uncertainty",
-                          code, f->n, from || to ? " in the chosen dates" : "", f->n ? "" : " (excluded trials do not count)");
-        cli_pd_fit_free(f);
-        return ex;
-    }
-    if (f->n > CPD_PD_NMAX) {
-        int ex = cli_fail(c, CPD_EUSAGE, "%s has %zu trials in the chosen dates; at most %d fit at once: use --from/--to",
-                          code, f->n, CPD_PD_NMAX);
-        cli_pd_fit_free(f);
-        return ex;
-    }
-    cpd_pd_opts o;
-    cpd_pd_opts_init(&o);
-    o.models = mask;
-    cpd_pd_ws *w = cpd_pd_alloc();
     char msg[CPD_MSG_MAX] = "";
-    rc = w ? cpd_pd_fit(w, f->modality, f->x, f->t, f->n, &o, f->res, msg) : CPD_ENOMEM;
-    cpd_pd_free(w);
-    /* time trials over set distances: the distance-time model has the right error structure */
-    size_t nd = 0;
-    for (size_t i = 0; i < f->n; i++)
-        nd += f->trials[i].kind == CPD_TRIAL_DISTANCE;
-    if (!rc && f->modality == CPD_PD_SPEED && nd == f->n && (mask & CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL)))
-        f->time_trials = cpd_pd_best_for_time_trials(f->res) == CPD_OK;
-    if (rc) {
-        int ex = cli_fail(c, rc, "fitting %s: %s", code, msg[0] ? msg : cpd_strerror(rc));
-        cli_pd_fit_free(f);
-        return ex;
-    }
-    return 0;
-}
-
-size_t cli_pd_newest_block(const cli_pd_fit *f, char start[11])
-{
-    int newest = 0;
-    if (f->n == 0 || cpd_parse_date(f->trials[f->n - 1].date, &newest) != CPD_OK)
-        return 0;
-    cpd_format_date(newest - CLI_PD_BLOCK_DAYS, start);
-    size_t k = 0;
-    for (size_t i = 0; i < f->n; i++)
-        k += strcmp(f->trials[i].date, start) >= 0;
-    return k >= 3 && k < f->n ? k : 0;
+    int rc = cpd_athlete_fit_load(c->store, code, from, to, mask, f, msg);
+    cli_athlete_notes(c, &f->notes);
+    return rc ? cli_athlete_fail(c, rc, msg) : 0;
 }
 
 int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
                         size_t *older)
 {
-    *older = 0;
-    int rc = cli_pd_load_fit(c, code, from, to, mask, f);
-    if (rc || from)
-        return rc;
-    char start[11];
-    size_t k = cli_pd_newest_block(f, start);
-    if (!k)
-        return 0;
-    cli_pd_fit g;
-    int quiet = c->quiet;
-    c->quiet = 1; /* the notes were given by the first load */
-    c->mute++;
-    rc = cli_pd_load_fit(c, code, start, to, mask, &g);
-    c->mute--;
-    c->quiet = quiet;
-    if (rc)
-        return 0; /* keep the fit of all trials */
-    /* the block must give an answer: its best model, or the one model asked for */
-    int single = mask && !(mask & (mask - 1)), usable = single ? 0 : g.res->has_best;
-    for (int m = 0; single && m < CPD_PD_NMODELS; m++)
-        if (mask == CPD_PD_MODEL_BIT(m))
-            usable = g.res->models[m].ok;
-    if (!usable) {
-        cli_note(c, "note: the newest block of trials (from %s) gives no usable fit; all %zu trials are used", start, f->n);
-        cli_pd_fit_free(&g);
-        return 0;
-    }
-    *older = f->n - k;
-    cli_pd_fit_free(f);
-    *f = g;
-    return 0;
+    char msg[CPD_MSG_MAX] = "";
+    int rc = cpd_athlete_fit_current(c->store, code, from, to, mask, f, older, msg);
+    cli_athlete_notes(c, &f->notes);
+    return rc ? cli_athlete_fail(c, rc, msg) : 0;
 }
 
 const char *cli_pd_key(cpd_pd_modality m, const char *power_key, char *buf, size_t n)

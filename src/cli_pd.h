@@ -3,27 +3,18 @@
 #ifndef CPDOMAIN_CLI_PD_H
 #define CPDOMAIN_CLI_PD_H
 
-#include "cli.h"
+#include "cli_athlete.h"
 #include "cpdomain/pd.h"
 
-typedef struct {
-    cpd_athlete athlete;
-    cpd_pd_modality modality;
-    size_t n;             /* trials used */
-    cpd_trial *trials;    /* the trials used, oldest first */
-    double *x, *t;        /* their intensity (W, or m/s: a distance trial's mean speed) and duration (s) */
-    size_t skipped_other; /* trials of the other modality left out */
-    cpd_pd_result *res;   /* the fit */
-    int from_curve;       /* 1: the points come from the mean-maximal curve (trials[i].id is a session id) */
-    int time_trials;      /* 1: every trial a time trial over a distance: best = distance-time (linear-total) */
-} cli_pd_fit;
+/* The fit of stored trials is the library's (cpdomain/athlete.h): the CLI prints its notes. */
+typedef cpd_athlete_fit cli_pd_fit;
 
-/* Loads the athlete's trials that are not excluded, dated within [from, to] (either may be NULL),
- * picks the modality (power or speed; for mixed trials the athlete's sport decides) and fits the
- * models in mask. Returns 0, or an exit code after printing why (unknown athlete 65, fewer than
- * 2 trials 69). The caller frees f with cli_pd_fit_free. */
+/* cpd_athlete_fit_load with its notes printed: the athlete's trials that are not excluded, dated
+ * within [from, to] (either may be NULL), in one modality, fitted with the models in mask. Returns
+ * 0, or an exit code after printing why (unknown athlete 65, fewer than 2 trials 69). The caller
+ * frees f with cli_pd_fit_free. */
 int cli_pd_load_fit(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f);
-void cli_pd_fit_free(cli_pd_fit *f);
+#define cli_pd_fit_free cpd_athlete_fit_free
 
 /* The best-model rule for time trials over set distances (cpd_pd_best_for_time_trials). */
 #define CLI_TIME_TRIAL_RULE                                                                                    \
@@ -32,17 +23,15 @@ void cli_pd_fit_free(cli_pd_fit *f);
     "J Biomech Sports Exerc 6:110); the other models regress on the mean speed D/t, which carries the error "  \
     "of the measured time"
 
-/* Trials within this many days of the newest one form the newest block (the history's window). */
-#define CLI_PD_BLOCK_DAYS 28
+/* Trials within this many days of the newest one form the newest block (the history's window);
+ * cli_pd_newest_block is cpd_athlete_newest_block. */
+#define CLI_PD_BLOCK_DAYS CPD_ATHLETE_BLOCK_DAYS
+#define cli_pd_newest_block cpd_athlete_newest_block
 
-/* The newest block of f's trials: those dated on or after start = newest date - CLI_PD_BLOCK_DAYS.
- * Returns how many trials it holds when that is 3 or more and fewer than all, else 0. */
-size_t cli_pd_newest_block(const cli_pd_fit *f, char start[11]);
-
-/* The athlete's current fit: without from, like cli_pd_load_fit over the newest block of trials up
- * to `to` (NULL: all) when it holds 3 or more and older trials exist (*older receives how many are
- * left out, 0 when all are used); with from, exactly cli_pd_load_fit. Used by domains, predict, solve and sheet:
- * today's boundaries and predictions describe the athlete now, the history keeps the rest. */
+/* The athlete's current fit (cpd_athlete_fit_current) with its notes printed: without from, the
+ * newest block of trials up to `to` when it holds 3 or more and older trials exist (*older receives
+ * how many are left out); with from, exactly cli_pd_load_fit. Used by domains, predict, solve and
+ * sheet: today's boundaries and predictions describe the athlete now, the history keeps the rest. */
 int cli_pd_load_current(cli_ctx *c, const char *code, const char *from, const char *to, unsigned mask, cli_pd_fit *f,
                         size_t *older);
 
@@ -65,15 +54,17 @@ const char *cli_pd_unit(cpd_pd_modality m);
 /* The pace distance for a sport: 100 m for swimmers, else 1000 m; the label "/100m" or "/km". */
 double cli_pd_pace_m(const cpd_athlete *a, const char **label);
 
-/* predict --protocol: the balance of a typed protocol for fitted model m; returns an exit code. */
+/* predict --protocol: the balance of a typed protocol for fitted model m; returns an exit code
+ * (cli_balance.c, as the rest of the balance report). */
 int cli_predict_protocol(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, const char *text,
                          const char *balance_model, const char *trace_path, const char *plot_path);
 
-/* The usual caution printed beside every prescription or prediction. */
-extern const char CLI_CAUTION[];
+/* The usual caution printed beside every prescription or prediction (the library's text). */
+#define CLI_CAUTION CPD_ATHLETE_CAUTION
 
 /* ---- the W' balance report shared by predict --protocol and predict --session ---- */
 #include "cpdomain/balance.h"
+#include "cpdomain/protocol.h"
 
 /* One row of the report's table: seconds [start_s, start_s + length_s) of the input. */
 typedef struct {
@@ -98,6 +89,14 @@ typedef struct {
     const char *plot_path;           /* -o FILE.svg: the balance plot, or NULL */
 } cli_balance_input;
 
+/* The model's parameters with CP at the lower (side < 0) or upper end of its 95 % interval and W'
+ * moved with it along their joint-normal regression; 0 when the fit has no standard errors. */
+int cli_param_pair(const cpd_pd_model_fit *m, int side, double *cp, double *w);
+
+/* Parses protocol text and checks it against f's modality; *p freed with cpd_protocol_free.
+ * Returns 0 or an exit code after printing why. */
+int cli_load_protocol(cli_ctx *c, const cli_pd_fit *f, const char *text, cpd_protocol **p);
+
 #define CLI_NBALANCE 3 /* recovery models reported side by side */
 #define CLI_COMPLETED_BELOW_ZERO                                                                               \
     "the athlete finished it, so CP or W' is probably out of date (too low); retest, or fit the newest trials"
@@ -107,7 +106,7 @@ typedef struct {
 int cli_balance_report(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, cpd_balance_model bm,
                        const cli_balance_input *in);
 
-/* predict --session: the balance of recorded session id for fitted model m (cmd_session.c). */
+/* predict --session: the balance of recorded session id for fitted model m (cli_session.c). */
 int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit *m, long long id,
                         const char *balance_model, const char *trace_path, const char *plot_path);
 
@@ -115,7 +114,7 @@ int cli_predict_session(cli_ctx *c, const cli_pd_fit *f, const cpd_pd_model_fit 
  * sessions dated within [from, to] at the durations in the list ("3min,5min,12min"; NULL: the
  * default CLI_CURVE_DURATIONS). The points become f->trials (id = the session that gave the
  * point, date its date; oldest first) and f->from_curve is 1. Returns 0 or an exit code after
- * printing why (cmd_session.c). */
+ * printing why (cli_session.c). */
 #define CLI_CURVE_DURATIONS "3min,5min,12min,20min"
 int cli_pd_load_curve_fit(cli_ctx *c, const char *code, const char *from, const char *to, const char *durations,
                           unsigned mask, cli_pd_fit *f);

@@ -1,7 +1,6 @@
 /* cmd_bout.c: 'bout add|list|show|plot|remove': constant-power (or constant-speed) bouts with gas
  * exchange and their VO2 kinetics. Repeats of one transition given as ID,ID,... are ensemble-averaged;
  * the domain comes from the response and is checked against the athlete's GET and CP when known. */
-#include "cli_domains.h"
 #include "cli_energy.h"
 #include "cli_gx.h"
 #include "commands.h"
@@ -18,8 +17,6 @@
 #include <sysexits.h>
 
 #define BOUT_MIN_SAMPLES 20 /* fewest rows a bout file may have: below it no baseline and phase II fit */
-#define BOUT_MAX_REPEATS 16 /* most repeats averaged at once */
-#define BOUT_SAME_PCT 5.0   /* repeats of one transition: intensities (and baselines) within 5 % of the bout's */
 
 static const char HELP_ADD[] =
     "usage: cpdomain bout add CODE FILE.csv --date D (--power W | --speed M_S) [--baseline W] [--onset T]\n"
@@ -295,79 +292,26 @@ static int bout_list(cli_ctx *c, int argc, char **argv)
 
 /* ---- analysis of one bout or an ensemble ---- */
 
-/* One 'bout show' or 'bout plot': the repeats, what the analysis was given, its result and the check
- * of the domain against the athlete's boundaries. */
+/* One 'bout show' or 'bout plot': the analysis of the library (athlete.h) and the check of the
+ * domain against the athlete's boundaries. */
 typedef struct {
     const char *cmd;                     /* "bout show" or "bout plot", for messages */
     const char *ids_text;                /* the ids as typed */
-    size_t n;                            /* repeats */
-    cpd_gx_test t[BOUT_MAX_REPEATS];     /* their records, in the order given */
-    cpd_gx_series *g[BOUT_MAX_REPEATS];  /* their samples */
-    cpd_athlete a;
-    int speed;                           /* 1: intensities in m/s */
-    double intensity;                    /* mean bout intensity, W or m/s */
-    double baseline;                     /* mean baseline intensity (0 where not given), W or m/s */
-    int baseline_given;                  /* 1 when every repeat has its baseline intensity */
-    int vo2peak_src;                     /* 0 none, 1 the newest ramp, 2 --vo2peak */
-    long long ramp_id;                   /* the ramp it came from */
-    char ramp_date[11];
-    int has_ramp_get;                    /* 1 when that ramp gave a constant-intensity GET */
-    double ramp_get;                     /* W or m/s */
-    cpd_kinetics_opts ko;                /* the options of the analysis */
-    cpd_kinetics_ws *ws;
-    cpd_kinetics_result res;
-    /* domain check */
-    int checked;                         /* 1 when GET and/or CP were known */
-    double get, cp;                      /* W or m/s; 0 when unknown */
-    char get_source[200], cp_source[200];
-    char why_unchecked[300];             /* why the domain rests on the response alone */
-    int check_rc;                        /* status of cpd_kinetics_verify_domain */
-    cpd_kinetics_check chk;
+    cpd_athlete_bouts b;                 /* the repeats, what the analysis was given, its result */
+    cpd_athlete_bout_check k;            /* the domain checked against the athlete's boundaries */
 } bout_run;
 
 static void run_free(bout_run *r)
 {
     if (!r)
         return;
-    for (size_t i = 0; i < r->n; i++)
-        cpd_gx_free(r->g[i]);
-    cpd_kinetics_free(r->ws);
+    cpd_athlete_bouts_free(&r->b);
     free(r);
 }
 
-/* Splits "3,4,5" into ids; returns 0 or 64 after printing. */
-static int parse_ids(bout_run *r, const char *text)
+/* The analysis options of 'bout show' and 'bout plot' into *k; returns 0 or 64. */
+static int analysis_opts(const char *cmd, cpd_kinetics_opts *k, const bout_opts *o)
 {
-    char buf[512];
-    if (strlen(text) >= sizeof buf)
-        return cli_usage(r->cmd, "too many ids");
-    snprintf(buf, sizeof buf, "%s", text);
-    char *p = buf;
-    for (;;) {
-        char *comma = strchr(p, ',');
-        if (comma)
-            *comma = '\0';
-        if (r->n == BOUT_MAX_REPEATS)
-            return cli_usage(r->cmd, "at most %d repeats are averaged at once", BOUT_MAX_REPEATS);
-        long long id = 0;
-        int rc = cli_id(r->cmd, p, &id);
-        if (rc)
-            return rc;
-        for (size_t i = 0; i < r->n; i++)
-            if (r->t[i].id == id)
-                return cli_usage(r->cmd, "bout %lld is given twice: each repeat counts once in an ensemble", id);
-        r->t[r->n++].id = id;
-        if (!comma)
-            break;
-        p = comma + 1;
-    }
-    return 0;
-}
-
-/* The analysis options of 'bout show' and 'bout plot' into r->ko; returns 0 or 64. */
-static int analysis_opts(bout_run *r, const bout_opts *o)
-{
-    cpd_kinetics_opts *k = &r->ko;
     cpd_kinetics_opts_init(k);
     int rc;
     /* phase I must end before the first window end (60 s) and the 3-min primary window */
@@ -395,99 +339,8 @@ static int analysis_opts(bout_run *r, const bout_opts *o)
         else if (strcmp(o->primary, "window") == 0)
             k->primary = CPD_KIN_PRIMARY_WINDOW;
         else
-            return cli_usage(r->cmd, "--primary must be auto, mono-end or window");
+            return cli_usage(cmd, "--primary must be auto, mono-end or window");
     }
-    return 0;
-}
-
-/* The repeats must be one transition: one athlete, one modality, intensities and baselines within
- * BOUT_SAME_PCT of the bout intensity. Returns 0 or 64 after saying why. */
-static int check_repeats(bout_run *r)
-{
-    const cpd_gx_test *t0 = &r->t[0];
-    double lo = t0->intensity, hi = t0->intensity, blo = INFINITY, bhi = -INFINITY, sum = 0, bsum = 0;
-    size_t ilo = 0, ihi = 0;
-    r->baseline_given = 1;
-    for (size_t i = 0; i < r->n; i++) {
-        const cpd_gx_test *t = &r->t[i];
-        if (strcmp(t->athlete, t0->athlete))
-            return cli_usage(r->cmd, "bouts %lld and %lld belong to different athletes (%s, %s): an ensemble averages "
-                             "repeats of one athlete's transition", (long long)t0->id, (long long)t->id, t0->athlete,
-                             t->athlete);
-        if (t->speed != t0->speed)
-            return cli_usage(r->cmd, "bouts %lld and %lld mix a power and a speed bout: not repeats of one transition",
-                             (long long)t0->id, (long long)t->id);
-        if (t->intensity < lo) {
-            lo = t->intensity;
-            ilo = i;
-        }
-        if (t->intensity > hi) {
-            hi = t->intensity;
-            ihi = i;
-        }
-        double b = t->has_baseline ? t->baseline : 0.0;
-        blo = fmin(blo, b);
-        bhi = fmax(bhi, b);
-        r->baseline_given &= t->has_baseline;
-        sum += t->intensity;
-        bsum += b;
-    }
-    const char *u = unit_of(t0->speed);
-    if (100.0 * (hi - lo) / lo > BOUT_SAME_PCT)
-        return cli_usage(r->cmd, "bout %lld (%g %s) and bout %lld (%g %s) differ by %.1f %% in %s, more than %.0f %%: "
-                         "only repeats of the same transition are averaged", (long long)r->t[ilo].id, lo, u,
-                         (long long)r->t[ihi].id, hi, u, 100.0 * (hi - lo) / lo, t0->speed ? "speed" : "power",
-                         BOUT_SAME_PCT);
-    if (100.0 * (bhi - blo) / lo > BOUT_SAME_PCT)
-        return cli_usage(r->cmd, "the baselines differ (%g to %g %s; a missing --baseline counts as 0): only repeats of "
-                         "the same transition are averaged", blo, bhi, u);
-    r->speed = t0->speed;
-    r->intensity = sum / (double)r->n;
-    r->baseline = bsum / (double)r->n;
-    return 0;
-}
-
-/* VO2peak and the GET equivalent of the athlete's newest ramp of the bout's modality; quiet when
- * there is none, a note when it cannot be analysed. */
-static int add_ramp(cli_ctx *c, bout_run *r)
-{
-    cpd_gx_test *v = NULL;
-    size_t n = 0;
-    int rc = cpd_store_gx_list(c->store, r->a.code, CPD_GXT_RAMP, &v, &n);
-    if (rc)
-        return cli_store_fail(c, rc);
-    long long id = 0;
-    for (size_t i = n; i-- > 0;)
-        if (v[i].speed == r->speed) {
-            id = v[i].id;
-            break;
-        }
-    free(v);
-    if (!id)
-        return 0;
-    cpd_gx_test t;
-    cpd_athlete a;
-    cpd_ramp_ws *w = NULL;
-    cpd_ramp_result *rr = calloc(1, sizeof *rr);
-    if (!rr)
-        return cli_fail(c, CPD_ENOMEM, "out of memory");
-    if (cli_ramp_analyse(c, id, NULL, NULL, NULL, &t, &a, &w, rr)) {
-        cli_note(c, "note: ramp %lld could not be analysed: no VO2peak for the bout", id);
-        free(rr);
-        return 0;
-    }
-    r->ramp_id = id;
-    snprintf(r->ramp_date, sizeof r->ramp_date, "%s", t.date);
-    if (!r->vo2peak_src) {
-        r->vo2peak_src = 1;
-        r->ko.vo2peak_ml_min = rr->vo2peak_ml_min;
-    }
-    if (rr->get.status != CPD_THR_NOT_FOUND && rr->get.has_equiv) {
-        r->has_ramp_get = 1;
-        r->ramp_get = rr->get.equiv_intensity;
-    }
-    cpd_ramp_free(w);
-    free(rr);
     return 0;
 }
 
@@ -500,118 +353,29 @@ static int run_load(cli_ctx *c, const char *cmd, const char *ids_text, const bou
         return cli_fail(c, CPD_ENOMEM, "out of memory");
     r->cmd = cmd;
     r->ids_text = ids_text;
+    long long ids[CPD_ATHLETE_BOUTS_MAX];
+    size_t n = 0;
+    cpd_kinetics_opts ko;
     int rc;
-    if ((rc = parse_ids(r, ids_text)) || (rc = analysis_opts(r, o)))
+    if ((rc = cli_bout_ids(cmd, ids_text, ids, &n)) || (rc = analysis_opts(cmd, &ko, o)))
         return rc;
-    if (o->vo2peak)
-        r->vo2peak_src = 2;
     if (!c->store && (rc = cli_open(c, 0)))
         return rc;
-    size_t want = r->n;
-    r->n = 0;
-    for (size_t i = 0; i < want; i++) {
-        long long id = r->t[i].id;
-        if ((rc = cpd_store_gx_get(c->store, id, CPD_GXT_BOUT, &r->t[i], &r->g[i])))
-            return cli_store_fail(c, rc);
-        r->n++;
-    }
-    if ((rc = check_repeats(r)))
-        return rc;
-    if ((rc = cpd_store_athlete_get(c->store, r->t[0].athlete, &r->a)))
-        return cli_store_fail(c, rc);
-    double end = INFINITY;
-    for (size_t i = 0; i < r->n; i++) {
-        const cpd_gx_series *g = r->g[i];
-        if (r->t[i].onset_s < g->t_s[0])
-            return cli_fail(c, CPD_ENODATA,
-                            "bout %lld: no baseline data: the record starts at %g s, after the onset at %g s; the kinetics "
-                            "need the breaths before and from the onset (record a baseline, or correct --onset)",
-                            (long long)r->t[i].id, g->t_s[0], r->t[i].onset_s);
-        end = fmin(end, g->t_s[g->n - 1] - r->t[i].onset_s);
-    }
-    if (r->ko.end_s > 0 && r->ko.end_s > end + 1e-9)
-        return cli_usage(cmd, "--fit-end %g s lies beyond the data: %s %.0f s after the onset", r->ko.end_s,
-                         r->n > 1 ? "the shortest repeat ends" : "the bout ends", end);
-    if ((rc = add_ramp(c, r)))
-        return rc;
-    r->ko.power_w = r->intensity;
-    r->ko.baseline_power_w = r->baseline;
-    r->ws = cpd_kinetics_alloc();
-    if (!r->ws)
-        return cli_fail(c, CPD_ENOMEM, "out of memory");
-    cpd_kinetics_input in[BOUT_MAX_REPEATS];
-    for (size_t i = 0; i < r->n; i++) {
-        in[i].gx = r->g[i];
-        in[i].onset_s = r->t[i].onset_s;
-    }
-    rc = cpd_kinetics_analyse(r->ws, in, r->n, &r->ko, &r->res);
-    if (rc)
-        return cli_fail(c, rc, "%s %s: %s", r->n > 1 ? "bouts" : "bout", ids_text,
-                        r->res.msg[0] ? r->res.msg : cpd_kinetics_reason_text(r->res.reason));
-    return 0;
+    return cli_bouts_load(c, cmd, ids, n, &ko, &r->b);
 }
 
-/* The athlete's trials usable for a power-duration fit in the bout's modality. */
-static size_t usable_trials(cli_ctx *c, const bout_run *r)
-{
-    cpd_trial *v = NULL;
-    size_t n = 0, k = 0;
-    if (cpd_store_trial_list(c->store, r->a.code, &v, &n))
-        return 0;
-    for (size_t i = 0; i < n; i++)
-        k += !v[i].excluded && (v[i].kind == CPD_TRIAL_POWER) == !r->speed;
-    free(v);
-    return k;
-}
-
-/* Checks the domain from the response against the athlete's boundaries: the GET equivalent (or
- * LT1) and CP of the domains module when a fit exists, else the newest ramp's GET alone. */
+/* Checks the domain from the response against the athlete's boundaries (the library's check). */
 static void run_check(cli_ctx *c, bout_run *r)
 {
-    const char *cpname = r->speed ? "CS" : "CP";
-    if (usable_trials(c, r) >= 2) {
-        cli_domains d;
-        int quiet = c->quiet;
-        c->quiet = 1; /* the fit's own notes belong to 'fit' and 'domains' */
-        c->mute++;
-        int rc = cli_domains_build(c, r->a.code, NULL, NULL, NULL, 0, &d);
-        c->mute--;
-        c->quiet = quiet;
-        if (rc == 0) {
-            if ((d.fit.modality == CPD_PD_SPEED) == (r->speed != 0)) {
-                const cpd_boundary *g = &d.res.b[CPD_BND_MOD_HEAVY], *p = &d.res.b[CPD_BND_HEAVY_SEVERE];
-                if (g->valid) {
-                    r->get = g->value;
-                    snprintf(r->get_source, sizeof r->get_source, "%s", g->source);
-                }
-                if (p->valid) {
-                    r->cp = p->value;
-                    snprintf(r->cp_source, sizeof r->cp_source, "%s", p->source);
-                }
-            }
-            cli_domains_free(&d);
-        } else
-            cli_note(c, "note: the athlete's %s is not available: the domain is checked against the GET alone", cpname);
-    }
-    if (!(r->get > 0) && r->has_ramp_get) {
-        r->get = r->ramp_get;
-        snprintf(r->get_source, sizeof r->get_source, "ramp %lld (%s)", r->ramp_id, r->ramp_date);
-    }
-    if (!(r->get > 0) && !(r->cp > 0)) {
-        snprintf(r->why_unchecked, sizeof r->why_unchecked,
-                 "no GET equivalent (a ramp with its MRT, or a lactate LT1) and no power-duration fit on file: the "
-                 "domain is judged from the response alone");
-        return;
-    }
-    r->checked = 1;
-    r->check_rc = cpd_kinetics_verify_bout(r->res.domain, r->res.end_s, r->intensity, r->get, r->cp, &r->chk);
+    cpd_athlete_bouts_check(c->store, &r->b, c->today, &r->k);
+    cli_athlete_notes(c, &r->k.notes);
 }
 
 /* The rule behind the domain in words. */
 static void criteria_text(const bout_run *r, char *buf, size_t n)
 {
-    const cpd_kinetics_result *k = &r->res;
-    const cpd_kinetics_opts *o = &r->ko;
+    const cpd_kinetics_result *k = &r->b.res;
+    const cpd_kinetics_opts *o = &r->b.ko;
     char slope[160] = "", delta[96] = "", sc[200];
     if (k->slope_valid)
         snprintf(slope, sizeof slope, "the final-2-min slope is %.0f mL/min per min (95 %% CI %.0f to %.0f)",
@@ -740,73 +504,73 @@ static void residual_json(cli_json *o, const cpd_kinetics_fitres *f)
 
 static void check_json(cli_json *o, const bout_run *r)
 {
-    const char *u = r->speed ? "_m_s" : "_w";
+    const char *u = r->b.speed ? "_m_s" : "_w";
     char key[32];
-    cj_str(o, "basis", r->checked ? "boundaries" : "response");
+    cj_str(o, "basis", r->k.checked ? "boundaries" : "response");
     snprintf(key, sizeof key, "get%s", u);
-    cj_num(o, key, r->get > 0 ? r->get : NAN);
-    cj_str(o, "get_source", r->get > 0 ? r->get_source : NULL);
-    snprintf(key, sizeof key, "%s%s", r->speed ? "cs" : "cp", u);
-    cj_num(o, key, r->cp > 0 ? r->cp : NAN);
-    cj_str(o, r->speed ? "cs_source" : "cp_source", r->cp > 0 ? r->cp_source : NULL);
-    if (!r->checked) {
+    cj_num(o, key, r->k.get > 0 ? r->k.get : NAN);
+    cj_str(o, "get_source", r->k.get > 0 ? r->k.get_source : NULL);
+    snprintf(key, sizeof key, "%s%s", r->b.speed ? "cs" : "cp", u);
+    cj_num(o, key, r->k.cp > 0 ? r->k.cp : NAN);
+    cj_str(o, r->b.speed ? "cs_source" : "cp_source", r->k.cp > 0 ? r->k.cp_source : NULL);
+    if (!r->k.checked) {
         cj_null(o, "predicted");
         cj_add_arr(o, "allowed");
         cj_null(o, "agrees");
-        cj_str(o, "message", r->why_unchecked);
+        cj_str(o, "message", r->k.why_unchecked);
         return;
     }
-    int ok = r->check_rc == CPD_OK;
-    cj_str(o, "predicted", ok && r->chk.predicted != CPD_KIN_UNDETERMINED ? cpd_kinetics_domain_name(r->chk.predicted) : NULL);
+    int ok = r->k.check_rc == CPD_OK;
+    cj_str(o, "predicted", ok && r->k.chk.predicted != CPD_KIN_UNDETERMINED ? cpd_kinetics_domain_name(r->k.chk.predicted) : NULL);
     cli_json *al = cj_add_arr(o, "allowed");
     for (int dm = CPD_KIN_MODERATE; ok && dm <= CPD_KIN_SEVERE; dm++)
-        if (r->chk.predicted_mask & (1u << dm))
+        if (r->k.chk.predicted_mask & (1u << dm))
             cj_push_str(al, cpd_kinetics_domain_name(dm));
-    if (ok && r->chk.agreement >= 0)
-        cj_bool(o, "agrees", r->chk.agreement);
+    if (ok && r->k.chk.agreement >= 0)
+        cj_bool(o, "agrees", r->k.chk.agreement);
     else
         cj_null(o, "agrees");
-    cj_str(o, "message", r->chk.message);
+    cj_str(o, "message", r->k.chk.message);
 }
 
 /* Substrate use at the steady state, the oxygen deficit and the accumulated O2 deficit (cli_energy.c). */
 static void energy_block(cli_ctx *c, const bout_run *r, cli_json *d)
 {
-    const cpd_gx_series *g[BOUT_MAX_REPEATS];
-    double on[BOUT_MAX_REPEATS];
-    for (size_t i = 0; i < r->n; i++) {
-        g[i] = r->g[i];
-        on[i] = r->t[i].onset_s;
+    const cpd_gx_series *g[CPD_ATHLETE_BOUTS_MAX];
+    double on[CPD_ATHLETE_BOUTS_MAX];
+    for (size_t i = 0; i < r->b.n; i++) {
+        g[i] = r->b.g[i];
+        on[i] = r->b.t[i].onset_s;
     }
-    cli_energy_bout_report(c, r->a.code, r->t[0].id, g, on, r->n, r->speed, r->intensity, r->baseline, &r->res,
-                           r->ko.vo2peak_ml_min, d);
+    cli_energy_bout_report(c, r->b.a.code, r->b.t[0].id, g, on, r->b.n, r->b.speed, r->b.intensity, r->b.baseline, &r->b.res,
+                           r->b.ko.vo2peak_ml_min, d);
 }
 
 static int show_json(cli_ctx *c, const bout_run *r)
 {
-    const cpd_kinetics_result *k = &r->res;
-    const cpd_kinetics_opts *ko = &r->ko;
-    const char *ik = r->speed ? "speed_m_s" : "power_w";
+    const cpd_kinetics_result *k = &r->b.res;
+    const cpd_kinetics_opts *ko = &r->b.ko;
+    const char *ik = r->b.speed ? "speed_m_s" : "power_w";
     cli_json *d = cj_obj();
-    if (r->n == 1)
-        cj_int(d, "id", r->t[0].id);
+    if (r->b.n == 1)
+        cj_int(d, "id", r->b.t[0].id);
     else
         cj_null(d, "id");
     cli_json *ids = cj_add_arr(d, "ids");
-    for (size_t i = 0; i < r->n; i++)
-        cj_push_num(ids, (double)r->t[i].id);
-    cj_str(d, "athlete", r->a.code);
-    cj_str(d, "date", r->n == 1 ? r->t[0].date : NULL);
+    for (size_t i = 0; i < r->b.n; i++)
+        cj_push_num(ids, (double)r->b.t[i].id);
+    cj_str(d, "athlete", r->b.a.code);
+    cj_str(d, "date", r->b.n == 1 ? r->b.t[0].date : NULL);
     cli_json *dates = cj_add_arr(d, "dates");
-    for (size_t i = 0; i < r->n; i++)
-        cj_push_str(dates, r->t[i].date);
-    cj_str(d, "modality", r->speed ? "speed" : "power");
-    cj_num(d, ik, r->intensity);
-    cj_num(d, r->speed ? "baseline_speed_m_s" : "baseline_power_w", r->baseline);
-    cj_bool(d, "baseline_intensity_given", r->baseline_given);
+    for (size_t i = 0; i < r->b.n; i++)
+        cj_push_str(dates, r->b.t[i].date);
+    cj_str(d, "modality", r->b.speed ? "speed" : "power");
+    cj_num(d, ik, r->b.intensity);
+    cj_num(d, r->b.speed ? "baseline_speed_m_s" : "baseline_power_w", r->b.baseline);
+    cj_bool(d, "baseline_intensity_given", r->b.baseline_given);
     cj_int(d, "repeats", (long long)k->n_repeats);
-    cj_str(d, "points", r->ko.bin_s > 0 ? "bins" : r->n > 1 ? "1-s ensemble" : "breaths");
-    cj_num(d, "bin_s", r->ko.bin_s > 0 ? r->ko.bin_s : NAN);
+    cj_str(d, "points", r->b.ko.bin_s > 0 ? "bins" : r->b.n > 1 ? "1-s ensemble" : "breaths");
+    cj_num(d, "bin_s", r->b.ko.bin_s > 0 ? r->b.ko.bin_s : NAN);
     cj_num(d, "phase1_s", ko->phase1_s);
     cj_num(d, "exercise_s", k->end_s);
 
@@ -834,7 +598,7 @@ static int show_json(cli_ctx *c, const bout_run *r)
     cj_pair(p, "tau_ci95", k->primary.tau_ci95_s[0], k->primary.tau_ci95_s[1]);
     cj_num(p, "tau_se_s", k->primary.tau_se_s);
     cj_num(p, "delay_s", k->primary.delay_s);
-    cj_num(p, r->speed ? "gain_ml_min_per_m_s" : "gain_ml_min_w", k->primary.gain_valid ? k->primary.gain_ml_min_w : NAN);
+    cj_num(p, r->b.speed ? "gain_ml_min_per_m_s" : "gain_ml_min_w", k->primary.gain_valid ? k->primary.gain_ml_min_w : NAN);
     cj_num(p, "mrt_s", k->primary.mrt_s);
     cj_str(p, "fit", k->primary.fit);
     if (k->slow.present) {
@@ -863,13 +627,13 @@ static int show_json(cli_ctx *c, const bout_run *r)
     cj_num(d, "mrt_s", k->primary.mrt_s);
     cj_num(d, "o2_deficit_ml", k->primary.o2_deficit_ml);
     cj_num(d, "end_vo2_pct_vo2peak", k->end_pct_valid ? k->end_pct_vo2peak : NAN);
-    if (r->vo2peak_src) {
+    if (r->b.vo2peak_src) {
         cli_json *v = cj_add_obj(d, "vo2peak");
         cj_num(v, "ml_min", ko->vo2peak_ml_min);
-        cj_str(v, "source", r->vo2peak_src == 2 ? "given" : "ramp");
-        if (r->vo2peak_src == 1) {
-            cj_int(v, "ramp_id", r->ramp_id);
-            cj_str(v, "ramp_date", r->ramp_date);
+        cj_str(v, "source", r->b.vo2peak_src == 2 ? "given" : "ramp");
+        if (r->b.vo2peak_src == 1) {
+            cj_int(v, "ramp_id", r->b.ramp_id);
+            cj_str(v, "ramp_date", r->b.ramp_date);
         }
     } else
         cj_null(d, "vo2peak");
@@ -916,19 +680,19 @@ static int show_json(cli_ctx *c, const bout_run *r)
     cj_int(d, "breaths", (long long)k->n_breaths);
     cj_int(d, "outliers_removed", (long long)k->n_outliers);
     size_t hr_dropped = 0, blank = 0;
-    for (size_t i = 0; i < r->n; i++) {
-        hr_dropped += r->t[i].hr_dropped;
-        blank += r->t[i].blank_cells;
+    for (size_t i = 0; i < r->b.n; i++) {
+        hr_dropped += r->b.t[i].hr_dropped;
+        blank += r->b.t[i].blank_cells;
     }
     cj_int(d, "hr_dropped", (long long)hr_dropped);
     cj_int(d, "blank_cells_dropped", (long long)blank);
     cli_json *bl = cj_add_arr(d, "bouts");
-    for (size_t i = 0; i < r->n; i++) {
+    for (size_t i = 0; i < r->b.n; i++) {
         cli_json *b = cj_obj();
-        cj_int(b, "id", r->t[i].id);
-        cj_str(b, "date", r->t[i].date);
-        cj_num(b, ik, r->t[i].intensity);
-        cj_num(b, "onset_s", r->t[i].onset_s);
+        cj_int(b, "id", r->b.t[i].id);
+        cj_str(b, "date", r->b.t[i].date);
+        cj_num(b, ik, r->b.t[i].intensity);
+        cj_num(b, "onset_s", r->b.t[i].onset_s);
         cj_push(bl, b);
     }
     energy_block(c, r, d);
@@ -937,40 +701,40 @@ static int show_json(cli_ctx *c, const bout_run *r)
 
 static void show_text(const bout_run *r)
 {
-    const cpd_kinetics_result *k = &r->res;
-    const cpd_kinetics_opts *ko = &r->ko;
+    const cpd_kinetics_result *k = &r->b.res;
+    const cpd_kinetics_opts *ko = &r->b.ko;
     char iv[48], bl[48], tm[24], tm2[24];
-    fmt_int(iv, sizeof iv, r->intensity, r->speed);
-    fmt_int(bl, sizeof bl, r->baseline, r->speed);
-    if (r->n == 1) {
-        cpd_format_duration(r->t[0].onset_s, tm, sizeof tm);
-        printf("bout %lld: %s %s, %s, %s from %s%s, onset %s\n", (long long)r->t[0].id, r->a.code, r->a.name,
-               r->t[0].date, iv, bl, r->baseline_given ? "" : " (not given)", tm);
+    fmt_int(iv, sizeof iv, r->b.intensity, r->b.speed);
+    fmt_int(bl, sizeof bl, r->b.baseline, r->b.speed);
+    if (r->b.n == 1) {
+        cpd_format_duration(r->b.t[0].onset_s, tm, sizeof tm);
+        printf("bout %lld: %s %s, %s, %s from %s%s, onset %s\n", (long long)r->b.t[0].id, r->b.a.code, r->b.a.name,
+               r->b.t[0].date, iv, bl, r->b.baseline_given ? "" : " (not given)", tm);
     } else {
-        printf("bouts %s (ensemble of %zu repeats): %s %s,", r->ids_text, r->n, r->a.code, r->a.name);
-        for (size_t i = 0; i < r->n; i++)
-            printf(" %s%s", r->t[i].date, i + 1 < r->n ? "," : "");
-        printf("; %s from %s%s\n", iv, bl, r->baseline_given ? "" : " (not given for every repeat)");
+        printf("bouts %s (ensemble of %zu repeats): %s %s,", r->ids_text, r->b.n, r->b.a.code, r->b.a.name);
+        for (size_t i = 0; i < r->b.n; i++)
+            printf(" %s%s", r->b.t[i].date, i + 1 < r->b.n ? "," : "");
+        printf("; %s from %s%s\n", iv, bl, r->b.baseline_given ? "" : " (not given for every repeat)");
     }
     putchar('\n');
     char crit[600];
     criteria_text(r, crit, sizeof crit);
     printf("domain     %s\n", k->domain == CPD_KIN_UNDETERMINED ? "undetermined" : cpd_kinetics_domain_name(k->domain));
     printf("           criteria: %s\n", crit);
-    if (!r->checked)
-        printf("           check: %s\n", r->why_unchecked);
+    if (!r->k.checked)
+        printf("           check: %s\n", r->k.why_unchecked);
     else {
         char g[64] = "", p[64] = "";
-        if (r->get > 0)
-            fmt_int(g, sizeof g, r->get, r->speed);
-        if (r->cp > 0)
-            fmt_int(p, sizeof p, r->cp, r->speed);
-        printf("           check: %s", r->chk.message);
-        if (r->check_rc == CPD_OK && r->chk.agreement == 0)
+        if (r->k.get > 0)
+            fmt_int(g, sizeof g, r->k.get, r->b.speed);
+        if (r->k.cp > 0)
+            fmt_int(p, sizeof p, r->k.cp, r->b.speed);
+        printf("           check: %s", r->k.chk.message);
+        if (r->k.check_rc == CPD_OK && r->k.chk.agreement == 0)
             printf(" [DISAGREES]");
         printf("\n           boundaries: GET %s%s%s%s, %s %s%s%s%s\n", g[0] ? g : "unknown", g[0] ? " (" : "",
-               g[0] ? r->get_source : "", g[0] ? ")" : "", r->speed ? "CS" : "CP", p[0] ? p : "unknown", p[0] ? " (" : "",
-               p[0] ? r->cp_source : "", p[0] ? ")" : "");
+               g[0] ? r->k.get_source : "", g[0] ? ")" : "", r->b.speed ? "CS" : "CP", p[0] ? p : "unknown", p[0] ? " (" : "",
+               p[0] ? r->k.cp_source : "", p[0] ? ")" : "");
     }
     if (ko->baseline_ml_min > 0)
         printf("baseline   %.0f mL/min (given)\n", k->baseline_ml_min);
@@ -980,7 +744,7 @@ static void show_text(const bout_run *r)
     printf("primary    %.0f mL/min, tau %.1f s (95 %% CI %.1f to %.1f), delay %.1f s", k->primary.amplitude_ml_min,
            k->primary.tau_s, k->primary.tau_ci95_s[0], k->primary.tau_ci95_s[1], k->primary.delay_s);
     if (k->primary.gain_valid)
-        printf(", gain %.1f mL/min per %s", k->primary.gain_ml_min_w, unit_of(r->speed));
+        printf(", gain %.1f mL/min per %s", k->primary.gain_ml_min_w, unit_of(r->b.speed));
     const char *pf = strcmp(k->primary.fit, "bi") == 0         ? "bi-exponential"
                      : strcmp(k->primary.fit, "mono_end") == 0 ? "mono-exponential to 3 min"
                      : strcmp(k->primary.fit, "window") == 0   ? "windowed mono-exponential"
@@ -1007,9 +771,9 @@ static void show_text(const bout_run *r)
         printf("delta 6-3  - (bout shorter than 6 min)\n");
     printf("end VO2    %.0f mL/min (last 30 s)", k->end_vo2_ml_min);
     if (k->end_pct_valid) {
-        if (r->vo2peak_src == 1)
-            printf(", %.1f %% of VO2peak %.0f mL/min (ramp %lld, %s)", k->end_pct_vo2peak, ko->vo2peak_ml_min, r->ramp_id,
-                   r->ramp_date);
+        if (r->b.vo2peak_src == 1)
+            printf(", %.1f %% of VO2peak %.0f mL/min (ramp %lld, %s)", k->end_pct_vo2peak, ko->vo2peak_ml_min, r->b.ramp_id,
+                   r->b.ramp_date);
         else
             printf(", %.1f %% of the given VO2peak %.0f mL/min", k->end_pct_vo2peak, ko->vo2peak_ml_min);
     } else
@@ -1032,13 +796,13 @@ static void show_text(const bout_run *r)
     if (ko->bin_s > 0)
         snprintf(pts, sizeof pts, "%g-s bin means", ko->bin_s);
     else
-        snprintf(pts, sizeof pts, "%s", r->n > 1 ? "1-s ensemble means" : "breaths");
+        snprintf(pts, sizeof pts, "%s", r->b.n > 1 ? "1-s ensemble means" : "breaths");
     printf("data       %zu breaths, %zu outliers removed; fitted on %s from %s to %s\n", k->n_breaths, k->n_outliers, pts,
            tm, tm2);
     size_t hr_dropped = 0, blank = 0;
-    for (size_t i = 0; i < r->n; i++) {
-        hr_dropped += r->t[i].hr_dropped;
-        blank += r->t[i].blank_cells;
+    for (size_t i = 0; i < r->b.n; i++) {
+        hr_dropped += r->b.t[i].hr_dropped;
+        blank += r->b.t[i].blank_cells;
     }
     if (hr_dropped || blank)
         printf("dropped    %zu heart-rate sample%s as artefacts, %zu blank cell%s\n", hr_dropped, hr_dropped == 1 ? "" : "s",
@@ -1066,62 +830,6 @@ static int bout_show(cli_ctx *c, int argc, char **argv)
     return rc;
 }
 
-int cli_bout_analyse(cli_ctx *c, const char *ids, cpd_kinetics_result *res)
-{
-    bout_opts o;
-    memset(&o, 0, sizeof o);
-    bout_run *r = NULL;
-    int rc = run_load(c, "bout", ids, &o, &r);
-    if (!rc)
-        *res = r->res;
-    run_free(r);
-    return rc;
-}
-
-static int plot_core(cli_ctx *c, const char *ids, const bout_opts *o, char **svg, char *summary, size_t n)
-{
-    *svg = NULL;
-    bout_run *r = NULL;
-    int rc;
-    if ((rc = run_load(c, "bout plot", ids, o, &r)))
-        goto done;
-    /* the analysis keeps no pointers into its workspace: prepare again for the points it fitted */
-    cpd_kinetics_input in[BOUT_MAX_REPEATS];
-    for (size_t i = 0; i < r->n; i++) {
-        in[i].gx = r->g[i];
-        in[i].onset_s = r->t[i].onset_s;
-    }
-    cpd_kinetics_data d;
-    if ((rc = cpd_kinetics_prepare(r->ws, in, r->n, &r->ko, &d))) {
-        rc = cli_fail(c, rc, "bout %s: %s", ids, d.msg);
-        goto done;
-    }
-    char title[300], iv[48];
-    const char *dom = r->res.domain == CPD_KIN_UNDETERMINED ? "domain undetermined" : cpd_kinetics_domain_name(r->res.domain);
-    fmt_int(iv, sizeof iv, r->intensity, r->speed);
-    if (r->n == 1)
-        snprintf(title, sizeof title, "Bout %lld: %s, %s, %s (%s)", (long long)r->t[0].id, r->a.code, r->t[0].date, iv, dom);
-    else
-        snprintf(title, sizeof title, "Bouts %s (ensemble of %zu): %s, %s (%s)", ids, r->n, r->a.code, iv, dom);
-    if (summary)
-        snprintf(summary, n, "%s: primary tau %.1f s (95 %% CI %.1f to %.1f s), gain %.1f mL/min per %s, %s.", title,
-                 r->res.primary.tau_s, r->res.primary.tau_ci95_s[0], r->res.primary.tau_ci95_s[1],
-                 r->res.primary.gain_valid ? r->res.primary.gain_ml_min_w : 0.0, r->speed ? "m/s" : "W",
-                 r->res.slow.present ? "a slow component is supported" : "no slow component");
-    if ((rc = cpd_plot_kinetics(&d, &r->res, title, svg)))
-        rc = cli_fail(c, rc, "bout %s: no plot: %s", ids, cpd_strerror(rc));
-done:
-    run_free(r);
-    return rc;
-}
-
-int cli_bout_plot(cli_ctx *c, const char *ids, char **svg, char *summary, size_t n)
-{
-    bout_opts o;
-    memset(&o, 0, sizeof o);
-    return plot_core(c, ids, &o, svg, summary, n);
-}
-
 static int bout_plot(cli_ctx *c, int argc, char **argv)
 {
     bout_opts o;
@@ -1132,8 +840,12 @@ static int bout_plot(cli_ctx *c, int argc, char **argv)
     if (!o.out)
         return cli_usage("bout plot", "-o FILE.svg is required");
     char *svg = NULL;
-    if (!(rc = plot_core(c, argv[first], &o, &svg, NULL, 0)) && !(rc = cli_write_file(c, o.out, svg, strlen(svg))))
+    bout_run *r = NULL;
+    if (!(rc = run_load(c, "bout plot", argv[first], &o, &r)) &&
+        !(rc = cli_bout_plot_of(c, argv[first], &r->b, &svg, NULL, 0)) &&
+        !(rc = cli_write_file(c, o.out, svg, strlen(svg))))
         cli_note(c, "wrote %s", o.out);
+    run_free(r);
     free(svg);
     return rc;
 }

@@ -1,6 +1,5 @@
 /* cmd_history.c: 'history (CODE | --all)': every estimate over the season and which changes are
  * larger than the noise. */
-#include "cli_gx.h"
 #include "cli_history.h"
 #include "cli_pd.h"
 #include "commands.h"
@@ -48,99 +47,6 @@ static int hist_opt(int opt, const char *arg, void *ud)
     case 'o': o->out = arg; break;
     default: return EX_USAGE;
     }
-    return 0;
-}
-
-int cli_history_plot(const cli_history *a, char **svg)
-{
-    size_t nb = a->h->nblocks;
-    int day[CPD_HISTORY_MAX_BLOCKS];
-    double v[CPD_HISTORY_MAX_BLOCKS], lo[CPD_HISTORY_MAX_BLOCKS], hi[CPD_HISTORY_MAX_BLOCKS];
-    for (size_t k = 0; k < nb && k < CPD_HISTORY_MAX_BLOCKS; k++) {
-        const cpd_history_block *x = &a->h->block[k];
-        day[k] = x->to_day;
-        v[k] = x->fitted ? x->cp : NAN;
-        lo[k] = x->fitted && x->has_se ? x->cp_ci95[0] : NAN;
-        hi[k] = x->fitted && x->has_se ? x->cp_ci95[1] : NAN;
-    }
-    int spd = a->f.modality == CPD_PD_SPEED;
-    return cpd_plot_trend(day, v, lo, hi, nb < CPD_HISTORY_MAX_BLOCKS ? nb : CPD_HISTORY_MAX_BLOCKS,
-                          spd ? "Critical speed over the season" : "Critical power over the season",
-                          spd ? "CS (m/s)" : "CP (W)", svg);
-}
-
-void cli_history_free(cli_history *a)
-{
-    cli_pd_fit_free(&a->f);
-    free(a->h);
-}
-
-int cli_history_build(cli_ctx *c, const char *code, int win, const char *model, int quiet_few, cli_history *a)
-{
-    memset(a, 0, sizeof *a);
-    a->win = win;
-    int q = c->quiet;
-    if (quiet_few) { /* the team view lists athletes with too few trials without complaint */
-        c->quiet = 1;
-        c->mute++;
-    }
-    int rc = cli_pd_load_fit(c, code, NULL, NULL, CPD_PD_MODEL_BIT(CPD_PD_LINEAR_TOTAL), &a->f);
-    if (quiet_few)
-        c->mute--;
-    c->quiet = q;
-    if (rc)
-        return rc;
-    a->h = calloc(1, sizeof *a->h);
-    int *day = calloc(a->f.n, sizeof *day);
-    cpd_pd_ws *w = cpd_pd_alloc();
-    if (!a->h || !day || !w) {
-        free(day);
-        cpd_pd_free(w);
-        cli_history_free(a);
-        return cli_fail(c, CPD_ENOMEM, "out of memory");
-    }
-    for (size_t i = 0; i < a->f.n; i++)
-        cpd_parse_date(a->f.trials[i].date, &day[i]);
-    cpd_pd_model m = CPD_PD_HYPERBOLIC;
-    if (model)
-        cpd_pd_model_parse(model, &m);
-    rc = cpd_history_build(w, a->f.modality, day, a->f.x, a->f.t, a->f.n, win, model != NULL, m, a->h);
-    free(day);
-    cpd_pd_free(w);
-    if (rc) {
-        cli_history_free(a);
-        return cli_fail(c, rc, "%s: history: %s", code, cpd_strerror(rc));
-    }
-    /* ramps of the same modality: GET equivalent and VO2peak */
-    cpd_gx_test *v = NULL;
-    size_t n = 0;
-    if ((rc = cpd_store_gx_list(c->store, a->f.athlete.code, CPD_GXT_RAMP, &v, &n))) {
-        cli_history_free(a);
-        return cli_store_fail(c, rc);
-    }
-    for (size_t i = 0; i < n; i++) {
-        if (v[i].speed != (a->f.modality == CPD_PD_SPEED))
-            continue;
-        cpd_gx_test t;
-        cpd_athlete ath;
-        cpd_ramp_ws *rw = NULL;
-        cpd_ramp_result *rr = calloc(1, sizeof *rr);
-        int qq = c->quiet;
-        c->quiet = 1;
-        c->mute++;
-        if (rr && cli_ramp_analyse(c, v[i].id, NULL, NULL, NULL, &t, &ath, &rw, rr) == 0) {
-            int d = 0;
-            cpd_parse_date(t.date, &d);
-            int has_get = rr->get.status != CPD_THR_NOT_FOUND && rr->get.has_equiv;
-            cpd_history_attach_ramp(a->h, d, has_get, has_get ? rr->get.equiv_intensity : 0, 1, rr->vo2peak_ml_min, win);
-        }
-        c->mute--;
-        c->quiet = qq;
-        cpd_ramp_free(rw);
-        free(rr);
-    }
-    free(v);
-    cpd_history_changes(a->h);
     return 0;
 }
 

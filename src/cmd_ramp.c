@@ -179,28 +179,6 @@ static int ramp_add_opts(const ramp_opts *o, cpd_gx_test *t, const cpd_gx_series
     return 0;
 }
 
-/* The analysis options a stored test carries (the caller has initialised ro). */
-static void opts_from_test(const cpd_gx_test *t, const cpd_athlete *a, cpd_ramp_opts *ro)
-{
-    ro->modality = t->speed ? CPD_RAMP_SPEED : CPD_RAMP_POWER;
-    ro->rate_per_min = t->has_rate ? t->rate_per_min : 0;
-    ro->start = t->start;
-    ro->start_given = t->has_start;
-    ro->onset_s = t->onset_s;
-    ro->protocol = t->protocol;
-    ro->end_given = t->has_end;
-    ro->end_s = t->end_s;
-    ro->baseline_given = t->has_baseline;
-    ro->baseline_intensity = t->baseline;
-    ro->mrt_given = t->has_mrt;
-    ro->mrt_s = t->mrt_s;
-    ro->mass_kg = a->has_mass ? a->mass_kg : 0;
-    ro->manual_get_vo2_ml_min = t->has_get_manual ? t->get_vo2_manual : 0;
-    ro->manual_rcp_vo2_ml_min = t->has_rcp_manual ? t->rcp_vo2_manual : 0;
-    ro->manual_get_intensity = t->has_get_intensity ? t->get_intensity_manual : 0;
-    ro->manual_rcp_intensity = t->has_rcp_intensity ? t->rcp_intensity_manual : 0;
-}
-
 /* What the analysis will read from the file, said once at 'ramp add': the protocol found in the
  * record, and a nominal rate that disagrees with it. Returns 0, or 64 when the options cannot
  * describe the file (a flat intensity column and no --rate); a file too short to analyse is still
@@ -209,7 +187,7 @@ static int add_preview(cli_ctx *c, const cpd_gx_test *t, const cpd_athlete *a, c
 {
     cpd_ramp_opts ro;
     cpd_ramp_opts_init(&ro);
-    opts_from_test(t, a, &ro);
+    cpd_athlete_ramp_opts(t, a, &ro);
     cpd_ramp_ws *w = cpd_ramp_alloc();
     cpd_ramp_result *r = calloc(1, sizeof *r);
     char msg[CPD_MSG_MAX];
@@ -377,53 +355,6 @@ static int ramp_list(cli_ctx *c, int argc, char **argv)
     }
     cli_table_print(t);
     free(v);
-    return 0;
-}
-
-/* Loads ramp id and analyses it; the caller frees *w and *g. Returns 0 or an exit code. */
-int cli_ramp_analyse(cli_ctx *c, long long id, const char *window, const char *outlier, const char *mrt,
-                     cpd_gx_test *t, cpd_athlete *a, cpd_ramp_ws **w, cpd_ramp_result *r)
-{
-    *w = NULL;
-    cpd_ramp_opts ro;
-    cpd_ramp_opts_init(&ro);
-    int rc;
-    double v = 0;
-    if (window) {
-        if ((rc = cli_ranged("--window", window, 5, 120, "s", 1, &v)))
-            return rc;
-        ro.peak_window_s = v;
-    }
-    if (outlier) {
-        if ((rc = cli_ranged("--outlier-sd", outlier, 2, 10, "SD", 0, &v)))
-            return rc;
-        ro.outlier_k = v;
-    }
-    cpd_gx_series *g = NULL;
-    if ((rc = cpd_store_gx_get(c->store, id, CPD_GXT_RAMP, t, &g)))
-        return cli_store_fail(c, rc);
-    if ((rc = cpd_store_athlete_get(c->store, t->athlete, a))) {
-        cpd_gx_free(g);
-        return cli_store_fail(c, rc);
-    }
-    opts_from_test(t, a, &ro);
-    if (mrt) {
-        if ((rc = cli_ranged("--mrt", mrt, 0, 300, "s", 1, &v))) {
-            cpd_gx_free(g);
-            return rc;
-        }
-        ro.mrt_given = 1;
-        ro.mrt_s = v;
-    }
-    *w = cpd_ramp_alloc();
-    char msg[CPD_MSG_MAX] = "";
-    rc = *w ? cpd_ramp_analyse(*w, g, &ro, r, msg) : CPD_ENOMEM;
-    cpd_gx_free(g);
-    if (rc) {
-        cpd_ramp_free(*w);
-        *w = NULL;
-        return cli_fail(c, rc, "ramp %lld: %s", id, msg[0] ? msg : cpd_strerror(rc));
-    }
     return 0;
 }
 
@@ -612,7 +543,7 @@ static void ramp_ci_of(const cpd_ramp_ws *w, const cpd_ramp_result *r, const cpd
 {
     cpd_ramp_opts ro;
     cpd_ramp_opts_init(&ro);
-    opts_from_test(t, a, &ro);
+    cpd_athlete_ramp_opts(t, a, &ro);
     double v = 0;
     if (window && cli_ranged("--window", window, 5, 120, "s", 1, &v) == 0)
         ro.peak_window_s = v;

@@ -125,23 +125,20 @@ static void add_test(sheet_build *b, const char *what, const char *date)
     s->tests[i].date = b->test_date[i];
 }
 
-/* The ramp the domains rest on, analysed again for its VO2peak and V-slope plot. */
-static void add_ramp(cli_ctx *c, sheet_build *b)
+/* The ramp the domains rest on (the library keeps its analysis): VO2peak with its interval and
+ * the V-slope plot. */
+static void add_ramp(sheet_build *b)
 {
     cpd_sheet *s = &b->s;
-    cpd_gx_test t;
-    cpd_athlete a;
-    cpd_ramp_ws *w = NULL;
-    cpd_ramp_result *r = calloc(1, sizeof *r);
-    if (!r || cli_ramp_analyse(c, b->d.ramp_id, NULL, NULL, NULL, &t, &a, &w, r)) {
-        free(r);
+    const cpd_ramp_result *r = b->d.ramp;
+    cpd_ramp_ws *w = b->d.ramp_ws;
+    if (!r)
         return;
-    }
     s->has_vo2peak = 1;
     s->vo2peak_ml_min = r->vo2peak_ml_min;
     s->has_vo2peak_rel = r->has_relative;
     s->vo2peak_ml_kg_min = r->vo2peak_ml_kg_min;
-    cpd_ramp_opts ro; /* the default window and smoothing, as cli_ramp_analyse without overrides */
+    cpd_ramp_opts ro; /* the default window and smoothing, as the stored analysis without overrides */
     cpd_ramp_opts_init(&ro);
     cpd_ramp_ci ci;
     if (cpd_ramp_ci_compute(w, r, &ro, CPD_RAMP_CI_BOOT, CPD_RAMP_CI_SEED, &ci) == CPD_OK && ci.has_vo2peak_ci) {
@@ -157,8 +154,6 @@ static void add_ramp(cli_ctx *c, sheet_build *b)
     s->ramp_label = b->ramp_label;
     if (cpd_plot_vslope(w, r, &b->svg_vslope) == CPD_OK)
         s->svg_vslope = b->svg_vslope;
-    cpd_ramp_free(w);
-    free(r);
 }
 
 /* The newest bout of the fit's modality: its VO2 kinetics chart and a sentence, as an optional
@@ -253,14 +248,8 @@ static void add_trend(cli_ctx *c, sheet_build *b)
     cpd_sheet *s = &b->s;
     if (s->nextra >= CPD_SHEET_MAX_EXTRA)
         return;
-    cli_history a;
-    int quiet = c->quiet;
-    c->quiet = 1;
-    c->mute++;
-    int rc = cli_history_build(c, s->code, CPD_HISTORY_WINDOW_DAYS, NULL, 1, &a);
-    c->mute--;
-    c->quiet = quiet;
-    if (rc)
+    cli_history a; /* an optional section: the library's messages are not shown */
+    if (cpd_athlete_history_build(c->store, s->code, CPD_HISTORY_WINDOW_DAYS, 0, CPD_PD_HYPERBOLIC, &a, NULL))
         return;
     size_t nb = a.h->nblocks;
     if (nb >= 2) {
@@ -346,7 +335,7 @@ static int build_sheet(cli_ctx *c, const char *code, const sheet_opts *o, int st
     if (d->has_ramp) {
         snprintf(what, sizeof what, "ramp %lld (gas exchange)", d->ramp_id);
         add_test(b, what, d->ramp_date);
-        add_ramp(c, b);
+        add_ramp(b);
     }
     if (d->res.flags & CPD_DOMAINS_F_GET_FROM_LT1)
         add_test(b, d->in.lt1_source, d->in.lt1_date);
