@@ -169,12 +169,12 @@ static void loglog(cpd_lactate_result *r, const double *x, const double *la, con
         lx[i] = log(x[i]);
         ly[i] = log(la[i]);
     }
-    if (cpd_ramp_twoseg_fit(lx, ly, n, ms, &r->loglog) != CPD_OK) {
+    if (cpd_linfit_twoseg_fit(lx, ly, n, ms, &r->loglog) != CPD_OK) {
         missing(&r->lt1, CPD_LACTATE_R_FIT_FAILED, "no two-segment fit of log lactate on log intensity");
         return;
     }
     r->has_loglog = 1;
-    const cpd_ramp_twoseg *f = &r->loglog;
+    const cpd_linfit_twoseg *f = &r->loglog;
     if (!(f->s2 > f->s1)) {
         missing(&r->lt1, CPD_LACTATE_R_NO_BREAK, "log-log: upper slope %.3g not above lower %.3g", f->s2, f->s1);
         return;

@@ -1,4 +1,5 @@
-/* linfit.c: ordinary least squares by a column-scaled SVD (GSL), with NIST-style statistics. */
+/* linfit.c: ordinary least squares by a column-scaled SVD (GSL), with NIST-style statistics, and the
+ * two-segment regression of the V-slope and the log-log lactate threshold. */
 #include "cpdomain/linfit.h"
 #include "cpdomain/status.h"
 
@@ -164,4 +165,102 @@ int cpd_linfit_poly(const double *x, const double *y, size_t n, size_t deg, cpd_
     int rc = cpd_linfit(X, y, n, p, 1, res);
     free(X);
     return rc;
+}
+
+/* ---- two-segment regression ---- */
+
+/* Residual sum of squares of a line through m points with the given centred sums; -1 when the
+ * x values are all equal (no line). */
+static double seg_rss(double m, double sx, double sy, double sxx, double sxy, double syy)
+{
+    double cxx = sxx - sx * sx / m;
+    double cxy = sxy - sx * sy / m;
+    double cyy = syy - sy * sy / m;
+    if (!(cxx > 1e-12 * (sxx > 0 ? sxx : 1)))
+        return -1;
+    double r = cyy - cxy * cxy / cxx;
+    return r > 0 ? r : 0;
+}
+
+int cpd_linfit_twoseg_fit(const double *x, const double *y, size_t n, size_t min_seg, cpd_linfit_twoseg *out)
+{
+    if (!x || !y || !out || min_seg < 2 || n < 2 * min_seg)
+        return CPD_EUSAGE;
+    memset(out, 0, sizeof *out);
+    for (size_t i = 0; i < n; i++) {
+        if (!isfinite(x[i]) || !isfinite(y[i]))
+            return CPD_ENODATA;
+        if (i > 0 && x[i] < x[i - 1])
+            return CPD_EUSAGE;
+    }
+    /* Centring keeps the running sums free of cancellation at VO2 scales. */
+    double mx = 0, my = 0;
+    for (size_t i = 0; i < n; i++) {
+        mx += x[i];
+        my += y[i];
+    }
+    mx /= (double)n;
+    my /= (double)n;
+    double T[5] = {0, 0, 0, 0, 0}, L[5] = {0, 0, 0, 0, 0};
+    for (size_t i = 0; i < n; i++) {
+        double u = x[i] - mx, v = y[i] - my;
+        T[0] += u;
+        T[1] += v;
+        T[2] += u * u;
+        T[3] += u * v;
+        T[4] += v * v;
+    }
+    size_t best = 0;
+    double best_rss = 0;
+    for (size_t k = 1; k < n; k++) {
+        double u = x[k - 1] - mx, v = y[k - 1] - my;
+        L[0] += u;
+        L[1] += v;
+        L[2] += u * u;
+        L[3] += u * v;
+        L[4] += v * v;
+        if (k < min_seg || n - k < min_seg)
+            continue;
+        double r1 = seg_rss((double)k, L[0], L[1], L[2], L[3], L[4]);
+        double r2 = seg_rss((double)(n - k), T[0] - L[0], T[1] - L[1], T[2] - L[2], T[3] - L[3], T[4] - L[4]);
+        if (r1 < 0 || r2 < 0)
+            continue;
+        if (best == 0 || r1 + r2 < best_rss) {
+            best = k;
+            best_rss = r1 + r2;
+        }
+    }
+    if (best == 0)
+        return CPD_ENODATA;
+
+    cpd_linfit_result f1, f2;
+    if (cpd_linfit_line(x, y, best, &f1) != CPD_OK || cpd_linfit_line(x + best, y + best, n - best, &f2) != CPD_OK)
+        return CPD_ENODATA;
+    out->n = n;
+    out->split = best;
+    out->b1 = f1.b[0];
+    out->s1 = f1.b[1];
+    out->b2 = f2.b[0];
+    out->s2 = f2.b[1];
+    out->s1_se = f1.se[1];
+    out->s2_se = f2.se[1];
+    out->rss = f1.rss + f2.rss;
+    /* below 1e-9 of the slopes the SE is rounding: the segments are exact and z is undefined */
+    double se = sqrt(f1.se[1] * f1.se[1] + f2.se[1] * f2.se[1]);
+    if (se > 1e-9 * (fabs(out->s1) + fabs(out->s2))) {
+        out->has_z = 1;
+        out->z = (out->s2 - out->s1) / se;
+    }
+    double ds = out->s1 - out->s2;
+    if (fabs(ds) > 1e-12 * (fabs(out->s1) + fabs(out->s2))) {
+        double xc = (out->b2 - out->b1) / ds;
+        if (isfinite(xc)) {
+            out->has_cross = 1;
+            out->x_cross = xc;
+            out->y_cross = out->b1 + out->s1 * xc;
+        }
+    }
+    out->x_lo = x[0];
+    out->x_hi = x[n - 1];
+    return CPD_OK;
 }

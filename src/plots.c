@@ -65,7 +65,7 @@ int cpd_plot_vslope(const cpd_ramp_ws *w, const cpd_ramp_result *r, char **svg)
     st.marker_px = 2.5;
     cpd_svgplot_points(p, xl, yl, n, NULL, &st, "samples (10-s means)");
     if (r->has_vslope) {
-        const cpd_ramp_twoseg *f = &r->vslope;
+        const cpd_linfit_twoseg *f = &r->vslope;
         double split = f->has_cross ? f->x_cross / 1000 : xl[f->split ? f->split - 1 : 0];
         double ax[2] = {xl[0], split}, bx[2] = {split, xl[n - 1]};
         double ay[2], by[2];

@@ -215,103 +215,6 @@ static int reserve_grid(cpd_ramp_ws *w, size_t n)
     return rc;
 }
 
-/* ---- two-segment regression ---- */
-
-/* Residual sum of squares of a line through m points with the given centred sums; -1 when the
- * x values are all equal (no line). */
-static double seg_rss(double m, double sx, double sy, double sxx, double sxy, double syy)
-{
-    double cxx = sxx - sx * sx / m;
-    double cxy = sxy - sx * sy / m;
-    double cyy = syy - sy * sy / m;
-    if (!(cxx > 1e-12 * (sxx > 0 ? sxx : 1)))
-        return -1;
-    double r = cyy - cxy * cxy / cxx;
-    return r > 0 ? r : 0;
-}
-
-int cpd_ramp_twoseg_fit(const double *x, const double *y, size_t n, size_t min_seg, cpd_ramp_twoseg *out)
-{
-    if (!x || !y || !out || min_seg < 2 || n < 2 * min_seg)
-        return CPD_EUSAGE;
-    memset(out, 0, sizeof *out);
-    for (size_t i = 0; i < n; i++) {
-        if (!isfinite(x[i]) || !isfinite(y[i]))
-            return CPD_ENODATA;
-        if (i > 0 && x[i] < x[i - 1])
-            return CPD_EUSAGE;
-    }
-    /* Centring keeps the running sums free of cancellation at VO2 scales. */
-    double mx = 0, my = 0;
-    for (size_t i = 0; i < n; i++) {
-        mx += x[i];
-        my += y[i];
-    }
-    mx /= (double)n;
-    my /= (double)n;
-    double T[5] = {0, 0, 0, 0, 0}, L[5] = {0, 0, 0, 0, 0};
-    for (size_t i = 0; i < n; i++) {
-        double u = x[i] - mx, v = y[i] - my;
-        T[0] += u;
-        T[1] += v;
-        T[2] += u * u;
-        T[3] += u * v;
-        T[4] += v * v;
-    }
-    size_t best = 0;
-    double best_rss = 0;
-    for (size_t k = 1; k < n; k++) {
-        double u = x[k - 1] - mx, v = y[k - 1] - my;
-        L[0] += u;
-        L[1] += v;
-        L[2] += u * u;
-        L[3] += u * v;
-        L[4] += v * v;
-        if (k < min_seg || n - k < min_seg)
-            continue;
-        double r1 = seg_rss((double)k, L[0], L[1], L[2], L[3], L[4]);
-        double r2 = seg_rss((double)(n - k), T[0] - L[0], T[1] - L[1], T[2] - L[2], T[3] - L[3], T[4] - L[4]);
-        if (r1 < 0 || r2 < 0)
-            continue;
-        if (best == 0 || r1 + r2 < best_rss) {
-            best = k;
-            best_rss = r1 + r2;
-        }
-    }
-    if (best == 0)
-        return CPD_ENODATA;
-
-    cpd_linfit_result f1, f2;
-    if (cpd_linfit_line(x, y, best, &f1) != CPD_OK || cpd_linfit_line(x + best, y + best, n - best, &f2) != CPD_OK)
-        return CPD_ENODATA;
-    out->n = n;
-    out->split = best;
-    out->b1 = f1.b[0];
-    out->s1 = f1.b[1];
-    out->b2 = f2.b[0];
-    out->s2 = f2.b[1];
-    out->s1_se = f1.se[1];
-    out->s2_se = f2.se[1];
-    out->rss = f1.rss + f2.rss;
-    /* below 1e-9 of the slopes the SE is rounding: the segments are exact and z is undefined */
-    double se = sqrt(f1.se[1] * f1.se[1] + f2.se[1] * f2.se[1]);
-    if (se > 1e-9 * (fabs(out->s1) + fabs(out->s2))) {
-        out->has_z = 1;
-        out->z = (out->s2 - out->s1) / se;
-    }
-    double ds = out->s1 - out->s2;
-    if (fabs(ds) > 1e-12 * (fabs(out->s1) + fabs(out->s2))) {
-        double xc = (out->b2 - out->b1) / ds;
-        if (isfinite(xc)) {
-            out->has_cross = 1;
-            out->x_cross = xc;
-            out->y_cross = out->b1 + out->s1 * xc;
-        }
-    }
-    out->x_lo = x[0];
-    out->x_hi = x[n - 1];
-    return CPD_OK;
-}
 
 /* ---- input checks ---- */
 
@@ -585,7 +488,7 @@ static size_t collect(cpd_ramp_ws *w, double bin_s, int cx, int cy, double t_lo,
 }
 
 /* The common gate of a breakpoint: lines cross inside the data and the slope change is significant. */
-static int gate(const cpd_ramp_twoseg *f, cpd_ramp_threshold *th, const char *what)
+static int gate(const cpd_linfit_twoseg *f, cpd_ramp_threshold *th, const char *what)
 {
     if (!f->has_cross || f->x_cross < f->x_lo || f->x_cross > f->x_hi) {
         not_found(th, CPD_RAMP_R_OUTSIDE, "%s: the two lines do not cross inside the data", what);
@@ -619,8 +522,8 @@ static void find_rcp(struct ctx *c)
         not_found(th, CPD_RAMP_R_FEW_POINTS, "RCP: %zu samples after the first minute, need %zu", n, 2 * ms);
         return;
     }
-    cpd_ramp_twoseg *f = &r->rcp_fit;
-    if (cpd_ramp_twoseg_fit(w->px[CPD_RAMP_PTS_RCP], w->py[CPD_RAMP_PTS_RCP], n, ms, f) != CPD_OK) {
+    cpd_linfit_twoseg *f = &r->rcp_fit;
+    if (cpd_linfit_twoseg_fit(w->px[CPD_RAMP_PTS_RCP], w->py[CPD_RAMP_PTS_RCP], n, ms, f) != CPD_OK) {
         not_found(th, CPD_RAMP_R_FIT_FAILED, "RCP: no two-segment fit of VE on VCO2");
         return;
     }
@@ -669,14 +572,14 @@ static void find_veq(struct ctx *c, size_t n, size_t ms)
         return;
     }
     const double *x = w->px[CPD_RAMP_PTS_VEQ];
-    if (cpd_ramp_twoseg_fit(x, w->py[CPD_RAMP_PTS_VEQ], n, ms, &q->fit) != CPD_OK) {
+    if (cpd_linfit_twoseg_fit(x, w->py[CPD_RAMP_PTS_VEQ], n, ms, &q->fit) != CPD_OK) {
         q->reason = CPD_RAMP_R_FIT_FAILED;
         say(q->why, sizeof q->why, "no two-segment fit of VE on VO2");
         return;
     }
     w->pn[CPD_RAMP_PTS_VEQ] = n;
     w->pvalid[CPD_RAMP_PTS_VEQ] = 1;
-    const cpd_ramp_twoseg *f = &q->fit;
+    const cpd_linfit_twoseg *f = &q->fit;
     if (!gate(f, &tmp, "VE on VO2")) {
         q->reason = tmp.reason;
         memcpy(q->why, tmp.why, sizeof q->why);
@@ -736,8 +639,8 @@ static void find_get(struct ctx *c)
         say(r->veq.why, sizeof r->veq.why, "too few samples");
         return;
     }
-    cpd_ramp_twoseg *f = &r->vslope;
-    if (cpd_ramp_twoseg_fit(w->px[CPD_RAMP_PTS_VSLOPE], w->py[CPD_RAMP_PTS_VSLOPE], n, ms, f) != CPD_OK) {
+    cpd_linfit_twoseg *f = &r->vslope;
+    if (cpd_linfit_twoseg_fit(w->px[CPD_RAMP_PTS_VSLOPE], w->py[CPD_RAMP_PTS_VSLOPE], n, ms, f) != CPD_OK) {
         not_found(th, CPD_RAMP_R_FIT_FAILED, "V-slope: no two-segment fit of VCO2 on VO2");
     } else {
         r->has_vslope = 1;

@@ -43,8 +43,8 @@ static size_t boot_cross(const double *x, const double *y, size_t n, size_t min_
             xs[i] = x[ix[i]];
             ys[i] = y[ix[i]];
         }
-        cpd_ramp_twoseg g;
-        if (cpd_ramp_twoseg_fit(xs, ys, n, min_seg, &g) == CPD_OK && g.has_cross && g.x_cross >= g.x_lo &&
+        cpd_linfit_twoseg g;
+        if (cpd_linfit_twoseg_fit(xs, ys, n, min_seg, &g) == CPD_OK && g.has_cross && g.x_cross >= g.x_lo &&
             g.x_cross <= g.x_hi)
             xc[m++] = g.x_cross;
     }

@@ -53,7 +53,7 @@ static int run(const synth_ramp *p, uint64_t seed, const cpd_ramp_opts *o, cpd_r
 }
 
 /* Every double of a result is finite (the "never NaN" rule). */
-static void finite_twoseg(const cpd_ramp_twoseg *f)
+static void finite_twoseg(const cpd_linfit_twoseg *f)
 {
     const double v[] = {f->s1, f->b1, f->s2, f->b2, f->s1_se, f->s2_se, f->rss, f->z, f->x_cross, f->y_cross,
                         f->x_lo, f->x_hi};
@@ -172,8 +172,8 @@ static char *points_text(const double *x, const double *y, size_t n, size_t ms)
 
 static void compare_with_numpy(const double *x, const double *y, size_t n, size_t ms)
 {
-    cpd_ramp_twoseg f;
-    assert_int_equal(cpd_ramp_twoseg_fit(x, y, n, ms, &f), CPD_OK);
+    cpd_linfit_twoseg f;
+    assert_int_equal(cpd_linfit_twoseg_fit(x, y, n, ms, &f), CPD_OK);
     char *t = points_text(x, y, n, ms);
     double ref[6];
     assert_int_equal(pyref_run("twoseg.py", t, ref, 6, 0), 6);
@@ -208,8 +208,8 @@ static void twoseg_matches_numpy_on_vslope_points(void **state)
     assert_int_equal(n, r.vslope.n);
     size_t ms = n / 10 > 6 ? n / 10 : 6; /* the rule in ramp.c */
     compare_with_numpy(x, y, n, ms);
-    cpd_ramp_twoseg f;
-    assert_int_equal(cpd_ramp_twoseg_fit(x, y, n, ms, &f), CPD_OK);
+    cpd_linfit_twoseg f;
+    assert_int_equal(cpd_linfit_twoseg_fit(x, y, n, ms, &f), CPD_OK);
     assert_int_equal(f.split, r.vslope.split);
     assert_near(f.x_cross, r.vslope.x_cross, 0);
     /* the RCP points (VE on VCO2) too */
@@ -247,19 +247,19 @@ static void twoseg_refuses_bad_input(void **state)
 {
     (void)state;
     const double x[8] = {1, 2, 3, 4, 5, 6, 7, 8}, y[8] = {1, 2, 3, 4, 7, 9, 11, 13};
-    cpd_ramp_twoseg f;
-    assert_int_equal(cpd_ramp_twoseg_fit(x, y, 8, 1, &f), CPD_EUSAGE);
-    assert_int_equal(cpd_ramp_twoseg_fit(x, y, 7, 4, &f), CPD_EUSAGE);
-    assert_int_equal(cpd_ramp_twoseg_fit(NULL, y, 8, 2, &f), CPD_EUSAGE);
+    cpd_linfit_twoseg f;
+    assert_int_equal(cpd_linfit_twoseg_fit(x, y, 8, 1, &f), CPD_EUSAGE);
+    assert_int_equal(cpd_linfit_twoseg_fit(x, y, 7, 4, &f), CPD_EUSAGE);
+    assert_int_equal(cpd_linfit_twoseg_fit(NULL, y, 8, 2, &f), CPD_EUSAGE);
     const double xu[8] = {1, 2, 3, 5, 4, 6, 7, 8};
-    assert_int_equal(cpd_ramp_twoseg_fit(xu, y, 8, 2, &f), CPD_EUSAGE);
+    assert_int_equal(cpd_linfit_twoseg_fit(xu, y, 8, 2, &f), CPD_EUSAGE);
     const double yn[8] = {1, 2, 3, NAN, 6, 8, 10, 12};
-    assert_int_equal(cpd_ramp_twoseg_fit(x, yn, 8, 2, &f), CPD_ENODATA);
+    assert_int_equal(cpd_linfit_twoseg_fit(x, yn, 8, 2, &f), CPD_ENODATA);
     const double xe[8] = {3, 3, 3, 3, 3, 3, 3, 3};
-    assert_int_equal(cpd_ramp_twoseg_fit(xe, y, 8, 2, &f), CPD_ENODATA);
+    assert_int_equal(cpd_linfit_twoseg_fit(xe, y, 8, 2, &f), CPD_ENODATA);
     /* exact lines y = x (x <= 4) and y = 2x - 3 (x >= 5): split 4, S1 = 1, S2 = 2, crossing at x = 3
      * (x = 2x - 3); both segments exact, so no SE and no z */
-    assert_int_equal(cpd_ramp_twoseg_fit(x, y, 8, 2, &f), CPD_OK);
+    assert_int_equal(cpd_linfit_twoseg_fit(x, y, 8, 2, &f), CPD_OK);
     assert_int_equal(f.split, 4);
     assert_near(f.s1, 1, 1e-12);
     assert_near(f.s2, 2, 1e-12);
@@ -268,7 +268,7 @@ static void twoseg_refuses_bad_input(void **state)
     assert_int_equal(f.has_z, 0);
     /* parallel lines: no intersection */
     const double yp[8] = {1, 2, 3, 4, 15, 16, 17, 18};
-    assert_int_equal(cpd_ramp_twoseg_fit(x, yp, 8, 4, &f), CPD_OK);
+    assert_int_equal(cpd_linfit_twoseg_fit(x, yp, 8, 4, &f), CPD_OK);
     assert_int_equal(f.has_cross, 0);
     assert_near(f.x_cross, 0, 0);
 }

@@ -4,7 +4,7 @@
 #ifndef CPDOMAIN_LACTATE_H
 #define CPDOMAIN_LACTATE_H
 
-#include "cpdomain/ramp.h"
+#include "cpdomain/linfit.h"
 
 #include <stddef.h>
 
@@ -57,7 +57,7 @@ typedef struct {
     size_t mod_start;            /* index of the stage the modified-Dmax line starts from */
     double dmax_mod_line[2];     /* modified-Dmax line: intercept, slope */
     int has_loglog;              /* 1 when the log-log regression ran */
-    cpd_ramp_twoseg loglog;      /* ln lactate on ln intensity (intensity in its own unit) */
+    cpd_linfit_twoseg loglog;      /* ln lactate on ln intensity (intensity in its own unit) */
 } cpd_lactate_result;
 
 /* Analyses a step test: intensity[n] strictly increasing (W or m/s, > 0), lactate[n] in mmol/L

@@ -43,4 +43,27 @@ int cpd_linfit_line(const double *x, const double *y, size_t n, cpd_linfit_resul
 /* Polynomial y = b0 + b1 x + ... + b_deg x^deg, deg < CPD_LINFIT_PMAX. Same return codes. */
 int cpd_linfit_poly(const double *x, const double *y, size_t n, size_t deg, cpd_linfit_result *res);
 
+/* Two straight lines fitted by OLS to the lower and upper parts of (x, y) sorted by x. */
+typedef struct {
+    size_t n;             /* points */
+    size_t split;         /* points in the lower segment; the upper holds n - split */
+    double s1, b1;        /* lower line: slope (y unit per x unit), intercept (y unit) */
+    double s2, b2;        /* upper line: slope, intercept */
+    double s1_se, s2_se;  /* standard errors of the slopes (0 when a segment has no residual dof) */
+    double rss;           /* pooled residual sum of squares, y unit squared */
+    int has_z;            /* 1 when z is defined (some slope SE > 0) */
+    double z;             /* (s2 - s1) / sqrt(s1_se^2 + s2_se^2), dimensionless; 0 when !has_z */
+    int has_cross;        /* 1 when the lines are not parallel */
+    double x_cross;       /* intersection, x unit; 0 when !has_cross */
+    double y_cross;       /* intersection, y unit; 0 when !has_cross */
+    double x_lo, x_hi;    /* smallest and largest x, x unit */
+} cpd_linfit_twoseg;
+
+/* Two-segment linear regression: x sorted ascending, every split with at least min_seg points on
+ * each side, two OLS lines, the split with the least pooled RSS (first on ties); the method of the
+ * V-slope (Beaver, Wasserman & Whipp 1986) and of the log-log lactate threshold (Beaver, Wasserman &
+ * Whipp 1985 J Appl Physiol 59:1936). Returns CPD_OK, CPD_EUSAGE for min_seg < 2, n < 2 min_seg or
+ * unsorted x, CPD_ENODATA for a non-finite value or when no split has two non-degenerate segments. */
+int cpd_linfit_twoseg_fit(const double *x, const double *y, size_t n, size_t min_seg, cpd_linfit_twoseg *out);
+
 #endif

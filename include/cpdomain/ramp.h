@@ -6,6 +6,7 @@
 #define CPDOMAIN_RAMP_H
 
 #include "cpdomain/gx.h"
+#include "cpdomain/linfit.h"
 #include "cpdomain/steps.h"
 
 #include <stddef.h>
@@ -84,21 +85,6 @@ typedef enum {
     CPD_RAMP_NREASONS
 } cpd_ramp_reason;
 
-/* Two straight lines fitted by OLS to the lower and upper parts of (x, y) sorted by x. */
-typedef struct {
-    size_t n;             /* points */
-    size_t split;         /* points in the lower segment; the upper holds n - split */
-    double s1, b1;        /* lower line: slope (y unit per x unit), intercept (y unit) */
-    double s2, b2;        /* upper line: slope, intercept */
-    double s1_se, s2_se;  /* standard errors of the slopes (0 when a segment has no residual dof) */
-    double rss;           /* pooled residual sum of squares, y unit squared */
-    int has_z;            /* 1 when z is defined (some slope SE > 0) */
-    double z;             /* (s2 - s1) / sqrt(s1_se^2 + s2_se^2), dimensionless; 0 when !has_z */
-    int has_cross;        /* 1 when the lines are not parallel */
-    double x_cross;       /* intersection, x unit; 0 when !has_cross */
-    double y_cross;       /* intersection, y unit; 0 when !has_cross */
-    double x_lo, x_hi;    /* smallest and largest x, x unit */
-} cpd_ramp_twoseg;
 
 /* The protocol of a graded test. */
 typedef enum {
@@ -164,7 +150,7 @@ typedef struct {
     int reason;                 /* cpd_ramp_reason */
     char why[CPD_RAMP_WHY_MAX]; /* reason in words */
     double vo2_ml_min;          /* mL/min: where VE/VO2 starts to rise (breakpoint of VE on VO2) */
-    cpd_ramp_twoseg fit;        /* VE (L/min) on VO2 (mL/min) */
+    cpd_linfit_twoseg fit;        /* VE (L/min) on VO2 (mL/min) */
     double veo2_slope;          /* 1/(mL/min): slope of VE/VO2 on VO2 above the breakpoint */
     double vevco2_slope;        /* 1/(mL/min): slope of VE/VCO2 on VO2 above the breakpoint */
     int peto2_rises;            /* 1 PETO2 rises > 1 mmHg above the breakpoint, 0 it does not, -1 no PETO2 */
@@ -197,11 +183,11 @@ typedef struct {
     cpd_ramp_threshold get_auto; /* the automatic GET (V-slope) */
     cpd_ramp_threshold rcp;      /* the RCP reported: manual when given, else automatic */
     cpd_ramp_threshold rcp_auto; /* the automatic RCP (VE on VCO2 breakpoint) */
-    cpd_ramp_twoseg vslope;      /* V-slope fit, VCO2 (mL/min) on VO2 (mL/min); valid when has_vslope */
+    cpd_linfit_twoseg vslope;      /* V-slope fit, VCO2 (mL/min) on VO2 (mL/min); valid when has_vslope */
     int has_vslope;              /* 1 when the V-slope regression ran (its acceptance is get_auto.status) */
     double vslope_t_lo_s;        /* s from onset: eligible range of the V-slope */
     double vslope_t_hi_s;        /* s from onset: upper end (the automatic RCP, else the end of the ramp) */
-    cpd_ramp_twoseg rcp_fit;     /* VE (L/min) on VCO2 (mL/min); valid when has_rcp_fit */
+    cpd_linfit_twoseg rcp_fit;     /* VE (L/min) on VCO2 (mL/min); valid when has_rcp_fit */
     int has_rcp_fit;             /* 1 when the RCP regression ran */
     cpd_ramp_veq veq;            /* ventilatory-equivalent cross-check of the GET */
 
@@ -298,12 +284,6 @@ const cpd_gx_series *cpd_ramp_samples(const cpd_ramp_ws *w);
  * NaN before any successful analysis. */
 double cpd_ramp_intensity_at(const cpd_ramp_ws *w, const cpd_ramp_result *r, double t_s);
 
-/* Two-segment linear regression: x sorted ascending, every split with at least min_seg points on
- * each side, two OLS lines, the split with the least pooled RSS (first on ties); the method of the
- * V-slope (Beaver, Wasserman & Whipp 1986) and of the log-log lactate threshold (Beaver, Wasserman &
- * Whipp 1985 J Appl Physiol 59:1936). Returns CPD_OK, CPD_EUSAGE for min_seg < 2, n < 2 min_seg or
- * unsorted x, CPD_ENODATA for a non-finite value or when no split has two non-degenerate segments. */
-int cpd_ramp_twoseg_fit(const double *x, const double *y, size_t n, size_t min_seg, cpd_ramp_twoseg *out);
 
 /* Short static English text of a cpd_ramp_reason; never NULL. */
 const char *cpd_ramp_reason_text(int reason);

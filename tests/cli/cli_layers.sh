@@ -56,4 +56,8 @@ for c in "$SRC"/cmd_*.c; do
     done
 done
 pass "no command file includes a header implemented by a command file"
+# no circle among the library's modules through their public headers (a two-segment fit that lived
+# in ramp.c once made ramp -> steps -> lactate -> ramp; it is linfit's now)
+cyc=$(/usr/bin/python3 "$CPDOMAIN_TESTS/cli/module_cycles.py" "$CPDOMAIN_TESTS/..")
+[ "$cyc" = none ] && pass "no circle among the library modules' includes" || fail "a circle of modules: $cyc"
 exit 0
