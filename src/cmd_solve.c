@@ -93,6 +93,24 @@ static int solve_opt(int opt, const char *arg, void *ud)
     return 0;
 }
 
+/* A solver of balance.h: for the end balance (cpd_balance_solve) or the lowest (cpd_balance_solve_lowest). */
+typedef int (*solve_fn)(cpd_balance_ws *, const cpd_balance_params *, cpd_protocol_modality, const cpd_protocol *,
+                        double, cpd_balance_solution *);
+
+/* The protocol's unknown solved once with parameters bq into *x; 1 when there is an answer. */
+static int solve_once(solve_fn solver, const cpd_balance_params *bq, int spd, const cpd_protocol *p, double pct,
+                      double *x)
+{
+    cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
+    cpd_balance_solution sq;
+    int ok = wq && solver(wq, bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
+             sq.reason == CPD_SOLVE_OK;
+    cpd_balance_free(wq);
+    if (ok)
+        *x = sq.intensity;
+    return ok;
+}
+
 int cmd_solve(cli_ctx *c, int argc, char **argv)
 {
     static const struct option lo[] = {
@@ -173,8 +191,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
     cpd_balance_ws *w = cpd_balance_alloc(p->total_s);
     cpd_balance_solution sol;
     memset(&sol, 0, sizeof sol);
-    int (*solver)(cpd_balance_ws *, const cpd_balance_params *, cpd_protocol_modality, const cpd_protocol *, double,
-                  cpd_balance_solution *) = lowest ? cpd_balance_solve_lowest : cpd_balance_solve;
+    solve_fn solver = lowest ? cpd_balance_solve_lowest : cpd_balance_solve;
     rc = w ? solver(w, &bp, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sol) : CPD_ENOMEM;
     cpd_balance_free(w);
     static const char *const why_end[] = {
@@ -199,14 +216,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
         cpd_balance_params bq = bp;
         if (!cli_param_pair(m, side ? 1 : -1, &bq.cp, &bq.w_prime))
             continue;
-        cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
-        cpd_balance_solution sq;
-        if (wq && solver(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
-            sq.reason == CPD_SOLVE_OK) {
-            has_range[side] = 1;
-            range[side] = sq.intensity;
-        }
-        cpd_balance_free(wq);
+        has_range[side] = solve_once(solver, &bq, spd, p, pct, &range[side]);
     }
     /* the answer under every recovery model, side by side (they disagree more than CP's interval) */
     static const cpd_balance_model allm[CLI_NBALANCE] = {CPD_BALANCE_DIFFERENTIAL, CPD_BALANCE_INTEGRAL, CPD_BALANCE_BARTRAM};
@@ -214,14 +224,7 @@ int cmd_solve(cli_ctx *c, int argc, char **argv)
     double ans_m[CLI_NBALANCE] = {0, 0, 0};
     for (int q = 0; q < CLI_NBALANCE && rc == CPD_OK; q++) {
         cpd_balance_params bq = {allm[q], m->cp, m->w_prime};
-        cpd_balance_ws *wq = cpd_balance_alloc(p->total_s);
-        cpd_balance_solution sq;
-        if (wq && solver(wq, &bq, spd ? CPD_PROTOCOL_SPEED : CPD_PROTOCOL_POWER, p, pct, &sq) == CPD_OK &&
-            sq.reason == CPD_SOLVE_OK) {
-            has_m[q] = 1;
-            ans_m[q] = sq.intensity;
-        }
-        cpd_balance_free(wq);
+        has_m[q] = solve_once(solver, &bq, spd, p, pct, &ans_m[q]);
     }
     const char *ikey = spd ? "speed_m_s" : "power_w";
     const char *u = spd ? "m" : "j";

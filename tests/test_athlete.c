@@ -8,6 +8,7 @@
 #include <stdint.h>
 #include <cmocka.h>
 
+#include "tmpstore.h"
 #include "cpdomain/athlete.h"
 #include "cpdomain/units.h"
 #include "pyref.h"
@@ -82,12 +83,7 @@ static int teardown(void **state)
 {
     fixture *f = *state;
     cpd_store_close(f->s);
-    char p[96];
-    unlink(f->path);
-    snprintf(p, sizeof p, "%s-wal", f->path);
-    unlink(p);
-    snprintf(p, sizeof p, "%s-shm", f->path);
-    unlink(p);
+    tmpstore_remove(f->path);
     free(f);
     return 0;
 }

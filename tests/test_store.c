@@ -1,5 +1,6 @@
 /* test_store.c: the store on temporary files: migrations, versions, athletes, trials, cascades,
  * transactions. */
+#include "tmpstore.h"
 #include "cpdomain/status.h"
 #include "cpdomain/store.h"
 
@@ -38,12 +39,7 @@ static int teardown(void **state)
 {
     fixture *f = *state;
     cpd_store_close(f->s);
-    char p[96];
-    unlink(f->path);
-    snprintf(p, sizeof p, "%s-wal", f->path);
-    unlink(p);
-    snprintf(p, sizeof p, "%s-shm", f->path);
-    unlink(p);
+    tmpstore_remove(f->path);
     free(f);
     return 0;
 }
