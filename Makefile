@@ -12,7 +12,7 @@ WARN := $(filter-out -Wno-format-truncation,$(WARN))
 # clang reports the simd loops it leaves scalar (the double max-reductions of mmp.c): a note, not an error
 MMP_CLANG = -Wno-pass-failed
 endif
-PKGS     = gsl sqlite3 libcjson libzstd
+PKGS     = gsl sqlite3 libcjson libzstd libpq
 # '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   = $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lcsv -lm
@@ -108,7 +108,7 @@ TEST_BINS  = $(TESTS:%=$(BUILD)/tests/%)
 BENCH_BINS = $(BENCHES:%=$(BUILD)/bench/%)
 STAMP    = $(BUILD)/.deps-ok
 
-.PHONY: all test check valgrind bench demo deps install clean docs $(BUILD)/cpdomain.pc
+.PHONY: all test test-pg check valgrind bench demo deps install clean docs $(BUILD)/cpdomain.pc
 .PHONY: fuzz fuzz-smoke fuzz-lib
 all: $(BIN)
 
@@ -154,6 +154,12 @@ $(BUILD)/example_domains: tests/example_domains.c $(LIB) | $(STAMP)
 test: $(BIN) $(TEST_BINS) $(EXAMPLES)
 	@sh tests/run.sh $(BUILD)
 
+# make test-pg: the same suite with every store a database on a real PostgreSQL server: a
+# throw-away cluster (tools/pgcluster.sh) unless CPDOMAIN_TEST_PG already names a server's superuser
+# URI; the cluster is stopped and removed whatever the outcome. Same summary line as make test.
+test-pg: $(BIN) $(TEST_BINS) $(EXAMPLES)
+	@sh tests/run_pg.sh $(BUILD)
+
 # make check: the whole suite again under AddressSanitizer and UndefinedBehaviorSanitizer.
 check:
 	@$(MAKE) --no-print-directory BUILD=build/san SAN=1 test
@@ -165,6 +171,7 @@ valgrind: $(BIN) $(TEST_BINS) $(EXAMPLES)
 
 bench: $(BIN) $(BENCH_BINS)
 	@for b in $(BENCH_BINS); do echo "== $$b"; $$b || exit 1; done
+	@echo "== tests/bench_engines.sh"; sh tests/bench_engines.sh $(BIN)
 
 # make fuzz: every harness for FUZZ_SECONDS each (make fuzz FUZZ_SECONDS=600 FUZZERS=session);
 # make fuzz-smoke: 10 s each, as CI runs it.

@@ -19,7 +19,7 @@
 #include <string.h>
 
 typedef struct {
-    char path[64];
+    char path[TMPSTORE_MAX];
     cpd_store *s;
 } fixture;
 
@@ -62,11 +62,9 @@ static void add_athlete(cpd_store *s, const char *code, const char *sport)
 static int setup(void **state)
 {
     fixture *f = calloc(1, sizeof *f);
-    snprintf(f->path, sizeof f->path, "/tmp/cpd_athlete_XXXXXX");
-    int fd = mkstemp(f->path);
-    close(fd);
-    unlink(f->path);
     char msg[CPD_MSG_MAX];
+    if (tmpstore_new(f->path, sizeof f->path, "athlete"))
+        return -1;
     if (cpd_store_open(f->path, 1, &f->s, msg) != CPD_OK)
         return -1;
     add_athlete(f->s, "A01", "cycling");

@@ -17,18 +17,16 @@
 #include <unistd.h>
 
 typedef struct {
-    char path[64];
+    char path[TMPSTORE_MAX];
     cpd_store *s;
 } fixture;
 
 static int setup(void **state)
 {
     fixture *f = calloc(1, sizeof *f);
-    snprintf(f->path, sizeof f->path, "/tmp/cpd_store_XXXXXX");
-    int fd = mkstemp(f->path);
-    close(fd);
-    unlink(f->path); /* the store must create it */
     char msg[CPD_MSG_MAX];
+    if (tmpstore_new(f->path, sizeof f->path, "store"))
+        return -1;
     if (cpd_store_open(f->path, 1, &f->s, msg) != CPD_OK)
         return -1;
     *state = f;

@@ -18,6 +18,7 @@
 #include <string.h>
 #include <unistd.h>
 #include <cmocka.h>
+#include "tmpstore.h"
 
 enum { N = 7200 };
 
@@ -133,10 +134,8 @@ static void damage(void **state)
 static void through_the_store(void **state)
 {
     (void)state;
-    char path[] = "/tmp/cpd_codec_XXXXXX";
-    int fd = mkstemp(path);
-    assert_true(fd >= 0);
-    close(fd);
+    char path[TMPSTORE_MAX];
+    assert_int_equal(tmpstore_new(path, sizeof path, "codec"), 0);
     cpd_store *s = NULL;
     char msg[CPD_MSG_MAX];
     assert_int_equal(cpd_store_open(path, 1, &s, msg), CPD_OK);
@@ -184,12 +183,7 @@ static void through_the_store(void **state)
     assert_memory_equal(cb.start_s, cs, sizeof cs);
     free(buf);
     cpd_store_close(s);
-    unlink(path);
-    char side[sizeof path + 8];
-    snprintf(side, sizeof side, "%s-wal", path);
-    unlink(side);
-    snprintf(side, sizeof side, "%s-shm", path);
-    unlink(side);
+    tmpstore_remove(path);
 }
 
 int main(void)

@@ -10,6 +10,7 @@
 #include <stddef.h>
 #include <stdint.h>
 #include <cmocka.h>
+#include "tmpstore.h"
 #include <sqlite3.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -17,29 +18,17 @@
 #include <unistd.h>
 
 typedef struct {
-    char path[2][64];
+    char path[2][TMPSTORE_MAX];
     cpd_store *s[2]; /* a source store and an empty one */
 } fixture;
-
-static void remove_store(const char *path)
-{
-    char p[96];
-    unlink(path);
-    snprintf(p, sizeof p, "%s-wal", path);
-    unlink(p);
-    snprintf(p, sizeof p, "%s-shm", path);
-    unlink(p);
-}
 
 static int setup(void **state)
 {
     fixture *f = calloc(1, sizeof *f);
     for (int k = 0; k < 2; k++) {
-        snprintf(f->path[k], sizeof f->path[k], "/tmp/cpd_dump_XXXXXX");
-        int fd = mkstemp(f->path[k]);
-        close(fd);
-        unlink(f->path[k]);
         char msg[CPD_MSG_MAX];
+        if (tmpstore_new(f->path[k], sizeof f->path[k], "dump"))
+            return -1;
         if (cpd_store_open(f->path[k], 1, &f->s[k], msg) != CPD_OK)
             return -1;
     }
@@ -52,7 +41,7 @@ static int teardown(void **state)
     fixture *f = *state;
     for (int k = 0; k < 2; k++) {
         cpd_store_close(f->s[k]);
-        remove_store(f->path[k]);
+        tmpstore_remove(f->path[k]);
     }
     free(f);
     return 0;

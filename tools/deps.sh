@@ -13,6 +13,9 @@ need libsqlite3-dev   pkg-config --exists sqlite3
 need libcjson-dev     pkg-config --exists libcjson
 need libcmocka-dev    pkg-config --exists cmocka
 need libzstd-dev      pkg-config --exists libzstd
+need libpq-dev        pkg-config --exists libpq
+# make test-pg and make bench start a throw-away PostgreSQL server (tools/pgcluster.sh)
+need postgresql       sh -c 'ls /usr/lib/postgresql/*/bin/initdb'
 need libcsv-dev       test -f /usr/include/csv.h
 need python3-numpy    /usr/bin/python3 -c 'import numpy'
 need python3-scipy    /usr/bin/python3 -c 'import scipy.optimize'
