@@ -2,6 +2,8 @@
 # run.sh: build the demo store from demo/data (see demo/TRUTH.md for the invented centre and the
 # true parameters behind every file) and run the main job on it. Usage: sh demo/run.sh BINARY [DIR]
 # DIR (default: demo/) receives demo.db and out/; the tests pass a temporary one.
+# CPDOMAIN_DEMO_DB names another store instead of DIR/demo.db (a PostgreSQL URI: an existing,
+# empty database; the tests' PostgreSQL mode).
 set -eu
 bin=${1:-build/cpdomain}
 here=$(cd "$(dirname "$0")" && pwd)
@@ -10,9 +12,9 @@ mkdir -p "$dir"
 dir=$(cd "$dir" && pwd)
 data="$here/data"
 out="$dir/out"
-db="$dir/demo.db"
+db=${CPDOMAIN_DEMO_DB:-$dir/demo.db}
 export CPDOMAIN_TODAY=2026-11-30   # the demo's "today", so the demo never ages
-rm -f "$db" "$db-wal" "$db-shm"
+case $db in *://*) ;; *) rm -f "$db" "$db-wal" "$db-shm" ;; esac
 rm -rf "$out"
 mkdir -p "$out/details"
 cpd() { "$bin" --db "$db" --quiet "$@"; }

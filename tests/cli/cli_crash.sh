@@ -20,18 +20,24 @@ session_file() { head -n $((200 + 37 * $1)) "$DEMO/session_C02_2026-08-30.csv" >
 ms() { date +%s%3N; }
 # how long one whole import takes here (the kills are spread over it)
 trials_file 0 "$TMP/t0.csv"
-t0=$(ms); "$BIN" --db "$TMP/probe.db" --quiet init; "$BIN" --db "$TMP/probe.db" --quiet athlete add K1 --name P
-"$BIN" --db "$TMP/probe.db" --quiet trial import "$TMP/t0.csv"; t1=$(ms)
+newdb PROBE probe
+t0=$(ms); "$BIN" --db "$PROBE" --quiet init; "$BIN" --db "$PROBE" --quiet athlete add K1 --name P
+"$BIN" --db "$PROBE" --quiet trial import "$TMP/t0.csv"; t1=$(ms)
 SPAN=$(( (t1 - t0) * 2 / 3 + 20 ))   # ms: one import (its share of the three runs) with a margin
 # the delay in seconds before kill k: spread over 0 to SPAN ms by a fixed sequence (reproducible)
 delay() { awk -v k="$1" -v s="$SPAN" 'BEGIN { printf "%.3f", ((k * 37) % 31) / 31 * s / 1000 }'; }
 
 sound() { # sound WHAT: integrity, foreign keys, whole imports only, every session readable
-    ic=$(sqlite3 "$DB" "PRAGMA integrity_check" 2>&1)
-    fk=$(sqlite3 "$DB" "PRAGMA foreign_key_check" 2>&1)
-    part=$(sqlite3 "$DB" "SELECT count(*) FROM (SELECT note FROM trial GROUP BY note HAVING count(*) != $M)" 2>&1)
+    if [ -z "$PGBASE" ]; then
+        ic=$(sqlite3 "$DB" "PRAGMA integrity_check" 2>&1)
+        fk=$(sqlite3 "$DB" "PRAGMA foreign_key_check" 2>&1)
+    else # PostgreSQL: no file to check; no trial without its athlete (the server enforces the keys)
+        ic=ok
+        fk=$(sql "$DB" "SELECT t.id FROM trial t LEFT JOIN athlete a ON a.id = t.athlete_id WHERE a.id IS NULL" 2>&1)
+    fi
+    part=$(sql "$DB" "SELECT count(*) FROM (SELECT note FROM trial GROUP BY note HAVING count(*) != $M)" 2>&1)
     bad_s=""
-    for id in $(sqlite3 "$DB" "SELECT id FROM session"); do
+    for id in $(sql "$DB" "SELECT id FROM session"); do
         "$BIN" --db "$DB" --quiet session show "$id" >/dev/null 2>&1 || bad_s="$bad_s $id"
     done
     if [ "$ic" = ok ] && [ -z "$fk" ] && [ "$part" = 0 ] && [ -z "$bad_s" ]; then return 0; fi
@@ -54,8 +60,8 @@ while [ $k -lt "$KILLS" ]; do
     sleep "$(delay $k)"
     kill -KILL $pid 2>/dev/null
     wait $pid 2>/dev/null; rc=$?
-    ntr=$(sqlite3 "$DB" "SELECT count(*) FROM trial WHERE note = 'batch $k'")
-    nse=$(sqlite3 "$DB" "SELECT count(*) FROM session WHERE source_file = '$f'")
+    ntr=$(sql "$DB" "SELECT count(*) FROM trial WHERE note = 'batch $k'")
+    nse=$(sql "$DB" "SELECT count(*) FROM session WHERE source_file = '$f'")
     if [ "$ntr" = "$M" ] || [ "$nse" = 1 ]; then done_whole=$((done_whole + 1)); else done_none=$((done_none + 1)); fi
     # a run that was not killed (it finished first) must have stored its file
     if [ "$rc" -eq 0 ] && [ "$ntr" != "$M" ] && [ "$nse" != 1 ]; then
@@ -69,7 +75,7 @@ done
 echo "# kills: $KILLS over 0 to $SPAN ms, committed before the kill: $done_whole, nothing stored: $done_none"
 
 # ---- several processes writing to one store at once ----
-DB="$TMP/conc.db"
+newdb DB conc
 expect 0 "init a store for concurrent writers" init
 expect 0 "an athlete" athlete add W1 --name "Many Writers" --mass 70
 P=4; K=15
@@ -83,18 +89,20 @@ for w in $(seq 1 $P); do
 done
 wait
 failed=$(cat "$TMP"/writer*.log | grep -c "failed: exit")
-got=$(sqlite3 "$DB" "SELECT count(*) FROM trial")
+got=$(sql "$DB" "SELECT count(*) FROM trial")
 lost=$((P * K - got))
 [ "$failed" = 0 ] && pass "$P writers x $K writes at once: every command succeeded" || fail "$failed writes failed" "$(cat "$TMP"/writer*.log | head -5)"
 [ "$lost" = 0 ] && pass "0 writes lost ($got of $((P * K)) stored)" || fail "$lost writes lost ($got of $((P * K)))"
-distinct=$(sqlite3 "$DB" "SELECT count(DISTINCT note) FROM trial")
+distinct=$(sql "$DB" "SELECT count(DISTINCT note) FROM trial")
 [ "$distinct" = $((P * K)) ] && pass "each write stored once" || fail "$distinct distinct writes"
 echo "# concurrent writers: $P x $K, lost: $lost"
 
 # ---- a busy store: wait the configured time, then say who holds it ----
-# Python's sqlite3 (Debian's) holds the write lock for HOLD seconds, then commits
-hold() {
-    /usr/bin/python3 - "$DB" "$1" "$TMP/locked" <<'PY' &
+# (the SQLite file lock; on PostgreSQL, cli_pg.sh checks writers that wait on each other)
+if sqlite_only "the busy timeout waits on the SQLite file's write lock" 7; then
+    # Python's sqlite3 (Debian's) holds the write lock for HOLD seconds, then commits
+    hold() {
+        /usr/bin/python3 - "$DB" "$1" "$TMP/locked" <<'PY' &
 import sqlite3, sys, time
 con = sqlite3.connect(sys.argv[1], isolation_level=None)
 con.execute("BEGIN IMMEDIATE")
@@ -102,23 +110,24 @@ open(sys.argv[3], "w").write("locked")
 time.sleep(float(sys.argv[2]))
 con.execute("COMMIT")
 PY
-    HOLDER=$!
-    i=0; while [ ! -s "$TMP/locked" ] && [ $i -lt 100 ]; do sleep 0.05; i=$((i + 1)); done
-}
-rm -f "$TMP/locked"; hold 2.5
-t0=$(ms); expect 74 "--busy-timeout 300 on a held store" --busy-timeout 300 trial add W1 --date 2026-11-01 --power 250 --duration 300; t1=$(ms)
-err_has "another process holds the store" "the message says another process holds the store"
-err_has "--busy-timeout" "the message says how to wait longer"
-[ $((t1 - t0)) -ge 250 ] && pass "it waited before failing ($((t1 - t0)) ms)" || fail "it failed after $((t1 - t0)) ms, before its 300 ms"
-t0=$(ms); CPDOMAIN_BUSY_TIMEOUT=200 "$BIN" --db "$DB" trial add W1 --date 2026-11-01 --power 250 --duration 300 >"$TMP/out" 2>"$TMP/err"; RC=$?; t1=$(ms)
-[ "$RC" = 74 ] && grep -q "another process holds the store" "$TMP/err" && pass "CPDOMAIN_BUSY_TIMEOUT=200 fails the same way (after $((t1 - t0)) ms)" \
-    || fail "CPDOMAIN_BUSY_TIMEOUT: exit $RC" "$(cat "$TMP/err")"
-wait $HOLDER
-rm -f "$TMP/locked"; hold 1
-expect 0 "the default timeout (5 s) outwaits a 1 s lock" trial add W1 --date 2026-11-02 --power 251 --duration 301
-wait $HOLDER
-n=$(sqlite3 "$DB" "SELECT count(*) FROM trial WHERE date >= '2026-11-01'")
-[ "$n" = 1 ] && pass "only the write that waited long enough was stored" || fail "$n late writes stored"
+        HOLDER=$!
+        i=0; while [ ! -s "$TMP/locked" ] && [ $i -lt 100 ]; do sleep 0.05; i=$((i + 1)); done
+    }
+    rm -f "$TMP/locked"; hold 2.5
+    t0=$(ms); expect 74 "--busy-timeout 300 on a held store" --busy-timeout 300 trial add W1 --date 2026-11-01 --power 250 --duration 300; t1=$(ms)
+    err_has "another process holds the store" "the message says another process holds the store"
+    err_has "--busy-timeout" "the message says how to wait longer"
+    [ $((t1 - t0)) -ge 250 ] && pass "it waited before failing ($((t1 - t0)) ms)" || fail "it failed after $((t1 - t0)) ms, before its 300 ms"
+    t0=$(ms); CPDOMAIN_BUSY_TIMEOUT=200 "$BIN" --db "$DB" trial add W1 --date 2026-11-01 --power 250 --duration 300 >"$TMP/out" 2>"$TMP/err"; RC=$?; t1=$(ms)
+    [ "$RC" = 74 ] && grep -q "another process holds the store" "$TMP/err" && pass "CPDOMAIN_BUSY_TIMEOUT=200 fails the same way (after $((t1 - t0)) ms)" \
+        || fail "CPDOMAIN_BUSY_TIMEOUT: exit $RC" "$(cat "$TMP/err")"
+    wait $HOLDER
+    rm -f "$TMP/locked"; hold 1
+    expect 0 "the default timeout (5 s) outwaits a 1 s lock" trial add W1 --date 2026-11-02 --power 251 --duration 301
+    wait $HOLDER
+    n=$(sqlite3 "$DB" "SELECT count(*) FROM trial WHERE date >= '2026-11-01'")
+    [ "$n" = 1 ] && pass "only the write that waited long enough was stored" || fail "$n late writes stored"
+fi
 expect 64 "a bad --busy-timeout" --busy-timeout soon init
 err_has "--busy-timeout must be a whole number of milliseconds" "the bad value is explained"
 CPDOMAIN_BUSY_TIMEOUT=-5 "$BIN" --db "$DB" athlete list >/dev/null 2>"$TMP/err"; RC=$?

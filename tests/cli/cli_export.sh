@@ -6,15 +6,22 @@
 DEMO="$CPDOMAIN_TESTS/../demo/data"   # invented demo data (demo/TRUTH.md)
 D="$CPDOMAIN_TESTS/data/csv"
 # outside check: Python's json and sqlite3 modules compare the document with the store, value by value
+# (PostgreSQL mode: export_check_pg.py reads the database through psql's JSON)
 check() {
-    got=$(/usr/bin/python3 "$CPDOMAIN_TESTS/ref/export_check.py" "$1" "$2" 2>&1)
+    if [ -z "$PGBASE" ]; then got=$(/usr/bin/python3 "$CPDOMAIN_TESTS/ref/export_check.py" "$1" "$2" 2>&1)
+    else got=$(/usr/bin/python3 "$CPDOMAIN_TESTS/ref/export_check_pg.py" "$1" "$2" 2>&1); fi
     case "$got" in ok*) pass "$3 ($got values)" ;; *) fail "$3" "$got" ;; esac
 }
 same() { # same FILE1 FILE2 WHAT
     if cmp -s "$1" "$2"; then pass "$3"; else fail "$3" "$(diff "$1" "$2" | head -c 600)"; fi
 }
-A="$TMP/a.db"
-B="$TMP/b.db"
+newdb A a
+newdb B b
+# the store's schema version: SQLite's user_version, or what init reports on PostgreSQL
+schema_version() {
+    if [ -z "$PGBASE" ]; then sqlite3 "$1" 'PRAGMA user_version'
+    else "$BIN" --db "$1" --json init | /usr/bin/python3 -c 'import json,sys; print(json.load(sys.stdin)["version"])'; fi
+}
 
 for sub in export import; do
     expect 0 "$sub --help" $sub --help
@@ -35,14 +42,14 @@ expect 0 "fit (saved with its models and trials)" fit C03
 expect 0 "ramp with sample blobs" ramp add C01 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 3:00
 expect 0 "a reviewer's GET" ramp set 1 --get-vo2 2403.7
 expect 0 "lactate test" lactate add C01 "$DEMO/lactate_C01.csv" --date 2026-10-01
-n=$(sqlite3 "$A" "SELECT (SELECT count(*) FROM fit_model) || ',' || (SELECT count(*) FROM gx_channel) || ',' || (SELECT count(*) FROM lactate_stage)")
+n=$(sql "$A" "SELECT (SELECT count(*) FROM fit_model) || ',' || (SELECT count(*) FROM gx_channel) || ',' || (SELECT count(*) FROM lactate_stage)")
 case "$n" in 0,*|*,0,*|*,0) fail "the store lacks fits, channels or stages: $n" ;; *) pass "fits, channels and stages stored ($n)" ;; esac
 
 expect 0 "export to stdout" export
 cp "$TMP/out" "$TMP/a.json"
 /usr/bin/python3 -c "import json; json.load(open('$TMP/a.json', encoding='utf-8'))" 2>"$TMP/err" \
     && pass "the document is JSON to Python's parser" || fail "Python cannot parse the document" "$(cat "$TMP/err")"
-json_is 'd["format"], d["schema_version"], list(d["tables"])[0]' "('cpdomain-store', $(sqlite3 "$A" 'PRAGMA user_version'), 'athlete')" \
+json_is 'd["format"], d["schema_version"], list(d["tables"])[0]' "('cpdomain-store', $(schema_version "$A"), 'athlete')" \
     "format, store version, athletes first"
 json_is 'd["tool_version"] == "'"$("$BIN" --version | cut -d' ' -f2)"'"' True "tool_version is this cpdomain's"
 json_is '[r[5] for r in d["tables"]["athlete"]["rows"] if r[1] == "C03"][0] == """'"$NOTE"'"""' True "the UTF-8 note is a plain string"
@@ -60,40 +67,41 @@ expect 0 "import" --json import "$TMP/a.json"
 json_is 'd["athletes"], d["rows"]["trial"], d["rows"]["lactate_stage"] > 3' "(3, 6, True)" "--json summary of the import"
 expect 0 "export the imported store" export -o "$TMP/b.json"
 same "$TMP/a.json" "$TMP/b.json" "export, import, export: the two documents are byte-identical"
-sqlite3 "$A" .dump >"$TMP/a.dump"
-sqlite3 "$B" .dump >"$TMP/b.dump"
-same "$TMP/a.dump" "$TMP/b.dump" "sqlite3 .dump of both stores is identical"
+dump "$A" >"$TMP/a.dump"
+dump "$B" >"$TMP/b.dump"
+same "$TMP/a.dump" "$TMP/b.dump" "the SQL dump of both stores is identical"
 check "$TMP/a.json" "$B" "every value of the imported store equals the document's"
 for q in "trial list C03" "athlete show C03" "ramp show 1" "lactate show 1"; do
     DB=$A; cpd --json $q; cp "$TMP/out" "$TMP/q_a"
     DB=$B; cpd --json $q
     same "$TMP/q_a" "$TMP/out" "'$q' gives the same answer on both stores"
 done
-C="$TMP/c.db"
+newdb C c
 "$BIN" --db "$C" --quiet init && "$BIN" --db "$C" --quiet import - <"$TMP/a.json" && "$BIN" --db "$C" export >"$TMP/c.json" \
     && same "$TMP/a.json" "$TMP/c.json" "import - reads standard input" || fail "import from standard input"
 
 # ---- the demo store (demo/run.sh, in a copy of demo/ so the tree stays clean) ----
 mkdir -p "$TMP/demo" && cp -r "$CPDOMAIN_TESTS/../demo/run.sh" "$DEMO" "$TMP/demo/"
-if sh "$TMP/demo/run.sh" "$BIN" >"$TMP/demo.log" 2>&1 && [ -f "$TMP/demo/demo.db" ]; then
+DEMODB="$TMP/demo/demo.db"; [ -n "$PGBASE" ] && newdb DEMODB demo
+if CPDOMAIN_DEMO_DB=$DEMODB sh "$TMP/demo/run.sh" "$BIN" >"$TMP/demo.log" 2>&1 && ! no_store "$DEMODB"; then
     pass "demo store built"
-    DB="$TMP/demo/demo.db"
+    DB=$DEMODB
     expect 0 "export the demo store" export -o "$TMP/demo_a.json"
     check "$TMP/demo_a.json" "$DB" "demo document equals the demo store"
-    DB="$TMP/demo_b.db"
+    newdb DB demo_b
     expect 0 "init" init
     expect 0 "import the demo document" import "$TMP/demo_a.json"
     expect 0 "export again" export -o "$TMP/demo_b.json"
     same "$TMP/demo_a.json" "$TMP/demo_b.json" "demo: the two documents are byte-identical"
-    sqlite3 "$TMP/demo/demo.db" .dump >"$TMP/a.dump"
-    sqlite3 "$DB" .dump >"$TMP/b.dump"
-    same "$TMP/a.dump" "$TMP/b.dump" "demo: sqlite3 .dump of both stores is identical"
+    dump "$DEMODB" >"$TMP/a.dump"
+    dump "$DB" >"$TMP/b.dump"
+    same "$TMP/a.dump" "$TMP/b.dump" "demo: the SQL dump of both stores is identical"
 else
     fail "demo/run.sh failed" "$(tail -5 "$TMP/demo.log")"
 fi
 
 # ---- bad documents: exit 65, the place named, an empty store left byte for byte as it was ----
-DB="$TMP/empty.db"
+newdb DB empty
 expect 0 "init an empty store" init
 snapshot
 # edit OUT PYTHON: a copy of a.json changed by a Python statement on d
@@ -146,11 +154,11 @@ err_has "the store is not empty" "the store is named first"
 unchanged "import of a bad document into a non-empty store"
 
 # ---- missing stores, outputs, usage ----
-DB="$TMP/none.db"
+newdb DB none
 expect 66 "export without a store" export
 err_has "init" "export: run init"
 expect 66 "import without a store" import "$TMP/a.json"
-[ ! -e "$TMP/none.db" ] && pass "no store was created" || fail "import created a store"
+no_store "$DB" && pass "no store was created" || fail "import created a store"
 DB=$A
 expect 73 "export to an impossible path" export -o "$TMP/no/dir/a.json"
 err_has "cannot create '$TMP/no/dir/a.json'" "impossible path named"

@@ -16,11 +16,11 @@ json_is '[abs(m["cp"] - 250) < 1e-6 for m in d["models"][:3]]' "[True, True, Tru
 json_is '[abs(m["w_prime"] - 20000) < 1e-3 for m in d["models"][:3]]' "[True, True, True]" "exact data: W' 20000 J"
 json_is 'd["models"][3]["ok"] is False or "p_max_unidentifiable" in d["models"][3]["flags"]' True "three-parameter degenerate case reported, not a result"
 json_is 'isinstance(d["fit_id"], int) and "best_rule" in d' True "fit id and rule reported"
-n=$(sqlite3 "$DB" "SELECT count(*) FROM fit_run r JOIN fit_trial t ON t.run_id = r.id WHERE r.id = (SELECT max(id) FROM fit_run)")
+n=$(sql "$DB" "SELECT count(*) FROM fit_run r JOIN fit_trial t ON t.run_id = r.id WHERE r.id = (SELECT max(id) FROM fit_run)")
 [ "$n" = 4 ] && pass "the saved fit lists the four trials it used" || fail "saved fit has $n trials"
-m=$(sqlite3 "$DB" "SELECT count(*) FROM fit_model WHERE run_id = (SELECT max(id) FROM fit_run) AND detail LIKE '{%'")
+m=$(sql "$DB" "SELECT count(*) FROM fit_model WHERE run_id = (SELECT max(id) FROM fit_run) AND detail LIKE '{%'")
 [ "$m" = 4 ] && pass "all four models saved with their JSON detail" || fail "saved models: $m"
-v=$(sqlite3 "$DB" "SELECT tool_version FROM fit_run ORDER BY id DESC LIMIT 1")
+v=$(sql "$DB" "SELECT tool_version FROM fit_run ORDER BY id DESC LIMIT 1")
 case "$v" in 0.*) pass "tool version saved";; *) fail "tool version '$v'";; esac
 
 expect 0 "human fit" fit X1

@@ -115,7 +115,7 @@ expect 0 "ramp: show" --json ramp show 4
 json_is '"substrate" in d, "peak_fat_oxidation" in d' "(False, False)" "a ramp has no per-stage substrate or PFO"
 
 # ---- the energy command and the AOD use C01's step test (demo) ----
-DB="$TMP/c01.db"
+newdb DB c01
 expect 0 "init C01 store" init
 expect 0 "athletes" athlete import "$DEMO/athletes.csv"
 expect 0 "trials" trial import "$DEMO/trials.csv"

@@ -142,7 +142,7 @@ expect 0 "VO2-only ramp" ramp add V01 "$TMP/vo2.csv" --date 2026-10-02
 expect 0 "sheet" sheet V01 -o "$TMP/v.html"
 grep -Eq "VO2peak [0-9.]+ L/min" "$TMP/v.html" && pass "the sheet shows the VO2peak of the VO2-only test" || fail "no VO2peak on the sheet"
 grep -q "VO2 only (no VCO2)" "$TMP/v.html" && pass "the sheet says why there is no GET" || fail "no VO2-only note on the sheet"
-vid=$(sqlite3 "$DB" "SELECT max(id) FROM gx_test")
+vid=$(sql "$DB" "SELECT max(id) FROM gx_test")
 expect 0 "a reviewer's GET as power" ramp set "$vid" --get-power 175
 expect 0 "domains" --json domains V01
 json_is 'd["boundaries"][0]["name"], d["boundaries"][0]["power_w"], d["boundaries"][0]["manual"]' "('moderate-heavy', 175, True)" "the reviewer's GET (a step test: the power itself) reaches the domains"
@@ -192,15 +192,17 @@ unchanged "nothing stored"
 expect 0 "with --rate and --start it is a ramp from the nominal line" --json ramp add S01 "$TMP/flat.csv" --date 2026-10-09 --rate 8 --start 90
 
 # ---- a version-4 store (before db/005_gx_protocol.sql) keeps its ramp and takes a step test ----
-OLD="$TMP/v4.db"
-for f in schema.sql 002_fits.sql 003_gas_exchange.sql 004_sessions.sql; do sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/$f"; done
-sqlite3 "$OLD" "PRAGMA user_version = 4; INSERT INTO athlete (code, name) VALUES ('V4', 'Version Four');"
-"$BIN" --db "$OLD" ramp add V4 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 180 >/dev/null 2>&1 \
-    && pass "a version-4 store takes a ramp" || fail "v4 store refused a ramp"
-v=$(sqlite3 "$OLD" "PRAGMA user_version")
-[ "$v" -ge 5 ] && pass "the store was upgraded to version $v" || fail "store at version $v"
-sqlite3 "$OLD" "UPDATE gx_test SET protocol = NULL, end_s = NULL, hr_dropped = 0 WHERE id = 1" \
-    && pass "the new columns exist" || fail "no new columns"
-"$BIN" --db "$OLD" --json ramp add V4 "$TMP/steps.csv" --date 2026-10-01 >"$TMP/out" 2>/dev/null && json_is 'd["hr_dropped"]' 3 "and a step test" \
-    || fail "v4 store refused a step test"
+if sqlite_only "a version-4 SQLite file is upgraded" 4; then
+    OLD="$TMP/v4.db"
+    for f in schema.sql 002_fits.sql 003_gas_exchange.sql 004_sessions.sql; do sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/$f"; done
+    sqlite3 "$OLD" "PRAGMA user_version = 4; INSERT INTO athlete (code, name) VALUES ('V4', 'Version Four');"
+    "$BIN" --db "$OLD" ramp add V4 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 180 >/dev/null 2>&1 \
+        && pass "a version-4 store takes a ramp" || fail "v4 store refused a ramp"
+    v=$(sqlite3 "$OLD" "PRAGMA user_version")
+    [ "$v" -ge 5 ] && pass "the store was upgraded to version $v" || fail "store at version $v"
+    sqlite3 "$OLD" "UPDATE gx_test SET protocol = NULL, end_s = NULL, hr_dropped = 0 WHERE id = 1" \
+        && pass "the new columns exist" || fail "no new columns"
+    "$BIN" --db "$OLD" --json ramp add V4 "$TMP/steps.csv" --date 2026-10-01 >"$TMP/out" 2>/dev/null && json_is 'd["hr_dropped"]' 3 "and a step test" \
+        || fail "v4 store refused a step test"
+fi
 echo "# $N checks"

@@ -8,9 +8,9 @@
 GOLD="$TESTS/data/library"
 EXAMPLE=${CPDOMAIN_EXAMPLE:-$(dirname "$BIN")/example_domains}
 demo="$TMP/demo"
-sh "$TESTS/../demo/run.sh" "$BIN" "$demo" >"$TMP/demo.log" 2>&1 || { fail "demo/run.sh builds the store" "$(tail -5 "$TMP/demo.log")"; exit 1; }
+ddb="$demo/demo.db"; [ -n "$PGBASE" ] && newdb ddb demo
+CPDOMAIN_DEMO_DB=$ddb sh "$TESTS/../demo/run.sh" "$BIN" "$demo" >"$TMP/demo.log" 2>&1 || { fail "demo/run.sh builds the store" "$(tail -5 "$TMP/demo.log")"; exit 1; }
 export CPDOMAIN_TODAY=2026-11-30   # as demo/run.sh pins it
-ddb="$demo/demo.db"
 codes=$("$BIN" --db "$ddb" athlete list | awk 'NR > 1 { print $1 }')
 [ -n "$codes" ] && pass "the demo store lists its athletes" || fail "the demo store lists no athlete"
 

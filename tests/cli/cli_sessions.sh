@@ -100,7 +100,7 @@ json_is "abs(d['points'][299]['power_w'] - $bestv) <= 1e-9 * $bestv, d['points']
 for dur in 60 720 1200; do
     sid=$(json "d['points'][$dur - 1]['session']")
     v=$(json "d['points'][$dur - 1]['power_w']")
-    f=$(sqlite3 "$DB" "SELECT source_file FROM session WHERE id = $sid")
+    f=$(sql "$DB" "SELECT source_file FROM session WHERE id = $sid")
     r=$($REF best "$dur" "$f" | awk '$1 == "best" { print $3 }')
     [ "$(py "abs($v - $r) <= 1e-9 * $r")" = True ] && pass "the ${dur}-s point equals numpy's on its session" || fail "${dur}-s point $v, numpy $r"
 done
@@ -142,9 +142,9 @@ json_is 'abs(d["models"][0]["cp"] - 264) < 1, [t["duration_s"] for t in d["model
 json_is '{t["id"] for t in d["models"][2]["trials"]}, len({t["session"] for t in d["models"][2]["trials"]})' "({None}, 2)" \
     "each point names its session (two field tests), not a trial"
 fid=$(json 'd["fit_id"]')
-v=$(sqlite3 "$DB" "SELECT source || ' ' || n || ' ' || (SELECT count(*) FROM fit_trial WHERE run_id = $fid) || ' ' || (flags LIKE '%field_estimate%') FROM fit_run WHERE id = $fid")
+v=$(sql "$DB" "SELECT source || ' ' || n || ' ' || (SELECT count(*) FROM fit_trial WHERE run_id = $fid) || ' ' || (CASE WHEN flags LIKE '%field_estimate%' THEN 1 ELSE 0 END) FROM fit_run WHERE id = $fid")
 [ "$v" = "curve 4 0 1" ] && pass "saved with source 'curve', 4 points, no trial ids, flagged" || fail "saved fit: '$v'"
-v=$(sqlite3 "$DB" "SELECT count(*) FROM fit_model WHERE run_id = $fid AND detail LIKE '%\"session\":%'")
+v=$(sql "$DB" "SELECT count(*) FROM fit_model WHERE run_id = $fid AND detail LIKE '%\"session\":%'")
 [ "$v" = 4 ] && pass "each saved model's detail names the sessions of its points" || fail "details with sessions: $v"
 expect 0 "fit to the curve, second block" --json fit C02 --source curve --from 2026-11-01
 # TRUTH: rides from 1 Nov: 283.6 W, 18.5 kJ
@@ -187,7 +187,7 @@ p = np.loadtxt('$DEMO/allout_C01.csv', delimiter=',', skiprows=1, usecols=1)
 ep = p[150:].mean(); print(repr(ep), repr(np.maximum(p - ep, 0).sum()))")
 json_is "abs(d['end_power_w'] - ${want% *}) < 1e-9, abs(d['work_above_end_j'] - ${want#* }) < 1e-6" "(True, True)" "end power and work above it equal numpy's"
 expect 0 "allout add, C05" allout add C05 "$DEMO/allout_C05.csv" --date 2026-10-22
-AO5=$(sqlite3 "$DB" "SELECT max(id) FROM session WHERE kind = 'allout'")
+AO5=$(sql "$DB" "SELECT max(id) FROM session WHERE kind = 'allout'")
 expect 0 "allout show C05" --json allout show "$AO5"
 json_is 'round(d["end_power_w"], 1), round(d["work_above_end_j"])' "(310.0, 23039)" "C05: 310.0 W and 23 039 J as in demo/TRUTH.md"
 expect 0 "allout show, human" allout show "$AO1"
@@ -240,7 +240,7 @@ done
 expect 0 "the race-day rider" athlete add X1 --name "Race Day"
 expect 0 "exact trials" trial import "$TMP/race_trials.csv"
 expect 0 "the race file for X1" session add X1 "$DEMO/session_C02_2026-10-17.csv"
-XR=$(sqlite3 "$DB" "SELECT max(id) FROM session WHERE kind = 'session'")
+XR=$(sql "$DB" "SELECT max(id) FROM session WHERE kind = 'session'")
 expect 0 "predict --session, the race" --json predict X1 --session "$XR" --model linear-total
 json_is 'all(k in d for k in ("balance_model", "min_balance_j", "min_balance_at_s", "end_balance_j", "failure_at_s"))' True "the SPEC keys of --protocol"
 # TRUTH: the differential balance on the written powers has its minimum of 1151 J (6 %) at second 5485
@@ -271,7 +271,7 @@ printf 'athlete,date,speed_m_s,duration_s\nX2,2026-10-10,%s,180\nX2,2026-10-12,%
 expect 0 "the race-day runner" athlete add X2 --name "Race Day Runner" --sport running
 expect 0 "exact runner trials" trial import "$TMP/run_trials.csv"
 expect 0 "the 10 km race for X2" session add X2 "$DEMO/session_R02_2026-10-18.csv"
-XR2=$(sqlite3 "$DB" "SELECT max(id) FROM session WHERE kind = 'session'")
+XR2=$(sql "$DB" "SELECT max(id) FROM session WHERE kind = 'session'")
 expect 0 "predict --session, the 10 km" --json predict X2 --session "$XR2" --model linear-total
 json_is 'd["min_balance_at_s"], round(d["min_balance_m"], 1), "min_balance_j" in d' "(3246, 10.3, False)" "10 km: lowest 10.3 m of D' at second 3246 (demo/TRUTH.md)"
 expect 0 "predict --session, human" predict X1 --session "$XR" --model linear-total
@@ -282,7 +282,7 @@ json_is 'd["balance_model"], d["tau_s"] > 316' "('integral', True)" "the integra
 expect 0 "R02's own race" predict R02 --session "$ID_R02_RACE"
 head -61 "$DEMO/session_C02_2026-09-05.csv" >"$TMP/bike_2026-10-02.csv"
 expect 0 "a power session for the runner" session add R02 "$TMP/bike_2026-10-02.csv"
-RBIKE=$(sqlite3 "$DB" "SELECT max(id) FROM session WHERE kind = 'session'")
+RBIKE=$(sql "$DB" "SELECT max(id) FROM session WHERE kind = 'session'")
 snapshot
 expect 65 "a session of another athlete" predict X1 --session "$ID_0902"
 err_has "belongs to C02" "the owner named"
@@ -407,7 +407,7 @@ fi
 # ---- remove ----
 expect 0 "session remove" session remove "$ID_0902"
 expect 65 "removed" session show "$ID_0902"
-v=$(sqlite3 "$DB" "SELECT count(*) FROM session_channel WHERE session_id = $ID_0902")
+v=$(sql "$DB" "SELECT count(*) FROM session_channel WHERE session_id = $ID_0902")
 [ "$v" = 0 ] && pass "its samples went with it" || fail "$v channels left"
 expect 0 "allout remove" allout remove "$AO5"
 expect 65 "allout remove of a session id" allout remove "$ID_0913"
@@ -422,13 +422,15 @@ expect 0 "session show --help" session show --help
 out_has "3-minute all-out test; 15 min, the longest effort of the CP window" "session show's help states where its durations come from"
 
 # ---- a version-3 store (before sessions) is upgraded and takes sessions ----
-OLD="$TMP/v3.db"
-sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/schema.sql"
-sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/002_fits.sql"
-sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/003_gas_exchange.sql"
-sqlite3 "$OLD" "PRAGMA user_version = 3; INSERT INTO athlete (code, name) VALUES ('V3', 'Version Three');"
-${VALGRIND:-} "$BIN" --db "$OLD" --json session add V3 "$DEMO/session_C02_2026-09-05.csv" >"$TMP/out" 2>"$TMP/err"
-RC=$?
-[ "$RC" = 0 ] && pass "a version-3 store takes a session" || fail "v3 store: exit $RC" "$(cat "$TMP/err")"
-v=$(sqlite3 "$OLD" "PRAGMA user_version")
-[ "$v" -ge 4 ] && pass "the store was upgraded to version $v" || fail "store at version $v"
+if sqlite_only "a version-3 SQLite file is upgraded" 2; then
+    OLD="$TMP/v3.db"
+    sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/schema.sql"
+    sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/002_fits.sql"
+    sqlite3 "$OLD" <"$CPDOMAIN_TESTS/../db/003_gas_exchange.sql"
+    sqlite3 "$OLD" "PRAGMA user_version = 3; INSERT INTO athlete (code, name) VALUES ('V3', 'Version Three');"
+    ${VALGRIND:-} "$BIN" --db "$OLD" --json session add V3 "$DEMO/session_C02_2026-09-05.csv" >"$TMP/out" 2>"$TMP/err"
+    RC=$?
+    [ "$RC" = 0 ] && pass "a version-3 store takes a session" || fail "v3 store: exit $RC" "$(cat "$TMP/err")"
+    v=$(sqlite3 "$OLD" "PRAGMA user_version")
+    [ "$v" -ge 4 ] && pass "the store was upgraded to version $v" || fail "store at version $v"
+fi

@@ -9,14 +9,15 @@ CHECK="$CPDOMAIN_TESTS/cli/sheet_check.py"
 export CPDOMAIN_TODAY=2026-11-30
 
 # the demo store and sheets, built as 'make demo' builds them, in a temporary folder
-if sh "$CPDOMAIN_TESTS/../demo/run.sh" "$BIN" "$TMP/demo" >"$TMP/demo.log" 2>&1; then
+DEMODB="$TMP/demo/demo.db"; [ -n "$PGBASE" ] && newdb DEMODB demo
+if CPDOMAIN_DEMO_DB=$DEMODB sh "$CPDOMAIN_TESTS/../demo/run.sh" "$BIN" "$TMP/demo" >"$TMP/demo.log" 2>&1; then
     pass "demo/run.sh builds the store and the sheets in a temporary folder"
 else
     fail "demo/run.sh failed" "$(tail -5 "$TMP/demo.log")"
 fi
 if [ "$(tail -n 1 "$TMP/demo.log")" = "$TMP/demo/out/index.html" ]; then pass "the demo ends by printing the index path"
 else fail "the demo's last line is '$(tail -n 1 "$TMP/demo.log")'"; fi
-cp "$TMP/demo/demo.db" "$DB"
+if [ -z "$PGBASE" ]; then cp "$DEMODB" "$DB"; else dbcopy "$DEMODB" DB sheet; fi
 codes=$("$BIN" --db "$DB" athlete list | awk 'NR > 1 { print $1 }')
 ncodes=$(echo "$codes" | wc -w)
 [ "$ncodes" -ge 9 ] && pass "the demo has $ncodes athletes" || fail "the demo has $ncodes athletes"
@@ -45,7 +46,8 @@ expect 64 "--json with a non-JSON format to stdout" --json sheet C01 --format tx
 expect 65 "unknown athlete" sheet Z99
 err_has "Z99" "the message names the athlete"
 expect 73 "unwritable output" sheet C01 -o "$TMP/no/such/dir/c01.html"
-"$BIN" --db "$TMP/missing.db" sheet C01 >/dev/null 2>&1
+newdb MISSING missing
+"$BIN" --db "$MISSING" sheet C01 >/dev/null 2>&1
 [ $? -eq 66 ] && pass "missing store (exit 66)" || fail "missing store: not exit 66"
 snapshot
 
@@ -335,7 +337,7 @@ done
     pass "the demo writes the plots, the CSV tables and the team table" || fail "demo outputs missing"
 # the case that once broke it: an athlete with a ramp and a heavy bout (a two-panel kinetics chart)
 DEMO="$CPDOMAIN_TESTS/../demo/data"
-HB="$TMP/heavy.db"
+newdb HB heavy
 "$BIN" --db "$HB" --quiet init && "$BIN" --db "$HB" --quiet athlete import "$DEMO/athletes.csv" &&
     "$BIN" --db "$HB" --quiet trial import "$DEMO/trials.csv" &&
     "$BIN" --db "$HB" --quiet ramp add C01 "$DEMO/ramp_C01.csv" --date 2026-09-29 --rate 25 --start 30 --onset 180 &&

@@ -47,6 +47,13 @@ newdb() {
     echo "$_ld" >>"$TMP/pgdbs"
     eval "$1=\"\$(pg_uri \"\$_ld\")\""
 }
+# freshdb VAR NAME: newdb made again and again: the file removed (with its WAL), or another
+# new database each time
+FRESH=0
+freshdb() {
+    if [ -z "$PGBASE" ]; then eval "$1=\"\$TMP/$2.db\""; rm -f "$TMP/$2.db" "$TMP/$2.db-wal" "$TMP/$2.db-shm"; return 0; fi
+    FRESH=$((FRESH + 1)); newdb "$1" "$2$FRESH"
+}
 # dbcopy SRC VAR NAME: VAR becomes a copy of the store SRC (a file copy; CREATE DATABASE ... TEMPLATE)
 dbcopy() {
     if [ -z "$PGBASE" ]; then cp "$1" "$TMP/$3.db" && eval "$2=\"\$TMP/$3.db\""; return; fi
