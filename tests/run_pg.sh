@@ -15,5 +15,5 @@ rmdir "$dir"
 sh tools/pgcluster.sh start "$dir" >/dev/null || { echo "test-pg: the PostgreSQL cluster did not start"; exit 1; }
 . "$dir/env"
 export CPDOMAIN_TEST_PG="$PGC_URI" CPDOMAIN_TEST_PGDIR="$PGC_DIR"
-echo "PostgreSQL $("$PGC_BIN/postgres" -V | sed 's/.* //') on $PGC_DIR (port $PGC_PORT)"
+echo "PostgreSQL $("$PGC_BIN/postgres" -V | sed 's/^[^0-9]*\([0-9.]*\).*/\1/') on $PGC_DIR (port $PGC_PORT)"
 sh tests/run.sh "$build"

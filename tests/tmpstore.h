@@ -16,6 +16,16 @@
 
 #define TMPSTORE_MAX 512 /* room for a path or a URI */
 
+/* In a cmocka test: a check of the SQLite file itself (its bytes, pragmas, SQLite-only DDL) is
+ * skipped on PostgreSQL, saying why (cmocka counts it; tests/run.sh shows it). */
+#define TMPSTORE_SQLITE_ONLY(why)                                                                  \
+    do {                                                                                           \
+        if (tmpstore_pg()) {                                                                       \
+            print_message("[  SKIP    ] SQLite file only: %s\n", why);                             \
+            skip();                                                                                \
+        }                                                                                          \
+    } while (0)
+
 /* The base URI of the PostgreSQL test server, or NULL in SQLite mode. */
 static inline const char *tmpstore_pg(void)
 {
