@@ -196,11 +196,13 @@ VERSION = $(shell sed -n 's/^\#define CPDOMAIN_VERSION "\(.*\)"/\1/p' include/cp
 docs: $(DOCS) $(BUILD)/cpdomain.pc
 $(DOCS) &: $(BIN) tools/gen_docs.sh
 	sh tools/gen_docs.sh $(BIN) $(BUILD)/doc
+# libpq is named in Libs.private, not Requires.private: Debian ships no static libpq, and its .pc
+# file's private libraries (-lpgcommon -lpgport ...) would break 'pkg-config --static'.
 $(BUILD)/cpdomain.pc: Makefile include/cpdomain/version.h
 	@mkdir -p $(BUILD)
 	printf '%s\n' 'prefix=$(PREFIX)' 'libdir=$${prefix}/lib' 'includedir=$${prefix}/include' '' \
 	  'Name: cpdomain' 'Description: critical power, W'"'"' and the intensity domains' 'Version: $(VERSION)' \
-	  'Requires.private: $(PKGS)' 'Libs: -L$${libdir} -lcpdomain' 'Libs.private: -lcsv -lm' \
+	  'Requires.private: $(filter-out libpq,$(PKGS))' 'Libs: -L$${libdir} -lcpdomain' 'Libs.private: -lpq -lcsv -lm' \
 	  'Cflags: -I$${includedir}' >$@
 
 install: $(BIN) $(LIB) docs
