@@ -10,7 +10,6 @@
 #include <stdint.h>
 #include <cmocka.h>
 #include "near.h"
-#include <sqlite3.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -82,24 +81,21 @@ static void fresh_store_is_latest_version(void **state)
 
 static void newer_store_is_refused(void **state)
 {
-    TMPSTORE_SQLITE_ONLY("the version is SQLite's PRAGMA user_version");
     fixture *f = *state;
     cpd_store_close(f->s);
     f->s = NULL;
-    sqlite3 *db = NULL;
-    assert_int_equal(sqlite3_open(f->path, &db), SQLITE_OK);
-    assert_int_equal(sqlite3_exec(db, "PRAGMA user_version = 4242", NULL, NULL, NULL), SQLITE_OK);
-    sqlite3_close(db);
+    /* the version: SQLite's PRAGMA user_version, the table cpd_version on PostgreSQL */
+    const char *set = tmpstore_pg() ? "UPDATE cpd_version SET version = %d" : "PRAGMA user_version = %d";
+    char sql[64];
+    snprintf(sql, sizeof sql, set, 4242);
+    assert_int_equal(tmpstore_exec(f->path, sql), 0);
     char msg[CPD_MSG_MAX];
     assert_int_equal(cpd_store_open(f->path, 0, &f->s, msg), CPD_ESTORE);
     assert_non_null(strstr(msg, "version 4242"));
     assert_null(f->s);
     /* put it back so teardown can close cleanly */
-    assert_int_equal(sqlite3_open(f->path, &db), SQLITE_OK);
-    char sql[64];
-    snprintf(sql, sizeof sql, "PRAGMA user_version = %d", cpd_store_latest_version());
-    sqlite3_exec(db, sql, NULL, NULL, NULL);
-    sqlite3_close(db);
+    snprintf(sql, sizeof sql, set, cpd_store_latest_version());
+    assert_int_equal(tmpstore_exec(f->path, sql), 0);
     assert_int_equal(cpd_store_open(f->path, 0, &f->s, msg), CPD_OK);
 }
 

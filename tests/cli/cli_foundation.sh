@@ -134,7 +134,7 @@ n=$(sql "$DB" "SELECT count(*) FROM trial t LEFT JOIN athlete a ON a.id = t.athl
 [ "$n" = 0 ] && pass "no orphan trials" || fail "orphan trials: $n"
 
 # ---- store versions: migrating an old store, refusing a newer one ----
-if sqlite_only "a version-1 SQLite file is upgraded; a newer or a junk file is refused" 7; then
+if sqlite_only "a version-1 SQLite file is upgraded" 3; then
     OLD="$TMP/old.db"
     sqlite3 "$OLD" < "$CPDOMAIN_TESTS/../db/schema.sql"
     sqlite3 "$OLD" "PRAGMA user_version = 1; INSERT INTO athlete (code, name, sport, mass_kg) VALUES ('V1', 'Old Store', 'rowing', 80.5);
@@ -146,10 +146,18 @@ if sqlite_only "a version-1 SQLite file is upgraded; a newer or a junk file is r
     v=$(sqlite3 "$OLD" "PRAGMA user_version")
     latest=$(sqlite3 "$DB" "PRAGMA user_version")
     [ "$v" = "$latest" ] && pass "the old store was upgraded to version $latest" || fail "old store at version $v, latest $latest"
+fi
+# a store newer than this binary: SQLite's user_version, or the server's cpd_version table
+if [ -z "$PGBASE" ]; then
     sqlite3 "$OLD" "PRAGMA user_version = 999"
-    "$BIN" --db "$OLD" athlete list >"$TMP/out" 2>"$TMP/err"; RC=$?
-    [ "$RC" = 74 ] && pass "a newer store is refused (exit 74)" || fail "newer store: exit $RC"
-    err_has "use a newer cpdomain" "newer store explained"
+else
+    newdb OLD newer
+    "$BIN" --db "$OLD" --quiet init && sql "$OLD" "UPDATE cpd_version SET version = 999"
+fi
+"$BIN" --db "$OLD" athlete list >"$TMP/out" 2>"$TMP/err"; RC=$?
+[ "$RC" = 74 ] && pass "a newer store is refused (exit 74)" || fail "newer store: exit $RC"
+err_has "use a newer cpdomain" "newer store explained"
+if sqlite_only "a file that is not a SQLite database" 2; then
     echo "not a database at all, just text" >"$TMP/junk.db"
     "$BIN" --db "$TMP/junk.db" athlete list >"$TMP/out" 2>"$TMP/err"; RC=$?
     [ "$RC" = 74 ] && pass "a file that is not a store is refused (exit 74)" || fail "junk store: exit $RC"
