@@ -25,7 +25,8 @@ for t in "$build"/tests/test_*; do
         failures="$failures $name"
         cat "$log"
     fi
-    if [ "$k" -ne 0 ]; then grep '^\[  SKIPPED \] ' "$log" | grep -v 'test(s)'; fi
+    # the reasons of skipped tests (TMPSTORE_SQLITE_ONLY prints them)
+    [ "$k" -eq 0 ] || grep '^\[  SKIP    \] ' "$log" | sed 's/^\[  SKIP    \] /    skip: /' | uniq -c
     printf '%-28s %4d passed, %d failed%s\n' "$name" "$p" "$f" "$( [ "$k" -eq 0 ] || echo ", $k skipped")"
 done
 for t in tests/cli/cli_*.sh; do

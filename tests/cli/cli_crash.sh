@@ -35,7 +35,7 @@ sound() { # sound WHAT: integrity, foreign keys, whole imports only, every sessi
         ic=ok
         fk=$(sql "$DB" "SELECT t.id FROM trial t LEFT JOIN athlete a ON a.id = t.athlete_id WHERE a.id IS NULL" 2>&1)
     fi
-    part=$(sql "$DB" "SELECT count(*) FROM (SELECT note FROM trial GROUP BY note HAVING count(*) != $M)" 2>&1)
+    part=$(sql "$DB" "SELECT count(*) FROM (SELECT note FROM trial GROUP BY note HAVING count(*) != $M) AS p" 2>&1)
     bad_s=""
     for id in $(sql "$DB" "SELECT id FROM session"); do
         "$BIN" --db "$DB" --quiet session show "$id" >/dev/null 2>&1 || bad_s="$bad_s $id"
