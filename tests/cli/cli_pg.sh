@@ -111,7 +111,9 @@ else
         pass "undisturbed: 'session add' of $NF files stored them all ($SPAN ms)" || fail "the undisturbed import failed: exit $prc"
     MIDS=0
     restart_run retries                        # the default attempts: the command is re-run
-    restart_run once CPDOMAIN_RETRIES=1        # at most one attempt: a restart means exit 75
+    restart_run once CPDOMAIN_RETRIES=0        # no rerun: a restart in the middle means exit 75
+    [ "$mid" = 0 ] || [ "$rc" = 75 ] && pass "with CPDOMAIN_RETRIES=0 the interrupted command fails (exit $rc)" ||
+        fail "with CPDOMAIN_RETRIES=0 the interrupted command exited $rc"
     [ "$MIDS" -gt 0 ] && pass "the restart landed while an import ran ($MIDS of 2)" ||
         fail "no restart landed during an import (span $SPAN ms): the test did not test"
     "$BIN" --db "$DB" athlete list >/dev/null 2>&1 && pass "after the restarts the server answers again" ||
