@@ -12,7 +12,7 @@ WARN := $(filter-out -Wno-format-truncation,$(WARN))
 # clang reports the simd loops it leaves scalar (the double max-reductions of mmp.c): a note, not an error
 MMP_CLANG = -Wno-pass-failed
 endif
-PKGS     = gsl sqlite3 libcjson libzstd
+PKGS     = gsl sqlite3 libcjson libzstd libpq
 # '=' (not ':='): pkg-config runs after 'deps' has had the chance to install the packages
 PKG_CFLAGS = $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   = $(shell pkg-config --libs $(PKGS) 2>/dev/null) -lcsv -lm
@@ -52,11 +52,13 @@ CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd
            src/cmd_history.c
 LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
+CLI_SRCS += src/cli_retry.c
 CLI_SRCS += src/cmd_bout.c
 CLI_SRCS += src/cli_energy.c src/cmd_energy.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 LIB_SRCS += src/store_session.c src/import_session.c
 LIB_SRCS += src/store_codec.c
+LIB_SRCS += src/store_db.c src/store_pg.c
 LIB_SRCS += src/csvfast.c
 CLI_SRCS += src/cmd_session.c
 LIB_SRCS += src/athlete.c src/athlete_domains.c src/export_domains.c
@@ -99,6 +101,8 @@ FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omi
 FUZZ_BINS = $(FUZZERS:%=$(FUZZ_DIR)/fuzz_%)
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
+# PostgreSQL's additions to the migration of the same number (row-level security, ...)
+MIGRATIONS_PG = $(sort $(wildcard db/pg/[0-9][0-9][0-9]_*.sql))
 
 LIB_OBJS = $(LIB_SRCS:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/migrations.o
 CLI_OBJS = $(CLI_SRCS:src/%.c=$(BUILD)/obj/%.o)
@@ -125,8 +129,8 @@ $(BUILD)/obj/%.o: src/%.c | $(STAMP)
 $(BUILD)/embed: tools/embed.c | $(STAMP)
 	@mkdir -p $(BUILD)
 	$(CC) -std=c17 -Wall -Wextra -O1 $< -o $@
-$(BUILD)/migrations.c: $(BUILD)/embed $(MIGRATIONS)
-	$(BUILD)/embed $@ $(MIGRATIONS)
+$(BUILD)/migrations.c: $(BUILD)/embed $(MIGRATIONS) $(MIGRATIONS_PG)
+	$(BUILD)/embed $@ $(MIGRATIONS) -- $(MIGRATIONS_PG)
 $(BUILD)/obj/migrations.o: $(BUILD)/migrations.c
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) -c $< -o $@

@@ -226,9 +226,7 @@ int main(int argc, char **argv)
     }
     if (c.csv && !csv_capable(argc - optind, argv + optind))
         return EX_USAGE;
-    rc = cmd->run(&c, argc - optind, argv + optind);
-    cpd_store_rollback(c.store); /* no-op after a commit; undoes a command that returned early */
-    cpd_store_close(c.store);
+    rc = cli_run_retrying(&c, cmd, argc - optind, argv + optind);
     if (fclose(stdout) != 0 && rc == 0) {
         perror("cpdomain: writing the output");
         rc = EX_IOERR;

@@ -1,5 +1,7 @@
-/* store.h: the SQLite store of athletes and their tests. The store module alone speaks SQL:
- * prepared statements with bound parameters; migrations embedded from db/ at build time. */
+/* store.h: the store of athletes and their tests, on one of two engines: a SQLite file (the
+ * default) or a PostgreSQL server (a libpq connection URI, postgresql://...). Every function below
+ * behaves alike on both. The store module alone speaks SQL: prepared statements with bound
+ * parameters; migrations embedded from db/ at build time. */
 #ifndef CPDOMAIN_STORE_H
 #define CPDOMAIN_STORE_H
 
@@ -16,7 +18,13 @@ typedef struct cpd_store cpd_store;
 #define CPD_PATH_MAX 1024  /* longest source-file path kept, bytes */
 
 /* Opens the store at path, applying pending migrations in one transaction. With create == 0 a
- * missing file is CPD_ENOENT; with create != 0 it is created. Foreign keys on, WAL journal,
+ * missing file is CPD_ENOENT; with create != 0 it is created.
+ * A path that starts with postgresql:// or postgres:// is a libpq connection URI: the database
+ * must exist; create != 0 makes the schema in it (a database without one is CPD_ENOENT otherwise).
+ * A malformed URI is CPD_EUSAGE, an unreachable server CPD_ETEMP, a refused login CPD_ENOPERM; the
+ * message never shows a password. On PostgreSQL each transaction is SERIALIZABLE, so writers
+ * behave as SQLite's one-writer-at-a-time; a transaction the server aborts for a conflict or a
+ * lost connection fails with CPD_ETEMP and cpd_store_retryable() true: run the command again. Foreign keys on, WAL journal,
  * synchronous=NORMAL (durable across crashes of the program; the last commits may be lost on
  * power failure, a fair trade for a desktop store), busy timeout CPD_STORE_BUSY_MS. A store whose version is
  * newer than this binary is refused with CPD_ESTORE. msg (CPD_MSG_MAX bytes) receives the reason.
@@ -28,6 +36,15 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg);
 #define CPD_STORE_BUSY_MS 5000
 int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **out, char *msg);
 void cpd_store_close(cpd_store *s);
+
+/* Which engine an open store is on. */
+enum { CPD_ENGINE_SQLITE = 1, CPD_ENGINE_PG = 2 };
+int cpd_store_engine(const cpd_store *s);
+/* Nonzero when path names a server (a PostgreSQL URI) rather than a file. */
+int cpd_store_is_server(const char *path);
+/* Nonzero when the last failure on s may pass if the whole transaction runs again (PostgreSQL:
+ * serialization failure, deadlock, lost connection). s may be NULL. */
+int cpd_store_retryable(const cpd_store *s);
 
 /* The detail of the last failure on s ("" when none). */
 const char *cpd_store_errmsg(const cpd_store *s);
