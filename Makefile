@@ -197,7 +197,7 @@ $(BUILD)/cpdomain.pc: Makefile include/cpdomain/version.h
 	@mkdir -p $(BUILD)
 	printf '%s\n' 'prefix=$(PREFIX)' 'libdir=$${prefix}/lib' 'includedir=$${prefix}/include' '' \
 	  'Name: cpdomain' 'Description: critical power, W'"'"' and the intensity domains' 'Version: $(VERSION)' \
-	  'Requires.private: $(PKGS)' 'Libs: -L$${libdir} -lcpdomain' 'Libs.private: -lcsv -lm' \
+	  'Requires.private: $(filter-out libpq,$(PKGS))' 'Libs: -L$${libdir} -lcpdomain' 'Libs.private: -lpq -lcsv -lm' \
 	  'Cflags: -I$${includedir}' >$@
 
 install: $(BIN) $(LIB) docs

@@ -167,6 +167,48 @@ int cpd_pg_in_txn(cpd_store *s)
 
 /* ---- errors ---- */
 
+/* A failed constraint in the words SQLite uses ("UNIQUE constraint failed: athlete.code"), so a
+ * message reads the same on both engines; the server's own words follow in brackets. */
+static void constraint_words(const PGresult *r, int code, char *line, size_t n)
+{
+    if ((code & 0xff) != CPD_DB_CONSTRAINT)
+        return;
+    const char *table = PQresultErrorField(r, PG_DIAG_TABLE_NAME);
+    const char *column = PQresultErrorField(r, PG_DIAG_COLUMN_NAME);
+    const char *name = PQresultErrorField(r, PG_DIAG_CONSTRAINT_NAME);
+    const char *detail = PQresultErrorField(r, PG_DIAG_MESSAGE_DETAIL);
+    char what[CPD_MSG_MAX / 2] = "";
+    if (code == CPD_DB_CONSTRAINT_UNIQUE) {
+        /* DETAIL: Key (athlete_id, kind, content_hash)=(...) already exists. */
+        const char *k = detail ? strstr(detail, "Key (") : NULL;
+        const char *e = k ? strstr(k, ")=") : NULL;
+        char cols[CPD_MSG_MAX / 4] = "";
+        if (k && e) {
+            size_t m = 0;
+            for (const char *q = k + 5; q < e && m + 1 < sizeof cols; q++)
+                if (*q != ' ' || m == 0 || cols[m - 1] != ',')
+                    cols[m++] = *q == ',' ? ',' : *q;
+            cols[m] = '\0';
+        }
+        /* "a, b" -> "t.a, t.b" */
+        size_t m = 0;
+        m += (size_t)snprintf(what + m, sizeof what - m, "UNIQUE constraint failed: ");
+        char *save = NULL;
+        for (char *c = cols[0] ? strtok_r(cols, ",", &save) : NULL; c && m < sizeof what; c = strtok_r(NULL, ",", &save))
+            m += (size_t)snprintf(what + m, sizeof what - m, "%s%s.%s", m > 26 ? ", " : "", table ? table : "?", c);
+    } else if (code == CPD_DB_CONSTRAINT_FOREIGNKEY)
+        snprintf(what, sizeof what, "FOREIGN KEY constraint failed");
+    else if (code == CPD_DB_CONSTRAINT_NOTNULL)
+        snprintf(what, sizeof what, "NOT NULL constraint failed: %s.%s", table ? table : "?", column ? column : "?");
+    else if (code == CPD_DB_CONSTRAINT_CHECK)
+        snprintf(what, sizeof what, "CHECK constraint failed: %s", name ? name : "?");
+    else
+        return;
+    char server[CPD_MSG_MAX];
+    snprintf(server, sizeof server, "%s", line);
+    snprintf(line, n, "%s (the server: %s)", what, server);
+}
+
 /* Records the failure of result r (NULL: none came back) and returns the layer's code. */
 static int pg_fail(cpd_store *s, const PGresult *r)
 {
@@ -201,6 +243,7 @@ static int pg_fail(cpd_store *s, const PGresult *r)
         code = CPD_DB_PERM;
     else if (strcmp(state, "55P03") == 0)
         code = CPD_DB_BUSY;
+    constraint_words(r, code, line, sizeof line);
     snprintf(s->dberr, sizeof s->dberr, "%s", line);
     s->errcode = code;
     return code;
