@@ -10,8 +10,10 @@
 #include <sysexits.h>
 
 static const char HELP_INIT[] =
-    "usage: cpdomain [--db FILE] init\n\n"
-    "Creates the store, or upgrades an older one to this version. Safe to run again.\n\n"
+    "usage: cpdomain [--db FILE|URI] init\n\n"
+    "Creates the store, or upgrades an older one to this version. Safe to run again.\n"
+    "On a PostgreSQL server the database must exist (createdb, by its owner): init makes the\n"
+    "tables in it, as the role that will own them (README: 'Sharing a store on a server').\n\n"
     "example:\n  cpdomain --db lab.db init\n";
 
 static int no_opt(int opt, const char *arg, void *ud)

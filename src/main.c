@@ -35,13 +35,16 @@ static const cli_command commands[] = {
 
 static void usage(FILE *out)
 {
-    fputs("usage: cpdomain [--db FILE] [--json | --csv] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
+    fputs("usage: cpdomain [--db FILE|URI] [--json | --csv] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
           "Critical power, W' and the intensity domains from an athlete's tests.\n\ncommands:\n",
           out);
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
         fprintf(out, "  %-9s %s\n", commands[i].name, commands[i].summary);
     fputs("\noptions:\n"
-          "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
+          "  --db FILE|URI\n"
+          "             the store: a SQLite file, or a PostgreSQL server's database as a libpq URI\n"
+          "             (postgresql://[user@]host[:port]/database; the password from ~/.pgpass or\n"
+          "             $PGPASSWORD); default: $CPDOMAIN_DB, else ./cpdomain.db\n"
           "  --json     machine-readable output: one JSON document on stdout\n"
           "  --csv      the table as CSV for a spreadsheet (fit, curve, history, domains, the lists,\n"
           "             energy, sheet --all --format csv)\n"
@@ -49,6 +52,7 @@ static void usage(FILE *out)
           "  --busy-timeout MS\n"
           "             how long to wait for another process that is writing to the store, in\n"
           "             milliseconds (default: $CPDOMAIN_BUSY_TIMEOUT, else 5000); then fail\n"
+          "             (on a server: how long a write waits for another writer's lock)\n"
           "  --help     this text; 'cpdomain COMMAND --help' for a command\n"
           "  --version  the version\n\n"
           "example:\n  cpdomain --db lab.db init\n  cpdomain --db lab.db athlete add R07 --name \"Ines Varga\" --mass 64.5\n",
