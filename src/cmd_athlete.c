@@ -204,8 +204,9 @@ static int athlete_add(cli_ctx *c, int argc, char **argv)
         return rc < 0 ? 0 : rc;
     if (!o.name)
         return cli_usage("athlete add", "--name is required");
-    if (o.squad && (!o.squad[0] || strlen(o.squad) > CPD_SQUAD_MAX))
-        return cli_usage("athlete add", "--squad: a squad name has 1 to %d bytes", CPD_SQUAD_MAX);
+    char smsg[CPD_MSG_MAX];
+    if (o.squad && cpd_validate_squad(o.squad, smsg))
+        return cli_usage("athlete add", "--squad: %s", smsg);
     cpd_athlete a = {0};
     snprintf(a.sport, sizeof a.sport, "cycling");
     char msg[CPD_MSG_MAX];

@@ -1,6 +1,7 @@
 /* cmd_squad.c: 'squad add|list|remove|assign' (any store) and 'squad grant|revoke' (PostgreSQL
  * stores: which database roles see which squads). */
 #include "commands.h"
+#include "cpdomain/validate.h"
 
 #include <stdio.h>
 #include <stdlib.h>
@@ -95,18 +96,11 @@ static int parse(int argc, char **argv, const char *help, const char *allowed, s
     return 0;
 }
 
-/* A squad name: 1 to CPD_SQUAD_MAX bytes, no control characters, no space at either end. */
+/* A squad name by the rule of validate.h. */
 static int check_name(const char *cmd, const char *name)
 {
-    size_t n = strlen(name);
-    if (n == 0 || n > CPD_SQUAD_MAX)
-        return cli_usage(cmd, "a squad name has 1 to %d bytes (got %zu)", CPD_SQUAD_MAX, n);
-    for (size_t i = 0; i < n; i++)
-        if ((unsigned char)name[i] < 0x20 || name[i] == 0x7f)
-            return cli_usage(cmd, "a squad name holds no control characters");
-    if (name[0] == ' ' || name[n - 1] == ' ')
-        return cli_usage(cmd, "a squad name neither starts nor ends with a space");
-    return 0;
+    char msg[CPD_MSG_MAX];
+    return cpd_validate_squad(name, msg) ? cli_usage(cmd, "%s", msg) : 0;
 }
 
 static void squad_json(cli_json *o, const cpd_squad *q)

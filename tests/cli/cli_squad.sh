@@ -161,3 +161,21 @@ json_is 'd["code"], d["squad"]' "('OLD1', None)" "its athlete is in no squad aft
 [ "$(sqlite3 "$OLD" "PRAGMA user_version")" = "$latest" ] && pass "upgraded to version $latest" || fail "not upgraded"
 "$BIN" --db "$OLD" squad add new >/dev/null 2>&1 && "$BIN" --db "$OLD" squad assign OLD1 new >/dev/null 2>&1 &&
     pass "the upgraded store takes squads" || fail "squads on the upgraded store"
+
+# ---- export and import keep the squads; a bad squad name is stopped by the record gate ----
+expect 0 "export with squads" export -o "$TMP/sq.json"
+/usr/bin/python3 - "$TMP/sq.json" "$TMP/sq_bad.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+t = d["tables"]["squad"]
+t["rows"][0][t["columns"].index("name")] = "bad\tname"
+json.dump(d, open(sys.argv[2], "w"))
+PY
+"$BIN" --db "$TMP/imp.db" init >/dev/null 2>&1
+"$BIN" --db "$TMP/imp.db" import "$TMP/sq_bad.json" >"$TMP/out" 2>"$TMP/err"; RC=$?
+[ "$RC" -eq 65 ] && pass "a document with a bad squad name is refused (exit 65)" || fail "bad squad name: exit $RC"
+err_has "tables.squad.rows[0][1]: column 'name': a squad name holds no control characters" "the bad name is located"
+"$BIN" --db "$TMP/imp.db" import "$TMP/sq.json" >"$TMP/out" 2>"$TMP/err" && pass "the export imports" ||
+    fail "import of the export" "$(cat "$TMP/err")"
+"$BIN" --db "$TMP/imp.db" --json athlete list --squad "road group" >"$TMP/out" 2>"$TMP/err"
+json_is '[a["code"] for a in d["athletes"]]' "['K03']" "the imported store keeps who is in which squad"
