@@ -46,6 +46,7 @@ LIB_SRCS += src/energy.c
 LIB_SRCS += src/safefile.c
 LIB_SRCS += src/validate_records.c src/validate_dump.c
 LIB_SRCS += src/suggest.c
+LIB_SRCS += src/store_squad.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
@@ -64,6 +65,7 @@ CLI_SRCS += src/cmd_session.c
 LIB_SRCS += src/athlete.c src/athlete_domains.c src/export_domains.c
 CLI_SRCS += src/cli_athlete.c src/cli_gx.c src/cli_history.c
 CLI_SRCS += src/cli_session.c src/cli_balance.c
+CLI_SRCS += src/cli_squad.c src/cmd_squad.c src/cmd_server.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -86,6 +88,7 @@ TESTS += test_csv_growth
 TESTS += test_store_codec test_csvfast
 TESTS += test_suggest
 TESTS += test_athlete
+TESTS += test_squad
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd

@@ -15,6 +15,7 @@
 static const cli_command commands[] = {
     {"init", cmd_init, "create or upgrade the store", NULL},
     {"athlete", cmd_athlete, "add, list, show, change or remove athletes", NULL},
+    {"squad", cmd_squad, "squads of athletes; on PostgreSQL, which roles see which squad", NULL},
     {"trial", cmd_trial, "time-to-exhaustion trials and time trials", NULL},
     {"ramp", cmd_ramp, "ramp incremental tests: VO2peak, GET, RCP, gain, MRT", NULL},
     {"lactate", cmd_lactate, "blood-lactate step tests: LT1, Dmax, modified Dmax, 4 mmol/L", NULL},
@@ -30,6 +31,7 @@ static const cli_command commands[] = {
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},
     {"export", cmd_export, "the whole store as one JSON document", NULL},
     {"import", cmd_import, "a document written by export, into a new store", NULL},
+    {"server", cmd_server, "PostgreSQL: the lab and coach group roles", NULL},
     {"sheet", cmd_sheet, "the per-athlete domain sheet (HTML, CSV, JSON, text) and the team's index", NULL},
 };
 
@@ -78,7 +80,7 @@ static int busy_timeout(const char *what, const char *arg, int *ms)
 static int csv_capable(int argc, char **argv)
 {
     static const char *const single[] = {"fit", "curve", "history", "domains", "sheet", "energy"};
-    static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout"};
+    static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout", "squad"};
     for (size_t i = 0; i < sizeof single / sizeof single[0]; i++)
         if (strcmp(argv[0], single[i]) == 0)
             return 1;

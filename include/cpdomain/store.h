@@ -286,4 +286,62 @@ int cpd_store_session_season(cpd_store *s, const char *code, int speed, const ch
 /* Removes a session or all-out test with its samples and curve. CPD_ENOENT when absent. */
 int cpd_store_session_remove(cpd_store *s, int64_t id, int allout);
 
+/* ---- squads (db/008_squads.sql; store_squad.c) ---- */
+#define CPD_SQUAD_MAX 64   /* longest squad name, bytes */
+
+typedef struct {
+    int64_t id;                   /* store id */
+    char name[CPD_SQUAD_MAX + 1]; /* unique name */
+    char note[CPD_NOTE_MAX + 1];  /* free text */
+    size_t athletes;              /* athletes in the squad (on PostgreSQL: those this user may see) */
+} cpd_squad;
+
+/* An athlete's code with the name of the athlete's squad ("" when in none). */
+typedef struct {
+    char code[CPD_CODE_MAX + 1];
+    char squad[CPD_SQUAD_MAX + 1];
+} cpd_athlete_squad;
+
+/* Adds a squad; *id receives its id. CPD_EEXIST when the name is taken. */
+int cpd_store_squad_add(cpd_store *s, const char *name, const char *note, int64_t *id);
+/* Reads the squad with this name (exact); CPD_ENOENT with a "did you mean" when there is none. */
+int cpd_store_squad_get(cpd_store *s, const char *name, cpd_squad *q);
+/* Every squad ordered by name, with its athlete count. The caller frees *out with free(). */
+int cpd_store_squad_list(cpd_store *s, cpd_squad **out, size_t *n);
+/* Removes an empty squad. CPD_ENOENT when absent; CPD_EDATA while athletes are in it. */
+int cpd_store_squad_remove(cpd_store *s, const char *name);
+/* Puts athlete code into squad (NULL: takes the athlete out of any squad). CPD_ENOENT for an
+ * unknown athlete or squad. */
+int cpd_store_squad_assign(cpd_store *s, const char *code, const char *squad);
+/* cpd_store_athlete_add with the athlete placed in squad at once (NULL: in none), in the one
+ * INSERT: on PostgreSQL the row-level policy checks the row as written. CPD_ENOENT for an unknown
+ * squad, CPD_EEXIST when the code is taken. TODO(lead): cpd_store_athlete_add may become
+ * cpd_store_athlete_add_to(s, a, NULL, id). */
+int cpd_store_athlete_add_to(cpd_store *s, const cpd_athlete *a, const char *squad, int64_t *id);
+/* The squad of athlete code into squad ("" when in none). CPD_ENOENT for an unknown athlete. */
+int cpd_store_athlete_squad(cpd_store *s, const char *code, char squad[CPD_SQUAD_MAX + 1]);
+/* Each athlete's squad, ordered by code; squad != NULL keeps that squad's athletes only (the
+ * squad must exist: CPD_ENOENT with a "did you mean"). The caller frees *out with free(). */
+int cpd_store_athlete_squads(cpd_store *s, const char *squad, cpd_athlete_squad **out, size_t *n);
+
+/* ---- access control: PostgreSQL stores only (db/pg/008_squads_access.sql) ----
+ * On a SQLite store each of these fails with CPD_EUSAGE: "access control needs a PostgreSQL store:
+ * a SQLite file is protected by its file's permissions". A role name is 1 to 63 of [a-z0-9_],
+ * not starting with a digit (CPD_EUSAGE otherwise). */
+typedef enum { CPD_ENGINE_SQLITE, CPD_ENGINE_PG } cpd_engine;
+/* The engine behind an open store. TODO(lead): the engine layer defines it; store_squad.c holds a
+ * SQLite-only definition until then (delete it there). */
+cpd_engine cpd_store_engine(const cpd_store *s);
+/* Lets members of role see and change the athletes of squad (NULL: of every squad, and those in
+ * none) and all their data. Granting twice is no error. CPD_ENOENT for an unknown squad or role. */
+int cpd_store_squad_grant(cpd_store *s, const char *squad, const char *role);
+/* Takes such a grant back. CPD_ENOENT when there is no such grant. */
+int cpd_store_squad_revoke(cpd_store *s, const char *squad, const char *role);
+/* Run by the database owner (who needs CREATEROLE): creates the NOLOGIN group roles lab_role and
+ * coach_role when missing and grants them their rights, again on every run (so it is also the
+ * step after an upgrade): lab_role reads every table and holds a grant on all squads; coach_role
+ * reads every table and writes the athlete tables (those under row-level security), its rows
+ * limited to its squad grants. *created receives how many of the two roles were made. */
+int cpd_store_server_setup(cpd_store *s, const char *lab_role, const char *coach_role, int *created);
+
 #endif

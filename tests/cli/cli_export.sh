@@ -42,8 +42,8 @@ expect 0 "export to stdout" export
 cp "$TMP/out" "$TMP/a.json"
 /usr/bin/python3 -c "import json; json.load(open('$TMP/a.json', encoding='utf-8'))" 2>"$TMP/err" \
     && pass "the document is JSON to Python's parser" || fail "Python cannot parse the document" "$(cat "$TMP/err")"
-json_is 'd["format"], d["schema_version"], list(d["tables"])[0]' "('cpdomain-store', $(sqlite3 "$A" 'PRAGMA user_version'), 'athlete')" \
-    "format, store version, athletes first"
+json_is 'd["format"], d["schema_version"], list(d["tables"])[:2]' "('cpdomain-store', $(sqlite3 "$A" 'PRAGMA user_version'), ['squad', 'athlete'])" \
+    "format, store version, parents first: squads, then athletes"
 json_is 'd["tool_version"] == "'"$("$BIN" --version | cut -d' ' -f2)"'"' True "tool_version is this cpdomain's"
 json_is '[r[5] for r in d["tables"]["athlete"]["rows"] if r[1] == "C03"][0] == """'"$NOTE"'"""' True "the UTF-8 note is a plain string"
 json_is 'd["tables"]["gx_channel"]["rows"][0][2]["base64"][:4] != ""' True "samples are base64"
