@@ -20,27 +20,7 @@ static void read_athlete(cpd_stmt *st, cpd_athlete *a)
 
 int cpd_store_athlete_add(cpd_store *s, const cpd_athlete *a, int64_t *id)
 {
-    cpd_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "INSERT INTO athlete (code, name, sport, mass_kg, notes) VALUES (?1, ?2, ?3, ?4, ?5) RETURNING id", &st);
-    if (rc)
-        return rc;
-    cpd_db_bind_text(st, 1, a->code, (size_t)-1);
-    cpd_db_bind_text(st, 2, a->name, (size_t)-1);
-    cpd_db_bind_text(st, 3, a->sport[0] ? a->sport : "cycling", (size_t)-1);
-    if (a->has_mass)
-        cpd_db_bind_double(st, 4, a->mass_kg);
-    else
-        cpd_db_bind_null(st, 4);
-    cpd_db_bind_text(st, 5, a->notes, (size_t)-1);
-    int r = cpd_db_step(st);
-    if (r == CPD_DB_ROW)
-        *id = cpd_db_int64(st, 0);
-    else if (r == CPD_DB_CONSTRAINT_UNIQUE)
-        rc = cpd_st_err(s, CPD_EEXIST, "an athlete with code '%s' already exists", a->code);
-    else
-        rc = cpd_st_fail(s, "adding an athlete");
-    cpd_db_finalize(st);
-    return rc;
+    return cpd_store_athlete_add_to(s, a, NULL, id); /* store_squad.c: in no squad */
 }
 
 int cpd_store_athlete_get(cpd_store *s, const char *code, cpd_athlete *a)

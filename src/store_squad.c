@@ -8,48 +8,40 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Every store is a SQLite file until the engine layer lands. TODO(lead): the layer's store.c
- * defines cpd_store_engine; delete this one then. */
-cpd_engine cpd_store_engine(const cpd_store *s)
-{
-    (void)s;
-    return CPD_ENGINE_SQLITE;
-}
-
 #define SQUAD_COLS "q.id, q.name, q.note, (SELECT COUNT(*) FROM athlete a WHERE a.squad_id = q.id)"
 
-static void read_squad(sqlite3_stmt *st, void *dst)
+static void read_squad(cpd_stmt *st, void *dst)
 {
     cpd_squad *q = dst;
     memset(q, 0, sizeof *q);
-    q->id = sqlite3_column_int64(st, 0);
+    q->id = cpd_db_int64(st, 0);
     cpd_st_text(st, 1, q->name, sizeof q->name);
     cpd_st_text(st, 2, q->note, sizeof q->note);
-    q->athletes = (size_t)sqlite3_column_int64(st, 3);
+    q->athletes = (size_t)cpd_db_int64(st, 3);
 }
 
 int cpd_store_squad_add(cpd_store *s, const char *name, const char *note, int64_t *id)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "INSERT INTO squad (name, note) VALUES (?1, ?2) RETURNING id", &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, name, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_text(st, 2, note ? note : "", -1, SQLITE_TRANSIENT);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW) {
-        *id = sqlite3_column_int64(st, 0);
-        r = sqlite3_step(st);
+    cpd_db_bind_text(st, 1, name, (size_t)-1);
+    cpd_db_bind_text(st, 2, note ? note : "", (size_t)-1);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW) {
+        *id = cpd_db_int64(st, 0);
+        r = cpd_db_step(st);
     }
-    if (r == SQLITE_CONSTRAINT_UNIQUE)
+    if (r == CPD_DB_CONSTRAINT_UNIQUE)
         rc = cpd_st_err(s, CPD_EEXIST, "a squad named '%s' already exists", name);
-    else if (r != SQLITE_DONE)
+    else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "adding a squad");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
-static void read_name(sqlite3_stmt *st, void *dst)
+static void read_name(cpd_stmt *st, void *dst)
 {
     cpd_st_text(st, 0, dst, CPD_SQUAD_MAX + 1);
 }
@@ -57,14 +49,14 @@ static void read_name(sqlite3_stmt *st, void *dst)
 /* The message for an unknown squad: the closest name, or where to find the names. */
 static int no_squad(cpd_store *s, const char *name)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT name FROM squad ORDER BY name", &st);
     if (rc)
         return rc;
     char(*all)[CPD_SQUAD_MAX + 1] = NULL;
     size_t n = 0;
     rc = cpd_st_collect(s, st, sizeof *all, read_name, (void **)&all, &n, "squad names");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (rc)
         return rc;
     const char **ptr = n ? malloc(n * sizeof *ptr) : NULL;
@@ -84,18 +76,18 @@ static int no_squad(cpd_store *s, const char *name)
 
 int cpd_store_squad_get(cpd_store *s, const char *name, cpd_squad *q)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT " SQUAD_COLS " FROM squad q WHERE q.name = ?1", &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, name, -1, SQLITE_TRANSIENT);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW)
+    cpd_db_bind_text(st, 1, name, (size_t)-1);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW)
         read_squad(st, q);
-    else if (r != SQLITE_DONE)
+    else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading a squad");
-    sqlite3_finalize(st);
-    if (r == SQLITE_DONE)
+    cpd_db_finalize(st);
+    if (r == CPD_DB_DONE)
         rc = no_squad(s, name);
     return rc;
 }
@@ -104,13 +96,13 @@ int cpd_store_squad_list(cpd_store *s, cpd_squad **out, size_t *n)
 {
     *out = NULL;
     *n = 0;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT " SQUAD_COLS " FROM squad q ORDER BY q.name", &st);
     if (rc)
         return rc;
     void *v = NULL;
     rc = cpd_st_collect(s, st, sizeof **out, read_squad, &v, n, "squads");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     *out = v;
     return rc;
 }
@@ -126,17 +118,17 @@ int cpd_store_squad_remove(cpd_store *s, const char *name)
                           "squad '%s' still has %zu athlete%s: move them first ('cpdomain squad assign CODE "
                           "OTHER' or 'cpdomain squad assign CODE --none')",
                           name, q.athletes, q.athletes == 1 ? "" : "s");
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s, "DELETE FROM squad WHERE id = ?1", &st)))
         return rc;
-    sqlite3_bind_int64(st, 1, q.id);
-    int r = sqlite3_step(st);
+    cpd_db_bind_int64(st, 1, q.id);
+    int r = cpd_db_step(st);
     /* athletes this user may not see (row-level security) still hold the squad: ON DELETE RESTRICT */
-    if (r == SQLITE_CONSTRAINT_FOREIGNKEY)
+    if (r == CPD_DB_CONSTRAINT_FOREIGNKEY)
         rc = cpd_st_err(s, CPD_EDATA, "squad '%s' still has athletes: move them first", name);
-    else if (r != SQLITE_DONE)
+    else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "removing a squad");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -149,19 +141,19 @@ int cpd_store_squad_assign(cpd_store *s, const char *code, const char *squad)
     cpd_squad q = {0};
     if (squad && (rc = cpd_store_squad_get(s, squad, &q)))
         return rc;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s, "UPDATE athlete SET squad_id = ?2 WHERE id = ?1", &st)))
         return rc;
-    sqlite3_bind_int64(st, 1, aid);
+    cpd_db_bind_int64(st, 1, aid);
     if (squad)
-        sqlite3_bind_int64(st, 2, q.id);
+        cpd_db_bind_int64(st, 2, q.id);
     else
-        sqlite3_bind_null(st, 2);
-    if (sqlite3_step(st) != SQLITE_DONE)
+        cpd_db_bind_null(st, 2);
+    if (cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, "moving an athlete to a squad");
-    else if (sqlite3_changes(s->db) == 0)
+    else if (s->changes == 0)
         rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'", code);
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -171,31 +163,31 @@ int cpd_store_athlete_add_to(cpd_store *s, const cpd_athlete *a, const char *squ
     int rc = squad ? cpd_store_squad_get(s, squad, &q) : CPD_OK;
     if (rc)
         return rc;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s,
                              "INSERT INTO athlete (code, name, sport, mass_kg, notes, squad_id) "
                              "VALUES (?1, ?2, ?3, ?4, ?5, ?6) RETURNING id",
                              &st)))
         return rc;
-    sqlite3_bind_text(st, 1, a->code, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_text(st, 2, a->name, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_text(st, 3, a->sport[0] ? a->sport : "cycling", -1, SQLITE_TRANSIENT);
+    cpd_db_bind_text(st, 1, a->code, (size_t)-1);
+    cpd_db_bind_text(st, 2, a->name, (size_t)-1);
+    cpd_db_bind_text(st, 3, a->sport[0] ? a->sport : "cycling", (size_t)-1);
     cpd_st_bind_opt(st, 4, a->has_mass, a->mass_kg);
-    sqlite3_bind_text(st, 5, a->notes, -1, SQLITE_TRANSIENT);
+    cpd_db_bind_text(st, 5, a->notes, (size_t)-1);
     if (squad)
-        sqlite3_bind_int64(st, 6, q.id);
+        cpd_db_bind_int64(st, 6, q.id);
     else
-        sqlite3_bind_null(st, 6);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW) {
-        *id = sqlite3_column_int64(st, 0);
-        r = sqlite3_step(st);
+        cpd_db_bind_null(st, 6);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW) {
+        *id = cpd_db_int64(st, 0);
+        r = cpd_db_step(st);
     }
-    if (r == SQLITE_CONSTRAINT_UNIQUE)
+    if (r == CPD_DB_CONSTRAINT_UNIQUE)
         rc = cpd_st_err(s, CPD_EEXIST, "an athlete with code '%s' already exists", a->code);
-    else if (r != SQLITE_DONE)
+    else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "adding an athlete");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -206,20 +198,20 @@ int cpd_store_athlete_squad(cpd_store *s, const char *code, char squad[CPD_SQUAD
     int rc = cpd_st_athlete_id(s, code, &aid);
     if (rc)
         return rc;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s, "SELECT q.name FROM athlete a JOIN squad q ON q.id = a.squad_id WHERE a.id = ?1", &st)))
         return rc;
-    sqlite3_bind_int64(st, 1, aid);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW)
+    cpd_db_bind_int64(st, 1, aid);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW)
         cpd_st_text(st, 0, squad, CPD_SQUAD_MAX + 1);
-    else if (r != SQLITE_DONE)
+    else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading an athlete's squad");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
-static void read_pair(sqlite3_stmt *st, void *dst)
+static void read_pair(cpd_stmt *st, void *dst)
 {
     cpd_athlete_squad *p = dst;
     memset(p, 0, sizeof *p);
@@ -235,7 +227,7 @@ int cpd_store_athlete_squads(cpd_store *s, const char *squad, cpd_athlete_squad 
     int rc = squad ? cpd_store_squad_get(s, squad, &q) : CPD_OK;
     if (rc)
         return rc;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     /* CAST: PostgreSQL needs the parameter's type where it is only compared with NULL */
     if ((rc = cpd_st_prepare(s,
                              "SELECT a.code, COALESCE(q.name, '') FROM athlete a LEFT JOIN squad q ON q.id = a.squad_id "
@@ -245,7 +237,7 @@ int cpd_store_athlete_squads(cpd_store *s, const char *squad, cpd_athlete_squad 
     cpd_st_bind_text(st, 1, squad, 0);
     void *v = NULL;
     rc = cpd_st_collect(s, st, sizeof **out, read_pair, &v, n, "the athletes' squads");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     *out = v;
     return rc;
 }
@@ -279,29 +271,29 @@ static int check_role(cpd_store *s, const char *role)
 /* Runs one statement without parameters that returns no rows. */
 static int exec1(cpd_store *s, const char *sql, const char *what)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, sql, &st);
     if (rc)
         return rc;
-    if (sqlite3_step(st) != SQLITE_DONE)
+    if (cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, what);
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
 /* *found = 1 when a role of this name exists on the server. */
 static int role_exists(cpd_store *s, const char *role, int *found)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT 1 FROM pg_roles WHERE rolname = ?1", &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, role, -1, SQLITE_TRANSIENT);
-    int r = sqlite3_step(st);
-    *found = r == SQLITE_ROW;
-    if (r != SQLITE_ROW && r != SQLITE_DONE)
+    cpd_db_bind_text(st, 1, role, (size_t)-1);
+    int r = cpd_db_step(st);
+    *found = r == CPD_DB_ROW;
+    if (r != CPD_DB_ROW && r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "looking up a role");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -332,19 +324,19 @@ int cpd_store_squad_grant(cpd_store *s, const char *squad, const char *role)
                           "no role '%s' on the server: the database administrator creates it first (psql: CREATE "
                           "ROLE %s LOGIN IN ROLE cpdomain_coach)",
                           role, role);
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s,
                              "INSERT INTO cpd_squad_grant (squad_id, role_name) VALUES (?1, ?2) ON CONFLICT DO NOTHING",
                              &st)))
         return rc;
     if (sid)
-        sqlite3_bind_int64(st, 1, sid);
+        cpd_db_bind_int64(st, 1, sid);
     else
-        sqlite3_bind_null(st, 1);
-    sqlite3_bind_text(st, 2, role, -1, SQLITE_TRANSIENT);
-    if (sqlite3_step(st) != SQLITE_DONE)
+        cpd_db_bind_null(st, 1);
+    cpd_db_bind_text(st, 2, role, (size_t)-1);
+    if (cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, "granting a squad");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -354,21 +346,21 @@ int cpd_store_squad_revoke(cpd_store *s, const char *squad, const char *role)
     int rc = grant_target(s, squad, role, &sid);
     if (rc)
         return rc;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s, "DELETE FROM cpd_squad_grant WHERE COALESCE(squad_id, 0) = ?1 AND role_name = ?2", &st)))
         return rc;
-    sqlite3_bind_int64(st, 1, sid);
-    sqlite3_bind_text(st, 2, role, -1, SQLITE_TRANSIENT);
-    if (sqlite3_step(st) != SQLITE_DONE)
+    cpd_db_bind_int64(st, 1, sid);
+    cpd_db_bind_text(st, 2, role, (size_t)-1);
+    if (cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, "revoking a squad");
-    else if (sqlite3_changes(s->db) == 0)
+    else if (s->changes == 0)
         rc = cpd_st_err(s, CPD_ENOENT, "role '%s' holds no grant on %s%s%s", role, squad ? "squad '" : "all squads",
                         squad ? squad : "", squad ? "'" : "");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
-static void read_table(sqlite3_stmt *st, void *dst)
+static void read_table(cpd_stmt *st, void *dst)
 {
     cpd_st_text(st, 0, dst, 64);
 }
@@ -400,13 +392,13 @@ int cpd_store_server_setup(cpd_store *s, const char *lab_role, const char *coach
         ++*created;
     }
     /* every table of the store's schema: read by both groups */
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     char schema[64] = "";
     if ((rc = cpd_st_prepare(s, "SELECT current_schema()", &st)))
         return rc;
-    if (sqlite3_step(st) == SQLITE_ROW)
+    if (cpd_db_step(st) == CPD_DB_ROW)
         cpd_st_text(st, 0, schema, sizeof schema);
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     for (const char *p = schema; *p; p++)
         if (*p == '"')
             return cpd_st_err(s, CPD_EUSAGE, "the store's schema name '%s' holds a double quote", schema);
@@ -432,7 +424,7 @@ int cpd_store_server_setup(cpd_store *s, const char *lab_role, const char *coach
     char(*tab)[64] = NULL;
     size_t nt = 0;
     rc = cpd_st_collect(s, st, sizeof *tab, read_table, (void **)&tab, &nt, "the tables under row-level security");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (rc)
         return rc;
     if (nt == 0) {

@@ -328,10 +328,6 @@ int cpd_store_athlete_squads(cpd_store *s, const char *squad, cpd_athlete_squad 
  * On a SQLite store each of these fails with CPD_EUSAGE: "access control needs a PostgreSQL store:
  * a SQLite file is protected by its file's permissions". A role name is 1 to 63 of [a-z0-9_],
  * not starting with a digit (CPD_EUSAGE otherwise). */
-typedef enum { CPD_ENGINE_SQLITE, CPD_ENGINE_PG } cpd_engine;
-/* The engine behind an open store. TODO(lead): the engine layer defines it; store_squad.c holds a
- * SQLite-only definition until then (delete it there). */
-cpd_engine cpd_store_engine(const cpd_store *s);
 /* Lets members of role see and change the athletes of squad (NULL: of every squad, and those in
  * none) and all their data. Granting twice is no error. CPD_ENOENT for an unknown squad or role. */
 int cpd_store_squad_grant(cpd_store *s, const char *squad, const char *role);
