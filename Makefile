@@ -46,22 +46,26 @@ LIB_SRCS += src/energy.c
 LIB_SRCS += src/safefile.c
 LIB_SRCS += src/validate_records.c src/validate_dump.c
 LIB_SRCS += src/suggest.c
+LIB_SRCS += src/store_squad.c
 # The CLI: main and one file per command family.
 CLI_SRCS = src/main.c src/cli_out.c src/cmd_athlete.c src/cmd_trial.c src/cli_pd.c src/cmd_fit.c src/cmd_solve.c \
            src/cmd_ramp.c src/cmd_lactate.c src/cli_domains.c src/cmd_domains.c \
            src/cmd_history.c
 LIB_SRCS += src/store_dump.c src/export.c
 CLI_SRCS += src/cmd_export.c
+CLI_SRCS += src/cli_retry.c
 CLI_SRCS += src/cmd_bout.c
 CLI_SRCS += src/cli_energy.c src/cmd_energy.c
 CLI_SRCS += src/cli_domains_json.c src/cmd_sheet.c
 LIB_SRCS += src/store_session.c src/import_session.c
 LIB_SRCS += src/store_codec.c
+LIB_SRCS += src/store_db.c src/store_pg.c
 LIB_SRCS += src/csvfast.c
 CLI_SRCS += src/cmd_session.c
 LIB_SRCS += src/athlete.c src/athlete_domains.c src/export_domains.c
 CLI_SRCS += src/cli_athlete.c src/cli_gx.c src/cli_history.c
 CLI_SRCS += src/cli_session.c src/cli_balance.c
+CLI_SRCS += src/cli_squad.c src/cmd_squad.c src/cmd_server.c
 # Unit tests: one cmocka program per module.
 TESTS    = test_units test_nlfit test_linfit test_gx test_store test_csvin
 TESTS += test_protocol test_balance
@@ -84,6 +88,7 @@ TESTS += test_csv_growth
 TESTS += test_store_codec test_csvfast
 TESTS += test_suggest
 TESTS += test_athlete
+TESTS += test_squad
 # Benchmarks.
 BENCHES  =
 BENCHES += bench_pd
@@ -99,6 +104,8 @@ FUZZ_SAN = -fsanitize=address,undefined -fno-sanitize-recover=undefined -fno-omi
 FUZZ_BINS = $(FUZZERS:%=$(FUZZ_DIR)/fuzz_%)
 
 MIGRATIONS = db/schema.sql $(sort $(wildcard db/[0-9][0-9][0-9]_*.sql))
+# PostgreSQL's additions to the migration of the same number (row-level security, ...)
+MIGRATIONS_PG = $(sort $(wildcard db/pg/[0-9][0-9][0-9]_*.sql))
 
 LIB_OBJS = $(LIB_SRCS:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/migrations.o
 CLI_OBJS = $(CLI_SRCS:src/%.c=$(BUILD)/obj/%.o)
@@ -125,8 +132,8 @@ $(BUILD)/obj/%.o: src/%.c | $(STAMP)
 $(BUILD)/embed: tools/embed.c | $(STAMP)
 	@mkdir -p $(BUILD)
 	$(CC) -std=c17 -Wall -Wextra -O1 $< -o $@
-$(BUILD)/migrations.c: $(BUILD)/embed $(MIGRATIONS)
-	$(BUILD)/embed $@ $(MIGRATIONS)
+$(BUILD)/migrations.c: $(BUILD)/embed $(MIGRATIONS) $(MIGRATIONS_PG)
+	$(BUILD)/embed $@ $(MIGRATIONS) -- $(MIGRATIONS_PG)
 $(BUILD)/obj/migrations.o: $(BUILD)/migrations.c
 	@mkdir -p $(dir $@)
 	$(CC) $(ALL_CFLAGS) -c $< -o $@

@@ -42,6 +42,12 @@ int cli_open(cli_ctx *c, int create);
 /* Rolls back and reports a store failure (or the status rc with the store's message). */
 int cli_store_fail(cli_ctx *c, int rc);
 
+/* Runs cmd with argv and closes the store it opened. On a PostgreSQL store a run that failed
+ * with a retryable store failure (exit 75: a serialization conflict, deadlock or lost connection)
+ * runs again, up to $CPDOMAIN_RETRIES times (default 8) with growing pauses; only the last
+ * attempt's output is written (cli_retry.c). */
+int cli_run_retrying(cli_ctx *c, const cli_command *cmd, int argc, char **argv);
+
 /* Runs the subcommand of argv[1] from table (n rows); prints the family's help for --help or no
  * subcommand. */
 int cli_dispatch(cli_ctx *c, const char *family, const cli_command *table, size_t n, int argc, char **argv);

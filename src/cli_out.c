@@ -39,6 +39,10 @@ int cli_exit_code(int rc)
         return EX_CANTCREAT;
     case CPD_ESTORE:
         return EX_IOERR;
+    case CPD_ETEMP:
+        return EX_TEMPFAIL;
+    case CPD_ENOPERM:
+        return EX_NOPERM;
     default:
         return EX_SOFTWARE;
     }

@@ -1,4 +1,5 @@
 /* cmd_athlete.c: 'init' and 'athlete add|list|show|set|remove'. */
+#include "cli_squad.h"
 #include "commands.h"
 #include "cpdomain/import.h"
 #include "cpdomain/units.h"
@@ -10,8 +11,10 @@
 #include <sysexits.h>
 
 static const char HELP_INIT[] =
-    "usage: cpdomain [--db FILE] init\n\n"
-    "Creates the store, or upgrades an older one to this version. Safe to run again.\n\n"
+    "usage: cpdomain [--db FILE|URI] init\n\n"
+    "Creates the store, or upgrades an older one to this version. Safe to run again.\n"
+    "On a PostgreSQL server the database must exist (createdb, by its owner): init makes the\n"
+    "tables in it, as the role that will own them (README: 'Sharing a store on a server').\n\n"
     "example:\n  cpdomain --db lab.db init\n";
 
 static int no_opt(int opt, const char *arg, void *ud)
@@ -47,12 +50,20 @@ int cmd_init(cli_ctx *c, int argc, char **argv)
 /* ---- athlete ---- */
 
 static const char HELP_ADD[] =
-    "usage: cpdomain athlete add CODE --name NAME [--sport SPORT] [--mass KG] [--notes TEXT]\n\n"
+    "usage: cpdomain athlete add CODE --name NAME [--sport SPORT] [--mass KG] [--notes TEXT] [--squad NAME]\n\n"
     "Adds an athlete. CODE is a short unique identifier (letters, digits, - _ .).\n"
-    "SPORT is cycling (default), running, rowing, swimming or other; body mass in kg (20-250).\n\n"
-    "example:\n  cpdomain athlete add C06 --name \"Ilse Brandvold\" --sport cycling --mass 66.0\n";
-static const char HELP_LIST[] = "usage: cpdomain athlete list\n\nLists every athlete.\n\nexample:\n"
-                                "  cpdomain --json athlete list\n";
+    "SPORT is cycling (default), running, rowing, swimming or other; body mass in kg (20-250).\n"
+    "--squad puts the athlete in a squad made with 'cpdomain squad add'.\n\n"
+    "examples:\n  cpdomain athlete add C06 --name \"Ilse Brandvold\" --sport cycling --mass 66.0\n"
+    "  cpdomain squad add track\n"
+    "  cpdomain athlete add C07 --name \"Teodor Nakashima\" --squad track\n";
+static const char HELP_LIST[] = "usage: cpdomain athlete list [--squad NAME]\n\n"
+                                "Lists every athlete, or with --squad the athletes of one squad. The squad column\n"
+                                "shows when some athlete listed is in a squad.\n\nexamples:\n"
+                                "  cpdomain --json athlete list\n"
+                                "  cpdomain squad add track\n"
+                                "  cpdomain squad assign C03 track\n"
+                                "  cpdomain athlete list --squad track\n";
 static const char HELP_SHOW[] = "usage: cpdomain athlete show CODE\n\nShows one athlete.\n\nexample:\n"
                                 "  cpdomain athlete show C03\n";
 static const char HELP_SET[] =
@@ -70,7 +81,7 @@ static const char HELP_REMOVE[] =
     "--yes confirms; without it nothing is removed.\n\nexample:\n  cpdomain athlete remove C03 --yes\n";
 
 typedef struct {
-    const char *name, *sport, *mass, *notes, *map;
+    const char *name, *sport, *mass, *notes, *map, *squad;
     int yes;
 } athlete_opts;
 
@@ -96,6 +107,9 @@ static int athlete_opt(int opt, const char *arg, void *ud)
     case 'M':
         o->map = arg;
         break;
+    case 'S':
+        o->squad = arg;
+        break;
     default:
         return EX_USAGE;
     }
@@ -106,7 +120,7 @@ static const struct option athlete_longopts[] = {
     {"name", required_argument, NULL, 'n'}, {"sport", required_argument, NULL, 's'},
     {"mass", required_argument, NULL, 'm'}, {"notes", required_argument, NULL, 'N'},
     {"yes", no_argument, NULL, 'y'},        {"help", no_argument, NULL, 'h'},
-    {"map", required_argument, NULL, 'M'},
+    {"map", required_argument, NULL, 'M'},  {"squad", required_argument, NULL, 'S'},
     {NULL, 0, NULL, 0},
 };
 
@@ -120,6 +134,9 @@ static int parse(int argc, char **argv, const char *help, athlete_opts *o, int w
         return rc;
     if (done)
         return -1;
+    if (o->squad && help != HELP_ADD && help != HELP_LIST)
+        return cli_usage(argv[0], "--squad goes with 'athlete add' and 'athlete list'; to move an athlete: "
+                                  "'cpdomain squad assign CODE SQUAD'");
     if (argc - *first < want)
         return cli_usage(argv[0], "missing argument %s", want && strcmp(argv[0], "import") == 0 ? "FILE.csv" : "CODE");
     if (argc - *first > want)
@@ -164,7 +181,8 @@ static int apply(cli_ctx *c, const athlete_opts *o, cpd_athlete *a)
     return 0;
 }
 
-static void athlete_json(cli_json *o, const cpd_athlete *a)
+/* squad: the athlete's squad, "" (null in JSON) when in none */
+static void athlete_json(cli_json *o, const cpd_athlete *a, const char *squad)
 {
     cj_int(o, "id", a->id);
     cj_str(o, "code", a->code);
@@ -175,7 +193,9 @@ static void athlete_json(cli_json *o, const cpd_athlete *a)
     else
         cj_null(o, "mass_kg");
     cj_str(o, "notes", a->notes);
+    cj_str(o, "squad", squad && squad[0] ? squad : NULL);
 }
+
 
 static int athlete_add(cli_ctx *c, int argc, char **argv)
 {
@@ -186,6 +206,9 @@ static int athlete_add(cli_ctx *c, int argc, char **argv)
         return rc < 0 ? 0 : rc;
     if (!o.name)
         return cli_usage("athlete add", "--name is required");
+    char smsg[CPD_MSG_MAX];
+    if (o.squad && cpd_validate_squad(o.squad, smsg))
+        return cli_usage("athlete add", "--squad: %s", smsg);
     cpd_athlete a = {0};
     snprintf(a.sport, sizeof a.sport, "cycling");
     char msg[CPD_MSG_MAX];
@@ -197,15 +220,18 @@ static int athlete_add(cli_ctx *c, int argc, char **argv)
     if ((rc = cli_open(c, 0)))
         return rc;
     int64_t id = 0;
-    if ((rc = cpd_store_athlete_add(c->store, &a, &id)))
+    if ((rc = cpd_store_athlete_add_to(c->store, &a, o.squad, &id)))
         return cli_store_fail(c, rc);
     a.id = id;
     if (c->json) {
         cli_json *d = cj_obj();
-        athlete_json(d, &a);
+        athlete_json(d, &a, o.squad);
         return cj_print(d);
     }
-    cli_note(c, "added athlete %s (%s), id %lld", a.code, a.name, (long long)id);
+    if (o.squad)
+        cli_note(c, "added athlete %s (%s) to squad %s, id %lld", a.code, a.name, o.squad, (long long)id);
+    else
+        cli_note(c, "added athlete %s (%s), id %lld", a.code, a.name, (long long)id);
     return 0;
 }
 
@@ -219,29 +245,35 @@ static int athlete_list(cli_ctx *c, int argc, char **argv)
     if ((rc = cli_open(c, 0)))
         return rc;
     cpd_athlete *v = NULL;
+    cpd_athlete_squad *sq = NULL;
     size_t n = 0;
-    if ((rc = cpd_store_athlete_list(c->store, &v, &n)))
-        return cli_store_fail(c, rc);
+    int any = 0;
+    if ((rc = cli_squad_athletes(c, o.squad, &v, &sq, &n, &any)))
+        return rc;
     if (c->json || c->csv) {
         cli_json *d = cj_obj();
         cli_json *arr = cj_add_arr(d, "athletes");
         for (size_t i = 0; i < n; i++) {
             cli_json *o2 = cj_obj();
-            athlete_json(o2, &v[i]);
+            athlete_json(o2, &v[i], sq[i].squad);
             cj_push(arr, o2);
         }
         free(v);
+        free(sq);
         return c->csv ? cj_print_csv(d, "athletes", NULL) : cj_print(d);
     }
-    static const char *const head[] = {"code", "name", "sport", "mass (kg)"};
-    cli_table *t = cli_table_new(4, head, "lllr");
+    /* the squad column only when some athlete listed is in a squad: a store without squads lists as before */
+    static const char *const head[] = {"code", "name", "sport", "mass (kg)", "squad"};
+    cli_table *t = cli_table_new(any ? 5 : 4, head, "lllrl");
     for (size_t i = 0; i < n; i++) {
         char m[32];
-        const char *row[] = {v[i].code, v[i].name, v[i].sport, v[i].has_mass ? cli_num(m, sizeof m, v[i].mass_kg, 1) : "-"};
+        const char *row[] = {v[i].code, v[i].name, v[i].sport, v[i].has_mass ? cli_num(m, sizeof m, v[i].mass_kg, 1) : "-",
+                             sq[i].squad[0] ? sq[i].squad : "-"};
         cli_table_row(t, row);
     }
     cli_table_print(t);
     free(v);
+    free(sq);
     return 0;
 }
 
@@ -255,7 +287,8 @@ static int athlete_show(cli_ctx *c, int argc, char **argv)
     if ((rc = cli_open(c, 0)))
         return rc;
     cpd_athlete a;
-    if ((rc = cpd_store_athlete_get(c->store, argv[first], &a)))
+    char squad[CPD_SQUAD_MAX + 1];
+    if ((rc = cpd_store_athlete_get(c->store, argv[first], &a)) || (rc = cpd_store_athlete_squad(c->store, a.code, squad)))
         return cli_store_fail(c, rc);
     cpd_trial *tr = NULL;
     size_t nt = 0;
@@ -267,14 +300,16 @@ static int athlete_show(cli_ctx *c, int argc, char **argv)
     free(tr);
     if (c->json) {
         cli_json *d = cj_obj();
-        athlete_json(d, &a);
+        athlete_json(d, &a, squad);
         cj_int(d, "trials", (long long)nt);
         return cj_print(d);
     }
     char m[32];
-    printf("code     %s\nname     %s\nsport    %s\nmass     %s%s\nnotes    %s\ntrials   %zu (%zu in fits)\n", a.code,
-           a.name, a.sport, a.has_mass ? cli_num(m, sizeof m, a.mass_kg, 1) : "-", a.has_mass ? " kg" : "",
-           a.notes[0] ? a.notes : "-", nt, active);
+    printf("code     %s\nname     %s\nsport    %s\nmass     %s%s\nnotes    %s\n", a.code, a.name, a.sport,
+           a.has_mass ? cli_num(m, sizeof m, a.mass_kg, 1) : "-", a.has_mass ? " kg" : "", a.notes[0] ? a.notes : "-");
+    if (squad[0]) /* only for an athlete in a squad: a store without squads shows as before */
+        printf("squad    %s\n", squad);
+    printf("trials   %zu (%zu in fits)\n", nt, active);
     return 0;
 }
 
@@ -294,11 +329,12 @@ static int athlete_set(cli_ctx *c, int argc, char **argv)
         return cli_store_fail(c, rc);
     if ((rc = apply(c, &o, &a)))
         return rc;
-    if ((rc = cpd_store_athlete_update(c->store, &a)))
+    char squad[CPD_SQUAD_MAX + 1];
+    if ((rc = cpd_store_athlete_update(c->store, &a)) || (rc = cpd_store_athlete_squad(c->store, a.code, squad)))
         return cli_store_fail(c, rc);
     if (c->json) {
         cli_json *d = cj_obj();
-        athlete_json(d, &a);
+        athlete_json(d, &a, squad);
         return cj_print(d);
     }
     cli_note(c, "updated athlete %s", a.code);

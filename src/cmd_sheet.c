@@ -4,6 +4,7 @@
 #include "cli_energy.h"
 #include "cli_gx.h"
 #include "cli_history.h"
+#include "cli_squad.h"
 #include "commands.h"
 #include "cpdomain/csvin.h"
 #include "cpdomain/plots.h"
@@ -24,7 +25,7 @@
 static const char HELP[] =
     "usage: cpdomain sheet CODE [--format html|csv|json|txt] [-o FILE] [--model NAME] [--from D] [--to D]\n"
     "                           [--stale-days N]\n"
-    "       cpdomain sheet --all -o DIR [--format html|csv|json|txt] [...]\n\n"
+    "       cpdomain sheet --all -o DIR [--squad NAME] [--format html|csv|json|txt] [...]\n\n"
     "The athlete's intensity-domain sheet: the boundaries with their uncertainty and sources, targets\n"
     "per domain (W, % of CP, W/kg, pace, heart rate), power for target times to failure and time to\n"
     "failure at round powers with 95 % intervals, a suggested interval session with its W' balance,\n"
@@ -36,14 +37,18 @@ static const char HELP[] =
     "  -o FILE    write the sheet to FILE instead of stdout\n"
     "  --all      every athlete: DIR/index.html (the team's table, linking the sheets) and one\n"
     "             DIR/CODE.<format> per athlete; athletes without enough data are listed without a link\n"
+    "  --squad    with --all: the athletes of this squad only\n"
     "  --model, --from, --to, --stale-days: as for 'cpdomain domains'\n\n"
     "examples:\n"
     "  cpdomain sheet C03 -o c03.html\n"
     "  cpdomain sheet R01 --format txt\n"
-    "  cpdomain sheet --all -o sheets/\n";
+    "  cpdomain sheet --all -o sheets/\n"
+    "  cpdomain squad add track\n"
+    "  cpdomain squad assign R01 track\n"
+    "  cpdomain sheet --all --squad track -o track/\n";
 
 typedef struct {
-    const char *model, *from, *to, *stale, *format, *out;
+    const char *model, *from, *to, *stale, *format, *out, *squad;
     int all;
 } sheet_opts;
 
@@ -58,6 +63,7 @@ static int sheet_opt(int opt, const char *arg, void *ud)
     case 'F': o->format = arg; break;
     case 'o': o->out = arg; break;
     case 'a': o->all = 1; break;
+    case 'S': o->squad = arg; break;
     default: return EX_USAGE;
     }
     return 0;
@@ -652,19 +658,29 @@ static void team_row(team_buf *t, const cpd_athlete *a, const sheet_build *b)
 
 static int all_sheets(cli_ctx *c, const sheet_opts *o, int stale, out_format fm)
 {
-    if (mkdir(o->out, 0777) != 0 && errno != EEXIST)
-        return cli_fail(c, CPD_ECREATE, "cannot create the folder '%s': %s", o->out, strerror(errno));
-    struct stat st;
-    if (stat(o->out, &st) != 0 || !S_ISDIR(st.st_mode))
-        return cli_fail(c, CPD_ECREATE, "'%s' is not a folder", o->out);
     cpd_athlete *as = NULL;
+    cpd_athlete_squad *sq = NULL;
     size_t n = 0;
-    int rc = cpd_store_athlete_list(c->store, &as, &n);
+    int any = 0;
+    int rc = cli_squad_athletes(c, o->squad, &as, &sq, &n, &any);
     if (rc)
-        return cli_store_fail(c, rc);
+        return rc;
+    free(sq);
     if (n == 0) {
         free(as);
+        if (o->squad)
+            return cli_fail(c, CPD_ENODATA, "squad '%s' has no athletes: put some in with 'cpdomain squad assign'",
+                            o->squad);
         return cli_fail(c, CPD_ENODATA, "the store has no athletes: add them with 'cpdomain athlete add'");
+    }
+    /* the folder once the athletes are known, so an unknown squad makes none */
+    struct stat st;
+    if ((mkdir(o->out, 0777) != 0 && errno != EEXIST) || stat(o->out, &st) != 0 || !S_ISDIR(st.st_mode)) {
+        int e = errno;
+        free(as);
+        if (stat(o->out, &st) == 0 && !S_ISDIR(st.st_mode))
+            return cli_fail(c, CPD_ECREATE, "'%s' is not a folder", o->out);
+        return cli_fail(c, CPD_ECREATE, "cannot create the folder '%s': %s", o->out, strerror(e));
     }
     cpd_sheet_index_row *rows = calloc(n, sizeof *rows);
     char(*href)[CPD_CODE_MAX + 8] = calloc(n, sizeof *href);
@@ -810,6 +826,7 @@ int cmd_sheet(cli_ctx *c, int argc, char **argv)
         {"to", required_argument, NULL, 't'},         {"stale-days", required_argument, NULL, 's'},
         {"format", required_argument, NULL, 'F'},     {"output", required_argument, NULL, 'o'},
         {"all", no_argument, NULL, 'a'},              {"help", no_argument, NULL, 'h'},
+        {"squad", required_argument, NULL, 'S'},
         {NULL, 0, NULL, 0},
     };
     sheet_opts o = {0};
@@ -822,6 +839,8 @@ int cmd_sheet(cli_ctx *c, int argc, char **argv)
         return cli_usage("sheet", "--all takes no CODE (unexpected '%s')", argv[first]);
     if (!o.all && nargs != 1)
         return cli_usage("sheet", nargs < 1 ? "missing argument CODE (or --all)" : "unexpected argument '%s'", argv[first + 1]);
+    if (o.squad && !o.all)
+        return cli_usage("sheet", "--squad goes with --all (the sheets of a squad's athletes)");
     if (o.all && !o.out)
         return cli_usage("sheet", "--all needs -o DIR, the folder for index.html and the sheets");
     out_format fm = FMT_HTML;

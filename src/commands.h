@@ -22,5 +22,7 @@ int cmd_session(cli_ctx *c, int argc, char **argv);
 int cmd_allout(cli_ctx *c, int argc, char **argv);
 int cmd_curve(cli_ctx *c, int argc, char **argv);
 int cmd_energy(cli_ctx *c, int argc, char **argv);
+int cmd_squad(cli_ctx *c, int argc, char **argv);
+int cmd_server(cli_ctx *c, int argc, char **argv);
 
 #endif

@@ -15,6 +15,7 @@
 static const cli_command commands[] = {
     {"init", cmd_init, "create or upgrade the store", NULL},
     {"athlete", cmd_athlete, "add, list, show, change or remove athletes", NULL},
+    {"squad", cmd_squad, "squads of athletes; on PostgreSQL, which roles see which squad", NULL},
     {"trial", cmd_trial, "time-to-exhaustion trials and time trials", NULL},
     {"ramp", cmd_ramp, "ramp incremental tests: VO2peak, GET, RCP, gain, MRT", NULL},
     {"lactate", cmd_lactate, "blood-lactate step tests: LT1, Dmax, modified Dmax, 4 mmol/L", NULL},
@@ -30,18 +31,22 @@ static const cli_command commands[] = {
     {"solve", cmd_solve, "the one unknown intensity of a session for a chosen end balance", NULL},
     {"export", cmd_export, "the whole store as one JSON document", NULL},
     {"import", cmd_import, "a document written by export, into a new store", NULL},
+    {"server", cmd_server, "PostgreSQL: the lab and coach group roles", NULL},
     {"sheet", cmd_sheet, "the per-athlete domain sheet (HTML, CSV, JSON, text) and the team's index", NULL},
 };
 
 static void usage(FILE *out)
 {
-    fputs("usage: cpdomain [--db FILE] [--json | --csv] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
+    fputs("usage: cpdomain [--db FILE|URI] [--json | --csv] [--quiet] [--busy-timeout MS] COMMAND [SUBCOMMAND] [ARGS...]\n\n"
           "Critical power, W' and the intensity domains from an athlete's tests.\n\ncommands:\n",
           out);
     for (size_t i = 0; i < sizeof commands / sizeof commands[0]; i++)
         fprintf(out, "  %-9s %s\n", commands[i].name, commands[i].summary);
     fputs("\noptions:\n"
-          "  --db FILE  the store (default: $CPDOMAIN_DB, else ./cpdomain.db)\n"
+          "  --db FILE|URI\n"
+          "             the store: a SQLite file, or a PostgreSQL server's database as a libpq URI\n"
+          "             (postgresql://[user@]host[:port]/database; the password from ~/.pgpass or\n"
+          "             $PGPASSWORD); default: $CPDOMAIN_DB, else ./cpdomain.db\n"
           "  --json     machine-readable output: one JSON document on stdout\n"
           "  --csv      the table as CSV for a spreadsheet (fit, curve, history, domains, the lists,\n"
           "             energy, sheet --all --format csv)\n"
@@ -49,6 +54,7 @@ static void usage(FILE *out)
           "  --busy-timeout MS\n"
           "             how long to wait for another process that is writing to the store, in\n"
           "             milliseconds (default: $CPDOMAIN_BUSY_TIMEOUT, else 5000); then fail\n"
+          "             (on a server: how long a write waits for another writer's lock)\n"
           "  --help     this text; 'cpdomain COMMAND --help' for a command\n"
           "  --version  the version\n\n"
           "example:\n  cpdomain --db lab.db init\n  cpdomain --db lab.db athlete add R07 --name \"Ines Varga\" --mass 64.5\n",
@@ -74,7 +80,7 @@ static int busy_timeout(const char *what, const char *arg, int *ms)
 static int csv_capable(int argc, char **argv)
 {
     static const char *const single[] = {"fit", "curve", "history", "domains", "sheet", "energy"};
-    static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout"};
+    static const char *const lists[] = {"athlete", "trial", "ramp", "lactate", "bout", "session", "allout", "squad"};
     for (size_t i = 0; i < sizeof single / sizeof single[0]; i++)
         if (strcmp(argv[0], single[i]) == 0)
             return 1;
@@ -226,9 +232,7 @@ int main(int argc, char **argv)
     }
     if (c.csv && !csv_capable(argc - optind, argv + optind))
         return EX_USAGE;
-    rc = cmd->run(&c, argc - optind, argv + optind);
-    cpd_store_rollback(c.store); /* no-op after a commit; undoes a command that returned early */
-    cpd_store_close(c.store);
+    rc = cli_run_retrying(&c, cmd, argc - optind, argv + optind);
     if (fclose(stdout) != 0 && rc == 0) {
         perror("cpdomain: writing the output");
         rc = EX_IOERR;

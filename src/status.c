@@ -16,6 +16,8 @@ const char *cpd_strerror(int rc)
         [CPD_ECREATE] = "cannot create output",
         [CPD_ESTORE] = "store error",
         [CPD_EEXIST] = "already exists",
+        [CPD_ETEMP] = "temporary failure",
+        [CPD_ENOPERM] = "permission denied",
     };
     if (rc < 0 || rc >= CPD_NSTATUS)
         return "unknown status";

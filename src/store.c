@@ -9,6 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+#include <time.h>
 
 int cpd_st_err(cpd_store *s, int rc, const char *fmt, ...)
 {
@@ -30,38 +31,45 @@ static int busy_err(cpd_store *s, const char *what)
 
 int cpd_st_fail(cpd_store *s, const char *what)
 {
-    if ((sqlite3_errcode(s->db) & 0xff) == SQLITE_BUSY)
+    switch (s->errcode) {
+    case CPD_DB_BUSY:
         return busy_err(s, what);
-    return cpd_st_err(s, CPD_ESTORE, "%s: %s", what, sqlite3_errmsg(s->db));
-}
-
-int cpd_st_prepare(cpd_store *s, const char *sql, sqlite3_stmt **st)
-{
-    if (sqlite3_prepare_v2(s->db, sql, -1, st, NULL) != SQLITE_OK) {
-        *st = NULL;
-        return cpd_st_fail(s, "preparing a statement");
+    case CPD_DB_RETRY:
+        return cpd_st_err(s, CPD_ETEMP, "%s: %s; nothing of this command was kept: run it again", what,
+                          cpd_db_errmsg(s));
+    case CPD_DB_PERM:
+        return cpd_st_err(s, CPD_ENOPERM,
+                          "%s: the server refused: %s (a coach's role reaches only the athletes of its squads; "
+                          "the lab role only reads)",
+                          what, cpd_db_errmsg(s));
+    default:
+        return cpd_st_err(s, CPD_ESTORE, "%s: %s", what, cpd_db_errmsg(s));
     }
-    return CPD_OK;
 }
 
-void cpd_st_text(sqlite3_stmt *st, int col, char *dst, size_t n)
+int cpd_st_prepare(cpd_store *s, const char *sql, cpd_stmt **st)
 {
-    const unsigned char *t = sqlite3_column_text(st, col);
+    return cpd_db_prepare(s, sql, st);
+}
+
+void cpd_st_text(cpd_stmt *st, int col, char *dst, size_t n)
+{
+    const char *t = cpd_db_text(st, col);
     snprintf(dst, n, "%s", t ? (const char *)t : "");
 }
 
-int cpd_st_bind_text(sqlite3_stmt *st, int idx, const char *v, int empty_is_null)
+int cpd_st_bind_text(cpd_stmt *st, int idx, const char *v, int empty_is_null)
 {
     if (!v || (empty_is_null && !*v))
-        return sqlite3_bind_null(st, idx);
-    return sqlite3_bind_text(st, idx, v, -1, SQLITE_TRANSIENT);
+        return cpd_db_bind_null(st, idx);
+    return cpd_db_bind_text(st, idx, v, (size_t)-1);
 }
 
 /* Samples are IEEE-754 binary64 in little-endian order whatever the host's order. */
 static int host_is_le(void)
 {
     const unsigned one = 1;
-    return *(const unsigned char *)&one == 1;
+    return *(const char *)&one == 1;
 }
 
 void cpd_st_encode_f64(const double *v, size_t n, unsigned char *out)
@@ -92,23 +100,37 @@ void cpd_st_decode_f64(const unsigned char *in, size_t n, double *v)
     }
 }
 
-void cpd_st_bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
+void cpd_st_bind_stamp(cpd_stmt *st, int idx, const char *v)
+{
+    char now[32];
+    if (!v || !*v) {
+        time_t t = time(NULL);
+        struct tm tm;
+        if (gmtime_r(&t, &tm) && strftime(now, sizeof now, "%Y-%m-%dT%H:%M:%SZ", &tm) > 0)
+            v = now;
+        else
+            v = "1970-01-01T00:00:00Z";
+    }
+    cpd_db_bind_text(st, idx, v, (size_t)-1);
+}
+
+void cpd_st_bind_opt(cpd_stmt *st, int idx, int valid, double v)
 {
     if (valid)
-        sqlite3_bind_double(st, idx, v);
+        cpd_db_bind_double(st, idx, v);
     else
-        sqlite3_bind_null(st, idx);
+        cpd_db_bind_null(st, idx);
 }
 
-double cpd_st_opt(sqlite3_stmt *st, int col, int *has)
+double cpd_st_opt(cpd_stmt *st, int col, int *has)
 {
-    int h = sqlite3_column_type(st, col) != SQLITE_NULL;
+    int h = cpd_db_type(st, col) != CPD_DB_NULL;
     if (has)
         *has = h;
-    return h ? sqlite3_column_double(st, col) : 0.0;
+    return h ? cpd_db_double(st, col) : 0.0;
 }
 
-int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sqlite3_stmt *, void *), void **out,
+int cpd_st_collect(cpd_store *s, cpd_stmt *st, size_t elem, void (*read)(cpd_stmt *, void *), void **out,
                    size_t *n, const char *what)
 {
     *out = NULL;
@@ -116,7 +138,7 @@ int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sql
     size_t cap = 0;
     unsigned char *v = NULL;
     int r, rc = CPD_OK;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
+    while ((r = cpd_db_step(st)) == CPD_DB_ROW) {
         if (*n == cap) {
             cap = cap ? 2 * cap : 16;
             unsigned char *nv = realloc(v, cap * elem);
@@ -128,8 +150,11 @@ int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sql
         }
         read(st, v + elem * (*n)++);
     }
-    if (!rc && r != SQLITE_DONE)
-        rc = cpd_st_err(s, CPD_ESTORE, "listing %s: %s", what, sqlite3_errmsg(s->db));
+    if (!rc && r != CPD_DB_DONE) {
+        char w[96];
+        snprintf(w, sizeof w, "listing %s", what);
+        rc = cpd_st_fail(s, w);
+    }
     if (rc) {
         free(v);
         *n = 0;
@@ -139,43 +164,60 @@ int cpd_st_collect(cpd_store *s, sqlite3_stmt *st, size_t elem, void (*read)(sql
     return CPD_OK;
 }
 
+/* SQLite starts a transaction at a savepoint outside one; PostgreSQL needs BEGIN first, so there
+ * the outermost savepoint is the transaction itself. */
 int cpd_st_savepoint(cpd_store *s)
 {
-    if (sqlite3_exec(s->db, "SAVEPOINT cpd_write", NULL, NULL, NULL) != SQLITE_OK)
+    int begins = s->engine == CPD_ENGINE_PG_ && !cpd_db_in_txn(s);
+    if (s->sp_depth >= 31)
+        return cpd_st_err(s, CPD_EINTERNAL, "savepoints nested too deep");
+    if (cpd_db_exec(s, begins ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "SAVEPOINT cpd_write") != CPD_DB_OK)
         return cpd_st_fail(s, "starting a write");
+    if (begins)
+        s->sp_begun |= 1u << s->sp_depth;
+    else
+        s->sp_begun &= ~(1u << s->sp_depth);
+    s->sp_depth++;
     return CPD_OK;
 }
 
 int cpd_st_release(cpd_store *s, int rc)
 {
+    int began = s->sp_depth > 0 && (s->sp_begun >> (s->sp_depth - 1) & 1u);
+    if (s->sp_depth > 0)
+        s->sp_depth--;
     if (rc != CPD_OK) {
-        sqlite3_exec(s->db, "ROLLBACK TO cpd_write; RELEASE cpd_write", NULL, NULL, NULL);
+        cpd_db_exec(s, began ? "ROLLBACK" : "ROLLBACK TO cpd_write; RELEASE cpd_write");
         return rc;
     }
-    if (sqlite3_exec(s->db, "RELEASE cpd_write", NULL, NULL, NULL) != SQLITE_OK)
-        return cpd_st_fail(s, "finishing a write");
+    if (cpd_db_exec(s, began ? "COMMIT" : "RELEASE cpd_write") != CPD_DB_OK) {
+        int frc = cpd_st_fail(s, "finishing a write");
+        if (began)
+            cpd_db_exec(s, "ROLLBACK");
+        return frc;
+    }
     return CPD_OK;
 }
 
-static void read_code(sqlite3_stmt *st, void *out)
+static void read_code(cpd_stmt *st, void *out)
 {
-    snprintf(out, CPD_CODE_MAX + 1, "%s", (const char *)sqlite3_column_text(st, 0));
+    snprintf(out, CPD_CODE_MAX + 1, "%s", cpd_db_text(st, 0));
 }
 
 int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_MAX + 1])
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     /* the same code in other letter case, when exactly one athlete has it */
-    int rc = cpd_st_prepare(s, "SELECT code FROM athlete WHERE code = ?1 COLLATE NOCASE ORDER BY code LIMIT 3", &st);
+    int rc = cpd_st_prepare(s, "SELECT code FROM athlete WHERE lower(code) = lower(?1) ORDER BY code LIMIT 3", &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, code, -1, SQLITE_TRANSIENT);
+    cpd_db_bind_text(st, 1, code, (size_t)-1);
     char found[3][CPD_CODE_MAX + 1];
     int n = 0, r;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW && n < 3)
-        snprintf(found[n++], sizeof found[0], "%s", (const char *)sqlite3_column_text(st, 0));
-    sqlite3_finalize(st);
-    if (r != SQLITE_DONE && r != SQLITE_ROW)
+    while ((r = cpd_db_step(st)) == CPD_DB_ROW && n < 3)
+        snprintf(found[n++], sizeof found[0], "%s", cpd_db_text(st, 0));
+    cpd_db_finalize(st);
+    if (r != CPD_DB_DONE && r != CPD_DB_ROW)
         return cpd_st_fail(s, "looking up an athlete");
     if (n == 1) {
         snprintf(canon, CPD_CODE_MAX + 1, "%s", found[0]);
@@ -190,7 +232,7 @@ int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_M
     if ((rc = cpd_st_prepare(s, "SELECT code FROM athlete ORDER BY code", &st)))
         return rc;
     rc = cpd_st_collect(s, st, sizeof *all, read_code, (void **)&all, &na, "athlete codes");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (rc)
         return rc;
     const char **ptr = na ? malloc(na * sizeof *ptr) : NULL;
@@ -208,19 +250,19 @@ int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_M
 
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT id FROM athlete WHERE code = ?1", &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, code, -1, SQLITE_TRANSIENT);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW)
-        *id = sqlite3_column_int64(st, 0);
-    else if (r != SQLITE_DONE)
+    cpd_db_bind_text(st, 1, code, (size_t)-1);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW)
+        *id = cpd_db_int64(st, 0);
+    else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "looking up an athlete");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     char canon[CPD_CODE_MAX + 1];
-    if (r == SQLITE_DONE && (rc = cpd_st_athlete_resolve(s, code, canon)) == CPD_OK)
+    if (r == CPD_DB_DONE && (rc = cpd_st_athlete_resolve(s, code, canon)) == CPD_OK)
         rc = cpd_st_athlete_id(s, canon, id);
     return rc;
 }
@@ -235,17 +277,59 @@ int cpd_store_latest_version(void)
     return cpd_store_migration_count;
 }
 
-int cpd_store_version(const cpd_store *s)
+
+int cpd_store_version(const cpd_store *cs)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_store *s = (cpd_store *)cs; /* reading the version changes nothing but the last-error fields */
+    cpd_stmt *st = NULL;
     int v = -1;
-    if (sqlite3_prepare_v2(s->db, "PRAGMA user_version", -1, &st, NULL) == SQLITE_OK && sqlite3_step(st) == SQLITE_ROW)
-        v = sqlite3_column_int(st, 0);
-    sqlite3_finalize(st);
+    if (s->engine == CPD_ENGINE_PG_) { /* a database without the table has no store yet: version 0 */
+        if (cpd_db_prepare(s, "SELECT to_regclass('cpd_version') IS NOT NULL", &st) == CPD_OK &&
+            cpd_db_step(st) == CPD_DB_ROW)
+            v = cpd_db_int(st, 0) ? -2 : 0;
+        cpd_db_finalize(st);
+        st = NULL;
+        if (v != -2)
+            return v;
+    }
+    if (cpd_db_prepare(s, s->engine == CPD_ENGINE_PG_ ? "SELECT max(version) FROM cpd_version" : "PRAGMA user_version",
+                       &st) == CPD_OK &&
+        cpd_db_step(st) == CPD_DB_ROW)
+        v = cpd_db_int(st, 0);
+    cpd_db_finalize(st);
     return v;
 }
 
-static int migrate(cpd_store *s)
+static int set_version(cpd_store *s, int v)
+{
+    char sql[160];
+    if (s->engine == CPD_ENGINE_PG_)
+        snprintf(sql, sizeof sql,
+                 "CREATE TABLE IF NOT EXISTS cpd_version (version INTEGER NOT NULL); DELETE FROM cpd_version; "
+                 "INSERT INTO cpd_version VALUES (%d)",
+                 v);
+    else
+        snprintf(sql, sizeof sql, "PRAGMA user_version = %d", v);
+    return cpd_db_exec(s, sql);
+}
+
+/* Migration k in the engine's words: as written for SQLite; for PostgreSQL with its types
+ * translated (cpd_pg_ddl) and followed by db/pg/'s file of the same number, if any. */
+static int run_migration(cpd_store *s, int k)
+{
+    if (s->engine != CPD_ENGINE_PG_)
+        return cpd_db_exec(s, cpd_store_migrations[k]);
+    char *ddl = cpd_pg_ddl(cpd_store_migrations[k]);
+    if (!ddl)
+        return cpd_st_err(s, CPD_ENOMEM, "out of memory"), CPD_DB_ERROR;
+    int r = cpd_db_exec(s, ddl);
+    free(ddl);
+    if (r == CPD_DB_OK && cpd_store_migrations_pg[k])
+        r = cpd_db_exec(s, cpd_store_migrations_pg[k]);
+    return r;
+}
+
+static int migrate(cpd_store *s, int create)
 {
     int v = cpd_store_version(s);
     if (v < 0)
@@ -257,29 +341,49 @@ static int migrate(cpd_store *s)
                           v, cpd_store_migration_count);
     if (v == cpd_store_migration_count)
         return CPD_OK;
-    if (sqlite3_exec(s->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
+    if (v == 0 && !create && s->engine == CPD_ENGINE_PG_)
+        return cpd_st_err(s, CPD_ENOENT, "no cpdomain store in the database %s: create it with 'cpdomain --db URI init'",
+                          s->where);
+    int pg = s->engine == CPD_ENGINE_PG_;
+    if (cpd_db_exec(s, pg ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "BEGIN IMMEDIATE") != CPD_DB_OK)
         return cpd_st_fail(s, "starting the upgrade");
+    if (pg) {
+        /* two first commands at once: the second waits here, then finds the work done */
+        if (cpd_db_exec(s, "SELECT pg_advisory_xact_lock(4242018)") != CPD_DB_OK) {
+            int rc = cpd_st_fail(s, "starting the upgrade");
+            cpd_db_exec(s, "ROLLBACK");
+            return rc;
+        }
+        if ((v = cpd_store_version(s)) == cpd_store_migration_count) {
+            cpd_db_exec(s, "COMMIT");
+            return CPD_OK;
+        }
+    }
     for (int k = v; k < cpd_store_migration_count; k++) {
-        char *e = NULL;
-        if (sqlite3_exec(s->db, cpd_store_migrations[k], NULL, NULL, &e) != SQLITE_OK) {
-            cpd_st_err(s, CPD_ESTORE, "upgrading the store with %s: %s", cpd_store_migration_files[k],
-                       e ? e : "unknown error");
-            sqlite3_free(e);
-            sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
-            return CPD_ESTORE;
+        if (run_migration(s, k) != CPD_DB_OK) {
+            if (s->errcode == CPD_DB_PERM)
+                cpd_st_err(s, CPD_ENOPERM,
+                           "the store needs upgrading to version %d, which only its owner may do: ask them to run "
+                           "'cpdomain --db URI init' (%s)",
+                           cpd_store_migration_count, cpd_db_errmsg(s));
+            else if (s->errcode == CPD_DB_RETRY)
+                cpd_st_fail(s, "upgrading the store");
+            else
+                cpd_st_err(s, CPD_ESTORE, "upgrading the store with %s: %s", cpd_store_migration_files[k],
+                           cpd_db_errmsg(s));
+            int rc = s->errcode == CPD_DB_PERM ? CPD_ENOPERM : s->errcode == CPD_DB_RETRY ? CPD_ETEMP : CPD_ESTORE;
+            cpd_db_exec(s, "ROLLBACK");
+            return rc;
         }
         /* 007 adds the compact encoding; the samples already stored are re-encoded now */
         if (strstr(cpd_store_migration_files[k], "007_") && cpd_st_session_pack(s)) {
-            sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+            cpd_db_exec(s, "ROLLBACK");
             return CPD_ESTORE;
         }
     }
-    char sql[64];
-    snprintf(sql, sizeof sql, "PRAGMA user_version = %d", cpd_store_migration_count);
-    if (sqlite3_exec(s->db, sql, NULL, NULL, NULL) != SQLITE_OK ||
-        sqlite3_exec(s->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
+    if (set_version(s, cpd_store_migration_count) != CPD_DB_OK || cpd_db_exec(s, "COMMIT") != CPD_DB_OK) {
         int rc = cpd_st_fail(s, "finishing the upgrade");
-        sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+        cpd_db_exec(s, "ROLLBACK");
         return rc;
     }
     return CPD_OK;
@@ -290,47 +394,29 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
     return cpd_store_open_wait(path, create, CPD_STORE_BUSY_MS, out, msg);
 }
 
+int cpd_store_is_server(const char *path)
+{
+    return cpd_pg_is_uri(path);
+}
+
 int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **out, char *msg)
 {
     *out = NULL;
     msg[0] = '\0';
+    int pg = cpd_pg_is_uri(path);
     struct stat sb;
-    if (!create && stat(path, &sb) != 0) {
+    if (!pg && !create && stat(path, &sb) != 0) {
         snprintf(msg, CPD_MSG_MAX, "no store at '%s': create it with 'cpdomain --db %s init'", path, path);
         return CPD_ENOENT;
     }
     cpd_store *s = calloc(1, sizeof *s);
     if (!s)
         return CPD_ENOMEM;
-    int flags = SQLITE_OPEN_READWRITE | (create ? SQLITE_OPEN_CREATE : 0);
-    int rc = CPD_OK;
-    if (sqlite3_open_v2(path, &s->db, flags, NULL) != SQLITE_OK) {
-        snprintf(msg, CPD_MSG_MAX, "cannot open the store '%s': %s", path,
-                 s->db ? sqlite3_errmsg(s->db) : "out of memory");
-        rc = CPD_ESTORE;
-        goto done;
-    }
     s->busy_ms = busy_ms > 0 ? busy_ms : 0;
-    sqlite3_busy_timeout(s->db, s->busy_ms);
-    sqlite3_extended_result_codes(s->db, 1);
-    /* A file that is not SQLite fails here, at the first read. */
-    if (sqlite3_exec(s->db, "PRAGMA foreign_keys = ON; PRAGMA journal_mode = WAL; PRAGMA synchronous = NORMAL",
-                     NULL, NULL, NULL) != SQLITE_OK) {
-        if ((sqlite3_errcode(s->db) & 0xff) == SQLITE_BUSY)
-            snprintf(msg, CPD_MSG_MAX, "%s", (busy_err(s, path), s->err));
-        else
-            snprintf(msg, CPD_MSG_MAX, "'%s' is not a cpdomain store: %s", path, sqlite3_errmsg(s->db));
-        rc = CPD_ESTORE;
-        goto done;
-    }
-    /* A command does not checkpoint the WAL when it closes: the write-ahead log is copied into the
-     * database once it holds more than WAL_KEEP_BYTES (cpd_store_close; README, "Durability and
-     * storage size"), not rewritten by every small command. */
-    sqlite3_db_config(s->db, SQLITE_DBCONFIG_NO_CKPT_ON_CLOSE, 1, NULL);
-    rc = migrate(s);
-    if (rc)
+    s->engine = pg ? CPD_ENGINE_PG_ : CPD_ENGINE_SQLITE_;
+    int rc = pg ? cpd_pg_open(s, path, msg) : cpd_lite_open(s, path, create, msg);
+    if (rc == CPD_OK && (rc = migrate(s, create)) != CPD_OK)
         snprintf(msg, CPD_MSG_MAX, "%s", s->err);
-done:
     if (rc) {
         cpd_store_close(s);
         return rc;
@@ -339,35 +425,32 @@ done:
     return CPD_OK;
 }
 
-/* The write-ahead log a command leaves behind, bytes: the next process reads it whole when it
- * opens the store, so a longer one is copied into the database and emptied at close. */
-#define WAL_KEEP_BYTES (1 << 20)
-
 void cpd_store_close(cpd_store *s)
 {
     if (!s)
         return;
-    const char *wal = s->db ? sqlite3_filename_wal(sqlite3_db_filename(s->db, "main")) : NULL;
-    struct stat sb;
-    if (wal && *wal && stat(wal, &sb) == 0 && sb.st_size > WAL_KEEP_BYTES)
-        sqlite3_wal_checkpoint_v2(s->db, NULL, SQLITE_CHECKPOINT_TRUNCATE, NULL, NULL); /* best effort */
-    sqlite3_close(s->db); /* every statement is finalized by its owner before this */
+    if (s->engine == CPD_ENGINE_PG_)
+        cpd_pg_close(s);
+    else
+        cpd_lite_close(s);
     cpd_codec_free(s->codec);
     free(s);
 }
 
 int cpd_store_begin(cpd_store *s)
 {
-    if (sqlite3_exec(s->db, "BEGIN IMMEDIATE", NULL, NULL, NULL) != SQLITE_OK)
+    s->sp_depth = 0;
+    if (cpd_db_exec(s, s->engine == CPD_ENGINE_PG_ ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "BEGIN IMMEDIATE") !=
+        CPD_DB_OK)
         return cpd_st_fail(s, "starting a transaction");
     return CPD_OK;
 }
 
 int cpd_store_commit(cpd_store *s)
 {
-    if (sqlite3_exec(s->db, "COMMIT", NULL, NULL, NULL) != SQLITE_OK) {
+    if (cpd_db_exec(s, "COMMIT") != CPD_DB_OK) {
         int rc = cpd_st_fail(s, "committing");
-        sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+        cpd_db_exec(s, "ROLLBACK");
         return rc;
     }
     return CPD_OK;
@@ -375,6 +458,16 @@ int cpd_store_commit(cpd_store *s)
 
 void cpd_store_rollback(cpd_store *s)
 {
-    if (s && !sqlite3_get_autocommit(s->db))
-        sqlite3_exec(s->db, "ROLLBACK", NULL, NULL, NULL);
+    if (s && cpd_db_in_txn(s))
+        cpd_db_exec(s, "ROLLBACK");
+}
+
+int cpd_store_engine(const cpd_store *s)
+{
+    return s->engine == CPD_ENGINE_PG_ ? CPD_ENGINE_PG : CPD_ENGINE_SQLITE;
+}
+
+int cpd_store_retryable(const cpd_store *s)
+{
+    return s && s->retryable;
 }

@@ -1,6 +1,6 @@
 /* store_dump.c: the whole store as typed values and back, driven by the schema the store itself
- * reports. Table and column names come from sqlite_master and are quoted as identifiers; every
- * value travels through a bound parameter. */
+ * reports (SQLite's sqlite_master and pragmas, PostgreSQL's catalogue, read the same way). Table and
+ * column names are quoted as identifiers; every value travels through a bound parameter. */
 #include "store_int.h"
 #include "cpdomain/store_dump.h"
 
@@ -217,23 +217,46 @@ typedef struct {
     long *parent; /* indices of the tables its foreign keys refer to */
 } deps;
 
+/* PostgreSQL's column types under the names the migrations declare (cpd_pg_ddl's inverse), so a
+ * dump describes the same schema on both engines. */
+static const char *declared_type(const char *pg)
+{
+    static const char *const map[][2] = {
+        {"bigint", "INTEGER"}, {"integer", "INTEGER"}, {"double precision", "REAL"}, {"text", "TEXT"}, {"bytea", "BLOB"},
+    };
+    for (size_t k = 0; k < sizeof map / sizeof map[0]; k++)
+        if (strcmp(pg, map[k][0]) == 0)
+            return map[k][1];
+    return pg;
+}
+
 static int read_columns(cpd_store *s, cpd_dump_table *t)
 {
-    sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT name, type, \"notnull\", pk FROM pragma_table_info(?1) ORDER BY cid", &st);
+    cpd_stmt *st = NULL;
+    int pg = s->engine == CPD_ENGINE_PG_;
+    int rc = cpd_st_prepare(
+        s,
+        pg ? "SELECT a.attname, format_type(a.atttypid, a.atttypmod), a.attnotnull::int, "
+             "COALESCE((SELECT k.n FROM pg_index i, unnest(i.indkey::int2[]) WITH ORDINALITY AS k(att, n) "
+             "WHERE i.indrelid = a.attrelid AND i.indisprimary AND k.att = a.attnum), 0) "
+             "FROM pg_attribute a WHERE a.attrelid = to_regclass(quote_ident(?1)) AND a.attnum > 0 AND NOT "
+             "a.attisdropped ORDER BY a.attnum"
+           : "SELECT name, type, \"notnull\", pk FROM pragma_table_info(?1) ORDER BY cid",
+        &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, t->name, -1, SQLITE_TRANSIENT);
+    cpd_db_bind_text(st, 1, t->name, (size_t)-1);
     int r;
-    while (rc == CPD_OK && (r = sqlite3_step(st)) == SQLITE_ROW) {
-        const char *name = (const char *)sqlite3_column_text(st, 0);
-        const char *type = (const char *)sqlite3_column_text(st, 1);
-        rc = cpd_dump_add_column(t, name ? name : "", type ? type : "", sqlite3_column_int(st, 2),
-                                 sqlite3_column_int(st, 3));
+    while (rc == CPD_OK && (r = cpd_db_step(st)) == CPD_DB_ROW) {
+        const char *name = cpd_db_text(st, 0);
+        const char *type = cpd_db_text(st, 1);
+        if (pg && type)
+            type = declared_type(type);
+        rc = cpd_dump_add_column(t, name ? name : "", type ? type : "", cpd_db_int(st, 2), cpd_db_int(st, 3));
     }
-    if (rc == CPD_OK && r != SQLITE_DONE)
+    if (rc == CPD_OK && r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading the columns of a table");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (rc == CPD_OK && t->ncols == 0)
         rc = cpd_st_err(s, CPD_EINTERNAL, "table '%s' has no columns", t->name);
     return rc;
@@ -241,14 +264,19 @@ static int read_columns(cpd_store *s, cpd_dump_table *t)
 
 static int read_parents(cpd_store *s, const cpd_dump *d, size_t k, deps *dp)
 {
-    sqlite3_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT DISTINCT \"table\" FROM pragma_foreign_key_list(?1)", &st);
+    cpd_stmt *st = NULL;
+    int rc = cpd_st_prepare(s,
+                            s->engine == CPD_ENGINE_PG_
+                                ? "SELECT DISTINCT confrelid::regclass::text FROM pg_constraint WHERE conrelid = "
+                                  "to_regclass(quote_ident(?1)) AND contype = 'f'"
+                                : "SELECT DISTINCT \"table\" FROM pragma_foreign_key_list(?1)",
+                            &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, d->table[k].name, -1, SQLITE_TRANSIENT);
+    cpd_db_bind_text(st, 1, d->table[k].name, (size_t)-1);
     int r;
-    while ((r = sqlite3_step(st)) == SQLITE_ROW) {
-        const char *parent = (const char *)sqlite3_column_text(st, 0);
+    while ((r = cpd_db_step(st)) == CPD_DB_ROW) {
+        const char *parent = cpd_db_text(st, 0);
         long p = -1;
         /* The parent's name in a foreign key is case-insensitive, as SQLite resolves it. */
         for (size_t j = 0; parent && j < d->ntables; j++)
@@ -264,9 +292,9 @@ static int read_parents(cpd_store *s, const cpd_dump *d, size_t k, deps *dp)
         dp->parent = np;
         dp->parent[dp->nparents++] = p;
     }
-    if (rc == CPD_OK && r != SQLITE_DONE)
+    if (rc == CPD_OK && r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading the foreign keys of a table");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -316,7 +344,7 @@ int cpd_store_dump_schema(cpd_store *s, cpd_dump **out)
 {
     *out = NULL;
     deps *dp = NULL;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     cpd_dump *d = cpd_dump_alloc();
     int rc = d ? CPD_OK : CPD_ENOMEM;
     if (rc)
@@ -326,21 +354,27 @@ int cpd_store_dump_schema(cpd_store *s, cpd_dump **out)
         rc = cpd_st_fail(s, "reading the store version");
         goto done;
     }
+    /* the tables in the order they were made, without the engine's own (and PostgreSQL's cpd_
+     * tables: the schema version and the squads' access grants belong to the server, not the data) */
     rc = cpd_st_prepare(s,
-                        "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite\\_%' ESCAPE '\\' "
-                        "ORDER BY rowid",
+                        s->engine == CPD_ENGINE_PG_
+                            ? "SELECT c.relname FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace "
+                              "WHERE n.nspname = current_schema() AND c.relkind = 'r' AND c.relname NOT LIKE "
+                              "'cpd\\_%' ESCAPE '\\' ORDER BY c.oid"
+                            : "SELECT name FROM sqlite_master WHERE type = 'table' AND name NOT LIKE 'sqlite\\_%' "
+                              "ESCAPE '\\' ORDER BY rowid",
                         &st);
     if (rc)
         goto done;
     int r;
-    while (rc == CPD_OK && (r = sqlite3_step(st)) == SQLITE_ROW) {
+    while (rc == CPD_OK && (r = cpd_db_step(st)) == CPD_DB_ROW) {
         cpd_dump_table *t = NULL;
-        const char *name = (const char *)sqlite3_column_text(st, 0);
+        const char *name = cpd_db_text(st, 0);
         rc = cpd_dump_add_table(d, name ? name : "", &t);
     }
-    if (rc == CPD_OK && r != SQLITE_DONE)
+    if (rc == CPD_OK && r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "listing the tables of the store");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     st = NULL;
     if (rc)
         goto done;
@@ -369,9 +403,9 @@ done:
 
 /* ---- rows out ---- */
 
-/* "SELECT "a", "b" FROM "t" ORDER BY <order>"; order is rowid, or the primary key for a table
- * without one (a WITHOUT ROWID table). */
-static char *select_sql(const cpd_dump_table *t, int by_rowid)
+/* "SELECT "a", "b" FROM "t" ORDER BY <primary key>" (every column, for a table without one): an
+ * order both engines keep, whatever order the rows went in. */
+static char *select_sql(const cpd_dump_table *t)
 {
     sbuf b = {0};
     sb_str(&b, "SELECT ");
@@ -383,20 +417,19 @@ static char *select_sql(const cpd_dump_table *t, int by_rowid)
     sb_str(&b, " FROM ");
     sb_ident(&b, t->name);
     sb_str(&b, " ORDER BY ");
-    if (by_rowid)
-        sb_str(&b, "rowid");
-    else {
-        int first = 1;
-        for (int k = 1; k <= (int)t->ncols; k++)
-            for (size_t j = 0; j < t->ncols; j++)
-                if (t->col[j].pk == k) {
-                    if (!first)
-                        sb_str(&b, ", ");
-                    sb_ident(&b, t->col[j].name);
-                    first = 0;
-                }
-        if (first)
-            sb_str(&b, "1");
+    int first = 1;
+    for (int k = 1; k <= (int)t->ncols; k++)
+        for (size_t j = 0; j < t->ncols; j++)
+            if (t->col[j].pk == k) {
+                if (!first)
+                    sb_str(&b, ", ");
+                sb_ident(&b, t->col[j].name);
+                first = 0;
+            }
+    for (size_t j = 0; first && j < t->ncols; j++) {
+        if (j)
+            sb_str(&b, ", ");
+        sb_ident(&b, t->col[j].name);
     }
     if (b.oom) {
         free(b.p);
@@ -405,25 +438,25 @@ static char *select_sql(const cpd_dump_table *t, int by_rowid)
     return b.p;
 }
 
-static int read_value(sqlite3_stmt *st, int j, cpd_value *v)
+static int read_value(cpd_stmt *st, int j, cpd_value *v)
 {
-    switch (sqlite3_column_type(st, j)) {
-    case SQLITE_INTEGER:
+    switch (cpd_db_type(st, j)) {
+    case CPD_DB_INTEGER:
         v->type = CPD_VAL_INTEGER;
-        v->i = sqlite3_column_int64(st, j);
+        v->i = cpd_db_int64(st, j);
         return CPD_OK;
-    case SQLITE_FLOAT:
+    case CPD_DB_FLOAT:
         v->type = CPD_VAL_REAL;
-        v->r = sqlite3_column_double(st, j);
+        v->r = cpd_db_double(st, j);
         return CPD_OK;
-    case SQLITE_TEXT: {
-        const unsigned char *p = sqlite3_column_text(st, j);
-        size_t n = (size_t)sqlite3_column_bytes(st, j);
+    case CPD_DB_TEXT: {
+        const char *p = cpd_db_text(st, j);
+        size_t n = cpd_db_bytes(st, j);
         return p ? cpd_value_set_text(v, p, n) : CPD_ENOMEM;
     }
-    case SQLITE_BLOB: {
-        const void *p = sqlite3_column_blob(st, j);
-        size_t n = (size_t)sqlite3_column_bytes(st, j);
+    case CPD_DB_BLOB: {
+        const void *p = cpd_db_blob(st, j);
+        size_t n = (size_t)cpd_db_bytes(st, j);
         if (!p && n)
             return CPD_ENOMEM;
         return cpd_value_set_blob(v, p, n);
@@ -436,34 +469,24 @@ static int read_value(sqlite3_stmt *st, int j, cpd_value *v)
 
 static int read_rows(cpd_store *s, cpd_dump_table *t)
 {
-    sqlite3_stmt *st = NULL;
-    char *sql = select_sql(t, 1);
+    cpd_stmt *st = NULL;
+    char *sql = select_sql(t);
     if (!sql)
         return CPD_ENOMEM;
-    if (sqlite3_prepare_v2(s->db, sql, -1, &st, NULL) != SQLITE_OK) {
-        /* Only a WITHOUT ROWID table has no rowid to order by. */
-        sqlite3_finalize(st);
-        st = NULL;
-        free(sql);
-        if (!(sql = select_sql(t, 0)))
-            return CPD_ENOMEM;
-        int rc = cpd_st_prepare(s, sql, &st);
-        if (rc) {
-            free(sql);
-            return rc;
-        }
-    }
+    int prc = cpd_st_prepare(s, sql, &st);
     free(sql);
+    if (prc)
+        return prc;
     int rc = CPD_OK, r;
-    while (rc == CPD_OK && (r = sqlite3_step(st)) == SQLITE_ROW) {
+    while (rc == CPD_OK && (r = cpd_db_step(st)) == CPD_DB_ROW) {
         cpd_value *row = NULL;
         rc = cpd_dump_add_row(t, &row);
         for (size_t j = 0; rc == CPD_OK && j < t->ncols; j++)
             rc = read_value(st, (int)j, &row[j]);
     }
-    if (rc == CPD_OK && r != SQLITE_DONE)
+    if (rc == CPD_OK && r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading the rows of a table");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -496,16 +519,16 @@ static int count_rows(cpd_store *s, const char *table, int64_t *n)
         free(b.p);
         return CPD_ENOMEM;
     }
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, b.p, &st);
     free(b.p);
     if (rc)
         return rc;
-    if (sqlite3_step(st) == SQLITE_ROW)
-        *n = sqlite3_column_int64(st, 0);
+    if (cpd_db_step(st) == CPD_DB_ROW)
+        *n = cpd_db_int64(st, 0);
     else
         rc = cpd_st_fail(s, "counting the rows of a table");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -526,27 +549,25 @@ int cpd_store_check_empty(cpd_store *s)
     return rc;
 }
 
-static int bind_value(sqlite3_stmt *st, int idx, const cpd_value *v)
+static int bind_value(cpd_stmt *st, int idx, const cpd_value *v)
 {
     switch (v->type) {
     case CPD_VAL_INTEGER:
-        return sqlite3_bind_int64(st, idx, v->i);
+        return cpd_db_bind_int64(st, idx, v->i);
     case CPD_VAL_REAL:
-        return sqlite3_bind_double(st, idx, v->r);
+        return cpd_db_bind_double(st, idx, v->r);
     case CPD_VAL_TEXT:
-        return sqlite3_bind_text64(st, idx, v->p ? (const char *)v->p : "", v->n, SQLITE_STATIC, SQLITE_UTF8);
+        return cpd_db_bind_text(st, idx, v->p ? (const char *)v->p : "", v->n);
     case CPD_VAL_BLOB:
-        /* sqlite3_bind_blob with a NULL pointer would bind NULL, not an empty blob. */
-        if (v->n == 0)
-            return sqlite3_bind_zeroblob(st, idx, 0);
-        return sqlite3_bind_blob64(st, idx, v->p, v->n, SQLITE_STATIC);
+        return cpd_db_bind_blob(st, idx, v->p, v->n);
     default:
-        return sqlite3_bind_null(st, idx);
+        return cpd_db_bind_null(st, idx);
     }
 }
 
-/* "INSERT INTO "t" ("a", "b") VALUES (?1, ?2)" with the columns of src. */
-static char *insert_sql(const cpd_dump_table *src)
+/* "INSERT INTO "t" ("a", "b") VALUES (?1, ?2)" with the columns of src; on SQLite with
+ * "RETURNING rowid", to locate a foreign-key violation found at the end. */
+static char *insert_sql(const cpd_dump_table *src, int rowid)
 {
     sbuf b = {0};
     sb_str(&b, "INSERT INTO ");
@@ -563,7 +584,7 @@ static char *insert_sql(const cpd_dump_table *src)
         snprintf(q, sizeof q, "%s?%zu", j ? ", " : "", j + 1);
         sb_str(&b, q);
     }
-    sb_str(&b, ")");
+    sb_str(&b, rowid ? ") RETURNING rowid" : ")");
     if (b.oom) {
         free(b.p);
         return NULL;
@@ -590,29 +611,37 @@ static int check_columns(cpd_store *s, const cpd_dump_table *have, const cpd_dum
  * violation later). */
 static int insert_rows(cpd_store *s, const cpd_dump_table *src, int64_t *rowid, size_t *bad_row)
 {
-    char *sql = insert_sql(src);
+    int lite = s->engine != CPD_ENGINE_PG_;
+    char *sql = insert_sql(src, lite);
     if (!sql)
         return CPD_ENOMEM;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, sql, &st);
     free(sql);
+    if (rc && lite) { /* a WITHOUT ROWID table has no rowid to return */
+        lite = 0;
+        if (!(sql = insert_sql(src, 0)))
+            return CPD_ENOMEM;
+        rc = cpd_st_prepare(s, sql, &st);
+        free(sql);
+    }
     for (size_t i = 0; rc == CPD_OK && i < src->nrows; i++) {
         const cpd_value *row = &src->val[i * src->ncols];
-        sqlite3_reset(st);
+        cpd_db_reset(st);
         for (size_t j = 0; rc == CPD_OK && j < src->ncols; j++)
-            if (bind_value(st, (int)j + 1, &row[j]) != SQLITE_OK)
+            if (bind_value(st, (int)j + 1, &row[j]) != CPD_DB_OK)
                 rc = cpd_st_fail(s, "binding a value");
         if (rc)
             break;
-        int r = sqlite3_step(st);
-        if (r != SQLITE_DONE) {
+        int r = cpd_db_step(st);
+        if (r != (lite ? CPD_DB_ROW : CPD_DB_DONE)) {
             *bad_row = i;
-            rc = (r & 0xff) == SQLITE_CONSTRAINT ? cpd_st_err(s, CPD_EDATA, "%s", sqlite3_errmsg(s->db))
+            rc = (r & 0xff) == CPD_DB_CONSTRAINT ? cpd_st_err(s, CPD_EDATA, "%s", cpd_db_errmsg(s))
                                                  : cpd_st_fail(s, "inserting a row");
         }
-        rowid[i] = sqlite3_last_insert_rowid(s->db);
+        rowid[i] = lite && r == CPD_DB_ROW ? cpd_db_int64(st, 0) : -1;
     }
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -620,25 +649,63 @@ static int insert_rows(cpd_store *s, const cpd_dump_table *src, int64_t *rowid, 
  * rowid among the rows just inserted; *bad_row stays SIZE_MAX for a WITHOUT ROWID table. */
 static int check_foreign_keys(cpd_store *s, const char *table, const int64_t *rowid, size_t nrows, size_t *bad_row)
 {
-    sqlite3_stmt *st = NULL;
+    if (s->engine == CPD_ENGINE_PG_) /* PostgreSQL checked each row as it went in */
+        return CPD_OK;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT rowid, parent FROM pragma_foreign_key_check(?1)", &st);
     if (rc)
         return rc;
-    sqlite3_bind_text(st, 1, table, -1, SQLITE_TRANSIENT);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW) {
-        int has_rowid = sqlite3_column_type(st, 0) != SQLITE_NULL;
-        int64_t id = sqlite3_column_int64(st, 0);
+    cpd_db_bind_text(st, 1, table, (size_t)-1);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW) {
+        int has_rowid = cpd_db_type(st, 0) != CPD_DB_NULL;
+        int64_t id = cpd_db_int64(st, 0);
         for (size_t i = 0; has_rowid && i < nrows && *bad_row == SIZE_MAX; i++)
             if (rowid[i] == id)
                 *bad_row = i;
-        const unsigned char *parent = sqlite3_column_text(st, 1);
+        const char *parent = cpd_db_text(st, 1);
         rc = cpd_st_err(s, CPD_EDATA, "FOREIGN KEY constraint failed: no row of '%s' that it refers to",
                         parent ? (const char *)parent : "?");
-    } else if (r != SQLITE_DONE)
+    } else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "checking foreign keys");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
+}
+
+/* PostgreSQL: rows that came in with their ids leave an identity column's sequence behind; it
+ * continues after the highest id, as SQLite's next rowid does. */
+static int advance_identity(cpd_store *s, const cpd_dump_table *t)
+{
+    for (size_t j = 0; j < t->ncols; j++) {
+        if (t->col[j].pk != 1 || strcmp(t->col[j].decl_type, "INTEGER") != 0)
+            continue;
+        sbuf b = {0};
+        sb_str(&b, "SELECT setval(pg_get_serial_sequence(quote_ident(?1), ?2), COALESCE(max(");
+        sb_ident(&b, t->col[j].name);
+        sb_str(&b, "), 1), max(");
+        sb_ident(&b, t->col[j].name);
+        sb_str(&b, ") IS NOT NULL) FROM ");
+        sb_ident(&b, t->name);
+        sb_str(&b, " WHERE pg_get_serial_sequence(quote_ident(?1), ?2) IS NOT NULL");
+        if (b.oom) {
+            free(b.p);
+            return CPD_ENOMEM;
+        }
+        cpd_stmt *st = NULL;
+        int rc = cpd_st_prepare(s, b.p, &st);
+        free(b.p);
+        if (rc)
+            return rc;
+        cpd_db_bind_text(st, 1, t->name, (size_t)-1);
+        cpd_db_bind_text(st, 2, t->col[j].name, (size_t)-1);
+        int r;
+        while ((r = cpd_db_step(st)) == CPD_DB_ROW)
+            ;
+        cpd_db_finalize(st);
+        if (r != CPD_DB_DONE)
+            return cpd_st_fail(s, "continuing the numbering of restored rows");
+    }
+    return CPD_OK;
 }
 
 int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t *bad_row)
@@ -682,7 +749,7 @@ int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t
     /* Parents first, yet a self-reference or a cycle can still point forward: foreign keys are
      * checked once everything is in (defer_foreign_keys, reset when the transaction ends), table by
      * table, so that a failure still names its row. */
-    if (sqlite3_exec(s->db, "PRAGMA defer_foreign_keys = ON", NULL, NULL, NULL) != SQLITE_OK) {
+    if (s->engine != CPD_ENGINE_PG_ && cpd_db_exec(s, "PRAGMA defer_foreign_keys = ON") != CPD_DB_OK) {
         rc = cpd_st_fail(s, "deferring foreign keys");
         goto done;
     }
@@ -702,13 +769,15 @@ int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t
             rc == CPD_EDATA)
             *bad_table = (size_t)k;
     }
+    for (size_t h = 0; h < have->ntables && rc == CPD_OK && s->engine == CPD_ENGINE_PG_; h++)
+        rc = advance_identity(s, &have->table[h]);
 done:
     for (size_t k = 0; rowids && k < d->ntables; k++)
         free(rowids[k]);
     free(rowids);
     cpd_dump_free(have);
     rc = cpd_st_release(s, rc);
-    if (deferred)
-        sqlite3_exec(s->db, "PRAGMA defer_foreign_keys = OFF", NULL, NULL, NULL);
+    if (deferred && s->engine != CPD_ENGINE_PG_)
+        cpd_db_exec(s, "PRAGMA defer_foreign_keys = OFF");
     return rc;
 }

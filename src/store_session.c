@@ -42,7 +42,7 @@ static double **channel_slot(cpd_session_samples *x, size_t k)
 
 /* Encodes n values (weights w or NULL, store_codec.h) into buf (cpd_codec_bound(n) bytes) and
  * binds them as a BLOB at idx. */
-static int bind_packed(cpd_store *s, sqlite3_stmt *st, int idx, const double *v, const double *w, size_t n,
+static int bind_packed(cpd_store *s, cpd_stmt *st, int idx, const double *v, const double *w, size_t n,
                        unsigned char *buf)
 {
     size_t len = 0;
@@ -50,16 +50,16 @@ static int bind_packed(cpd_store *s, sqlite3_stmt *st, int idx, const double *v,
     int rc = z ? cpd_codec_encode(z, v, w, n, buf, cpd_codec_bound(n), &len) : CPD_ENOMEM;
     if (rc)
         return cpd_st_err(s, rc, "encoding %zu values for the store: %s", n, cpd_strerror(rc));
-    sqlite3_bind_blob(st, idx, buf, (int)len, SQLITE_STATIC);
+    cpd_db_bind_blob(st, idx, buf, (int)len);
     return CPD_OK;
 }
 
 /* Reads BLOB column col as n values into out: the packed encoding (weights w or NULL) or, from
  * a store written before 007, n binary64 values. */
-static int column_series(cpd_store *s, sqlite3_stmt *st, int col, int packed, const double *w, size_t n, double *out)
+static int column_series(cpd_store *s, cpd_stmt *st, int col, int packed, const double *w, size_t n, double *out)
 {
-    const void *blob = sqlite3_column_blob(st, col);
-    size_t bytes = (size_t)sqlite3_column_bytes(st, col);
+    const void *blob = cpd_db_blob(st, col);
+    size_t bytes = (size_t)cpd_db_bytes(st, col);
     if (!packed) {
         if (bytes != 8 * n)
             return CPD_EDATA;
@@ -75,26 +75,26 @@ static int column_series(cpd_store *s, sqlite3_stmt *st, int col, int packed, co
 
 static int season_join(cpd_store *s, int64_t aid, int speed, const cpd_mmp_curve *c, int64_t id, const char *date);
 
-static int put_blob(cpd_store *s, sqlite3_stmt *st, int64_t id, const char *name, const double *v, size_t n,
+static int put_blob(cpd_store *s, cpd_stmt *st, int64_t id, const char *name, const double *v, size_t n,
                     unsigned char *buf)
 {
-    sqlite3_reset(st);
-    sqlite3_bind_int64(st, 1, id);
-    sqlite3_bind_text(st, 2, name, -1, SQLITE_STATIC);
+    cpd_db_reset(st);
+    cpd_db_bind_int64(st, 1, id);
+    cpd_db_bind_text(st, 2, name, (size_t)-1);
     int rc = bind_packed(s, st, 3, v, NULL, n, buf);
     if (rc)
         return rc;
-    if (sqlite3_step(st) != SQLITE_DONE)
+    if (cpd_db_step(st) != CPD_DB_DONE)
         return cpd_st_fail(s, "storing session samples");
     return CPD_OK;
 }
 
-static void bind_opt(sqlite3_stmt *st, int idx, int valid, double v)
+static void bind_opt(cpd_stmt *st, int idx, int valid, double v)
 {
     if (valid)
-        sqlite3_bind_double(st, idx, v);
+        cpd_db_bind_double(st, idx, v);
     else
-        sqlite3_bind_null(st, idx);
+        cpd_db_bind_null(st, idx);
 }
 
 int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_session_samples *x,
@@ -119,7 +119,7 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     unsigned char *buf = malloc(cpd_codec_bound(most));
     if (!buf)
         return CPD_ENOMEM;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if ((rc = cpd_st_savepoint(s))) {
         free(buf);
         return rc;
@@ -130,46 +130,46 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
                         "filled_s, n_splits, n_spikes, spike_max, mean_value, max_value, end_value, work_above_end, "
                         "note, source_file, imported_at) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12, "
                         "?13, ?14, ?15, ?16, ?17, ?18, ?19, ?20, ?21, ?22, ?23, ?24, ?25, "
-                        "COALESCE(?26, strftime('%Y-%m-%dT%H:%M:%SZ', 'now')))",
+                        "?26) RETURNING id",
                         &st);
     if (rc)
         goto done;
     char h[17];
     hash_text(r->hash, h);
-    sqlite3_bind_int64(st, 1, aid);
-    sqlite3_bind_text(st, 2, kind_sql(r->allout), -1, SQLITE_STATIC);
-    sqlite3_bind_text(st, 3, r->date, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_text(st, 4, r->speed ? "speed" : "power", -1, SQLITE_STATIC);
-    sqlite3_bind_text(st, 5, h, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_int64(st, 6, (sqlite3_int64)x->n);
-    sqlite3_bind_double(st, 7, r->spike_limit);
-    sqlite3_bind_double(st, 8, r->test_start_s);
-    sqlite3_bind_double(st, 9, r->elapsed_s);
+    cpd_db_bind_int64(st, 1, aid);
+    cpd_db_bind_text(st, 2, kind_sql(r->allout), (size_t)-1);
+    cpd_db_bind_text(st, 3, r->date, (size_t)-1);
+    cpd_db_bind_text(st, 4, r->speed ? "speed" : "power", (size_t)-1);
+    cpd_db_bind_text(st, 5, h, (size_t)-1);
+    cpd_db_bind_int64(st, 6, (int64_t)x->n);
+    cpd_db_bind_double(st, 7, r->spike_limit);
+    cpd_db_bind_double(st, 8, r->test_start_s);
+    cpd_db_bind_double(st, 9, r->elapsed_s);
     const size_t counts[] = {r->recorded_s, r->missing_s, r->longest_s, r->n_segments, r->n_dropouts,
                              r->dropout_s,  r->filled_s,  r->n_splits,  r->n_spikes};
     for (int k = 0; k < 9; k++)
-        sqlite3_bind_int64(st, 10 + k, (sqlite3_int64)counts[k]);
-    sqlite3_bind_double(st, 19, r->spike_max);
-    sqlite3_bind_double(st, 20, r->mean_value);
-    sqlite3_bind_double(st, 21, r->max_value);
+        cpd_db_bind_int64(st, 10 + k, (int64_t)counts[k]);
+    cpd_db_bind_double(st, 19, r->spike_max);
+    cpd_db_bind_double(st, 20, r->mean_value);
+    cpd_db_bind_double(st, 21, r->max_value);
     bind_opt(st, 22, r->has_allout, r->end_value);
     bind_opt(st, 23, r->has_allout, r->work_above_end);
-    sqlite3_bind_text(st, 24, r->note, -1, SQLITE_TRANSIENT);
+    cpd_db_bind_text(st, 24, r->note, (size_t)-1);
     cpd_st_bind_text(st, 25, r->source_file, 1);
-    cpd_st_bind_text(st, 26, r->imported_at, 1);
-    if (sqlite3_step(st) != SQLITE_DONE) {
+    cpd_st_bind_stamp(st, 26, r->imported_at);
+    if (cpd_db_step(st) != CPD_DB_ROW) {
         rc = cpd_st_fail(s, "storing a session");
         goto done;
     }
-    *id = sqlite3_last_insert_rowid(s->db);
-    sqlite3_finalize(st);
+    *id = cpd_db_int64(st, 0);
+    cpd_db_finalize(st);
     st = NULL;
     if ((rc = cpd_st_prepare(s, "INSERT INTO session_channel (session_id, channel, data, packed) VALUES (?1, ?2, ?3, 1)", &st)))
         goto done;
     for (size_t k = 0; k < NCHAN; k++)
         if (channel_data(x, k) && (rc = put_blob(s, st, *id, channel_name(k, r->speed), channel_data(x, k), x->n, buf)))
             goto done;
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     st = NULL;
     if (!curve || curve->n == 0)
         goto done;
@@ -178,10 +178,10 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
                              "VALUES (?1, ?2, ?3, ?4, ?5, ?6, 1)",
                              &st)))
         goto done;
-    sqlite3_bind_int64(st, 1, *id);
-    sqlite3_bind_int64(st, 2, (sqlite3_int64)curve->n);
-    sqlite3_bind_int(st, 3, CPD_MMP_FINE_S);
-    sqlite3_bind_int(st, 4, CPD_MMP_COARSE_STEP_S);
+    cpd_db_bind_int64(st, 1, *id);
+    cpd_db_bind_int64(st, 2, (int64_t)curve->n);
+    cpd_db_bind_int64(st, 3, CPD_MMP_FINE_S);
+    cpd_db_bind_int64(st, 4, CPD_MMP_COARSE_STEP_S);
     unsigned char *sb = malloc(cpd_codec_bound(curve->n));
     if (!sb) {
         rc = CPD_ENOMEM;
@@ -189,13 +189,13 @@ int cpd_store_session_add(cpd_store *s, const cpd_session_rec *r, const cpd_sess
     }
     /* the values weighted by their durations: a mean of whole watts is kept as its whole sum */
     if (!(rc = bind_packed(s, st, 5, curve->value, curve->duration_s, curve->n, buf)) &&
-        !(rc = bind_packed(s, st, 6, curve->start_s, NULL, curve->n, sb)) && sqlite3_step(st) != SQLITE_DONE)
+        !(rc = bind_packed(s, st, 6, curve->start_s, NULL, curve->n, sb)) && cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, "storing a session's curve");
     free(sb);
     if (!rc && !r->allout)
         rc = season_join(s, aid, r->speed, curve, *id, r->date);
 done:
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     free(buf);
     return cpd_st_release(s, rc);
 }
@@ -205,27 +205,27 @@ int cpd_store_session_find(cpd_store *s, const char *code, int allout, uint64_t 
     *id = 0;
     if (found_code)
         found_code[0] = '\0';
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s,
                             "SELECT s.id, a.code FROM session s JOIN athlete a ON a.id = s.athlete_id "
-                            "WHERE s.content_hash = ?1 AND s.kind = ?2 AND (?3 IS NULL OR a.code = ?3) "
+                            "WHERE s.content_hash = ?1 AND s.kind = ?2 AND (CAST(?3 AS TEXT) IS NULL OR a.code = ?3) "
                             "ORDER BY s.id LIMIT 1",
                             &st);
     if (rc)
         return rc;
     char h[17];
     hash_text(hash, h);
-    sqlite3_bind_text(st, 1, h, -1, SQLITE_TRANSIENT);
-    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    cpd_db_bind_text(st, 1, h, (size_t)-1);
+    cpd_db_bind_text(st, 2, kind_sql(allout), (size_t)-1);
     cpd_st_bind_text(st, 3, code, 0);
-    int r = sqlite3_step(st);
-    if (r == SQLITE_ROW) {
-        *id = sqlite3_column_int64(st, 0);
+    int r = cpd_db_step(st);
+    if (r == CPD_DB_ROW) {
+        *id = cpd_db_int64(st, 0);
         if (found_code)
             cpd_st_text(st, 1, found_code, CPD_CODE_MAX + 1);
-    } else if (r != SQLITE_DONE)
+    } else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "looking for a stored file");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -235,32 +235,32 @@ int cpd_store_session_find(cpd_store *s, const char *code, int allout, uint64_t 
     "s.n_splits, s.n_spikes, s.spike_max, s.mean_value, s.max_value, s.end_value, s.work_above_end, s.note, "    \
     "s.source_file, s.imported_at"
 
-static void read_rec(sqlite3_stmt *st, cpd_session_rec *r)
+static void read_rec(cpd_stmt *st, cpd_session_rec *r)
 {
     memset(r, 0, sizeof *r);
-    r->id = sqlite3_column_int64(st, 0);
+    r->id = cpd_db_int64(st, 0);
     cpd_st_text(st, 1, r->athlete, sizeof r->athlete);
-    const unsigned char *k = sqlite3_column_text(st, 2);
+    const char *k = cpd_db_text(st, 2);
     r->allout = k && strcmp((const char *)k, "allout") == 0;
     cpd_st_text(st, 3, r->date, sizeof r->date);
-    const unsigned char *m = sqlite3_column_text(st, 4);
+    const char *m = cpd_db_text(st, 4);
     r->speed = m && strcmp((const char *)m, "speed") == 0;
-    const unsigned char *h = sqlite3_column_text(st, 5);
+    const char *h = cpd_db_text(st, 5);
     r->hash = h ? strtoull((const char *)h, NULL, 16) : 0;
-    r->n_samples = (size_t)sqlite3_column_int64(st, 6);
-    r->spike_limit = sqlite3_column_double(st, 7);
-    r->test_start_s = sqlite3_column_double(st, 8);
-    r->elapsed_s = sqlite3_column_double(st, 9);
+    r->n_samples = (size_t)cpd_db_int64(st, 6);
+    r->spike_limit = cpd_db_double(st, 7);
+    r->test_start_s = cpd_db_double(st, 8);
+    r->elapsed_s = cpd_db_double(st, 9);
     size_t *counts[] = {&r->recorded_s, &r->missing_s, &r->longest_s, &r->n_segments, &r->n_dropouts,
                         &r->dropout_s,  &r->filled_s,  &r->n_splits,  &r->n_spikes};
     for (int c = 0; c < 9; c++)
-        *counts[c] = (size_t)sqlite3_column_int64(st, 10 + c);
-    r->spike_max = sqlite3_column_double(st, 19);
-    r->mean_value = sqlite3_column_double(st, 20);
-    r->max_value = sqlite3_column_double(st, 21);
-    r->has_allout = sqlite3_column_type(st, 22) != SQLITE_NULL;
-    r->end_value = r->has_allout ? sqlite3_column_double(st, 22) : 0;
-    r->work_above_end = r->has_allout ? sqlite3_column_double(st, 23) : 0;
+        *counts[c] = (size_t)cpd_db_int64(st, 10 + c);
+    r->spike_max = cpd_db_double(st, 19);
+    r->mean_value = cpd_db_double(st, 20);
+    r->max_value = cpd_db_double(st, 21);
+    r->has_allout = cpd_db_type(st, 22) != CPD_DB_NULL;
+    r->end_value = r->has_allout ? cpd_db_double(st, 22) : 0;
+    r->work_above_end = r->has_allout ? cpd_db_double(st, 23) : 0;
     cpd_st_text(st, 24, r->note, sizeof r->note);
     cpd_st_text(st, 25, r->source_file, sizeof r->source_file);
     cpd_st_text(st, 26, r->imported_at, sizeof r->imported_at);
@@ -285,14 +285,14 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
     if (!x)
         return CPD_ENOMEM;
     x->n = r->n_samples;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT channel, data, packed FROM session_channel WHERE session_id = ?1", &st);
     if (rc)
         goto done;
-    sqlite3_bind_int64(st, 1, r->id);
+    cpd_db_bind_int64(st, 1, r->id);
     int q;
-    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
-        const char *name = (const char *)sqlite3_column_text(st, 0);
+    while ((q = cpd_db_step(st)) == CPD_DB_ROW) {
+        const char *name = cpd_db_text(st, 0);
         for (size_t k = 0; name && k < NCHAN; k++) {
             if (strcmp(name, channel_name(k, r->speed)) != 0)
                 continue;
@@ -301,7 +301,7 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
                 rc = CPD_ENOMEM;
                 goto done;
             }
-            if (!d || (rc = column_series(s, st, 1, sqlite3_column_int(st, 2), NULL, x->n, d))) {
+            if (!d || (rc = column_series(s, st, 1, cpd_db_int(st, 2), NULL, x->n, d))) {
                 free(d);
                 rc = cpd_st_err(s, rc == CPD_ENOMEM ? rc : CPD_ESTORE, "session %lld: channel %s is damaged: it "
                                 "does not hold %zu samples", (long long)r->id, name, x->n);
@@ -310,7 +310,7 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
             *channel_slot(x, k) = d;
         }
     }
-    if (q != SQLITE_DONE) {
+    if (q != CPD_DB_DONE) {
         rc = cpd_st_fail(s, "reading session samples");
         goto done;
     }
@@ -318,7 +318,7 @@ static int load_samples(cpd_store *s, const cpd_session_rec *r, cpd_session_samp
         rc = cpd_st_err(s, CPD_ESTORE, "session %lld has no %s channel", (long long)r->id,
                         x->time_s ? channel_name(1, r->speed) : "time_s");
 done:
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (rc) {
         cpd_store_samples_free(x);
         return rc;
@@ -331,29 +331,29 @@ int cpd_store_session_get(cpd_store *s, int64_t id, int allout, cpd_session_rec 
 {
     if (x)
         *x = NULL;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s,
                             "SELECT " SESSION_COLS " FROM session s JOIN athlete a ON a.id = s.athlete_id "
                             "WHERE s.id = ?1 AND s.kind = ?2",
                             &st);
     if (rc)
         return rc;
-    sqlite3_bind_int64(st, 1, id);
-    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
-    int q = sqlite3_step(st);
-    if (q == SQLITE_ROW)
+    cpd_db_bind_int64(st, 1, id);
+    cpd_db_bind_text(st, 2, kind_sql(allout), (size_t)-1);
+    int q = cpd_db_step(st);
+    if (q == CPD_DB_ROW)
         read_rec(st, r);
-    else if (q == SQLITE_DONE)
+    else if (q == CPD_DB_DONE)
         rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
     else
         rc = cpd_st_fail(s, "reading a session");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (!rc && x)
         rc = load_samples(s, r, x);
     return rc;
 }
 
-static void read_rec_row(sqlite3_stmt *st, void *dst)
+static void read_rec_row(cpd_stmt *st, void *dst)
 {
     read_rec(st, dst);
 }
@@ -362,18 +362,18 @@ int cpd_store_session_list(cpd_store *s, const char *code, int allout, cpd_sessi
 {
     *out = NULL;
     *n = 0;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s,
                             "SELECT " SESSION_COLS " FROM session s JOIN athlete a ON a.id = s.athlete_id "
-                            "WHERE (?1 IS NULL OR a.code = ?1) AND s.kind = ?2 ORDER BY a.code, s.date, s.id",
+                            "WHERE (CAST(?1 AS TEXT) IS NULL OR a.code = ?1) AND s.kind = ?2 ORDER BY a.code, s.date, s.id",
                             &st);
     if (rc)
         return rc;
     cpd_st_bind_text(st, 1, code, 0);
-    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
+    cpd_db_bind_text(st, 2, kind_sql(allout), (size_t)-1);
     void *v = NULL;
     rc = cpd_st_collect(s, st, sizeof **out, read_rec_row, &v, n, "sessions");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     *out = v;
     return rc;
 }
@@ -384,33 +384,33 @@ int cpd_store_session_count(cpd_store *s, const char *code, const char *from, co
     *n_power = *n_speed = 0;
     int64_t aid = 0;
     int rc = cpd_st_athlete_id(s, code, &aid);
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if (rc || (rc = cpd_st_prepare(s,
                                    "SELECT modality = 'speed', count(*) FROM session WHERE athlete_id = ?1 AND "
-                                   "kind = 'session' AND (?2 IS NULL OR date >= ?2) AND (?3 IS NULL OR date <= ?3) "
+                                   "kind = 'session' AND (CAST(?2 AS TEXT) IS NULL OR date >= ?2) AND (CAST(?3 AS TEXT) IS NULL OR date <= ?3) "
                                    "GROUP BY 1",
                                    &st)))
         return rc;
-    sqlite3_bind_int64(st, 1, aid);
+    cpd_db_bind_int64(st, 1, aid);
     cpd_st_bind_text(st, 2, from, 0);
     cpd_st_bind_text(st, 3, to, 0);
     int q;
-    while ((q = sqlite3_step(st)) == SQLITE_ROW)
-        *(sqlite3_column_int(st, 0) ? n_speed : n_power) = (size_t)sqlite3_column_int64(st, 1);
-    if (q != SQLITE_DONE)
+    while ((q = cpd_db_step(st)) == CPD_DB_ROW)
+        *(cpd_db_int(st, 0) ? n_speed : n_power) = (size_t)cpd_db_int64(st, 1);
+    if (q != CPD_DB_DONE)
         rc = cpd_st_fail(s, "counting sessions");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
 /* Checks one session_curve row (columns from col: n_points, fine_s, step_s, value, start_s,
  * packed) and decodes it into buf (3 × n_points doubles: durations, values, starts). */
-static int decode_curve(cpd_store *s, sqlite3_stmt *st, int col, int64_t id, double *buf, cpd_mmp_curve *c)
+static int decode_curve(cpd_store *s, cpd_stmt *st, int col, int64_t id, double *buf, cpd_mmp_curve *c)
 {
-    sqlite3_int64 n = sqlite3_column_int64(st, col);
-    int fine = sqlite3_column_int(st, col + 1), step = sqlite3_column_int(st, col + 2);
-    int packed = sqlite3_column_int(st, col + 5);
-    size_t m = n >= 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 0;
+    int64_t n = cpd_db_int64(st, col);
+    int fine = cpd_db_int(st, col + 1), step = cpd_db_int(st, col + 2);
+    int packed = cpd_db_int(st, col + 5);
+    size_t m = n >= 0 && n <= (int64_t)CPD_MMP_NMAX ? (size_t)n : 0;
     for (size_t i = 0; i < m; i++)
         buf[i] = (double)cpd_mmp_duration_s(i);
     if ((size_t)n != m || fine != CPD_MMP_FINE_S || step != CPD_MMP_COARSE_STEP_S ||
@@ -429,26 +429,26 @@ int cpd_store_session_curve(cpd_store *s, int64_t id, double **buf, cpd_mmp_curv
 {
     *buf = NULL;
     memset(c, 0, sizeof *c);
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT n_points, fine_s, step_s, value, start_s, packed FROM session_curve "
                             "WHERE session_id = ?1",
                             &st);
     if (rc)
         return rc;
-    sqlite3_bind_int64(st, 1, id);
-    int q = sqlite3_step(st);
-    if (q == SQLITE_ROW) {
-        sqlite3_int64 n = sqlite3_column_int64(st, 0);
-        *buf = malloc(3 * sizeof(double) * (n > 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 1));
+    cpd_db_bind_int64(st, 1, id);
+    int q = cpd_db_step(st);
+    if (q == CPD_DB_ROW) {
+        int64_t n = cpd_db_int64(st, 0);
+        *buf = malloc(3 * sizeof(double) * (n > 0 && n <= (int64_t)CPD_MMP_NMAX ? (size_t)n : 1));
         rc = *buf ? decode_curve(s, st, 0, id, *buf, c) : CPD_ENOMEM;
         if (rc) {
             free(*buf);
             *buf = NULL;
             memset(c, 0, sizeof *c);
         }
-    } else if (q != SQLITE_DONE)
+    } else if (q != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading a session's curve");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     return rc;
 }
 
@@ -462,23 +462,23 @@ static int season_scan(cpd_store *s, int64_t aid, int speed, const char *from, c
     double *buf = malloc(3 * CPD_MMP_NMAX * sizeof *buf);
     if (!buf)
         return CPD_ENOMEM;
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s,
                         "SELECT s.id, s.date, c.n_points, c.fine_s, c.step_s, c.value, c.start_s, c.packed FROM session s "
                         "JOIN session_curve c ON c.session_id = s.id WHERE s.athlete_id = ?1 AND s.kind = 'session' "
-                        "AND s.modality = ?2 AND (?3 IS NULL OR s.date >= ?3) AND (?4 IS NULL OR s.date <= ?4) "
+                        "AND s.modality = ?2 AND (CAST(?3 AS TEXT) IS NULL OR s.date >= ?3) AND (CAST(?4 AS TEXT) IS NULL OR s.date <= ?4) "
                         "ORDER BY s.date, s.id",
                         &st);
     if (rc)
         goto done;
-    sqlite3_bind_int64(st, 1, aid);
-    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
+    cpd_db_bind_int64(st, 1, aid);
+    cpd_db_bind_text(st, 2, speed ? "speed" : "power", (size_t)-1);
     cpd_st_bind_text(st, 3, from, 0);
     cpd_st_bind_text(st, 4, to, 0);
     int q;
-    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
-        int64_t id = sqlite3_column_int64(st, 0);
-        const char *date = (const char *)sqlite3_column_text(st, 1);
+    while ((q = cpd_db_step(st)) == CPD_DB_ROW) {
+        int64_t id = cpd_db_int64(st, 0);
+        const char *date = cpd_db_text(st, 1);
         int days = 0;
         if (!date || cpd_parse_date(date, &days)) {
             rc = cpd_st_err(s, CPD_ESTORE, "session %lld has no valid date", (long long)id);
@@ -494,10 +494,10 @@ static int season_scan(cpd_store *s, int64_t aid, int speed, const char *from, c
         }
         (*n_sessions)++;
     }
-    if (q != SQLITE_DONE)
+    if (q != CPD_DB_DONE)
         rc = cpd_st_fail(s, "reading session curves");
 done:
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     free(buf);
     return rc;
 }
@@ -511,7 +511,7 @@ static int season_get(cpd_store *s, int64_t aid, int speed, cpd_mmp_season *seas
     *found = 0;
     *n_sessions = 0;
     cpd_mmp_season_reset(season);
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     double *tmp = NULL;
     int rc = cpd_st_prepare(s,
                             "SELECT n_sessions, n_points, value, start_s, session, date_days FROM session_season "
@@ -519,17 +519,17 @@ static int season_get(cpd_store *s, int64_t aid, int speed, cpd_mmp_season *seas
                             &st);
     if (rc)
         return rc;
-    sqlite3_bind_int64(st, 1, aid);
-    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
-    int q = sqlite3_step(st);
-    if (q == SQLITE_DONE)
+    cpd_db_bind_int64(st, 1, aid);
+    cpd_db_bind_text(st, 2, speed ? "speed" : "power", (size_t)-1);
+    int q = cpd_db_step(st);
+    if (q == CPD_DB_DONE)
         goto done;
-    if (q != SQLITE_ROW) {
+    if (q != CPD_DB_ROW) {
         rc = cpd_st_fail(s, "reading the season curve");
         goto done;
     }
-    sqlite3_int64 ns = sqlite3_column_int64(st, 0), n = sqlite3_column_int64(st, 1);
-    size_t m = n > 0 && n <= (sqlite3_int64)CPD_MMP_NMAX ? (size_t)n : 0;
+    int64_t ns = cpd_db_int64(st, 0), n = cpd_db_int64(st, 1);
+    size_t m = n > 0 && n <= (int64_t)CPD_MMP_NMAX ? (size_t)n : 0;
     tmp = malloc(2 * CPD_MMP_NMAX * sizeof *tmp);
     if (!tmp) {
         rc = CPD_ENOMEM;
@@ -554,7 +554,7 @@ static int season_get(cpd_store *s, int64_t aid, int speed, cpd_mmp_season *seas
     *n_sessions = (size_t)ns;
     *found = 1;
 done:
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     free(tmp);
     if (rc || !*found)
         cpd_mmp_season_reset(season);
@@ -565,16 +565,16 @@ done:
  * removes the row when there is no session. */
 static int season_put(cpd_store *s, int64_t aid, int speed, const cpd_mmp_season *season, size_t n_sessions)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc;
     if (n_sessions == 0 || season->n == 0) {
         if ((rc = cpd_st_prepare(s, "DELETE FROM session_season WHERE athlete_id = ?1 AND modality = ?2", &st)))
             return rc;
-        sqlite3_bind_int64(st, 1, aid);
-        sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
-        if (sqlite3_step(st) != SQLITE_DONE)
+        cpd_db_bind_int64(st, 1, aid);
+        cpd_db_bind_text(st, 2, speed ? "speed" : "power", (size_t)-1);
+        if (cpd_db_step(st) != CPD_DB_DONE)
             rc = cpd_st_fail(s, "clearing the season curve");
-        sqlite3_finalize(st);
+        cpd_db_finalize(st);
         return rc;
     }
     size_t m = season->n, cap = cpd_codec_bound(m);
@@ -589,21 +589,24 @@ static int season_put(cpd_store *s, int64_t aid, int speed, const cpd_mmp_season
         tmp[m + i] = season->date_days[i];
     }
     if ((rc = cpd_st_prepare(s,
-                             "INSERT OR REPLACE INTO session_season (athlete_id, modality, n_sessions, n_points, value, "
-                             "start_s, session, date_days) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8)",
+                             "INSERT INTO session_season (athlete_id, modality, n_sessions, n_points, value, "
+                             "start_s, session, date_days) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8) "
+                             "ON CONFLICT (athlete_id, modality) DO UPDATE SET n_sessions = excluded.n_sessions, "
+                             "n_points = excluded.n_points, value = excluded.value, start_s = excluded.start_s, "
+                             "session = excluded.session, date_days = excluded.date_days",
                              &st)))
         goto done;
-    sqlite3_bind_int64(st, 1, aid);
-    sqlite3_bind_text(st, 2, speed ? "speed" : "power", -1, SQLITE_STATIC);
-    sqlite3_bind_int64(st, 3, (sqlite3_int64)n_sessions);
-    sqlite3_bind_int64(st, 4, (sqlite3_int64)m);
+    cpd_db_bind_int64(st, 1, aid);
+    cpd_db_bind_text(st, 2, speed ? "speed" : "power", (size_t)-1);
+    cpd_db_bind_int64(st, 3, (int64_t)n_sessions);
+    cpd_db_bind_int64(st, 4, (int64_t)m);
     if (!(rc = bind_packed(s, st, 5, season->value, season->duration_s, m, buf)) &&
         !(rc = bind_packed(s, st, 6, season->start_s, NULL, m, buf + cap)) &&
         !(rc = bind_packed(s, st, 7, tmp, NULL, m, buf + 2 * cap)) &&
-        !(rc = bind_packed(s, st, 8, tmp + m, NULL, m, buf + 3 * cap)) && sqlite3_step(st) != SQLITE_DONE)
+        !(rc = bind_packed(s, st, 8, tmp + m, NULL, m, buf + 3 * cap)) && cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, "storing the season curve");
 done:
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     free(tmp);
     free(buf);
     return rc;
@@ -664,30 +667,30 @@ int cpd_store_session_season(cpd_store *s, const char *code, int speed, const ch
 
 int cpd_store_session_remove(cpd_store *s, int64_t id, int allout)
 {
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT athlete_id, modality = 'speed' FROM session WHERE id = ?1 AND kind = ?2", &st);
     if (rc)
         return rc;
-    sqlite3_bind_int64(st, 1, id);
-    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
-    int q = sqlite3_step(st);
-    int64_t aid = q == SQLITE_ROW ? sqlite3_column_int64(st, 0) : 0;
-    int speed = q == SQLITE_ROW ? sqlite3_column_int(st, 1) : 0;
-    if (q != SQLITE_ROW && q != SQLITE_DONE)
+    cpd_db_bind_int64(st, 1, id);
+    cpd_db_bind_text(st, 2, kind_sql(allout), (size_t)-1);
+    int q = cpd_db_step(st);
+    int64_t aid = q == CPD_DB_ROW ? cpd_db_int64(st, 0) : 0;
+    int speed = q == CPD_DB_ROW ? cpd_db_int(st, 1) : 0;
+    if (q != CPD_DB_ROW && q != CPD_DB_DONE)
         rc = cpd_st_fail(s, "looking up a session");
-    else if (q == SQLITE_DONE)
+    else if (q == CPD_DB_DONE)
         rc = cpd_st_err(s, CPD_ENOENT, "no %s with id %lld", allout ? "all-out test" : "session", (long long)id);
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     st = NULL;
     if (rc || (rc = cpd_st_savepoint(s)))
         return rc;
     if ((rc = cpd_st_prepare(s, "DELETE FROM session WHERE id = ?1 AND kind = ?2", &st)))
         return cpd_st_release(s, rc);
-    sqlite3_bind_int64(st, 1, id);
-    sqlite3_bind_text(st, 2, kind_sql(allout), -1, SQLITE_STATIC);
-    if (sqlite3_step(st) != SQLITE_DONE)
+    cpd_db_bind_int64(st, 1, id);
+    cpd_db_bind_text(st, 2, kind_sql(allout), (size_t)-1);
+    if (cpd_db_step(st) != CPD_DB_DONE)
         rc = cpd_st_fail(s, "removing a session");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     if (!rc && !allout)
         rc = season_refresh(s, aid, speed);
     return cpd_st_release(s, rc);
@@ -706,7 +709,7 @@ static int pack_rows(cpd_store *s, int curves)
                                "WHERE c.session_id = ?1 AND c.channel = ?2";
     const char *put = curves ? "UPDATE session_curve SET value = ?3, start_s = ?4, packed = 1 WHERE session_id = ?1"
                              : "UPDATE session_channel SET data = ?3, packed = 1 WHERE session_id = ?1 AND channel = ?2";
-    sqlite3_stmt *ls = NULL, *gs = NULL, *ps = NULL;
+    cpd_stmt *ls = NULL, *gs = NULL, *ps = NULL;
     double *v = NULL;
     unsigned char *b1 = NULL, *b2 = NULL;
     int rc, q;
@@ -715,7 +718,7 @@ static int pack_rows(cpd_store *s, int curves)
     /* keys first: a session id and a channel name of at most 15 bytes each row */
     size_t n_keys = 0, cap = 0;
     struct key { int64_t id; char ch[16]; } *keys = NULL;
-    while ((q = sqlite3_step(ls)) == SQLITE_ROW) {
+    while ((q = cpd_db_step(ls)) == CPD_DB_ROW) {
         if (n_keys == cap) {
             cap = cap ? 2 * cap : 64;
             struct key *k2 = realloc(keys, cap * sizeof *k2);
@@ -726,26 +729,26 @@ static int pack_rows(cpd_store *s, int curves)
             }
             keys = k2;
         }
-        keys[n_keys].id = sqlite3_column_int64(ls, 0);
+        keys[n_keys].id = cpd_db_int64(ls, 0);
         cpd_st_text(ls, 1, keys[n_keys].ch, sizeof keys[n_keys].ch);
         n_keys++;
     }
-    if (q != SQLITE_DONE)
+    if (q != CPD_DB_DONE)
         rc = cpd_st_fail(s, "listing the rows to re-encode");
     for (size_t k = 0; k < n_keys && !rc; k++) {
-        sqlite3_reset(gs);
-        sqlite3_reset(ps);
-        sqlite3_bind_int64(gs, 1, keys[k].id);
-        sqlite3_bind_int64(ps, 1, keys[k].id);
+        cpd_db_reset(gs);
+        cpd_db_reset(ps);
+        cpd_db_bind_int64(gs, 1, keys[k].id);
+        cpd_db_bind_int64(ps, 1, keys[k].id);
         if (!curves) {
-            sqlite3_bind_text(gs, 2, keys[k].ch, -1, SQLITE_STATIC);
-            sqlite3_bind_text(ps, 2, keys[k].ch, -1, SQLITE_STATIC);
+            cpd_db_bind_text(gs, 2, keys[k].ch, (size_t)-1);
+            cpd_db_bind_text(ps, 2, keys[k].ch, (size_t)-1);
         }
-        if (sqlite3_step(gs) != SQLITE_ROW) {
+        if (cpd_db_step(gs) != CPD_DB_ROW) {
             rc = cpd_st_fail(s, "reading a row to re-encode");
             break;
         }
-        sqlite3_int64 n = sqlite3_column_int64(gs, 0);
+        int64_t n = cpd_db_int64(gs, 0);
         int blobs = curves ? 2 : 1;
         if (n < 1 || n > 50000000) {
             rc = cpd_st_err(s, CPD_ESTORE, "session %lld: %lld values cannot be right", (long long)keys[k].id, (long long)n);
@@ -774,14 +777,14 @@ static int pack_rows(cpd_store *s, int curves)
             }
             rc = bind_packed(s, ps, 3 + j, v + j * m, curves && j == 0 ? v + 2 * m : NULL, m, j ? b2 : b1);
         }
-        if (!rc && sqlite3_step(ps) != SQLITE_DONE)
+        if (!rc && cpd_db_step(ps) != CPD_DB_DONE)
             rc = cpd_st_fail(s, "rewriting a row in the compact encoding");
     }
     free(keys);
 done:
-    sqlite3_finalize(ls);
-    sqlite3_finalize(gs);
-    sqlite3_finalize(ps);
+    cpd_db_finalize(ls);
+    cpd_db_finalize(gs);
+    cpd_db_finalize(ps);
     free(v);
     free(b1);
     free(b2);
@@ -793,7 +796,7 @@ int cpd_st_session_pack(cpd_store *s)
     int rc = pack_rows(s, 0);
     if (!rc)
         rc = pack_rows(s, 1);
-    sqlite3_stmt *st = NULL;
+    cpd_stmt *st = NULL;
     if (rc || (rc = cpd_st_prepare(s, "SELECT DISTINCT athlete_id, modality = 'speed' FROM session WHERE kind = 'session'",
                                    &st)))
         return rc;
@@ -801,7 +804,7 @@ int cpd_st_session_pack(cpd_store *s)
     size_t n = 0, cap = 0;
     int64_t *who = NULL;
     int q;
-    while ((q = sqlite3_step(st)) == SQLITE_ROW) {
+    while ((q = cpd_db_step(st)) == CPD_DB_ROW) {
         if (n == cap) {
             cap = cap ? 2 * cap : 32;
             int64_t *w2 = realloc(who, cap * sizeof *w2);
@@ -811,11 +814,11 @@ int cpd_st_session_pack(cpd_store *s)
             }
             who = w2;
         }
-        who[n++] = 2 * sqlite3_column_int64(st, 0) + sqlite3_column_int(st, 1);
+        who[n++] = 2 * cpd_db_int64(st, 0) + cpd_db_int(st, 1);
     }
-    if (!rc && q != SQLITE_DONE)
+    if (!rc && q != CPD_DB_DONE)
         rc = cpd_st_fail(s, "listing the athletes with sessions");
-    sqlite3_finalize(st);
+    cpd_db_finalize(st);
     for (size_t k = 0; k < n && !rc; k++)
         rc = season_refresh(s, who[k] / 2, (int)(who[k] % 2));
     free(who);

@@ -24,6 +24,25 @@ int cpd_validate_code(const char *code, char *msg)
     return CPD_OK;
 }
 
+int cpd_validate_squad(const char *name, char *msg)
+{
+    size_t L = name ? strlen(name) : 0;
+    if (L == 0 || L > CPD_SQUAD_MAX) {
+        snprintf(msg, CPD_MSG_MAX, "a squad name has 1 to %d bytes (got %zu)", CPD_SQUAD_MAX, L);
+        return CPD_EDATA;
+    }
+    for (size_t i = 0; i < L; i++)
+        if ((unsigned char)name[i] < 0x20 || name[i] == 0x7f) {
+            snprintf(msg, CPD_MSG_MAX, "a squad name holds no control characters");
+            return CPD_EDATA;
+        }
+    if (name[0] == ' ' || name[L - 1] == ' ') {
+        snprintf(msg, CPD_MSG_MAX, "a squad name neither starts nor ends with a space");
+        return CPD_EDATA;
+    }
+    return CPD_OK;
+}
+
 int cpd_validate_sport(const char *sport, char *msg)
 {
     static const char *const ok[] = {"cycling", "running", "rowing", "swimming", "other"};

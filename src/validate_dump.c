@@ -114,6 +114,15 @@ static int athlete_row(const rowctx *r)
     return cpd_validate_athlete_field(&a, &field, r->msg) ? bad(r, field) : CPD_OK;
 }
 
+static int squad_row(const rowctx *r)
+{
+    char name[CPD_SQUAD_MAX + 1], note[CPD_NOTE_MAX + 1];
+    int rc;
+    if ((rc = copy(r, "name", name, sizeof name)) || (rc = copy(r, "note", note, sizeof note)))
+        return rc;
+    return cpd_validate_squad(name, r->msg) ? bad(r, "name") : CPD_OK;
+}
+
 static int trial_row(const cpd_dump *d, const rowctx *r, int today)
 {
     cpd_trial t;
@@ -332,6 +341,8 @@ static int any_row(const cpd_dump *d, const rowctx *r, int today)
     }
     if (strcmp(name, "athlete") == 0)
         return athlete_row(r);
+    if (strcmp(name, "squad") == 0)
+        return squad_row(r);
     if (strcmp(name, "trial") == 0)
         return trial_row(d, r, today);
     if (strcmp(name, "fit_run") == 0) {

@@ -14,8 +14,11 @@ enum {
     CPD_ENOMEM,    /* memory allocation failed (exit 70) */
     CPD_EINTERNAL, /* an invariant broke; a bug (exit 70) */
     CPD_ECREATE,   /* an output file cannot be created (exit 73) */
-    CPD_ESTORE,    /* the SQLite store failed or is newer than this binary (exit 74) */
+    CPD_ESTORE,    /* the store failed or is newer than this binary (exit 74) */
     CPD_EEXIST,    /* a unique thing already exists, e.g. an athlete code (exit 65) */
+    CPD_ETEMP,     /* the store's server is unreachable, or concurrent writers kept conflicting:
+                    * try again later (exit 75) */
+    CPD_ENOPERM,   /* the store's server refused: authentication, privilege or squad access (exit 77) */
     CPD_NSTATUS
 };
 

@@ -1,5 +1,7 @@
-/* store.h: the SQLite store of athletes and their tests. The store module alone speaks SQL:
- * prepared statements with bound parameters; migrations embedded from db/ at build time. */
+/* store.h: the store of athletes and their tests, on one of two engines: a SQLite file (the
+ * default) or a PostgreSQL server (a libpq connection URI, postgresql://...). Every function below
+ * behaves alike on both. The store module alone speaks SQL: prepared statements with bound
+ * parameters; migrations embedded from db/ at build time. */
 #ifndef CPDOMAIN_STORE_H
 #define CPDOMAIN_STORE_H
 
@@ -16,7 +18,13 @@ typedef struct cpd_store cpd_store;
 #define CPD_PATH_MAX 1024  /* longest source-file path kept, bytes */
 
 /* Opens the store at path, applying pending migrations in one transaction. With create == 0 a
- * missing file is CPD_ENOENT; with create != 0 it is created. Foreign keys on, WAL journal,
+ * missing file is CPD_ENOENT; with create != 0 it is created.
+ * A path that starts with postgresql:// or postgres:// is a libpq connection URI: the database
+ * must exist; create != 0 makes the schema in it (a database without one is CPD_ENOENT otherwise).
+ * A malformed URI is CPD_EUSAGE, an unreachable server CPD_ETEMP, a refused login CPD_ENOPERM; the
+ * message never shows a password. On PostgreSQL each transaction is SERIALIZABLE, so writers
+ * behave as SQLite's one-writer-at-a-time; a transaction the server aborts for a conflict or a
+ * lost connection fails with CPD_ETEMP and cpd_store_retryable() true: run the command again. Foreign keys on, WAL journal,
  * synchronous=NORMAL (durable across crashes of the program; the last commits may be lost on
  * power failure, a fair trade for a desktop store), busy timeout CPD_STORE_BUSY_MS. A store whose version is
  * newer than this binary is refused with CPD_ESTORE. msg (CPD_MSG_MAX bytes) receives the reason.
@@ -28,6 +36,15 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg);
 #define CPD_STORE_BUSY_MS 5000
 int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **out, char *msg);
 void cpd_store_close(cpd_store *s);
+
+/* Which engine an open store is on. */
+enum { CPD_ENGINE_SQLITE = 1, CPD_ENGINE_PG = 2 };
+int cpd_store_engine(const cpd_store *s);
+/* Nonzero when path names a server (a PostgreSQL URI) rather than a file. */
+int cpd_store_is_server(const char *path);
+/* Nonzero when the last failure on s may pass if the whole transaction runs again (PostgreSQL:
+ * serialization failure, deadlock, lost connection). s may be NULL. */
+int cpd_store_retryable(const cpd_store *s);
 
 /* The detail of the last failure on s ("" when none). */
 const char *cpd_store_errmsg(const cpd_store *s);
@@ -268,5 +285,59 @@ int cpd_store_session_season(cpd_store *s, const char *code, int speed, const ch
                              cpd_mmp_season *season, size_t *n_sessions);
 /* Removes a session or all-out test with its samples and curve. CPD_ENOENT when absent. */
 int cpd_store_session_remove(cpd_store *s, int64_t id, int allout);
+
+/* ---- squads (db/008_squads.sql; store_squad.c) ---- */
+#define CPD_SQUAD_MAX 64   /* longest squad name, bytes */
+
+typedef struct {
+    int64_t id;                   /* store id */
+    char name[CPD_SQUAD_MAX + 1]; /* unique name */
+    char note[CPD_NOTE_MAX + 1];  /* free text */
+    size_t athletes;              /* athletes in the squad (on PostgreSQL: those this user may see) */
+} cpd_squad;
+
+/* An athlete's code with the name of the athlete's squad ("" when in none). */
+typedef struct {
+    char code[CPD_CODE_MAX + 1];
+    char squad[CPD_SQUAD_MAX + 1];
+} cpd_athlete_squad;
+
+/* Adds a squad; *id receives its id. CPD_EEXIST when the name is taken. */
+int cpd_store_squad_add(cpd_store *s, const char *name, const char *note, int64_t *id);
+/* Reads the squad with this name (exact); CPD_ENOENT with a "did you mean" when there is none. */
+int cpd_store_squad_get(cpd_store *s, const char *name, cpd_squad *q);
+/* Every squad ordered by name, with its athlete count. The caller frees *out with free(). */
+int cpd_store_squad_list(cpd_store *s, cpd_squad **out, size_t *n);
+/* Removes an empty squad. CPD_ENOENT when absent; CPD_EDATA while athletes are in it. */
+int cpd_store_squad_remove(cpd_store *s, const char *name);
+/* Puts athlete code into squad (NULL: takes the athlete out of any squad). CPD_ENOENT for an
+ * unknown athlete or squad. */
+int cpd_store_squad_assign(cpd_store *s, const char *code, const char *squad);
+/* cpd_store_athlete_add with the athlete placed in squad at once (NULL: in none), in the one
+ * INSERT: on PostgreSQL the row-level policy checks the row as written. CPD_ENOENT for an unknown
+ * squad, CPD_EEXIST when the code is taken. TODO(lead): cpd_store_athlete_add may become
+ * cpd_store_athlete_add_to(s, a, NULL, id). */
+int cpd_store_athlete_add_to(cpd_store *s, const cpd_athlete *a, const char *squad, int64_t *id);
+/* The squad of athlete code into squad ("" when in none). CPD_ENOENT for an unknown athlete. */
+int cpd_store_athlete_squad(cpd_store *s, const char *code, char squad[CPD_SQUAD_MAX + 1]);
+/* Each athlete's squad, ordered by code; squad != NULL keeps that squad's athletes only (the
+ * squad must exist: CPD_ENOENT with a "did you mean"). The caller frees *out with free(). */
+int cpd_store_athlete_squads(cpd_store *s, const char *squad, cpd_athlete_squad **out, size_t *n);
+
+/* ---- access control: PostgreSQL stores only (db/pg/008_squads_access.sql) ----
+ * On a SQLite store each of these fails with CPD_EUSAGE: "access control needs a PostgreSQL store:
+ * a SQLite file is protected by its file's permissions". A role name is 1 to 63 of [a-z0-9_],
+ * not starting with a digit (CPD_EUSAGE otherwise). */
+/* Lets members of role see and change the athletes of squad (NULL: of every squad, and those in
+ * none) and all their data. Granting twice is no error. CPD_ENOENT for an unknown squad or role. */
+int cpd_store_squad_grant(cpd_store *s, const char *squad, const char *role);
+/* Takes such a grant back. CPD_ENOENT when there is no such grant. */
+int cpd_store_squad_revoke(cpd_store *s, const char *squad, const char *role);
+/* Run by the database owner (who needs CREATEROLE): creates the NOLOGIN group roles lab_role and
+ * coach_role when missing and grants them their rights, again on every run (so it is also the
+ * step after an upgrade): lab_role reads every table and holds a grant on all squads; coach_role
+ * reads every table and writes the athlete tables (those under row-level security), its rows
+ * limited to its squad grants. *created receives how many of the two roles were made. */
+int cpd_store_server_setup(cpd_store *s, const char *lab_role, const char *coach_role, int *created);
 
 #endif

@@ -7,6 +7,8 @@
 
 /* Athlete code: 1-32 characters of letters, digits, '-', '_' and '.'. CPD_EDATA with msg. */
 int cpd_validate_code(const char *code, char *msg);
+/* A squad name: 1 to CPD_SQUAD_MAX bytes, no control characters, no space at either end. */
+int cpd_validate_squad(const char *name, char *msg);
 
 /* Sport name: cycling, running, rowing, swimming or other. CPD_EDATA with msg. */
 int cpd_validate_sport(const char *sport, char *msg);

@@ -13,7 +13,7 @@ PGDIR=${CPDOMAIN_TEST_PGDIR:-}         # the cluster's folder (tools/pgcluster.s
 ROOT=$(cd "$CPDOMAIN_TESTS/.." && pwd)
 ms() { date +%s%3N; }
 ROLES=""
-trap 'cleanup; for r in $ROLES; do $PSQL "$PGBASE" -c "DROP ROLE IF EXISTS $r" >/dev/null 2>&1; done' EXIT
+trap 'lib_cleanup; for r in $ROLES; do $PSQL "$PGBASE" -c "DROP ROLE IF EXISTS $r" >/dev/null 2>&1; done' EXIT
 
 # ---- (a) 8 concurrent writers, 20 trials each, to the same athlete ----
 expect 0 "init" init

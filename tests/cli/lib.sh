@@ -10,7 +10,7 @@ TMP=$(mktemp -d /tmp/cpd_cli.XXXXXX)
 PGBASE=${CPDOMAIN_TEST_PG:-}
 PSQL="env PGOPTIONS=-cclient_min_messages=warning psql -X -q -v ON_ERROR_STOP=1"
 # the databases this script made: dropped on exit (WITH (FORCE): a killed writer may linger)
-cleanup() {
+lib_cleanup() {
     if [ -n "$PGBASE" ] && [ -f "$TMP/pgdbs" ]; then
         while read -r _ld; do
             $PSQL "$PGBASE" -c "DROP DATABASE IF EXISTS \"$_ld\" WITH (FORCE)" >/dev/null 2>&1
@@ -18,7 +18,7 @@ cleanup() {
     fi
     rm -rf "$TMP"
 }
-trap cleanup EXIT
+trap lib_cleanup EXIT
 export CPDOMAIN_TODAY=2026-12-01   # "today" for date checks, so the tests never age
 unset CPDOMAIN_DB
 N=0

@@ -4,7 +4,7 @@ Usage: /usr/bin/python3 export_check.py DOC.json STORE.db
 Reads the document with Python's json module and the store with Python's sqlite3 module (neither
 shares code with cpdomain) and prints "ok N" (N values compared) or the first difference. Checks:
 the format keys; the user tables of the store, each once, every table after the tables its foreign
-keys refer to; the columns in table order; every row in rowid order with each value of the same
+keys refer to; the columns in table order; every row in primary-key order with each value of the same
 storage class and the same value, reals bit for bit (float.hex), blobs via base64 (RFC 4648).
 """
 import base64
@@ -71,7 +71,9 @@ def main():
         if doc["tables"][t]["columns"] != cols:
             return "%s: columns %r, store %r" % (t, doc["tables"][t]["columns"], cols)
         quoted = ", ".join('typeof("%s"), "%s"' % (c, c) for c in cols)
-        rows = db.execute('SELECT %s FROM "%s" ORDER BY rowid' % (quoted, t)).fetchall()
+        pk = [r[0].decode() for r in db.execute("SELECT name FROM pragma_table_info(?) WHERE pk > 0 ORDER BY pk", (t,))]
+        order_by = ", ".join('"%s"' % c for c in (pk or cols))
+        rows = db.execute('SELECT %s FROM "%s" ORDER BY %s' % (quoted, t, order_by)).fetchall()
         rows = [[stored(r[2 * k], r[2 * k + 1]) for k in range(len(cols))] for r in rows]
         drows = doc["tables"][t]["rows"]
         if len(rows) != len(drows):
