@@ -203,6 +203,7 @@ static void assign_and_remove(void **state)
 
 static void access_needs_postgresql(void **state)
 {
+    TMPSTORE_SQLITE_ONLY("a SQLite store refuses squad grants (cli_access.sh grants them on PostgreSQL)");
     fixture *f = *state;
     static const char why[] =
         "access control needs a PostgreSQL store: a SQLite file is protected by its file's permissions";
