@@ -177,7 +177,8 @@ static void schema_order_and_columns(void **state)
     for (size_t j = 0; j < 7; j++) {
         assert_string_equal(a->col[j].name, names[j]);
         assert_int_equal(a->col[j].affinity, aff[j]);
-        assert_int_equal(a->col[j].notnull, notnull[j]);
+        /* PostgreSQL reports the primary key NOT NULL, as it is; SQLite's rowid alias says 0 */
+        assert_int_equal(a->col[j].notnull, notnull[j] || (tmpstore_pg() && j == 0));
         assert_int_equal(a->col[j].pk, j == 0);
     }
     const cpd_dump_table *ch = &d->table[table_index(d, "gx_channel")];
