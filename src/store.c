@@ -448,7 +448,17 @@ int cpd_store_begin(cpd_store *s)
 
 int cpd_store_commit(cpd_store *s)
 {
+    s->lost = 0;
     if (cpd_db_exec(s, "COMMIT") != CPD_DB_OK) {
+        if (s->lost) {
+            /* the server may have committed before the connection went: running the command again
+             * could apply it twice, so the user looks instead */
+            s->retryable = 0;
+            cpd_db_exec(s, "ROLLBACK");
+            return cpd_st_err(s, CPD_ETEMP,
+                              "the connection to the server was lost while committing: the command may or may not "
+                              "have been applied; look (a list or show command) before running it again");
+        }
         int rc = cpd_st_fail(s, "committing");
         cpd_db_exec(s, "ROLLBACK");
         return rc;

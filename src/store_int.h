@@ -51,6 +51,7 @@ struct cpd_store {
     int64_t changes;           /* rows changed by the last statement */
     int busy_ms;               /* how long a write waits for another process's lock (cpd_store_open_wait) */
     int retryable;             /* the last failure may pass if the whole command runs again */
+    int lost;                  /* PostgreSQL: the connection was lost (the server may have gone away) */
     unsigned sp_begun;         /* PostgreSQL: bit k set when savepoint level k opened the transaction */
     int sp_depth;
     char where[CPD_MSG_MAX];   /* the store as the user names it (a file, or a URI without password) */

@@ -223,6 +223,7 @@ static int pg_fail(cpd_store *s, const PGresult *r)
         snprintf(s->dberr, sizeof s->dberr, "the connection to the PostgreSQL server was lost (%s)",
                  line[0] ? line : "no reply");
         s->retryable = 1;
+        s->lost = 1;
         s->errcode = code;
         return code;
     }
