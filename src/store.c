@@ -164,6 +164,26 @@ int cpd_st_collect(cpd_store *s, cpd_stmt *st, size_t elem, void (*read)(cpd_stm
     return CPD_OK;
 }
 
+/* COMMIT; on failure the transaction is rolled back. A connection lost during COMMIT is not
+ * retried: the server may have committed before it went, and running the command again could
+ * apply it twice, so the user looks instead. */
+static int commit_txn(cpd_store *s, const char *what)
+{
+    s->lost = 0;
+    if (cpd_db_exec(s, "COMMIT") == CPD_DB_OK)
+        return CPD_OK;
+    if (s->lost) {
+        s->retryable = 0;
+        cpd_db_exec(s, "ROLLBACK");
+        return cpd_st_err(s, CPD_ETEMP,
+                          "the connection to the server was lost while committing: the command may or may not "
+                          "have been applied; look (a list or show command) before running it again");
+    }
+    int rc = cpd_st_fail(s, what);
+    cpd_db_exec(s, "ROLLBACK");
+    return rc;
+}
+
 /* SQLite starts a transaction at a savepoint outside one; PostgreSQL needs BEGIN first, so there
  * the outermost savepoint is the transaction itself. */
 int cpd_st_savepoint(cpd_store *s)
@@ -190,12 +210,10 @@ int cpd_st_release(cpd_store *s, int rc)
         cpd_db_exec(s, began ? "ROLLBACK" : "ROLLBACK TO cpd_write; RELEASE cpd_write");
         return rc;
     }
-    if (cpd_db_exec(s, began ? "COMMIT" : "RELEASE cpd_write") != CPD_DB_OK) {
-        int frc = cpd_st_fail(s, "finishing a write");
-        if (began)
-            cpd_db_exec(s, "ROLLBACK");
-        return frc;
-    }
+    if (began)
+        return commit_txn(s, "finishing a write");
+    if (cpd_db_exec(s, "RELEASE cpd_write") != CPD_DB_OK)
+        return cpd_st_fail(s, "finishing a write");
     return CPD_OK;
 }
 
@@ -448,22 +466,7 @@ int cpd_store_begin(cpd_store *s)
 
 int cpd_store_commit(cpd_store *s)
 {
-    s->lost = 0;
-    if (cpd_db_exec(s, "COMMIT") != CPD_DB_OK) {
-        if (s->lost) {
-            /* the server may have committed before the connection went: running the command again
-             * could apply it twice, so the user looks instead */
-            s->retryable = 0;
-            cpd_db_exec(s, "ROLLBACK");
-            return cpd_st_err(s, CPD_ETEMP,
-                              "the connection to the server was lost while committing: the command may or may not "
-                              "have been applied; look (a list or show command) before running it again");
-        }
-        int rc = cpd_st_fail(s, "committing");
-        cpd_db_exec(s, "ROLLBACK");
-        return rc;
-    }
-    return CPD_OK;
+    return commit_txn(s, "committing");
 }
 
 void cpd_store_rollback(cpd_store *s)
