@@ -81,8 +81,11 @@ static void one_line(const char *m, char *out, size_t n)
         else
             break;
     size_t k = 0;
-    for (; *m && k + 1 < n; m++)
-        out[k++] = (*m == '\n' || *m == '\r') ? ' ' : *m;
+    for (; *m && k + 1 < n; m++) {
+        char ch = (*m == '\n' || *m == '\r' || *m == '\t') ? ' ' : *m;
+        if (ch != ' ' || (k > 0 && out[k - 1] != ' '))
+            out[k++] = ch;
+    }
     while (k > 0 && out[k - 1] == ' ')
         k--;
     out[k] = '\0';
@@ -117,24 +120,30 @@ int cpd_pg_open(cpd_store *s, const char *uri, char *msg)
         char line[CPD_MSG_MAX];
         one_line(PQerrorMessage(c), line, sizeof line);
         int rc;
-        const char *hint;
+        const char *what, *hint;
+        char *fatal = strstr(line, "FATAL: ");
+        if (fatal)
+            memmove(fatal, fatal + 7, strlen(fatal + 7) + 1);
         if (strstr(line, "password authentication failed") || strstr(line, "no password supplied") ||
             strstr(line, "authentication failed") || strstr(line, "pg_hba.conf")) {
             rc = CPD_ENOPERM;
-            hint = "check the user name and the password (libpq reads it from ~/.pgpass or PGPASSWORD; "
+            what = "the PostgreSQL server refused the login to";
+            hint = "check the user name and the password (libpq reads it from ~/.pgpass or $PGPASSWORD; "
                    "cpdomain never stores one)";
         } else if (strstr(line, "role \"") && strstr(line, "does not exist")) {
             rc = CPD_ENOPERM;
+            what = "the PostgreSQL server refused the login to";
             hint = "ask the database's owner for a login role (README: 'Sharing a store on a server')";
         } else if (strstr(line, "database \"") && strstr(line, "does not exist")) {
             rc = CPD_ENOENT;
+            what = "no such database for the store";
             hint = "create the database first (createdb NAME, as its owner), then run 'cpdomain --db URI init'";
         } else {
             rc = CPD_ETEMP;
-            hint = "is the server running and listening there? check the host, port and socket directory, "
-                   "then try again";
+            what = "cannot reach the PostgreSQL server at";
+            hint = "check the host, port and socket directory in the URI, then try again";
         }
-        snprintf(msg, CPD_MSG_MAX, "cannot reach the PostgreSQL server at %s: %s; %s", s->where, line, hint);
+        snprintf(msg, CPD_MSG_MAX, "%s %s: %s; %s", what, s->where, line, hint);
         return rc;
     }
     PQsetNoticeProcessor(c, quiet_notices, NULL);
