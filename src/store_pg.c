@@ -149,7 +149,8 @@ int cpd_pg_open(cpd_store *s, const char *uri, char *msg)
     PQsetNoticeProcessor(c, quiet_notices, NULL);
     char set[128];
     /* a write waits this long for another session's row lock, as SQLite waits for the file lock */
-    snprintf(set, sizeof set, "SET lock_timeout = %d; SET client_min_messages = warning", s->busy_ms);
+    /* (0 would be "wait for ever" to PostgreSQL; SQLite's 0 is "do not wait") */
+    snprintf(set, sizeof set, "SET lock_timeout = %d; SET client_min_messages = warning", s->busy_ms > 0 ? s->busy_ms : 1);
     PGresult *r = PQexec(c, set);
     int ok = PQresultStatus(r) == PGRES_COMMAND_OK;
     PQclear(r);
