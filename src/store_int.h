@@ -24,6 +24,7 @@ enum {
     CPD_DB_OK = 0,
     CPD_DB_ERROR = 1,
     CPD_DB_BUSY = 5,        /* a lock held past the busy timeout (SQLite) or a lock timeout (PostgreSQL) */
+    CPD_DB_NOMEM = 7,       /* out of memory */
     CPD_DB_PERM = 23,       /* the server refused: privilege or row-level security */
     CPD_DB_CONSTRAINT = 19, /* a constraint failed; the extended codes below say which */
     CPD_DB_ROW = 100,
@@ -57,6 +58,7 @@ struct cpd_store {
     char where[CPD_MSG_MAX];   /* the store as the user names it (a file, or a URI without password) */
 };
 
+/* CPD_DB_OK, or an error code with the message in s->dberr (cpd_st_prepare reports it). */
 int cpd_db_prepare(cpd_store *s, const char *sql, cpd_stmt **st);
 int cpd_db_bind_int64(cpd_stmt *st, int idx, int64_t v);
 int cpd_db_bind_double(cpd_stmt *st, int idx, double v);

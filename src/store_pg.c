@@ -323,7 +323,7 @@ int cpd_pgs_prepare(cpd_store *s, const char *sql, cpd_pgstmt **out)
     *out = NULL;
     cpd_pgstmt *p = calloc(1, sizeof *p);
     if (!p)
-        return cpd_st_err(s, CPD_ENOMEM, "out of memory preparing a statement");
+        goto oom;
     p->s = s;
     p->row = -1;
     if (!(p->sql = dollar_params(sql, &p->nparams)))
@@ -338,10 +338,11 @@ int cpd_pgs_prepare(cpd_store *s, const char *sql, cpd_pgstmt **out)
             goto oom;
     }
     *out = p;
-    return CPD_OK;
+    return CPD_DB_OK;
 oom:
     cpd_pgs_finalize(p);
-    return cpd_st_err(s, CPD_ENOMEM, "out of memory preparing a statement");
+    snprintf(s->dberr, sizeof s->dberr, "out of memory");
+    return (s->errcode = CPD_DB_NOMEM);
 }
 
 static void clear_result(cpd_pgstmt *p)
