@@ -220,9 +220,38 @@ int cpd_st_release(cpd_store *s, int rc)
     return CPD_OK;
 }
 
-static void read_code(cpd_stmt *st, void *out)
+/* One name of at most 255 bytes per row, as the statement lists them. */
+typedef struct {
+    char v[256];
+} name_row;
+
+static void read_name_row(cpd_stmt *st, void *out)
 {
-    snprintf(out, CPD_CODE_MAX + 1, "%s", cpd_db_text(st, 0));
+    cpd_st_text(st, 0, ((name_row *)out)->v, sizeof((name_row *)out)->v);
+}
+
+int cpd_st_closest(cpd_store *s, const char *sql, const char *name, char *best, size_t n, size_t *count)
+{
+    best[0] = '\0';
+    *count = 0;
+    cpd_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, sql, &st);
+    if (rc)
+        return rc;
+    name_row *all = NULL;
+    rc = cpd_st_collect(s, st, sizeof *all, read_name_row, (void **)&all, count, "names");
+    cpd_db_finalize(st);
+    if (rc)
+        return rc;
+    const char **ptr = *count ? malloc(*count * sizeof *ptr) : NULL;
+    for (size_t i = 0; ptr && i < *count; i++)
+        ptr[i] = all[i].v;
+    const char *near = ptr ? cpd_suggest(name, ptr, *count) : NULL;
+    if (near)
+        snprintf(best, n, "%s", near);
+    free(ptr);
+    free(all);
+    return CPD_OK;
 }
 
 int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_MAX + 1])
@@ -248,25 +277,13 @@ int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_M
         return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'; %s and %s differ from it only in letter case: "
                           "give the code exactly", code, found[0], found[1]);
     /* none: the closest code, for "did you mean" */
-    char (*all)[CPD_CODE_MAX + 1] = NULL;
+    char best[CPD_CODE_MAX + 1];
     size_t na = 0;
-    if ((rc = cpd_st_prepare(s, "SELECT code FROM athlete ORDER BY code", &st)))
+    if ((rc = cpd_st_closest(s, "SELECT code FROM athlete ORDER BY code", code, best, sizeof best, &na)))
         return rc;
-    rc = cpd_st_collect(s, st, sizeof *all, read_code, (void **)&all, &na, "athlete codes");
-    cpd_db_finalize(st);
-    if (rc)
-        return rc;
-    const char **ptr = na ? malloc(na * sizeof *ptr) : NULL;
-    for (size_t i = 0; ptr && i < na; i++)
-        ptr[i] = all[i];
-    const char *best = ptr ? cpd_suggest(code, ptr, na) : NULL;
-    if (best)
-        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' (did you mean '%s'?)", code, best);
-    else
-        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' ('cpdomain athlete list' shows the codes)", code);
-    free(ptr);
-    free(all);
-    return rc;
+    if (best[0])
+        return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' (did you mean '%s'?)", code, best);
+    return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' ('cpdomain athlete list' shows the codes)", code);
 }
 
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id)

@@ -128,6 +128,9 @@ double cpd_st_opt(cpd_stmt *st, int col, int *has);
  * why ("listing WHAT"). st stays owned by the caller. */
 int cpd_st_collect(cpd_store *s, cpd_stmt *st, size_t elem, void (*read)(cpd_stmt *, void *), void **out,
                    size_t *n, const char *what);
+/* The name closest to name (cpd_suggest) among those sql lists (one text column), into best
+ * ("" when none is close); *count receives how many there are. */
+int cpd_st_closest(cpd_store *s, const char *sql, const char *name, char *best, size_t n, size_t *count);
 /* The id of the athlete with this code, or CPD_ENOENT. */
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
 /* The stored code that matches code in other letter case, when exactly one does, into canon.
