@@ -1,6 +1,6 @@
-/* store.c: opening the store, migrations, transactions and shared statement helpers.
- * Every SQL statement of cpdomain lives in store*.c and is prepared with bound parameters. */
-#include "store_codec.h"
+/* store.c: transactions, savepoints and the statement helpers the store's files share (opening
+ * and migrations: store_open.c). Every SQL statement of cpdomain lives in store*.c and is prepared
+ * with bound parameters. */
 #include "store_int.h"
 #include "cpdomain/suggest.h"
 
@@ -8,7 +8,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 #include <time.h>
 
 int cpd_st_err(cpd_store *s, int rc, const char *fmt, ...)
@@ -32,6 +31,8 @@ static int busy_err(cpd_store *s, const char *what)
 int cpd_st_fail(cpd_store *s, const char *what)
 {
     switch (s->errcode) {
+    case CPD_DB_NOMEM:
+        return cpd_st_err(s, CPD_ENOMEM, "%s: out of memory", what);
     case CPD_DB_BUSY:
         return busy_err(s, what);
     case CPD_DB_RETRY:
@@ -49,7 +50,9 @@ int cpd_st_fail(cpd_store *s, const char *what)
 
 int cpd_st_prepare(cpd_store *s, const char *sql, cpd_stmt **st)
 {
-    return cpd_db_prepare(s, sql, st);
+    if (cpd_db_prepare(s, sql, st) == CPD_DB_OK)
+        return CPD_OK;
+    return cpd_st_fail(s, "preparing a statement");
 }
 
 void cpd_st_text(cpd_stmt *st, int col, char *dst, size_t n)
@@ -164,6 +167,26 @@ int cpd_st_collect(cpd_store *s, cpd_stmt *st, size_t elem, void (*read)(cpd_stm
     return CPD_OK;
 }
 
+/* COMMIT; on failure the transaction is rolled back. A connection lost during COMMIT is not
+ * retried: the server may have committed before it went, and running the command again could
+ * apply it twice, so the user looks instead. */
+static int commit_txn(cpd_store *s, const char *what)
+{
+    s->lost = 0;
+    if (cpd_db_exec(s, "COMMIT") == CPD_DB_OK)
+        return CPD_OK;
+    if (s->lost) {
+        s->retryable = 0;
+        cpd_db_exec(s, "ROLLBACK");
+        return cpd_st_err(s, CPD_ETEMP,
+                          "the connection to the server was lost while committing: the command may or may not "
+                          "have been applied; look (a list or show command) before running it again");
+    }
+    int rc = cpd_st_fail(s, what);
+    cpd_db_exec(s, "ROLLBACK");
+    return rc;
+}
+
 /* SQLite starts a transaction at a savepoint outside one; PostgreSQL needs BEGIN first, so there
  * the outermost savepoint is the transaction itself. */
 int cpd_st_savepoint(cpd_store *s)
@@ -190,18 +213,45 @@ int cpd_st_release(cpd_store *s, int rc)
         cpd_db_exec(s, began ? "ROLLBACK" : "ROLLBACK TO cpd_write; RELEASE cpd_write");
         return rc;
     }
-    if (cpd_db_exec(s, began ? "COMMIT" : "RELEASE cpd_write") != CPD_DB_OK) {
-        int frc = cpd_st_fail(s, "finishing a write");
-        if (began)
-            cpd_db_exec(s, "ROLLBACK");
-        return frc;
-    }
+    if (began)
+        return commit_txn(s, "finishing a write");
+    if (cpd_db_exec(s, "RELEASE cpd_write") != CPD_DB_OK)
+        return cpd_st_fail(s, "finishing a write");
     return CPD_OK;
 }
 
-static void read_code(cpd_stmt *st, void *out)
+/* One name of at most 255 bytes per row, as the statement lists them. */
+typedef struct {
+    char v[256];
+} name_row;
+
+static void read_name_row(cpd_stmt *st, void *out)
 {
-    snprintf(out, CPD_CODE_MAX + 1, "%s", cpd_db_text(st, 0));
+    cpd_st_text(st, 0, ((name_row *)out)->v, sizeof((name_row *)out)->v);
+}
+
+int cpd_st_closest(cpd_store *s, const char *sql, const char *name, char *best, size_t n, size_t *count)
+{
+    best[0] = '\0';
+    *count = 0;
+    cpd_stmt *st = NULL;
+    int rc = cpd_st_prepare(s, sql, &st);
+    if (rc)
+        return rc;
+    name_row *all = NULL;
+    rc = cpd_st_collect(s, st, sizeof *all, read_name_row, (void **)&all, count, "names");
+    cpd_db_finalize(st);
+    if (rc)
+        return rc;
+    const char **ptr = *count ? malloc(*count * sizeof *ptr) : NULL;
+    for (size_t i = 0; ptr && i < *count; i++)
+        ptr[i] = all[i].v;
+    const char *near = ptr ? cpd_suggest(name, ptr, *count) : NULL;
+    if (near)
+        snprintf(best, n, "%s", near);
+    free(ptr);
+    free(all);
+    return CPD_OK;
 }
 
 int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_MAX + 1])
@@ -227,25 +277,13 @@ int cpd_st_athlete_resolve(cpd_store *s, const char *code, char canon[CPD_CODE_M
         return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s'; %s and %s differ from it only in letter case: "
                           "give the code exactly", code, found[0], found[1]);
     /* none: the closest code, for "did you mean" */
-    char (*all)[CPD_CODE_MAX + 1] = NULL;
+    char best[CPD_CODE_MAX + 1];
     size_t na = 0;
-    if ((rc = cpd_st_prepare(s, "SELECT code FROM athlete ORDER BY code", &st)))
+    if ((rc = cpd_st_closest(s, "SELECT code FROM athlete ORDER BY code", code, best, sizeof best, &na)))
         return rc;
-    rc = cpd_st_collect(s, st, sizeof *all, read_code, (void **)&all, &na, "athlete codes");
-    cpd_db_finalize(st);
-    if (rc)
-        return rc;
-    const char **ptr = na ? malloc(na * sizeof *ptr) : NULL;
-    for (size_t i = 0; ptr && i < na; i++)
-        ptr[i] = all[i];
-    const char *best = ptr ? cpd_suggest(code, ptr, na) : NULL;
-    if (best)
-        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' (did you mean '%s'?)", code, best);
-    else
-        rc = cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' ('cpdomain athlete list' shows the codes)", code);
-    free(ptr);
-    free(all);
-    return rc;
+    if (best[0])
+        return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' (did you mean '%s'?)", code, best);
+    return cpd_st_err(s, CPD_ENOENT, "no athlete with code '%s' ('cpdomain athlete list' shows the codes)", code);
 }
 
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id)
@@ -278,165 +316,6 @@ int cpd_store_latest_version(void)
 }
 
 
-int cpd_store_version(const cpd_store *cs)
-{
-    cpd_store *s = (cpd_store *)cs; /* reading the version changes nothing but the last-error fields */
-    cpd_stmt *st = NULL;
-    int v = -1;
-    if (s->engine == CPD_ENGINE_PG_) { /* a database without the table has no store yet: version 0 */
-        if (cpd_db_prepare(s, "SELECT to_regclass('cpd_version') IS NOT NULL", &st) == CPD_OK &&
-            cpd_db_step(st) == CPD_DB_ROW)
-            v = cpd_db_int(st, 0) ? -2 : 0;
-        cpd_db_finalize(st);
-        st = NULL;
-        if (v != -2)
-            return v;
-    }
-    if (cpd_db_prepare(s, s->engine == CPD_ENGINE_PG_ ? "SELECT max(version) FROM cpd_version" : "PRAGMA user_version",
-                       &st) == CPD_OK &&
-        cpd_db_step(st) == CPD_DB_ROW)
-        v = cpd_db_int(st, 0);
-    cpd_db_finalize(st);
-    return v;
-}
-
-static int set_version(cpd_store *s, int v)
-{
-    char sql[160];
-    if (s->engine == CPD_ENGINE_PG_)
-        snprintf(sql, sizeof sql,
-                 "CREATE TABLE IF NOT EXISTS cpd_version (version INTEGER NOT NULL); DELETE FROM cpd_version; "
-                 "INSERT INTO cpd_version VALUES (%d)",
-                 v);
-    else
-        snprintf(sql, sizeof sql, "PRAGMA user_version = %d", v);
-    return cpd_db_exec(s, sql);
-}
-
-/* Migration k in the engine's words: as written for SQLite; for PostgreSQL with its types
- * translated (cpd_pg_ddl) and followed by db/pg/'s file of the same number, if any. */
-static int run_migration(cpd_store *s, int k)
-{
-    if (s->engine != CPD_ENGINE_PG_)
-        return cpd_db_exec(s, cpd_store_migrations[k]);
-    char *ddl = cpd_pg_ddl(cpd_store_migrations[k]);
-    if (!ddl)
-        return cpd_st_err(s, CPD_ENOMEM, "out of memory"), CPD_DB_ERROR;
-    int r = cpd_db_exec(s, ddl);
-    free(ddl);
-    if (r == CPD_DB_OK && cpd_store_migrations_pg[k])
-        r = cpd_db_exec(s, cpd_store_migrations_pg[k]);
-    return r;
-}
-
-static int migrate(cpd_store *s, int create)
-{
-    int v = cpd_store_version(s);
-    if (v < 0)
-        return cpd_st_fail(s, "reading the store version");
-    if (v > cpd_store_migration_count)
-        return cpd_st_err(s, CPD_ESTORE,
-                          "the store is version %d but this cpdomain knows versions up to %d: "
-                          "use a newer cpdomain",
-                          v, cpd_store_migration_count);
-    if (v == cpd_store_migration_count)
-        return CPD_OK;
-    if (v == 0 && !create && s->engine == CPD_ENGINE_PG_)
-        return cpd_st_err(s, CPD_ENOENT, "no cpdomain store in the database %s: create it with 'cpdomain --db URI init'",
-                          s->where);
-    int pg = s->engine == CPD_ENGINE_PG_;
-    if (cpd_db_exec(s, pg ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "BEGIN IMMEDIATE") != CPD_DB_OK)
-        return cpd_st_fail(s, "starting the upgrade");
-    if (pg) {
-        /* two first commands at once: the second waits here, then finds the work done */
-        if (cpd_db_exec(s, "SELECT pg_advisory_xact_lock(4242018)") != CPD_DB_OK) {
-            int rc = cpd_st_fail(s, "starting the upgrade");
-            cpd_db_exec(s, "ROLLBACK");
-            return rc;
-        }
-        if ((v = cpd_store_version(s)) == cpd_store_migration_count) {
-            cpd_db_exec(s, "COMMIT");
-            return CPD_OK;
-        }
-    }
-    for (int k = v; k < cpd_store_migration_count; k++) {
-        if (run_migration(s, k) != CPD_DB_OK) {
-            if (s->errcode == CPD_DB_PERM)
-                cpd_st_err(s, CPD_ENOPERM,
-                           "the store needs upgrading to version %d, which only its owner may do: ask them to run "
-                           "'cpdomain --db URI init' (%s)",
-                           cpd_store_migration_count, cpd_db_errmsg(s));
-            else if (s->errcode == CPD_DB_RETRY)
-                cpd_st_fail(s, "upgrading the store");
-            else
-                cpd_st_err(s, CPD_ESTORE, "upgrading the store with %s: %s", cpd_store_migration_files[k],
-                           cpd_db_errmsg(s));
-            int rc = s->errcode == CPD_DB_PERM ? CPD_ENOPERM : s->errcode == CPD_DB_RETRY ? CPD_ETEMP : CPD_ESTORE;
-            cpd_db_exec(s, "ROLLBACK");
-            return rc;
-        }
-        /* 007 adds the compact encoding; the samples already stored are re-encoded now */
-        if (strstr(cpd_store_migration_files[k], "007_") && cpd_st_session_pack(s)) {
-            cpd_db_exec(s, "ROLLBACK");
-            return CPD_ESTORE;
-        }
-    }
-    if (set_version(s, cpd_store_migration_count) != CPD_DB_OK || cpd_db_exec(s, "COMMIT") != CPD_DB_OK) {
-        int rc = cpd_st_fail(s, "finishing the upgrade");
-        cpd_db_exec(s, "ROLLBACK");
-        return rc;
-    }
-    return CPD_OK;
-}
-
-int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
-{
-    return cpd_store_open_wait(path, create, CPD_STORE_BUSY_MS, out, msg);
-}
-
-int cpd_store_is_server(const char *path)
-{
-    return cpd_pg_is_uri(path);
-}
-
-int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **out, char *msg)
-{
-    *out = NULL;
-    msg[0] = '\0';
-    int pg = cpd_pg_is_uri(path);
-    struct stat sb;
-    if (!pg && !create && stat(path, &sb) != 0) {
-        snprintf(msg, CPD_MSG_MAX, "no store at '%s': create it with 'cpdomain --db %s init'", path, path);
-        return CPD_ENOENT;
-    }
-    cpd_store *s = calloc(1, sizeof *s);
-    if (!s)
-        return CPD_ENOMEM;
-    s->busy_ms = busy_ms > 0 ? busy_ms : 0;
-    s->engine = pg ? CPD_ENGINE_PG_ : CPD_ENGINE_SQLITE_;
-    int rc = pg ? cpd_pg_open(s, path, msg) : cpd_lite_open(s, path, create, msg);
-    if (rc == CPD_OK && (rc = migrate(s, create)) != CPD_OK)
-        snprintf(msg, CPD_MSG_MAX, "%s", s->err);
-    if (rc) {
-        cpd_store_close(s);
-        return rc;
-    }
-    *out = s;
-    return CPD_OK;
-}
-
-void cpd_store_close(cpd_store *s)
-{
-    if (!s)
-        return;
-    if (s->engine == CPD_ENGINE_PG_)
-        cpd_pg_close(s);
-    else
-        cpd_lite_close(s);
-    cpd_codec_free(s->codec);
-    free(s);
-}
-
 int cpd_store_begin(cpd_store *s)
 {
     s->sp_depth = 0;
@@ -448,12 +327,7 @@ int cpd_store_begin(cpd_store *s)
 
 int cpd_store_commit(cpd_store *s)
 {
-    if (cpd_db_exec(s, "COMMIT") != CPD_DB_OK) {
-        int rc = cpd_st_fail(s, "committing");
-        cpd_db_exec(s, "ROLLBACK");
-        return rc;
-    }
-    return CPD_OK;
+    return commit_txn(s, "committing");
 }
 
 void cpd_store_rollback(cpd_store *s)

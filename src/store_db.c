@@ -47,24 +47,30 @@ static int lite_code(cpd_store *s, int r)
     return m;
 }
 
+static int no_memory(cpd_store *s)
+{
+    snprintf(s->dberr, sizeof s->dberr, "out of memory");
+    return (s->errcode = CPD_DB_NOMEM);
+}
+
 int cpd_db_prepare(cpd_store *s, const char *sql, cpd_stmt **out)
 {
     *out = NULL;
     cpd_stmt *st = calloc(1, sizeof *st);
     if (!st)
-        return cpd_st_err(s, CPD_ENOMEM, "out of memory preparing a statement");
+        return no_memory(s);
     st->s = s;
     if (s->engine == CPD_ENGINE_PG_) {
-        int rc = cpd_pgs_prepare(s, sql, &st->pg);
-        if (rc) {
+        int r = cpd_pgs_prepare(s, sql, &st->pg);
+        if (r != CPD_DB_OK) {
             free(st);
-            return rc;
+            return r;
         }
     } else if (sqlite3_prepare_v2(s->db, sql, -1, &st->lite, NULL) != SQLITE_OK) {
         lite_code(s, sqlite3_extended_errcode(s->db));
         sqlite3_finalize(st->lite);
         free(st);
-        return cpd_st_fail(s, "preparing a statement");
+        return s->errcode;
     }
     *out = st;
     return CPD_OK;
@@ -261,7 +267,10 @@ int cpd_lite_open(cpd_store *s, const char *path, int create, char *msg)
     if (cpd_db_exec(s, "PRAGMA foreign_keys = ON; PRAGMA journal_mode = WAL; PRAGMA synchronous = NORMAL") !=
         CPD_DB_OK) {
         if (s->errcode == CPD_DB_BUSY)
-            snprintf(msg, CPD_MSG_MAX, "%s", (cpd_st_fail(s, path), s->err));
+            snprintf(msg, CPD_MSG_MAX,
+                     "%s: another process holds the store (its write lock was not released within %g s): try "
+                     "again when it has finished, or wait longer with --busy-timeout MS",
+                     path, s->busy_ms / 1000.0);
         else
             snprintf(msg, CPD_MSG_MAX, "'%s' is not a cpdomain store: %s", path, cpd_db_errmsg(s));
         return CPD_ESTORE;

@@ -210,6 +210,16 @@ static void sb_ident(sbuf *b, const char *name)
     sb_put(b, "\"", 1);
 }
 
+/* Prepares the statement built in b, and frees b. */
+static int sb_prepare(cpd_store *s, sbuf *b, cpd_stmt **st)
+{
+    *st = NULL;
+    int rc = b->oom ? CPD_ENOMEM : cpd_st_prepare(s, b->p, st);
+    free(b->p);
+    b->p = NULL;
+    return rc;
+}
+
 /* ---- reading the schema ---- */
 
 typedef struct {
@@ -515,13 +525,8 @@ static int count_rows(cpd_store *s, const char *table, int64_t *n)
     sbuf b = {0};
     sb_str(&b, "SELECT count(*) FROM ");
     sb_ident(&b, table);
-    if (b.oom) {
-        free(b.p);
-        return CPD_ENOMEM;
-    }
     cpd_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, b.p, &st);
-    free(b.p);
+    int rc = sb_prepare(s, &b, &st);
     if (rc)
         return rc;
     if (cpd_db_step(st) == CPD_DB_ROW)
@@ -687,13 +692,8 @@ static int advance_identity(cpd_store *s, const cpd_dump_table *t)
         sb_str(&b, ") IS NOT NULL) FROM ");
         sb_ident(&b, t->name);
         sb_str(&b, " WHERE pg_get_serial_sequence(quote_ident(?1), ?2) IS NOT NULL");
-        if (b.oom) {
-            free(b.p);
-            return CPD_ENOMEM;
-        }
         cpd_stmt *st = NULL;
-        int rc = cpd_st_prepare(s, b.p, &st);
-        free(b.p);
+        int rc = sb_prepare(s, &b, &st);
         if (rc)
             return rc;
         cpd_db_bind_text(st, 1, t->name, (size_t)-1);

@@ -24,6 +24,7 @@ enum {
     CPD_DB_OK = 0,
     CPD_DB_ERROR = 1,
     CPD_DB_BUSY = 5,        /* a lock held past the busy timeout (SQLite) or a lock timeout (PostgreSQL) */
+    CPD_DB_NOMEM = 7,       /* out of memory */
     CPD_DB_PERM = 23,       /* the server refused: privilege or row-level security */
     CPD_DB_CONSTRAINT = 19, /* a constraint failed; the extended codes below say which */
     CPD_DB_ROW = 100,
@@ -51,11 +52,13 @@ struct cpd_store {
     int64_t changes;           /* rows changed by the last statement */
     int busy_ms;               /* how long a write waits for another process's lock (cpd_store_open_wait) */
     int retryable;             /* the last failure may pass if the whole command runs again */
+    int lost;                  /* PostgreSQL: the connection was lost (the server may have gone away) */
     unsigned sp_begun;         /* PostgreSQL: bit k set when savepoint level k opened the transaction */
     int sp_depth;
     char where[CPD_MSG_MAX];   /* the store as the user names it (a file, or a URI without password) */
 };
 
+/* CPD_DB_OK, or an error code with the message in s->dberr (cpd_st_prepare reports it). */
 int cpd_db_prepare(cpd_store *s, const char *sql, cpd_stmt **st);
 int cpd_db_bind_int64(cpd_stmt *st, int idx, int64_t v);
 int cpd_db_bind_double(cpd_stmt *st, int idx, double v);
@@ -125,6 +128,9 @@ double cpd_st_opt(cpd_stmt *st, int col, int *has);
  * why ("listing WHAT"). st stays owned by the caller. */
 int cpd_st_collect(cpd_store *s, cpd_stmt *st, size_t elem, void (*read)(cpd_stmt *, void *), void **out,
                    size_t *n, const char *what);
+/* The name closest to name (cpd_suggest) among those sql lists (one text column), into best
+ * ("" when none is close); *count receives how many there are. */
+int cpd_st_closest(cpd_store *s, const char *sql, const char *name, char *best, size_t n, size_t *count);
 /* The id of the athlete with this code, or CPD_ENOENT. */
 int cpd_st_athlete_id(cpd_store *s, const char *code, int64_t *id);
 /* The stored code that matches code in other letter case, when exactly one does, into canon.

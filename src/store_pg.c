@@ -81,8 +81,11 @@ static void one_line(const char *m, char *out, size_t n)
         else
             break;
     size_t k = 0;
-    for (; *m && k + 1 < n; m++)
-        out[k++] = (*m == '\n' || *m == '\r') ? ' ' : *m;
+    for (; *m && k + 1 < n; m++) {
+        char ch = (*m == '\n' || *m == '\r' || *m == '\t') ? ' ' : *m;
+        if (ch != ' ' || (k > 0 && out[k - 1] != ' '))
+            out[k++] = ch;
+    }
     while (k > 0 && out[k - 1] == ' ')
         k--;
     out[k] = '\0';
@@ -117,30 +120,37 @@ int cpd_pg_open(cpd_store *s, const char *uri, char *msg)
         char line[CPD_MSG_MAX];
         one_line(PQerrorMessage(c), line, sizeof line);
         int rc;
-        const char *hint;
+        const char *what, *hint;
+        char *fatal = strstr(line, "FATAL: ");
+        if (fatal)
+            memmove(fatal, fatal + 7, strlen(fatal + 7) + 1);
         if (strstr(line, "password authentication failed") || strstr(line, "no password supplied") ||
             strstr(line, "authentication failed") || strstr(line, "pg_hba.conf")) {
             rc = CPD_ENOPERM;
-            hint = "check the user name and the password (libpq reads it from ~/.pgpass or PGPASSWORD; "
+            what = "the PostgreSQL server refused the login to";
+            hint = "check the user name and the password (libpq reads it from ~/.pgpass or $PGPASSWORD; "
                    "cpdomain never stores one)";
         } else if (strstr(line, "role \"") && strstr(line, "does not exist")) {
             rc = CPD_ENOPERM;
+            what = "the PostgreSQL server refused the login to";
             hint = "ask the database's owner for a login role (README: 'Sharing a store on a server')";
         } else if (strstr(line, "database \"") && strstr(line, "does not exist")) {
             rc = CPD_ENOENT;
+            what = "no such database for the store";
             hint = "create the database first (createdb NAME, as its owner), then run 'cpdomain --db URI init'";
         } else {
             rc = CPD_ETEMP;
-            hint = "is the server running and listening there? check the host, port and socket directory, "
-                   "then try again";
+            what = "cannot reach the PostgreSQL server at";
+            hint = "check the host, port and socket directory in the URI, then try again";
         }
-        snprintf(msg, CPD_MSG_MAX, "cannot reach the PostgreSQL server at %s: %s; %s", s->where, line, hint);
+        snprintf(msg, CPD_MSG_MAX, "%s %s: %s; %s", what, s->where, line, hint);
         return rc;
     }
     PQsetNoticeProcessor(c, quiet_notices, NULL);
     char set[128];
     /* a write waits this long for another session's row lock, as SQLite waits for the file lock */
-    snprintf(set, sizeof set, "SET lock_timeout = %d; SET client_min_messages = warning", s->busy_ms);
+    /* (0 would be "wait for ever" to PostgreSQL; SQLite's 0 is "do not wait") */
+    snprintf(set, sizeof set, "SET lock_timeout = %d; SET client_min_messages = warning", s->busy_ms > 0 ? s->busy_ms : 1);
     PGresult *r = PQexec(c, set);
     int ok = PQresultStatus(r) == PGRES_COMMAND_OK;
     PQclear(r);
@@ -223,6 +233,7 @@ static int pg_fail(cpd_store *s, const PGresult *r)
         snprintf(s->dberr, sizeof s->dberr, "the connection to the PostgreSQL server was lost (%s)",
                  line[0] ? line : "no reply");
         s->retryable = 1;
+        s->lost = 1;
         s->errcode = code;
         return code;
     }
@@ -312,7 +323,7 @@ int cpd_pgs_prepare(cpd_store *s, const char *sql, cpd_pgstmt **out)
     *out = NULL;
     cpd_pgstmt *p = calloc(1, sizeof *p);
     if (!p)
-        return cpd_st_err(s, CPD_ENOMEM, "out of memory preparing a statement");
+        goto oom;
     p->s = s;
     p->row = -1;
     if (!(p->sql = dollar_params(sql, &p->nparams)))
@@ -327,10 +338,11 @@ int cpd_pgs_prepare(cpd_store *s, const char *sql, cpd_pgstmt **out)
             goto oom;
     }
     *out = p;
-    return CPD_OK;
+    return CPD_DB_OK;
 oom:
     cpd_pgs_finalize(p);
-    return cpd_st_err(s, CPD_ENOMEM, "out of memory preparing a statement");
+    snprintf(s->dberr, sizeof s->dberr, "out of memory");
+    return (s->errcode = CPD_DB_NOMEM);
 }
 
 static void clear_result(cpd_pgstmt *p)

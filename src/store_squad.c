@@ -2,7 +2,6 @@
  * access that squads grant (db/pg/008_squads_access.sql). Plain portable SQL: ?N parameters,
  * COALESCE, ON CONFLICT DO NOTHING, RETURNING id. */
 #include "store_int.h"
-#include "cpdomain/suggest.h"
 
 #include <stdio.h>
 #include <stdlib.h>
@@ -41,37 +40,20 @@ int cpd_store_squad_add(cpd_store *s, const char *name, const char *note, int64_
     return rc;
 }
 
-static void read_name(cpd_stmt *st, void *dst)
-{
-    cpd_st_text(st, 0, dst, CPD_SQUAD_MAX + 1);
-}
-
 /* The message for an unknown squad: the closest name, or where to find the names. */
 static int no_squad(cpd_store *s, const char *name)
 {
-    cpd_stmt *st = NULL;
-    int rc = cpd_st_prepare(s, "SELECT name FROM squad ORDER BY name", &st);
-    if (rc)
-        return rc;
-    char(*all)[CPD_SQUAD_MAX + 1] = NULL;
+    char best[CPD_SQUAD_MAX + 1];
     size_t n = 0;
-    rc = cpd_st_collect(s, st, sizeof *all, read_name, (void **)&all, &n, "squad names");
-    cpd_db_finalize(st);
+    int rc = cpd_st_closest(s, "SELECT name FROM squad ORDER BY name", name, best, sizeof best, &n);
     if (rc)
         return rc;
-    const char **ptr = n ? malloc(n * sizeof *ptr) : NULL;
-    for (size_t i = 0; ptr && i < n; i++)
-        ptr[i] = all[i];
-    const char *best = ptr ? cpd_suggest(name, ptr, n) : NULL;
-    if (best)
-        rc = cpd_st_err(s, CPD_ENOENT, "no squad named '%s' (did you mean '%s'?)", name, best);
-    else if (n)
-        rc = cpd_st_err(s, CPD_ENOENT, "no squad named '%s' ('cpdomain squad list' shows the names)", name);
-    else
-        rc = cpd_st_err(s, CPD_ENOENT, "no squad named '%s': the store has no squads yet ('cpdomain squad add NAME')", name);
-    free(ptr);
-    free(all);
-    return rc;
+    if (best[0])
+        return cpd_st_err(s, CPD_ENOENT, "no squad named '%s' (did you mean '%s'?)", name, best);
+    if (n)
+        return cpd_st_err(s, CPD_ENOENT, "no squad named '%s' ('cpdomain squad list' shows the names)", name);
+    return cpd_st_err(s, CPD_ENOENT, "no squad named '%s': the store has no squads yet ('cpdomain squad add NAME')",
+                      name);
 }
 
 int cpd_store_squad_get(cpd_store *s, const char *name, cpd_squad *q)
