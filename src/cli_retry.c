@@ -1,7 +1,9 @@
 /* cli_retry.c: a command on a PostgreSQL store that the server aborted (another writer won a
  * serialization conflict, a deadlock, a lost connection or a restart) runs again from the start,
- * a bounded number of times. Its output is held back until the attempt that counts has finished,
- * so a rerun never prints twice. On a SQLite store a command runs once, as it always did. */
+ * a bounded number of times. Its output on stdout is held back until the attempt that counts has
+ * finished, so a rerun never prints its results twice; messages on stderr go out as they come (a
+ * warning of an aborted attempt may show again). On a SQLite store a command runs once, as it
+ * always did. */
 #include "cli.h"
 
 #include <errno.h>
@@ -16,31 +18,24 @@
 #define DEFAULT_RETRIES 8
 
 typedef struct {
-    FILE *tmp[2]; /* what the attempt wrote to stdout and stderr */
-    int saved[2]; /* the real stdout and stderr */
+    FILE *tmp; /* what the attempt wrote to stdout */
+    int saved; /* the real stdout */
     int on;
 } held;
 
 static void hold(held *h)
 {
     fflush(stdout);
-    fflush(stderr);
     h->on = 0;
-    for (int k = 0; k < 2; k++) {
-        h->tmp[k] = tmpfile();
-        h->saved[k] = h->tmp[k] ? dup(k + 1) : -1;
-        if (!h->tmp[k] || h->saved[k] < 0 || dup2(fileno(h->tmp[k]), k + 1) < 0) {
-            /* no temporary file: the command runs unheld and is not rerun */
-            for (int j = 0; j <= k; j++) {
-                if (h->saved[j] >= 0) {
-                    dup2(h->saved[j], j + 1);
-                    close(h->saved[j]);
-                }
-                if (h->tmp[j])
-                    fclose(h->tmp[j]);
-            }
-            return;
-        }
+    h->saved = -1;
+    if (!(h->tmp = tmpfile()))
+        return; /* no temporary file: the command runs unheld and is not rerun */
+    if ((h->saved = dup(STDOUT_FILENO)) < 0 || dup2(fileno(h->tmp), STDOUT_FILENO) < 0) {
+        if (h->saved >= 0)
+            close(h->saved);
+        fclose(h->tmp);
+        h->tmp = NULL;
+        return;
     }
     h->on = 1;
 }
@@ -49,42 +44,49 @@ static void hold(held *h)
 static void discard(held *h)
 {
     fflush(stdout);
-    fflush(stderr);
-    for (int k = 1; k <= 2; k++)
-        if (ftruncate(k, 0) != 0 || lseek(k, 0, SEEK_SET) < 0)
-            h->on = h->on; /* a temporary file that cannot be emptied keeps its bytes: nothing to do */
+    if (ftruncate(STDOUT_FILENO, 0) != 0 || lseek(STDOUT_FILENO, 0, SEEK_SET) < 0)
+        h->on = 0; /* cannot start afresh: no more reruns */
 }
 
-static void copy(int from, int to)
+/* Copies from to to; 0, or the errno of the failed read or write. */
+static int copy(int from, int to)
 {
     char buf[1 << 14];
-    ssize_t n;
-    lseek(from, 0, SEEK_SET);
-    while ((n = read(from, buf, sizeof buf)) > 0 || (n < 0 && errno == EINTR))
-        for (ssize_t w = 0, r; n > 0 && w < n; w += r)
-            if ((r = write(to, buf + w, (size_t)(n - w))) <= 0) {
-                if (r < 0 && errno == EINTR) {
-                    r = 0;
-                    continue;
-                }
-                return;
-            }
+    if (lseek(from, 0, SEEK_SET) < 0)
+        return errno;
+    for (;;) {
+        ssize_t n = read(from, buf, sizeof buf);
+        if (n < 0 && errno == EINTR)
+            continue;
+        if (n < 0)
+            return errno;
+        if (n == 0)
+            return 0;
+        for (ssize_t w = 0; w < n;) {
+            ssize_t r = write(to, buf + w, (size_t)(n - w));
+            if (r < 0 && errno == EINTR)
+                continue;
+            if (r <= 0)
+                return r < 0 ? errno : EIO;
+            w += r;
+        }
+    }
 }
 
-/* Writes out what the last attempt wrote and puts the real stdout and stderr back. */
-static void release(held *h)
+/* Writes out what the last attempt wrote and puts the real stdout back; 0 or an errno. */
+static int release(held *h)
 {
-    if (!h->on)
-        return;
-    fflush(stdout);
-    fflush(stderr);
-    for (int k = 0; k < 2; k++) {
-        copy(fileno(h->tmp[k]), h->saved[k]);
-        dup2(h->saved[k], k + 1);
-        close(h->saved[k]);
-        fclose(h->tmp[k]);
-    }
+    if (!h->tmp)
+        return 0;
+    int err = fflush(stdout) != 0 ? errno : 0;
+    if (!err)
+        err = copy(fileno(h->tmp), h->saved);
+    dup2(h->saved, STDOUT_FILENO);
+    close(h->saved);
+    fclose(h->tmp);
+    h->tmp = NULL;
     h->on = 0;
+    return err;
 }
 
 static int retries(void)
@@ -125,7 +127,7 @@ int cli_run_retrying(cli_ctx *c, const cli_command *cmd, int argc, char **argv)
     if (!args)
         return cli_fail(c, CPD_ENOMEM, "out of memory");
     memcpy(args, argv, ((size_t)argc + 1) * sizeof *args);
-    held h;
+    held h = {0};
     hold(&h);
     srand((unsigned)time(NULL) ^ (unsigned)getpid() << 8);
     int max = h.on ? retries() : 0, rc = 0, reached = 0;
@@ -140,16 +142,22 @@ int cli_run_retrying(cli_ctx *c, const cli_command *cmd, int argc, char **argv)
         cpd_store_rollback(c->store);
         cpd_store_close(c->store);
         c->store = NULL;
-        if (!again)
+        if (again)
+            discard(&h);
+        if (!again || !h.on)
             break;
-        discard(&h);
         if (!c->quiet)
-            dprintf(h.saved[1], "cpdomain: the server aborted the command (a concurrent change or a lost "
-                                "connection); nothing was kept; running it again (%d of %d)\n",
+            fprintf(stderr,
+                    "cpdomain: the server aborted the command (a concurrent change or a lost connection); "
+                    "nothing was kept; running it again (%d of %d)\n",
                     attempt + 1, max);
         pause_before(attempt + 1);
     }
-    release(&h);
+    int err = release(&h);
     free(args);
+    if (err && rc == 0) {
+        fprintf(stderr, "cpdomain: writing the output: %s\n", strerror(err));
+        rc = EX_IOERR;
+    }
     return rc;
 }

@@ -39,11 +39,11 @@ int cmd_init(cli_ctx *c, int argc, char **argv)
         return rc;
     if (c->json) {
         cli_json *d = cj_obj();
-        cj_str(d, "store", c->db_path);
+        cj_str(d, "store", cpd_store_where(c->store));
         cj_int(d, "version", cpd_store_version(c->store));
         return cj_print(d);
     }
-    cli_note(c, "store %s is ready (version %d)", c->db_path, cpd_store_version(c->store));
+    cli_note(c, "store %s is ready (version %d)", cpd_store_where(c->store), cpd_store_version(c->store));
     return 0;
 }
 

@@ -124,6 +124,11 @@ int cpd_store_open(const char *path, int create, cpd_store **out, char *msg)
     return cpd_store_open_wait(path, create, CPD_STORE_BUSY_MS, out, msg);
 }
 
+const char *cpd_store_where(const cpd_store *s)
+{
+    return s ? s->where : "";
+}
+
 int cpd_store_is_server(const char *path)
 {
     return cpd_pg_is_uri(path);

@@ -145,12 +145,16 @@ int cpd_store_athlete_add_to(cpd_store *s, const cpd_athlete *a, const char *squ
     int rc = squad ? cpd_store_squad_get(s, squad, &q) : CPD_OK;
     if (rc)
         return rc;
+    /* its own savepoint: a code already taken is refused without spoiling the command's transaction
+     * (on PostgreSQL a failed statement would abort it), so an import can skip it and go on */
+    if ((rc = cpd_st_savepoint(s)))
+        return rc;
     cpd_stmt *st = NULL;
     if ((rc = cpd_st_prepare(s,
                              "INSERT INTO athlete (code, name, sport, mass_kg, notes, squad_id) "
                              "VALUES (?1, ?2, ?3, ?4, ?5, ?6) RETURNING id",
                              &st)))
-        return rc;
+        return cpd_st_release(s, rc);
     cpd_db_bind_text(st, 1, a->code, (size_t)-1);
     cpd_db_bind_text(st, 2, a->name, (size_t)-1);
     cpd_db_bind_text(st, 3, a->sport[0] ? a->sport : "cycling", (size_t)-1);
@@ -170,7 +174,7 @@ int cpd_store_athlete_add_to(cpd_store *s, const cpd_athlete *a, const char *squ
     else if (r != CPD_DB_DONE)
         rc = cpd_st_fail(s, "adding an athlete");
     cpd_db_finalize(st);
-    return rc;
+    return cpd_st_release(s, rc);
 }
 
 int cpd_store_athlete_squad(cpd_store *s, const char *code, char squad[CPD_SQUAD_MAX + 1])

@@ -40,6 +40,8 @@ void cpd_store_close(cpd_store *s);
 /* Which engine an open store is on. */
 enum { CPD_ENGINE_SQLITE = 1, CPD_ENGINE_PG = 2 };
 int cpd_store_engine(const cpd_store *s);
+/* The store as it may be shown: its file, or its URI with any password as ***. */
+const char *cpd_store_where(const cpd_store *s);
 /* Nonzero when path names a server (a PostgreSQL URI) rather than a file. */
 int cpd_store_is_server(const char *path);
 /* Nonzero when the last failure on s may pass if the whole transaction runs again (PostgreSQL:
