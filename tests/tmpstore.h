@@ -124,23 +124,32 @@ static inline void tmpstore_remove(const char *path)
     unlink(p);
 }
 
+/* Runs sql on the PostgreSQL database at uri; with out, the first column of the first row into it
+ * (n bytes; "" when there is no row). 0 or -1. */
+static inline int tmpstore_pg_run(const char *uri, const char *sql, char *out, size_t n)
+{
+    PGconn *c = PQconnectdb(uri);
+    int ok = PQstatus(c) == CONNECTION_OK;
+    if (ok) {
+        PGresult *r = PQexec(c, sql);
+        ExecStatusType st = PQresultStatus(r);
+        ok = st == PGRES_TUPLES_OK || (!out && st == PGRES_COMMAND_OK);
+        if (ok && out && PQntuples(r) > 0)
+            snprintf(out, n, "%s", PQgetvalue(r, 0, 0));
+        PQclear(r);
+    }
+    if (!ok)
+        fprintf(stderr, "tmpstore: %s: %s", sql, PQerrorMessage(c));
+    PQfinish(c);
+    return ok ? 0 : -1;
+}
+
 /* Runs sql (one or more statements) on the store at path through a connection of its own;
  * 0, or -1 with the reason on stderr. */
 static inline int tmpstore_exec(const char *path, const char *sql)
 {
-    if (strstr(path, "://")) {
-        PGconn *c = PQconnectdb(path);
-        int ok = PQstatus(c) == CONNECTION_OK;
-        if (ok) {
-            PGresult *r = PQexec(c, sql);
-            ok = PQresultStatus(r) == PGRES_COMMAND_OK || PQresultStatus(r) == PGRES_TUPLES_OK;
-            PQclear(r);
-        }
-        if (!ok)
-            fprintf(stderr, "tmpstore: %s: %s", sql, PQerrorMessage(c));
-        PQfinish(c);
-        return ok ? 0 : -1;
-    }
+    if (strstr(path, "://"))
+        return tmpstore_pg_run(path, sql, NULL, 0);
     sqlite3 *db = NULL;
     char *e = NULL;
     int rc = sqlite3_open(path, &db) == SQLITE_OK ? sqlite3_exec(db, sql, NULL, NULL, &e) : SQLITE_ERROR;
@@ -156,21 +165,8 @@ static inline int tmpstore_exec(const char *path, const char *sql)
 static inline int tmpstore_query1(const char *path, const char *sql, char *out, size_t n)
 {
     out[0] = '\0';
-    if (strstr(path, "://")) {
-        PGconn *c = PQconnectdb(path);
-        int ok = PQstatus(c) == CONNECTION_OK;
-        if (ok) {
-            PGresult *r = PQexec(c, sql);
-            ok = PQresultStatus(r) == PGRES_TUPLES_OK;
-            if (ok && PQntuples(r) > 0)
-                snprintf(out, n, "%s", PQgetvalue(r, 0, 0));
-            PQclear(r);
-        }
-        if (!ok)
-            fprintf(stderr, "tmpstore: %s: %s", sql, PQerrorMessage(c));
-        PQfinish(c);
-        return ok ? 0 : -1;
-    }
+    if (strstr(path, "://"))
+        return tmpstore_pg_run(path, sql, out, n);
     sqlite3 *db = NULL;
     sqlite3_stmt *st = NULL;
     int ok = sqlite3_open(path, &db) == SQLITE_OK && sqlite3_prepare_v2(db, sql, -1, &st, NULL) == SQLITE_OK;
