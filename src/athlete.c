@@ -122,13 +122,8 @@ int cpd_athlete_fit_load(cpd_store *s, const char *code, const char *from, const
         drop(f);
         return CPD_EUSAGE;
     }
-    cpd_pd_opts o;
-    cpd_pd_opts_init(&o);
-    o.models = mask;
-    cpd_pd_ws *w = cpd_pd_alloc();
     char fm[CPD_MSG_MAX] = "";
-    rc = w ? cpd_pd_fit(w, f->modality, f->x, f->t, f->n, &o, f->res, fm) : CPD_ENOMEM;
-    cpd_pd_free(w);
+    rc = cpd_pd_fit_models(f->modality, f->x, f->t, f->n, mask, f->res, fm);
     /* time trials over set distances: the distance-time model has the right error structure */
     size_t nd = 0;
     for (size_t i = 0; i < f->n; i++)

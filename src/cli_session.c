@@ -209,13 +209,8 @@ int cli_pd_load_curve_fit(cli_ctx *c, const char *code, const char *from, const 
         f->t[k] = pt[k].d;
     }
     f->n = nd;
-    cpd_pd_opts po;
-    cpd_pd_opts_init(&po);
-    po.models = mask;
-    cpd_pd_ws *w = cpd_pd_alloc();
     char msg[CPD_MSG_MAX] = "";
-    rc = w ? cpd_pd_fit(w, f->modality, f->x, f->t, f->n, &po, f->res, msg) : CPD_ENOMEM;
-    cpd_pd_free(w);
+    rc = cpd_pd_fit_models(f->modality, f->x, f->t, f->n, mask, f->res, msg);
     if (rc) {
         ex = cli_fail(c, rc, "fitting the curve of %s: %s", code, msg[0] ? msg : cpd_strerror(rc));
         cli_pd_fit_free(f);

@@ -1265,3 +1265,15 @@ int cpd_pd_best_for_time_trials(cpd_pd_result *res)
     res->flags &= ~CPD_PD_FLAG_NO_VALID_MODEL;
     return CPD_OK;
 }
+
+int cpd_pd_fit_models(cpd_pd_modality modality, const double *intensity, const double *duration_s, size_t n,
+                      unsigned models, cpd_pd_result *res, char *msg)
+{
+    cpd_pd_opts o;
+    cpd_pd_opts_init(&o);
+    o.models = models;
+    cpd_pd_ws *w = cpd_pd_alloc();
+    int rc = w ? cpd_pd_fit(w, modality, intensity, duration_s, n, &o, res, msg) : CPD_ENOMEM;
+    cpd_pd_free(w);
+    return rc;
+}

@@ -191,7 +191,7 @@ static int commit_txn(cpd_store *s, const char *what)
  * the outermost savepoint is the transaction itself. */
 int cpd_st_savepoint(cpd_store *s)
 {
-    int begins = s->engine == CPD_ENGINE_PG_ && !cpd_db_in_txn(s);
+    int begins = s->engine == CPD_ENGINE_PG && !cpd_db_in_txn(s);
     if (s->sp_depth >= 31)
         return cpd_st_err(s, CPD_EINTERNAL, "savepoints nested too deep");
     if (cpd_db_exec(s, begins ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "SAVEPOINT cpd_write") != CPD_DB_OK)
@@ -319,7 +319,7 @@ int cpd_store_latest_version(void)
 int cpd_store_begin(cpd_store *s)
 {
     s->sp_depth = 0;
-    if (cpd_db_exec(s, s->engine == CPD_ENGINE_PG_ ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "BEGIN IMMEDIATE") !=
+    if (cpd_db_exec(s, s->engine == CPD_ENGINE_PG ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "BEGIN IMMEDIATE") !=
         CPD_DB_OK)
         return cpd_st_fail(s, "starting a transaction");
     return CPD_OK;
@@ -338,7 +338,7 @@ void cpd_store_rollback(cpd_store *s)
 
 int cpd_store_engine(const cpd_store *s)
 {
-    return s->engine == CPD_ENGINE_PG_ ? CPD_ENGINE_PG : CPD_ENGINE_SQLITE;
+    return s->engine;
 }
 
 int cpd_store_retryable(const cpd_store *s)

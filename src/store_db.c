@@ -60,7 +60,7 @@ int cpd_db_prepare(cpd_store *s, const char *sql, cpd_stmt **out)
     if (!st)
         return no_memory(s);
     st->s = s;
-    if (s->engine == CPD_ENGINE_PG_) {
+    if (s->engine == CPD_ENGINE_PG) {
         int r = cpd_pgs_prepare(s, sql, &st->pg);
         if (r != CPD_DB_OK) {
             free(st);
@@ -223,7 +223,7 @@ size_t cpd_db_bytes(cpd_stmt *st, int col)
 
 int cpd_db_exec(cpd_store *s, const char *sql)
 {
-    if (s->engine == CPD_ENGINE_PG_)
+    if (s->engine == CPD_ENGINE_PG)
         return cpd_pg_exec(s, sql);
     char *e = NULL;
     int r = sqlite3_exec(s->db, sql, NULL, NULL, &e);
@@ -243,7 +243,7 @@ const char *cpd_db_errmsg(const cpd_store *s)
 
 int cpd_db_in_txn(cpd_store *s)
 {
-    if (s->engine == CPD_ENGINE_PG_)
+    if (s->engine == CPD_ENGINE_PG)
         return cpd_pg_in_txn(s);
     return s->db && !sqlite3_get_autocommit(s->db);
 }
@@ -266,12 +266,8 @@ int cpd_lite_open(cpd_store *s, const char *path, int create, char *msg)
     /* A file that is not SQLite fails here, at the first read. */
     if (cpd_db_exec(s, "PRAGMA foreign_keys = ON; PRAGMA journal_mode = WAL; PRAGMA synchronous = NORMAL") !=
         CPD_DB_OK) {
-        if (s->errcode == CPD_DB_BUSY)
-            snprintf(msg, CPD_MSG_MAX,
-                     "%s: another process holds the store (its write lock was not released within %g s): try "
-                     "again when it has finished, or wait longer with --busy-timeout MS",
-                     path, s->busy_ms / 1000.0);
-        else
+        /* a lock held too long is the caller's to word (cpd_st_fail), as for any statement */
+        if (s->errcode != CPD_DB_BUSY)
             snprintf(msg, CPD_MSG_MAX, "'%s' is not a cpdomain store: %s", path, cpd_db_errmsg(s));
         return CPD_ESTORE;
     }

@@ -243,7 +243,7 @@ static const char *declared_type(const char *pg)
 static int read_columns(cpd_store *s, cpd_dump_table *t)
 {
     cpd_stmt *st = NULL;
-    int pg = s->engine == CPD_ENGINE_PG_;
+    int pg = s->engine == CPD_ENGINE_PG;
     int rc = cpd_st_prepare(
         s,
         pg ? "SELECT a.attname, format_type(a.atttypid, a.atttypmod), a.attnotnull::int, "
@@ -276,7 +276,7 @@ static int read_parents(cpd_store *s, const cpd_dump *d, size_t k, deps *dp)
 {
     cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s,
-                            s->engine == CPD_ENGINE_PG_
+                            s->engine == CPD_ENGINE_PG
                                 ? "SELECT DISTINCT confrelid::regclass::text FROM pg_constraint WHERE conrelid = "
                                   "to_regclass(quote_ident(?1)) AND contype = 'f'"
                                 : "SELECT DISTINCT \"table\" FROM pragma_foreign_key_list(?1)",
@@ -367,7 +367,7 @@ int cpd_store_dump_schema(cpd_store *s, cpd_dump **out)
     /* the tables in the order they were made, without the engine's own (and PostgreSQL's cpd_
      * tables: the schema version and the squads' access grants belong to the server, not the data) */
     rc = cpd_st_prepare(s,
-                        s->engine == CPD_ENGINE_PG_
+                        s->engine == CPD_ENGINE_PG
                             ? "SELECT c.relname FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace "
                               "WHERE n.nspname = current_schema() AND c.relkind = 'r' AND c.relname NOT LIKE "
                               "'cpd\\_%' ESCAPE '\\' ORDER BY c.oid"
@@ -616,7 +616,7 @@ static int check_columns(cpd_store *s, const cpd_dump_table *have, const cpd_dum
  * violation later). */
 static int insert_rows(cpd_store *s, const cpd_dump_table *src, int64_t *rowid, size_t *bad_row)
 {
-    int lite = s->engine != CPD_ENGINE_PG_;
+    int lite = s->engine != CPD_ENGINE_PG;
     char *sql = insert_sql(src, lite);
     if (!sql)
         return CPD_ENOMEM;
@@ -654,7 +654,7 @@ static int insert_rows(cpd_store *s, const cpd_dump_table *src, int64_t *rowid, 
  * rowid among the rows just inserted; *bad_row stays SIZE_MAX for a WITHOUT ROWID table. */
 static int check_foreign_keys(cpd_store *s, const char *table, const int64_t *rowid, size_t nrows, size_t *bad_row)
 {
-    if (s->engine == CPD_ENGINE_PG_) /* PostgreSQL checked each row as it went in */
+    if (s->engine == CPD_ENGINE_PG) /* PostgreSQL checked each row as it went in */
         return CPD_OK;
     cpd_stmt *st = NULL;
     int rc = cpd_st_prepare(s, "SELECT rowid, parent FROM pragma_foreign_key_check(?1)", &st);
@@ -749,7 +749,7 @@ int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t
     /* Parents first, yet a self-reference or a cycle can still point forward: foreign keys are
      * checked once everything is in (defer_foreign_keys, reset when the transaction ends), table by
      * table, so that a failure still names its row. */
-    if (s->engine != CPD_ENGINE_PG_ && cpd_db_exec(s, "PRAGMA defer_foreign_keys = ON") != CPD_DB_OK) {
+    if (s->engine != CPD_ENGINE_PG && cpd_db_exec(s, "PRAGMA defer_foreign_keys = ON") != CPD_DB_OK) {
         rc = cpd_st_fail(s, "deferring foreign keys");
         goto done;
     }
@@ -769,7 +769,7 @@ int cpd_store_restore(cpd_store *s, const cpd_dump *d, size_t *bad_table, size_t
             rc == CPD_EDATA)
             *bad_table = (size_t)k;
     }
-    for (size_t h = 0; h < have->ntables && rc == CPD_OK && s->engine == CPD_ENGINE_PG_; h++)
+    for (size_t h = 0; h < have->ntables && rc == CPD_OK && s->engine == CPD_ENGINE_PG; h++)
         rc = advance_identity(s, &have->table[h]);
 done:
     for (size_t k = 0; rowids && k < d->ntables; k++)
@@ -777,7 +777,7 @@ done:
     free(rowids);
     cpd_dump_free(have);
     rc = cpd_st_release(s, rc);
-    if (deferred && s->engine != CPD_ENGINE_PG_)
+    if (deferred && s->engine != CPD_ENGINE_PG)
         cpd_db_exec(s, "PRAGMA defer_foreign_keys = OFF");
     return rc;
 }

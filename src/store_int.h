@@ -40,10 +40,9 @@ enum {
 enum { CPD_DB_INTEGER = 1, CPD_DB_FLOAT = 2, CPD_DB_TEXT = 3, CPD_DB_BLOB = 4, CPD_DB_NULL = 5 };
 
 typedef struct cpd_stmt cpd_stmt;
-typedef enum { CPD_ENGINE_SQLITE_ = 0, CPD_ENGINE_PG_ = 1 } cpd_engine_id;
 
 struct cpd_store {
-    int engine;                /* CPD_ENGINE_SQLITE or CPD_ENGINE_PG */
+    int engine;                /* CPD_ENGINE_SQLITE or CPD_ENGINE_PG (store.h) */
     void *db;                  /* sqlite3 * or PGconn * */
     struct cpd_codec *codec;   /* the sample codec's workspace (store_codec.h), made at first use */
     char err[CPD_MSG_MAX];     /* detail of the last failure */

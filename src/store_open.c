@@ -13,7 +13,7 @@ int cpd_store_version(const cpd_store *cs)
     cpd_store *s = (cpd_store *)cs; /* reading the version changes nothing but the last-error fields */
     cpd_stmt *st = NULL;
     int v = -1;
-    if (s->engine == CPD_ENGINE_PG_) { /* a database without the table has no store yet: version 0 */
+    if (s->engine == CPD_ENGINE_PG) { /* a database without the table has no store yet: version 0 */
         if (cpd_db_prepare(s, "SELECT to_regclass('cpd_version') IS NOT NULL", &st) == CPD_OK &&
             cpd_db_step(st) == CPD_DB_ROW)
             v = cpd_db_int(st, 0) ? -2 : 0;
@@ -22,7 +22,7 @@ int cpd_store_version(const cpd_store *cs)
         if (v != -2)
             return v;
     }
-    if (cpd_db_prepare(s, s->engine == CPD_ENGINE_PG_ ? "SELECT max(version) FROM cpd_version" : "PRAGMA user_version",
+    if (cpd_db_prepare(s, s->engine == CPD_ENGINE_PG ? "SELECT max(version) FROM cpd_version" : "PRAGMA user_version",
                        &st) == CPD_OK &&
         cpd_db_step(st) == CPD_DB_ROW)
         v = cpd_db_int(st, 0);
@@ -33,7 +33,7 @@ int cpd_store_version(const cpd_store *cs)
 static int set_version(cpd_store *s, int v)
 {
     char sql[160];
-    if (s->engine == CPD_ENGINE_PG_)
+    if (s->engine == CPD_ENGINE_PG)
         snprintf(sql, sizeof sql,
                  "CREATE TABLE IF NOT EXISTS cpd_version (version INTEGER NOT NULL); DELETE FROM cpd_version; "
                  "INSERT INTO cpd_version VALUES (%d)",
@@ -47,7 +47,7 @@ static int set_version(cpd_store *s, int v)
  * translated (cpd_pg_ddl) and followed by db/pg/'s file of the same number, if any. */
 static int run_migration(cpd_store *s, int k)
 {
-    if (s->engine != CPD_ENGINE_PG_)
+    if (s->engine != CPD_ENGINE_PG)
         return cpd_db_exec(s, cpd_store_migrations[k]);
     char *ddl = cpd_pg_ddl(cpd_store_migrations[k]);
     if (!ddl)
@@ -71,10 +71,10 @@ static int migrate(cpd_store *s, int create)
                           v, cpd_store_migration_count);
     if (v == cpd_store_migration_count)
         return CPD_OK;
-    if (v == 0 && !create && s->engine == CPD_ENGINE_PG_)
+    if (v == 0 && !create && s->engine == CPD_ENGINE_PG)
         return cpd_st_err(s, CPD_ENOENT, "no cpdomain store in the database %s: create it with 'cpdomain --db URI init'",
                           s->where);
-    int pg = s->engine == CPD_ENGINE_PG_;
+    int pg = s->engine == CPD_ENGINE_PG;
     if (cpd_db_exec(s, pg ? "BEGIN ISOLATION LEVEL SERIALIZABLE" : "BEGIN IMMEDIATE") != CPD_DB_OK)
         return cpd_st_fail(s, "starting the upgrade");
     if (pg) {
@@ -91,17 +91,15 @@ static int migrate(cpd_store *s, int create)
     }
     for (int k = v; k < cpd_store_migration_count; k++) {
         if (run_migration(s, k) != CPD_DB_OK) {
-            if (s->errcode == CPD_DB_PERM)
-                cpd_st_err(s, CPD_ENOPERM,
-                           "the store needs upgrading to version %d, which only its owner may do: ask them to run "
-                           "'cpdomain --db URI init' (%s)",
-                           cpd_store_migration_count, cpd_db_errmsg(s));
-            else if (s->errcode == CPD_DB_RETRY)
-                cpd_st_fail(s, "upgrading the store");
-            else
-                cpd_st_err(s, CPD_ESTORE, "upgrading the store with %s: %s", cpd_store_migration_files[k],
-                           cpd_db_errmsg(s));
-            int rc = s->errcode == CPD_DB_PERM ? CPD_ENOPERM : s->errcode == CPD_DB_RETRY ? CPD_ETEMP : CPD_ESTORE;
+            int rc = s->errcode == CPD_DB_PERM
+                         ? cpd_st_err(s, CPD_ENOPERM,
+                                      "the store needs upgrading to version %d, which only its owner may do: ask "
+                                      "them to run 'cpdomain --db URI init' (%s)",
+                                      cpd_store_migration_count, cpd_db_errmsg(s))
+                     : s->errcode == CPD_DB_RETRY
+                         ? cpd_st_fail(s, "upgrading the store")
+                         : cpd_st_err(s, CPD_ESTORE, "upgrading the store with %s: %s", cpd_store_migration_files[k],
+                                      cpd_db_errmsg(s));
             cpd_db_exec(s, "ROLLBACK");
             return rc;
         }
@@ -148,9 +146,11 @@ int cpd_store_open_wait(const char *path, int create, int busy_ms, cpd_store **o
     if (!s)
         return CPD_ENOMEM;
     s->busy_ms = busy_ms > 0 ? busy_ms : 0;
-    s->engine = pg ? CPD_ENGINE_PG_ : CPD_ENGINE_SQLITE_;
+    s->engine = pg ? CPD_ENGINE_PG : CPD_ENGINE_SQLITE;
     int rc = pg ? cpd_pg_open(s, path, msg) : cpd_lite_open(s, path, create, msg);
-    if (rc == CPD_OK && (rc = migrate(s, create)) != CPD_OK)
+    if (rc && s->errcode == CPD_DB_BUSY)
+        snprintf(msg, CPD_MSG_MAX, "%s", (cpd_st_fail(s, path), s->err));
+    else if (rc == CPD_OK && (rc = migrate(s, create)) != CPD_OK)
         snprintf(msg, CPD_MSG_MAX, "%s", s->err);
     if (rc) {
         cpd_store_close(s);
@@ -164,7 +164,7 @@ void cpd_store_close(cpd_store *s)
 {
     if (!s)
         return;
-    if (s->engine == CPD_ENGINE_PG_)
+    if (s->engine == CPD_ENGINE_PG)
         cpd_pg_close(s);
     else
         cpd_lite_close(s);

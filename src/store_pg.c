@@ -189,23 +189,19 @@ static void constraint_words(const PGresult *r, int code, char *line, size_t n)
     const char *detail = PQresultErrorField(r, PG_DIAG_MESSAGE_DETAIL);
     char what[CPD_MSG_MAX / 2] = "";
     if (code == CPD_DB_CONSTRAINT_UNIQUE) {
-        /* DETAIL: Key (athlete_id, kind, content_hash)=(...) already exists. */
+        /* DETAIL: Key (athlete_id, kind, content_hash)=(...) already exists.
+         * -> UNIQUE constraint failed: session.athlete_id, session.kind, session.content_hash */
         const char *k = detail ? strstr(detail, "Key (") : NULL;
         const char *e = k ? strstr(k, ")=") : NULL;
-        char cols[CPD_MSG_MAX / 4] = "";
-        if (k && e) {
-            size_t m = 0;
-            for (const char *q = k + 5; q < e && m + 1 < sizeof cols; q++)
-                if (*q != ' ' || m == 0 || cols[m - 1] != ',')
-                    cols[m++] = *q == ',' ? ',' : *q;
-            cols[m] = '\0';
+        const char *t = table ? table : "?";
+        size_t m = (size_t)snprintf(what, sizeof what, "UNIQUE constraint failed:");
+        for (const char *c = k ? k + 5 : NULL; c && c < e && m < sizeof what;) {
+            size_t len = strcspn(c, ",)");
+            m += (size_t)snprintf(what + m, sizeof what - m, "%s %s.%.*s", c == k + 5 ? "" : ",", t, (int)len, c);
+            c += len;
+            while (c < e && (*c == ',' || *c == ' '))
+                c++;
         }
-        /* "a, b" -> "t.a, t.b" */
-        size_t m = 0;
-        m += (size_t)snprintf(what + m, sizeof what - m, "UNIQUE constraint failed: ");
-        char *save = NULL;
-        for (char *c = cols[0] ? strtok_r(cols, ",", &save) : NULL; c && m < sizeof what; c = strtok_r(NULL, ",", &save))
-            m += (size_t)snprintf(what + m, sizeof what - m, "%s%s.%s", m > 26 ? ", " : "", table ? table : "?", c);
     } else if (code == CPD_DB_CONSTRAINT_FOREIGNKEY)
         snprintf(what, sizeof what, "FOREIGN KEY constraint failed");
     else if (code == CPD_DB_CONSTRAINT_NOTNULL)

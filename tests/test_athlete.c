@@ -62,10 +62,7 @@ static void add_athlete(cpd_store *s, const char *code, const char *sport)
 static int setup(void **state)
 {
     fixture *f = calloc(1, sizeof *f);
-    char msg[CPD_MSG_MAX];
-    if (tmpstore_new(f->path, sizeof f->path, "athlete"))
-        return -1;
-    if (cpd_store_open(f->path, 1, &f->s, msg) != CPD_OK)
+    if (tmpstore_open(f->path, sizeof f->path, "athlete", &f->s))
         return -1;
     add_athlete(f->s, "A01", "cycling");
     for (size_t i = 0; i < NTRIALS; i++)
@@ -80,8 +77,7 @@ static int setup(void **state)
 static int teardown(void **state)
 {
     fixture *f = *state;
-    cpd_store_close(f->s);
-    tmpstore_remove(f->path);
+    tmpstore_close(f->path, f->s);
     free(f);
     return 0;
 }

@@ -39,10 +39,7 @@ static int64_t add_athlete(cpd_store *s, const char *code, const char *squad)
 static int setup(void **state)
 {
     fixture *f = calloc(1, sizeof *f);
-    char msg[CPD_MSG_MAX];
-    if (tmpstore_new(f->path, sizeof f->path, "squad"))
-        return -1;
-    if (cpd_store_open(f->path, 1, &f->s, msg) != CPD_OK)
+    if (tmpstore_open(f->path, sizeof f->path, "squad", &f->s))
         return -1;
     if (cpd_store_squad_add(f->s, "track", "800 m to 5 km", &f->track) ||
         cpd_store_squad_add(f->s, "road", "", &f->road))
@@ -54,8 +51,7 @@ static int setup(void **state)
 static int teardown(void **state)
 {
     fixture *f = *state;
-    cpd_store_close(f->s);
-    tmpstore_remove(f->path);
+    tmpstore_close(f->path, f->s);
     free(f);
     return 0;
 }

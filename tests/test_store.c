@@ -23,10 +23,7 @@ typedef struct {
 static int setup(void **state)
 {
     fixture *f = calloc(1, sizeof *f);
-    char msg[CPD_MSG_MAX];
-    if (tmpstore_new(f->path, sizeof f->path, "store"))
-        return -1;
-    if (cpd_store_open(f->path, 1, &f->s, msg) != CPD_OK)
+    if (tmpstore_open(f->path, sizeof f->path, "store", &f->s))
         return -1;
     *state = f;
     return 0;
@@ -35,8 +32,7 @@ static int setup(void **state)
 static int teardown(void **state)
 {
     fixture *f = *state;
-    cpd_store_close(f->s);
-    tmpstore_remove(f->path);
+    tmpstore_close(f->path, f->s);
     free(f);
     return 0;
 }

@@ -135,10 +135,8 @@ static void through_the_store(void **state)
 {
     (void)state;
     char path[TMPSTORE_MAX];
-    assert_int_equal(tmpstore_new(path, sizeof path, "codec"), 0);
     cpd_store *s = NULL;
-    char msg[CPD_MSG_MAX];
-    assert_int_equal(cpd_store_open(path, 1, &s, msg), CPD_OK);
+    assert_int_equal(tmpstore_open(path, sizeof path, "codec", &s), 0);
     cpd_athlete a = {0};
     snprintf(a.code, sizeof a.code, "K7");
     snprintf(a.name, sizeof a.name, "Codec Check");
@@ -182,8 +180,7 @@ static void through_the_store(void **state)
     assert_memory_equal(cb.value, cv, sizeof cv);
     assert_memory_equal(cb.start_s, cs, sizeof cs);
     free(buf);
-    cpd_store_close(s);
-    tmpstore_remove(path);
+    tmpstore_close(path, s);
 }
 
 int main(void)

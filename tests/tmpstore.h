@@ -7,6 +7,9 @@
 #ifndef CPDOMAIN_TESTS_TMPSTORE_H
 #define CPDOMAIN_TESTS_TMPSTORE_H
 
+#include "cpdomain/status.h"
+#include "cpdomain/store.h"
+
 #include <libpq-fe.h>
 #include <sqlite3.h>
 #include <stdio.h>
@@ -122,6 +125,27 @@ static inline void tmpstore_remove(const char *path)
     unlink(p);
     snprintf(p, sizeof p, "%s-shm", path);
     unlink(p);
+}
+
+/* A new empty store made and opened at a fresh location (path, n bytes): 0, or -1 with the reason
+ * on stderr. Closed and removed with tmpstore_close. */
+static inline int tmpstore_open(char *path, size_t n, const char *tag, cpd_store **s)
+{
+    char msg[CPD_MSG_MAX];
+    *s = NULL;
+    if (tmpstore_new(path, n, tag))
+        return -1;
+    if (cpd_store_open(path, 1, s, msg) != CPD_OK) {
+        fprintf(stderr, "tmpstore: %s\n", msg);
+        return -1;
+    }
+    return 0;
+}
+
+static inline void tmpstore_close(const char *path, cpd_store *s)
+{
+    cpd_store_close(s);
+    tmpstore_remove(path);
 }
 
 /* Runs sql on the PostgreSQL database at uri; with out, the first column of the first row into it

@@ -158,6 +158,12 @@ void cpd_pd_free(cpd_pd_ws *w);
 int cpd_pd_fit(cpd_pd_ws *w, cpd_pd_modality modality, const double *intensity, const double *duration_s,
                size_t n, const cpd_pd_opts *opts, cpd_pd_result *res, char *msg);
 
+/* cpd_pd_fit with the default options but only the models in the mask models (CPD_PD_MODEL_BIT),
+ * on a workspace of its own: for a caller that fits once. CPD_ENOMEM when the workspace cannot be
+ * had; otherwise as cpd_pd_fit. */
+int cpd_pd_fit_models(cpd_pd_modality modality, const double *intensity, const double *duration_s, size_t n,
+                      unsigned models, cpd_pd_result *res, char *msg);
+
 /* The rule cpd_pd_fit uses to name the best model, as plain text for the CLI and README. */
 const char *cpd_pd_best_rule(void);
 
